@@ -1,0 +1,137 @@
+package config
+
+import (
+	"fmt"
+	"path/filepath"
+)
+
+// Config is the whole configuration. The mapstructure tags are the key names
+// of the YAML file, which are a contract: keys may be added, never renamed.
+type Config struct {
+	Store    string   `mapstructure:"store"`
+	Currency string   `mapstructure:"currency"`
+	Calendar Calendar `mapstructure:"calendar"`
+	Sources  Sources  `mapstructure:"sources"`
+	Analysis Analysis `mapstructure:"analysis"`
+	Alerts   Alerts   `mapstructure:"alerts"`
+	Mail     Mail     `mapstructure:"mail"`
+	Schedule Schedule `mapstructure:"schedule"`
+	HTTP     HTTP     `mapstructure:"http"`
+
+	// File is the path the config was loaded from; relative paths in the
+	// config are relative to its folder.
+	File string `mapstructure:"-"`
+}
+
+// Calendar says how posting dates map to periods.
+type Calendar struct {
+	Period          string `mapstructure:"period"`
+	FiscalYearStart int    `mapstructure:"fiscal_year_start"`
+	CloseAfterDays  int    `mapstructure:"close_after_days"`
+}
+
+// Sources lists the inputs by role.
+type Sources struct {
+	Ledger   []Source `mapstructure:"ledger"`
+	Activity []Source `mapstructure:"activity"`
+	Accounts []Source `mapstructure:"accounts"`
+}
+
+// Source is one configured input.
+type Source struct {
+	Name string `mapstructure:"name"`
+	Kind string `mapstructure:"kind"`
+	Path string `mapstructure:"path"` // a file or a glob, relative to the config file
+
+	// Columns maps a canonical column name (entry_id, date, amount, ...) to
+	// the header the file uses instead.
+	Columns map[string]string `mapstructure:"columns"`
+	// Delimiter is "," ";" or "\t"; empty means detect from the header line.
+	Delimiter string `mapstructure:"delimiter"`
+	// DateFormat spells the date layout with YYYY, MM, DD (e.g. DD.MM.YYYY).
+	DateFormat string `mapstructure:"date_format"`
+	// DecimalComma accepts 1234,50 as one thousand two hundred and thirty-four and a half.
+	DecimalComma bool `mapstructure:"decimal_comma"`
+	// ThousandsSeparator, when set, is removed from amounts before parsing.
+	ThousandsSeparator string `mapstructure:"thousands_separator"`
+	// Layout of an activity file: long or wide; empty means detect.
+	Layout string `mapstructure:"layout"`
+}
+
+// Analysis holds the method settings.
+type Analysis struct {
+	Grain      string   `mapstructure:"grain"`
+	Accounts   []string `mapstructure:"accounts"`
+	Window     int      `mapstructure:"window"`
+	MinPeriods int      `mapstructure:"min_periods"`
+	Lags       []int    `mapstructure:"lags"`
+	Alpha      float64  `mapstructure:"alpha"`
+}
+
+// Alerts holds the alert routing.
+type Alerts struct {
+	Recipients []Recipient `mapstructure:"recipients"`
+}
+
+// Recipient receives the alerts that match its patterns and severity.
+type Recipient struct {
+	Email       string   `mapstructure:"email"`
+	CostCenters []string `mapstructure:"cost_centers"`
+	Accounts    []string `mapstructure:"accounts"`
+	MinSeverity string   `mapstructure:"min_severity"`
+}
+
+// Mail holds delivery settings.
+type Mail struct {
+	SMTP   SMTP   `mapstructure:"smtp"`
+	Outbox string `mapstructure:"outbox"`
+}
+
+// SMTP is the mail server. The password never appears in the config: it is
+// read from the environment variable PasswordEnv or the file PasswordFile.
+type SMTP struct {
+	Host         string `mapstructure:"host"`
+	Port         int    `mapstructure:"port"`
+	TLS          string `mapstructure:"tls"`
+	Username     string `mapstructure:"username"`
+	PasswordEnv  string `mapstructure:"password_env"`
+	PasswordFile string `mapstructure:"password_file"`
+	From         string `mapstructure:"from"`
+}
+
+// Schedule is when the daemon runs a cycle.
+type Schedule struct {
+	Cron     string `mapstructure:"cron"`
+	Timezone string `mapstructure:"timezone"`
+}
+
+// HTTP is the optional health and metrics listener.
+type HTTP struct {
+	Listen string `mapstructure:"listen"`
+}
+
+// Path resolves p against the folder of the config file; absolute paths are
+// returned unchanged.
+func (c *Config) Path(p string) string {
+	if p == "" || filepath.IsAbs(p) || c.File == "" {
+		return p
+	}
+	return filepath.Join(filepath.Dir(c.File), p)
+}
+
+// StorePath is the resolved path of the SQLite store.
+func (c *Config) StorePath() string { return c.Path(c.Store) }
+
+// Error is a configuration problem: the key, what is wrong, and the file.
+type Error struct {
+	Key  string
+	Msg  string
+	File string
+}
+
+func (e *Error) Error() string {
+	if e.File == "" {
+		return fmt.Sprintf("%s: %s", e.Key, e.Msg)
+	}
+	return fmt.Sprintf("%s: %s (%s)", e.Key, e.Msg, e.File)
+}

@@ -1,0 +1,180 @@
+package config
+
+import (
+	"fmt"
+	"net"
+	"strings"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/money"
+)
+
+// Kinds of source this version reads. Others named by the product (xlsx,
+// saft, sql) are refused by name until they are built.
+var sourceKinds = map[string]bool{"csv": true}
+
+// Validate checks every key and returns the first problem, naming the key and
+// the file.
+func (c *Config) Validate() error {
+	err := c.validate()
+	if err != nil {
+		err.File = c.File
+		return err
+	}
+	return nil
+}
+
+func (c *Config) validate() *Error {
+	bad := func(key, format string, args ...any) *Error {
+		return &Error{Key: key, Msg: fmt.Sprintf(format, args...)}
+	}
+	if strings.TrimSpace(c.Store) == "" {
+		return bad("store", "must name the SQLite file, e.g. costdrift.db")
+	}
+	if _, err := money.ParseCurrency(c.Currency); err != nil {
+		return bad("currency", "%v", err)
+	}
+
+	switch c.Calendar.Period {
+	case "month":
+	case "week", "4-4-5", "4-5-4", "5-4-4":
+		return bad("calendar.period", "%q is not available in this version; use month", c.Calendar.Period)
+	default:
+		return bad("calendar.period", "must be month, not %q", c.Calendar.Period)
+	}
+	if c.Calendar.FiscalYearStart < 1 || c.Calendar.FiscalYearStart > 12 {
+		return bad("calendar.fiscal_year_start", "must be a month number from 1 to 12, not %d", c.Calendar.FiscalYearStart)
+	}
+	if c.Calendar.CloseAfterDays < 0 {
+		return bad("calendar.close_after_days", "must be >= 0, not %d", c.Calendar.CloseAfterDays)
+	}
+
+	names := map[string]string{}
+	for _, role := range []struct {
+		key  string
+		list []Source
+	}{{"sources.ledger", c.Sources.Ledger}, {"sources.activity", c.Sources.Activity}, {"sources.accounts", c.Sources.Accounts}} {
+		for i, s := range role.list {
+			key := fmt.Sprintf("%s[%d]", role.key, i)
+			if strings.TrimSpace(s.Name) == "" {
+				return bad(key+".name", "every source needs a name")
+			}
+			if prev, dup := names[s.Name]; dup {
+				return bad(key+".name", "%q is already the name of %s; names must be unique", s.Name, prev)
+			}
+			names[s.Name] = key
+			if !sourceKinds[s.Kind] {
+				if s.Kind == "xlsx" || s.Kind == "saft" || s.Kind == "sql" {
+					return bad(key+".kind", "%q is not available in this version; use csv", s.Kind)
+				}
+				return bad(key+".kind", "must be csv, not %q", s.Kind)
+			}
+			if strings.TrimSpace(s.Path) == "" {
+				return bad(key+".path", "must name a file or a glob such as data/gl/*.csv")
+			}
+			switch s.Delimiter {
+			case "", ",", ";", "\t":
+			default:
+				return bad(key+".delimiter", "must be \",\", \";\" or \"\\t\", not %q", s.Delimiter)
+			}
+			if s.DateFormat != "" {
+				if _, err := GoDateLayout(s.DateFormat); err != nil {
+					return bad(key+".date_format", "%v", err)
+				}
+			}
+			if s.DecimalComma && s.ThousandsSeparator == "," {
+				return bad(key+".thousands_separator", "cannot be \",\" when decimal_comma is true")
+			}
+			if !s.DecimalComma && s.ThousandsSeparator == "." {
+				return bad(key+".thousands_separator", "cannot be \".\" unless decimal_comma is true")
+			}
+			switch s.Layout {
+			case "", "long", "wide":
+			default:
+				return bad(key+".layout", "must be long or wide, not %q", s.Layout)
+			}
+		}
+	}
+
+	a := c.Analysis
+	if a.Grain != string(costdrift.GrainAccount) && a.Grain != string(costdrift.GrainAccountCostCenter) {
+		return bad("analysis.grain", "must be account or account_cost_center, not %q", a.Grain)
+	}
+	if _, err := costdrift.ParseAccountScope(a.Accounts); err != nil {
+		return bad("analysis.accounts", "%v", err)
+	}
+	if a.MinPeriods < 4 {
+		return bad("analysis.min_periods", "must be >= 4 so that a fit has residual degrees of freedom, not %d", a.MinPeriods)
+	}
+	if a.Window < a.MinPeriods {
+		return bad("analysis.window", "must be >= analysis.min_periods (%d), not %d", a.MinPeriods, a.Window)
+	}
+	if len(a.Lags) == 0 {
+		return bad("analysis.lags", "must list at least one lag, e.g. [0, 1]")
+	}
+	seen := map[int]bool{}
+	for _, l := range a.Lags {
+		if l < 0 || l > 12 {
+			return bad("analysis.lags", "each lag must be from 0 to 12 periods, not %d", l)
+		}
+		if seen[l] {
+			return bad("analysis.lags", "lag %d is listed twice", l)
+		}
+		seen[l] = true
+	}
+	if !(a.Alpha > 0 && a.Alpha <= 0.2) {
+		return bad("analysis.alpha", "must be in (0, 0.2], not %g", a.Alpha)
+	}
+
+	for i, r := range c.Alerts.Recipients {
+		key := fmt.Sprintf("alerts.recipients[%d]", i)
+		if !strings.Contains(r.Email, "@") {
+			return bad(key+".email", "must be an email address, not %q", r.Email)
+		}
+		switch r.MinSeverity {
+		case "", "info", "warning", "critical":
+		default:
+			return bad(key+".min_severity", "must be info, warning or critical, not %q", r.MinSeverity)
+		}
+	}
+
+	switch c.Mail.SMTP.TLS {
+	case "starttls", "tls", "none":
+	default:
+		return bad("mail.smtp.tls", "must be starttls, tls or none, not %q", c.Mail.SMTP.TLS)
+	}
+	if c.Mail.SMTP.Port < 1 || c.Mail.SMTP.Port > 65535 {
+		return bad("mail.smtp.port", "must be a TCP port from 1 to 65535, not %d", c.Mail.SMTP.Port)
+	}
+	if c.Mail.SMTP.Host == "" && strings.TrimSpace(c.Mail.Outbox) == "" {
+		return bad("mail.outbox", "must name a folder when mail.smtp.host is empty, or alerts would be lost")
+	}
+
+	if strings.TrimSpace(c.Schedule.Cron) == "" {
+		return bad("schedule.cron", "must be a cron expression such as \"0 6 * * *\"")
+	}
+	if _, err := time.LoadLocation(c.Schedule.Timezone); err != nil {
+		return bad("schedule.timezone", "%q is not a known time zone (e.g. UTC, Europe/Oslo)", c.Schedule.Timezone)
+	}
+	if c.HTTP.Listen != "" {
+		if _, _, err := net.SplitHostPort(c.HTTP.Listen); err != nil {
+			return bad("http.listen", "must be host:port such as 127.0.0.1:9464, not %q", c.HTTP.Listen)
+		}
+	}
+	return nil
+}
+
+// GoDateLayout turns a date format spelt with YYYY, MM and DD (the way a
+// user writes it, e.g. DD.MM.YYYY) into a Go time layout.
+func GoDateLayout(format string) (string, error) {
+	if !strings.Contains(format, "YYYY") || !strings.Contains(format, "MM") || !strings.Contains(format, "DD") {
+		return "", fmt.Errorf("%q must contain YYYY, MM and DD, e.g. DD.MM.YYYY", format)
+	}
+	r := strings.NewReplacer("YYYY", "2006", "MM", "01", "DD", "02")
+	layout := r.Replace(format)
+	if strings.ContainsAny(layout, "YMD") {
+		return "", fmt.Errorf("%q: only YYYY, MM and DD may be used", format)
+	}
+	return layout, nil
+}

@@ -1,0 +1,24 @@
+package costdrift
+
+import "time"
+
+// CostTotal is the net posted amount of one account and cost centre in one
+// period, in minor units.
+type CostTotal struct {
+	Period      string
+	Account     string
+	CostCenter  string
+	AmountMinor int64
+}
+
+// AnalysisRun is the record of one analysis.
+type AnalysisRun struct {
+	ID         int64
+	StartedAt  time.Time
+	FinishedAt time.Time
+	WindowFrom string
+	WindowTo   string
+	Grain      Grain
+	Objects    int
+	Settings   string // JSON of the settings used
+}

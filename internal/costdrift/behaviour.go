@@ -1,0 +1,97 @@
+package costdrift
+
+// Class is the cost-behaviour class of a cost object.
+type Class string
+
+const (
+	Fixed            Class = "fixed"
+	Variable         Class = "variable"
+	Mixed            Class = "mixed"
+	Step             Class = "step"
+	Unexplained      Class = "unexplained"
+	InsufficientData Class = "insufficient_data"
+)
+
+// Model names a candidate cost formula.
+type Model string
+
+const (
+	ModelConstant     Model = "constant"     // cost = a
+	ModelLinear       Model = "linear"       // cost = a + b·driver
+	ModelProportional Model = "proportional" // cost = b·driver
+	ModelStep         Model = "step"         // cost = level(driver)
+)
+
+// Fit is one candidate model of one cost object against one driver and lag,
+// with the statistics that rank and classify it. Money is in currency units.
+type Fit struct {
+	Object          CostObject
+	Driver          string // "" for the constant model
+	Lag             int    // periods the driver leads the cost
+	Model           Model
+	N               int
+	Intercept       float64
+	InterceptSE     float64
+	InterceptP      float64
+	Slope           float64
+	SlopeSE         float64
+	SlopeT          float64
+	SlopeP          float64 // unadjusted two-sided p-value of the slope
+	SlopeAdjustedP  float64 // after the multiple-testing correction over all candidates of the object
+	R2              float64
+	ResidualSE      float64
+	PRESS           float64
+	AICc            float64
+	RangeMin        float64 // smallest and largest driver value in the fit: the relevant range
+	RangeMax        float64
+	Significant     bool // a positive slope significant after correction
+	Implausible     bool // a significant negative slope: reported, never used
+	Chosen          bool // the fit the behaviour is based on
+	PlausibleRanked int  // rank by PRESS among significant plausible fits; 0 when unranked
+}
+
+// HighLow is the high-low estimate beside the regression: the line through the
+// periods of highest and lowest activity.
+type HighLow struct {
+	HighPeriod   string
+	LowPeriod    string
+	HighActivity float64
+	LowActivity  float64
+	HighCost     float64
+	LowCost      float64
+	Fixed        float64
+	Rate         float64
+	Warning      string // set when either end is an outlier of the regression
+}
+
+// StepLevel is one level of a step-fixed cost: Level applies to driver values
+// in [From, To].
+type StepLevel struct {
+	From  float64 `json:"from"`
+	To    float64 `json:"to"`
+	Level float64 `json:"level"`
+}
+
+// Behaviour is the classified behaviour of one cost object: its class, driver
+// and cost formula, fixed per period plus rate per unit of driver, valid
+// inside the relevant range [RangeMin, RangeMax].
+type Behaviour struct {
+	Object         CostObject
+	Class          Class
+	Driver         string // "" for fixed, unexplained and insufficient data
+	Unit           string // unit of the driver, e.g. "machine hour"
+	Lag            int
+	FixedPerPeriod float64
+	VariableRate   float64
+	R2             float64
+	N              int
+	RangeMin       float64
+	RangeMax       float64
+	Since          string // first period of the current behaviour
+	Until          string // last period the analysis saw
+	Steps          []StepLevel
+	Reason         string // one line saying why this class
+	HighLow        *HighLow
+	CV             float64 // coefficient of variation of the cost over the window
+	MeanCost       float64
+}
