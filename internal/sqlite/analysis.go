@@ -1,0 +1,249 @@
+package sqlite
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// CostTotals returns the net amount per period, account and cost centre of
+// every ledger line.
+func (db *DB) CostTotals(ctx context.Context) ([]costdrift.CostTotal, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT period, account, cost_center, SUM(amount_minor)
+		FROM gl_lines GROUP BY period, account, cost_center ORDER BY account, cost_center, period`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []costdrift.CostTotal
+	for rows.Next() {
+		var c costdrift.CostTotal
+		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &c.AmountMinor); err != nil {
+			return nil, err
+		}
+		out = append(out, c)
+	}
+	return out, rows.Err()
+}
+
+// Activity returns every driver value, summed over sources, per period,
+// driver and cost centre.
+func (db *DB) Activity(ctx context.Context) ([]costdrift.ActivityValue, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT period, driver, cost_center, SUM(value), MAX(unit)
+		FROM activity GROUP BY period, driver, cost_center ORDER BY driver, cost_center, period`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []costdrift.ActivityValue
+	for rows.Next() {
+		var a costdrift.ActivityValue
+		if err := rows.Scan(&a.Period, &a.Driver, &a.CostCenter, &a.Value, &a.Unit); err != nil {
+			return nil, err
+		}
+		out = append(out, a)
+	}
+	return out, rows.Err()
+}
+
+// AccountNames maps account numbers to their names from the chart of accounts.
+func (db *DB) AccountNames(ctx context.Context) (map[string]string, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT account, MAX(name) FROM accounts GROUP BY account`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	names := map[string]string{}
+	for rows.Next() {
+		var a, n string
+		if err := rows.Scan(&a, &n); err != nil {
+			return nil, err
+		}
+		names[a] = n
+	}
+	return names, rows.Err()
+}
+
+// SaveAnalysis stores an analysis in one transaction: the run, every fit,
+// and each object's behaviour. A behaviour with the same class, driver and
+// lag as the object's open history row refreshes that row; a different one
+// closes it and opens a new one.
+func (db *DB) SaveAnalysis(ctx context.Context, run *costdrift.AnalysisRun, fits []costdrift.Fit, behaviours []costdrift.Behaviour) error {
+	return db.inTx(ctx, func(tx *sql.Tx) error {
+		res, err := tx.ExecContext(ctx, `INSERT INTO analysis_runs (started_at, finished_at, window_from, window_to, grain, objects, settings)
+			VALUES (?, ?, ?, ?, ?, ?, ?)`, run.StartedAt.UTC().Format(time.RFC3339), run.FinishedAt.UTC().Format(time.RFC3339),
+			nullString(run.WindowFrom), nullString(run.WindowTo), string(run.Grain), run.Objects, run.Settings)
+		if err != nil {
+			return fmt.Errorf("save analysis run: %w", err)
+		}
+		run.ID, _ = res.LastInsertId()
+		if err := insertFits(ctx, tx, run.ID, fits); err != nil {
+			return err
+		}
+		now := db.now()
+		for i := range behaviours {
+			if err := saveBehaviour(ctx, tx, run.ID, now, &behaviours[i]); err != nil {
+				return fmt.Errorf("save behaviour %s: %w", behaviours[i].Object, err)
+			}
+		}
+		return nil
+	})
+}
+
+func insertFits(ctx context.Context, tx *sql.Tx, runID int64, fits []costdrift.Fit) error {
+	stmt, err := tx.PrepareContext(ctx, `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
+		intercept, intercept_se, intercept_p, slope, slope_se, slope_t, slope_p, slope_adjusted_p, r2, residual_se, press, aicc,
+		range_min, range_max, significant, implausible, chosen, rank)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
+	if err != nil {
+		return err
+	}
+	defer stmt.Close()
+	for _, f := range fits {
+		var rank any
+		if f.PlausibleRanked > 0 {
+			rank = f.PlausibleRanked
+		}
+		_, err := stmt.ExecContext(ctx, runID, f.Object.String(), f.Object.Account, f.Object.CostCenter, f.Driver, f.Lag, string(f.Model), f.N,
+			num(f.Intercept), num(f.InterceptSE), num(f.InterceptP), num(f.Slope), num(f.SlopeSE), num(f.SlopeT), num(f.SlopeP),
+			num(f.SlopeAdjustedP), num(f.R2), num(f.ResidualSE), num(f.PRESS), num(f.AICc), num(f.RangeMin), num(f.RangeMax),
+			f.Significant, f.Implausible, f.Chosen, rank)
+		if err != nil {
+			return fmt.Errorf("save fit %s %s lag %d %s: %w", f.Object, f.Driver, f.Lag, f.Model, err)
+		}
+	}
+	return nil
+}
+
+func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour) error {
+	var id int64
+	var class, driver string
+	var lag sql.NullInt64
+	err := tx.QueryRowContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag FROM behaviour_history
+		WHERE object = ? AND valid_to_run_at IS NULL`, b.Object.String()).Scan(&id, &class, &driver, &lag)
+	switch {
+	case errors.Is(err, sql.ErrNoRows):
+		id = 0
+	case err != nil:
+		return err
+	}
+	steps, highLow := "", ""
+	if len(b.Steps) > 0 {
+		j, _ := json.Marshal(b.Steps)
+		steps = string(j)
+	}
+	if b.HighLow != nil {
+		j, _ := json.Marshal(highLowJSON(*b.HighLow))
+		highLow = string(j)
+	}
+	hasDriver := b.Driver != ""
+	sameLag := (!hasDriver && !lag.Valid) || (hasDriver && lag.Valid && int(lag.Int64) == b.Lag)
+	values := []any{string(b.Class), nullString(b.Driver), nullString(b.Unit), lagValue(b), num(b.FixedPerPeriod), num(b.VariableRate),
+		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
+		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow)}
+	if id != 0 && class == string(b.Class) && driver == b.Driver && sameLag {
+		_, err := tx.ExecContext(ctx, `UPDATE behaviour_history SET class = ?, driver = ?, unit = ?, lag = ?, fixed_per_period = ?,
+			variable_rate = ?, r2 = ?, n = ?, range_min = ?, range_max = ?, since = ?, until = ?, steps = ?, reason = ?,
+			mean_cost = ?, cv = ?, high_low = ?, last_run_id = ? WHERE id = ?`, append(values, runID, id)...)
+		return err
+	}
+	if id != 0 {
+		if _, err := tx.ExecContext(ctx, `UPDATE behaviour_history SET valid_to_run_at = ? WHERE id = ?`, now, id); err != nil {
+			return err
+		}
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (class, driver, unit, lag, fixed_per_period, variable_rate, r2, n,
+		range_min, range_max, since, until, steps, reason, mean_cost, cv, high_low, object, account, cost_center,
+		first_run_id, last_run_id, valid_from_run_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now)...)
+	return err
+}
+
+// CurrentBehaviour returns the open behaviour of every object, by object.
+func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
+		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
+		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, '')
+		FROM current_behaviour ORDER BY account, cost_center`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []costdrift.Behaviour
+	for rows.Next() {
+		var b costdrift.Behaviour
+		var class, steps, highLow string
+		var lag sql.NullInt64
+		var fixed, rate, r2, lo, hi, mean, cv sql.NullFloat64
+		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
+			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow); err != nil {
+			return nil, err
+		}
+		b.Class = costdrift.Class(class)
+		b.Lag = int(lag.Int64)
+		b.FixedPerPeriod, b.VariableRate, b.R2 = fixed.Float64, rate.Float64, r2.Float64
+		b.RangeMin, b.RangeMax, b.MeanCost, b.CV = lo.Float64, hi.Float64, mean.Float64, cv.Float64
+		if steps != "" {
+			if err := json.Unmarshal([]byte(steps), &b.Steps); err != nil {
+				return nil, fmt.Errorf("behaviour %s: steps: %w", b.Object, err)
+			}
+		}
+		if highLow != "" {
+			var h highLowJSON
+			if err := json.Unmarshal([]byte(highLow), &h); err != nil {
+				return nil, fmt.Errorf("behaviour %s: high_low: %w", b.Object, err)
+			}
+			hl := costdrift.HighLow(h)
+			b.HighLow = &hl
+		}
+		out = append(out, b)
+	}
+	return out, rows.Err()
+}
+
+// highLowJSON fixes the JSON names of the high-low column.
+type highLowJSON struct {
+	HighPeriod   string  `json:"high_period"`
+	LowPeriod    string  `json:"low_period"`
+	HighActivity float64 `json:"high_activity"`
+	LowActivity  float64 `json:"low_activity"`
+	HighCost     float64 `json:"high_cost"`
+	LowCost      float64 `json:"low_cost"`
+	Fixed        float64 `json:"fixed"`
+	Rate         float64 `json:"rate"`
+	Warning      string  `json:"warning,omitempty"`
+}
+
+func lagValue(b *costdrift.Behaviour) any {
+	if b.Driver == "" {
+		return nil
+	}
+	return b.Lag
+}
+
+func rangeValue(b *costdrift.Behaviour, v float64) any {
+	if b.Driver == "" {
+		return nil
+	}
+	return num(v)
+}
+
+// num stores NaN and infinities as NULL: SQLite has no such values.
+func num(v float64) any {
+	if v != v || v > 1e308 || v < -1e308 {
+		return nil
+	}
+	return v
+}
+
+func nullString(s string) any {
+	if s == "" {
+		return nil
+	}
+	return s
+}

@@ -1,0 +1,122 @@
+package sqlite
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"io/fs"
+	"net/url"
+	"os"
+	"path/filepath"
+	"strconv"
+	"time"
+
+	_ "github.com/mattn/go-sqlite3" // registers the "sqlite3" driver
+
+	"github.com/costdrift/costdrift/internal/money"
+)
+
+// DB is an open store.
+type DB struct {
+	db   *sql.DB
+	path string
+	// Now is the clock; tests replace it.
+	Now func() time.Time
+	// Currency is the functional currency the store was created with.
+	Currency money.Currency
+}
+
+// Open opens the store at path, creating it owner-only (mode 0600) when it
+// does not exist, and applies pending migrations. The store remembers its
+// currency: opening it with another one is refused, since its minor units
+// would be misread.
+func Open(ctx context.Context, path string, currency money.Currency) (*DB, error) {
+	dir := filepath.Dir(path)
+	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		return nil, fmt.Errorf("store %s: folder %s does not exist; create it or change `store` in the config", path, dir)
+	}
+	// Create the file ourselves so that it never exists with wider
+	// permissions; SQLite gives its -wal and -shm files the same mode.
+	f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE, 0o600)
+	if err != nil {
+		return nil, fmt.Errorf("store %s: %w", path, err)
+	}
+	f.Close()
+
+	q := url.Values{}
+	q.Set("_journal_mode", "WAL")
+	q.Set("_foreign_keys", "on")
+	q.Set("_busy_timeout", "10000")
+	q.Set("_synchronous", "NORMAL")
+	q.Set("_txlock", "immediate")
+	sqldb, err := sql.Open("sqlite3", "file:"+path+"?"+q.Encode())
+	if err != nil {
+		return nil, fmt.Errorf("store %s: %w", path, err)
+	}
+	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency}
+	if err := db.migrate(ctx); err != nil {
+		sqldb.Close()
+		return nil, fmt.Errorf("store %s: %w", path, err)
+	}
+	if err := db.checkCurrency(ctx); err != nil {
+		sqldb.Close()
+		return nil, fmt.Errorf("store %s: %w", path, err)
+	}
+	return db, nil
+}
+
+// Close closes the store.
+func (db *DB) Close() error { return db.db.Close() }
+
+// Path is the file the store lives in.
+func (db *DB) Path() string { return db.path }
+
+// SQL exposes the handle for read-only inspection in tests and tools.
+func (db *DB) SQL() *sql.DB { return db.db }
+
+func (db *DB) now() string { return db.Now().UTC().Format(time.RFC3339) }
+
+func (db *DB) checkCurrency(ctx context.Context) error {
+	var code string
+	err := db.db.QueryRowContext(ctx, `SELECT value FROM store_meta WHERE key = 'currency'`).Scan(&code)
+	if errors.Is(err, sql.ErrNoRows) {
+		_, err = db.db.ExecContext(ctx, `INSERT INTO store_meta (key, value) VALUES ('currency', ?), ('minor_per_unit', ?)`,
+			db.Currency.Code, strconv.FormatInt(pow10(db.Currency.Exponent), 10))
+		return err
+	}
+	if err != nil {
+		return err
+	}
+	if code != db.Currency.Code {
+		return fmt.Errorf("it holds amounts in %s but the config says currency %s; use a new store for another currency", code, db.Currency.Code)
+	}
+	return nil
+}
+
+func pow10(n int32) int64 {
+	p := int64(1)
+	for range n {
+		p *= 10
+	}
+	return p
+}
+
+// inTx runs fn in one transaction and commits it, or rolls back on error.
+func (db *DB) inTx(ctx context.Context, fn func(*sql.Tx) error) error {
+	tx, err := db.db.BeginTx(ctx, nil)
+	if err != nil {
+		return err
+	}
+	if err := fn(tx); err != nil {
+		tx.Rollback()
+		return err
+	}
+	return tx.Commit()
+}
+
+// Exists reports whether a store file is at path.
+func Exists(path string) bool {
+	_, err := os.Stat(path)
+	return !errors.Is(err, fs.ErrNotExist)
+}
