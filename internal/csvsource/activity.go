@@ -1,0 +1,189 @@
+package csvsource
+
+import (
+	"context"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// ReadActivity streams driver values to w. The long form has the columns
+// period, driver, value and optionally cost_center and unit; the wide form
+// has period (and optionally cost_center) and one column per driver. The
+// layout is detected from the header unless opt.Layout says it.
+func ReadActivity(ctx context.Context, path, display string, opt Options, w costdrift.SourceWriter) (int, error) {
+	t, closer, err := open(path, display, opt.Delimiter)
+	if err != nil {
+		return 0, err
+	}
+	defer closer.Close()
+
+	layout := opt.Layout
+	if layout == "" {
+		layout = "wide"
+		probe := &table{header: t.header}
+		if probe.bind(opt.Columns, []string{"driver", "value"}, nil, "") == nil {
+			layout = "long"
+		}
+	}
+	var drivers []int // wide form: the columns that hold drivers
+	if layout == "long" {
+		if err := t.bind(opt.Columns, []string{"period", "driver", "value"}, []string{"cost_center", "unit"},
+			"expected period, driver, value (long form) or period and one column per driver (wide form)"); err != nil {
+			return 0, err
+		}
+	} else {
+		if err := t.bind(opt.Columns, []string{"period"}, []string{"cost_center"},
+			"expected period, driver, value (long form) or period and one column per driver (wide form)"); err != nil {
+			return 0, err
+		}
+		for i, h := range t.header {
+			if i != t.col["period"] && !(t.has("cost_center") && i == t.col["cost_center"]) && strings.TrimSpace(h) != "" {
+				drivers = append(drivers, i)
+			}
+		}
+		if len(drivers) == 0 {
+			return 0, fmt.Errorf("%s: wide-form header has a period column but no driver columns (found: %s)", display, joinHeader(t.header))
+		}
+	}
+
+	read := 0
+	for {
+		rec, err := t.next()
+		if errors.Is(err, io.EOF) {
+			return read, nil
+		}
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			read++
+			if err := w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "malformed CSV: " + pe.Err.Error(), Raw: t.rawInput()}); err != nil {
+				return read, err
+			}
+			continue
+		}
+		if err != nil {
+			return read, fmt.Errorf("%s: %w", display, err)
+		}
+		if blank(rec) {
+			continue
+		}
+		read++
+		if err := checkCtx(ctx, read); err != nil {
+			return read, err
+		}
+		reject := func(reason string) error {
+			return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw(rec)})
+		}
+		if len(rec) != len(t.header) {
+			if err := reject(fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header))); err != nil {
+				return read, err
+			}
+			continue
+		}
+		period, reason := parsePeriod(t.field(rec, "period"), opt)
+		if reason != "" {
+			if err := reject(reason); err != nil {
+				return read, err
+			}
+			continue
+		}
+		cc := t.field(rec, "cost_center")
+		if layout == "long" {
+			a := costdrift.ActivityValue{Source: opt.Source, Period: period, Driver: t.field(rec, "driver"), CostCenter: cc, Unit: t.field(rec, "unit")}
+			var reason string
+			if a.Driver == "" {
+				reason = "missing driver"
+			} else {
+				a.Value, reason = parseValue(t.field(rec, "value"), opt)
+			}
+			if reason != "" {
+				err = reject(reason)
+			} else {
+				err = w.Activity(a)
+			}
+			if err != nil {
+				return read, err
+			}
+			continue
+		}
+		// Wide form: check the whole row first, so that it is stored whole
+		// or rejected whole.
+		values := make([]costdrift.ActivityValue, 0, len(drivers))
+		reason = ""
+		for _, i := range drivers {
+			text := strings.TrimSpace(rec[i])
+			if text == "" {
+				continue // no value for this driver in this period
+			}
+			v, why := parseValue(text, opt)
+			if why != "" {
+				reason = strings.TrimSpace(t.header[i]) + ": " + why
+				break
+			}
+			values = append(values, costdrift.ActivityValue{Source: opt.Source, Period: period, Driver: strings.TrimSpace(t.header[i]), CostCenter: cc, Value: v})
+		}
+		if reason != "" {
+			if err := reject(reason); err != nil {
+				return read, err
+			}
+			continue
+		}
+		for _, a := range values {
+			if err := w.Activity(a); err != nil {
+				return read, err
+			}
+		}
+	}
+}
+
+// parsePeriod accepts YYYY-MM, or a date (in the source's date layout or
+// ISO) that the calendar maps to a period.
+func parsePeriod(text string, opt Options) (string, string) {
+	if text == "" {
+		return "", "missing period"
+	}
+	if len(text) == 7 {
+		if t, err := time.Parse("2006-01", text); err == nil {
+			return opt.Period(t), ""
+		}
+	}
+	for _, layout := range []string{opt.DateLayout, "2006-01-02"} {
+		if layout == "" {
+			continue
+		}
+		if t, err := time.Parse(layout, text); err == nil {
+			return opt.Period(t), ""
+		}
+	}
+	return "", fmt.Sprintf("bad period %q: want YYYY-MM or a date", text)
+}
+
+// parseValue reads an activity quantity; decimal notation follows the
+// source's options. Activity cannot be negative or missing.
+func parseValue(text string, opt Options) (float64, string) {
+	if text == "" {
+		return 0, "missing value"
+	}
+	s := text
+	if opt.Notation.ThousandsSeparator != "" {
+		s = strings.ReplaceAll(s, opt.Notation.ThousandsSeparator, "")
+	}
+	if opt.Notation.DecimalComma {
+		s = strings.Replace(s, ",", ".", 1)
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Sprintf("bad value %q: not a number", text)
+	}
+	if v < 0 {
+		return 0, fmt.Sprintf("bad value %q: activity cannot be negative", text)
+	}
+	return v, ""
+}

@@ -1,0 +1,172 @@
+package csvsource
+
+import (
+	"context"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// Ledger columns. Either amount, or debit and credit, must be present.
+var (
+	ledgerRequired = []string{"entry_id", "date", "account"}
+	ledgerOptional = []string{"line", "cost_center", "amount", "debit", "credit", "description"}
+)
+
+// ReadLedger streams the general-ledger lines of one file to w and returns
+// how many data rows it read. display names the file in messages.
+func ReadLedger(ctx context.Context, path, display string, opt Options, w costdrift.SourceWriter) (int, error) {
+	t, closer, err := open(path, display, opt.Delimiter)
+	if err != nil {
+		return 0, err
+	}
+	defer closer.Close()
+	const hint = "expected entry_id, date, account and amount (or debit and credit)"
+	if err := t.bind(opt.Columns, ledgerRequired, ledgerOptional, hint); err != nil {
+		return 0, err
+	}
+	signed := t.has("amount")
+	if !signed && !(t.has("debit") && t.has("credit")) {
+		return 0, fmt.Errorf("%s: header has neither an amount column nor debit and credit columns (found: %s); %s, or map yours under `columns:` in the source's config",
+			display, joinHeader(t.header), hint)
+	}
+	layout := opt.DateLayout
+	if layout == "" {
+		layout = "2006-01-02"
+	}
+	// Without a line column, lines are numbered within their entry in file
+	// order, which is stable as long as the export is.
+	nextLine := map[string]int{}
+	read := 0
+	for {
+		rec, err := t.next()
+		if errors.Is(err, io.EOF) {
+			return read, nil
+		}
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			read++
+			if err := w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "malformed CSV: " + pe.Err.Error(), Raw: t.rawInput()}); err != nil {
+				return read, err
+			}
+			continue
+		}
+		if err != nil {
+			return read, fmt.Errorf("%s: %w", display, err)
+		}
+		if blank(rec) {
+			continue
+		}
+		read++
+		if err := checkCtx(ctx, read); err != nil {
+			return read, err
+		}
+		line, reason := parseLedgerRow(t, rec, opt, layout, signed, nextLine)
+		if reason != "" {
+			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw(rec)})
+		} else {
+			err = w.LedgerLine(line)
+		}
+		if err != nil {
+			return read, err
+		}
+	}
+}
+
+// parseLedgerRow turns a record into a ledger line, or says why it cannot.
+func parseLedgerRow(t *table, rec []string, opt Options, layout string, signed bool, nextLine map[string]int) (costdrift.LedgerLine, string) {
+	if len(rec) != len(t.header) {
+		return costdrift.LedgerLine{}, fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header))
+	}
+	l := costdrift.LedgerLine{
+		Source:      opt.Source,
+		EntryID:     t.field(rec, "entry_id"),
+		Account:     t.field(rec, "account"),
+		CostCenter:  t.field(rec, "cost_center"),
+		Description: t.field(rec, "description"),
+	}
+	if l.EntryID == "" {
+		return l, "missing entry_id"
+	}
+	if l.Account == "" {
+		return l, "missing account"
+	}
+	dateText := t.field(rec, "date")
+	date, err := time.Parse(layout, dateText)
+	if err != nil {
+		return l, fmt.Sprintf("bad date %q: want %s", dateText, humanLayout(layout))
+	}
+	l.PostedOn = date.Format("2006-01-02")
+	l.Period = opt.Period(date)
+
+	if signed {
+		text := t.field(rec, "amount")
+		l.AmountMinor, err = opt.Currency.Parse(text, opt.Notation)
+		if err != nil {
+			return l, "bad amount: " + err.Error()
+		}
+	} else {
+		debitText, creditText := t.field(rec, "debit"), t.field(rec, "credit")
+		if debitText == "" && creditText == "" {
+			return l, "missing amount: both debit and credit are empty"
+		}
+		var debit, credit int64
+		if debitText != "" {
+			if debit, err = opt.Currency.Parse(debitText, opt.Notation); err != nil {
+				return l, "bad debit: " + err.Error()
+			}
+		}
+		if creditText != "" {
+			if credit, err = opt.Currency.Parse(creditText, opt.Notation); err != nil {
+				return l, "bad credit: " + err.Error()
+			}
+		}
+		l.AmountMinor = debit - credit
+	}
+
+	if lineText := t.field(rec, "line"); t.has("line") && lineText != "" {
+		n, err := strconv.Atoi(lineText)
+		if err != nil || n < 1 {
+			return l, fmt.Sprintf("bad line %q: want a whole number from 1", lineText)
+		}
+		l.Line = n
+	} else {
+		nextLine[l.EntryID]++
+		l.Line = nextLine[l.EntryID]
+	}
+	return l, ""
+}
+
+// humanLayout spells a Go date layout the way the config does.
+func humanLayout(layout string) string {
+	out := []byte{}
+	for i := 0; i < len(layout); {
+		switch {
+		case len(layout)-i >= 4 && layout[i:i+4] == "2006":
+			out, i = append(out, "YYYY"...), i+4
+		case len(layout)-i >= 2 && layout[i:i+2] == "01":
+			out, i = append(out, "MM"...), i+2
+		case len(layout)-i >= 2 && layout[i:i+2] == "02":
+			out, i = append(out, "DD"...), i+2
+		default:
+			out, i = append(out, layout[i]), i+1
+		}
+	}
+	return string(out)
+}
+
+func joinHeader(h []string) string {
+	s := ""
+	for i, x := range h {
+		if i > 0 {
+			s += ", "
+		}
+		s += x
+	}
+	return s
+}

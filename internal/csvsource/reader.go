@@ -1,0 +1,226 @@
+package csvsource
+
+import (
+	"bufio"
+	"bytes"
+	"context"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/money"
+)
+
+// Options describe one CSV source.
+type Options struct {
+	Source string // the source's configured name, stored with every row
+	// Columns maps canonical names (entry_id, date, amount, ...) to the
+	// headers the file uses instead.
+	Columns    map[string]string
+	Delimiter  rune   // 0: detect ',' ';' or tab from the header line
+	DateLayout string // Go layout of posting dates; "" for 2006-01-02
+	Notation   money.Notation
+	Currency   money.Currency
+	// Period maps a posting date to its period.
+	Period func(time.Time) string
+	// Layout of an activity file: "long", "wide", or "" to detect.
+	Layout string
+}
+
+// table is an open CSV file positioned after its header.
+type table struct {
+	name   string
+	r      *csv.Reader
+	header []string
+	col    map[string]int // canonical name -> index
+	delim  rune
+	line   int
+	// The file, and where the current record starts in it, so that a row
+	// the CSV reader cannot split is still stored as it was written.
+	file  io.ReaderAt
+	bom   int64 // bytes before the CSV reader's first byte
+	start int64 // reader offset of the current record
+}
+
+// maxRaw caps the stored text of a malformed row: an unclosed quote can run
+// to the end of the file.
+const maxRaw = 4096
+
+// open opens path, detects the delimiter, strips a UTF-8 byte-order mark
+// and reads the header. An empty file is an error.
+func open(path, display string, delim rune) (*table, io.Closer, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return nil, nil, fmt.Errorf("cannot read %s: %v", display, err)
+	}
+	if st, err := f.Stat(); err == nil && st.IsDir() {
+		f.Close()
+		return nil, nil, fmt.Errorf("cannot read %s: it is a folder, not a file", display)
+	}
+	br := bufio.NewReaderSize(f, 1<<16)
+	var bom int64
+	head, err := br.Peek(3)
+	if err == nil && bytes.Equal(head, []byte("\xef\xbb\xbf")) {
+		br.Discard(3)
+		bom = 3
+	}
+	first, err := br.Peek(4096)
+	if err != nil && !errors.Is(err, io.EOF) {
+		f.Close()
+		return nil, nil, fmt.Errorf("cannot read %s: %v", display, err)
+	}
+	if len(bytes.TrimSpace(first)) == 0 {
+		f.Close()
+		return nil, nil, fmt.Errorf("%s is empty: expected a header line and rows", display)
+	}
+	if delim == 0 {
+		delim = detectDelimiter(first)
+	}
+	r := csv.NewReader(br)
+	r.Comma = delim
+	r.FieldsPerRecord = -1 // a wrong count is a reject for that row, not the end of the file
+	r.ReuseRecord = true
+	header, err := r.Read()
+	if err != nil {
+		f.Close()
+		return nil, nil, fmt.Errorf("%s: cannot read the header line: %v", display, err)
+	}
+	t := &table{name: display, r: r, header: append([]string(nil), header...), delim: delim, line: 1,
+		file: f, bom: bom}
+	return t, f, nil
+}
+
+// detectDelimiter picks the most frequent of ',', ';' and tab outside
+// quotes in the header line; a comma when none occurs.
+func detectDelimiter(sample []byte) rune {
+	if i := bytes.IndexAny(sample, "\r\n"); i >= 0 {
+		sample = sample[:i]
+	}
+	counts := map[rune]int{}
+	inQuotes := false
+	for _, c := range string(sample) {
+		switch {
+		case c == '"':
+			inQuotes = !inQuotes
+		case !inQuotes && (c == ',' || c == ';' || c == '\t'):
+			counts[c]++
+		}
+	}
+	best, n := ',', 0
+	for _, c := range []rune{',', ';', '\t'} {
+		if counts[c] > n {
+			best, n = c, counts[c]
+		}
+	}
+	return best
+}
+
+// bind maps canonical column names to header positions, honouring the
+// column mapping; it fails naming the required columns that are missing.
+func (t *table) bind(mapping map[string]string, required, optional []string, hint string) error {
+	index := map[string]int{}
+	for i, h := range t.header {
+		index[strings.ToLower(strings.TrimSpace(h))] = i
+	}
+	t.col = map[string]int{}
+	var missing []string
+	for _, name := range append(append([]string{}, required...), optional...) {
+		want := name
+		if m, ok := mapping[name]; ok && m != "" {
+			want = m
+		}
+		if i, ok := index[strings.ToLower(strings.TrimSpace(want))]; ok {
+			t.col[name] = i
+		}
+	}
+	for _, name := range required {
+		if _, ok := t.col[name]; !ok {
+			missing = append(missing, name)
+		}
+	}
+	if len(missing) > 0 {
+		return fmt.Errorf("%s: header has no column %s (found: %s); %s, or map yours under `columns:` in the source's config",
+			t.name, strings.Join(missing, ", "), strings.Join(t.header, ", "), hint)
+	}
+	return nil
+}
+
+// next returns the next record, or io.EOF. Records that the CSV reader
+// cannot parse (a stray quote) come back as a row error.
+func (t *table) next() ([]string, error) {
+	t.start = t.r.InputOffset()
+	rec, err := t.r.Read()
+	var pe *csv.ParseError
+	switch {
+	case err == nil:
+		t.line, _ = t.r.FieldPos(0)
+	case errors.As(err, &pe):
+		t.line = pe.StartLine
+	}
+	return rec, err
+}
+
+func (t *table) field(rec []string, name string) string {
+	i, ok := t.col[name]
+	if !ok || i >= len(rec) {
+		return ""
+	}
+	return strings.TrimSpace(rec[i])
+}
+
+func (t *table) has(name string) bool {
+	_, ok := t.col[name]
+	return ok
+}
+
+func (t *table) location() string { return fmt.Sprintf("%s:%d", t.name, t.line) }
+
+// raw re-encodes a record as the line it came from, for the reject table.
+func (t *table) raw(rec []string) string {
+	var b strings.Builder
+	w := csv.NewWriter(&b)
+	w.Comma = t.delim
+	w.Write(rec)
+	w.Flush()
+	return strings.TrimRight(b.String(), "\r\n")
+}
+
+// rawInput returns the current record's bytes as they stand in the file,
+// for rows the CSV reader could not split into fields.
+func (t *table) rawInput() string {
+	n := t.r.InputOffset() - t.start
+	if n > maxRaw {
+		n = maxRaw
+	}
+	buf := make([]byte, n)
+	// ReadAt leaves the file position, and so the CSV reader, untouched.
+	k, _ := t.file.ReadAt(buf, t.bom+t.start)
+	// The span also holds the empty lines the reader skipped before it.
+	return strings.Trim(string(buf[:k]), "\r\n")
+}
+
+// blank reports whether every field of a record is empty: such lines are
+// skipped, as spreadsheets often leave them at the end.
+func blank(rec []string) bool {
+	for _, f := range rec {
+		if strings.TrimSpace(f) != "" {
+			return false
+		}
+	}
+	return true
+}
+
+func checkCtx(ctx context.Context, n int) error {
+	if n%4096 == 0 {
+		return ctx.Err()
+	}
+	return nil
+}
