@@ -1,0 +1,277 @@
+package analyze
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/fit"
+)
+
+// Settings are the method settings (PRODUCT defaults in brackets).
+type Settings struct {
+	MinPeriods int     // fewer observations than this: insufficient_data [12]
+	Lags       []int   // periods a driver may lead the cost [0, 1]
+	Alpha      float64 // significance level after correction [0.05]
+}
+
+// Thresholds of the classification, as fractions. They are common practice
+// in cost accounting rather than statistics, which is why they are fixed
+// here and named in every reason.
+const (
+	FixedMaxCV       = 0.10 // a cost with no driver that varies at most this much around its mean is fixed
+	MinorShare       = 0.10 // a fixed or variable part below this share of cost at mean activity is ignored
+	OutlierStdResid  = 2.5  // |studentised residual| above this marks a high-low end as an outlier
+	outlierCookScale = 4.0  // Cook's distance above 4/n marks an outlier
+)
+
+// Result is the analysis of one cost object: every fit tried and the
+// behaviour chosen.
+type Result struct {
+	Fits      []costdrift.Fit
+	Behaviour costdrift.Behaviour
+}
+
+// candidate is one driver at one lag, aligned with the cost.
+type candidate struct {
+	driver     *costdrift.DriverSeries
+	lag        int
+	x, y       []float64
+	periods    []string
+	linear     *fit.Regression
+	origin     *fit.Regression
+	linearIdx  int // index into Result.Fits
+	adjustedP  float64
+	plausible  bool // significant positive slope after correction
+	negative   bool // significant negative slope after correction
+	meanX      float64
+	rangeMin   float64
+	rangeMax   float64
+	rank       int
+	originFits int
+}
+
+// Object analyses one cost object of the panel.
+func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result {
+	var res Result
+	b := &res.Behaviour
+	b.Object = obj.Object
+
+	var y []float64
+	var periods []string
+	for i, v := range obj.Cost {
+		if !math.IsNaN(v) {
+			y = append(y, v)
+			periods = append(periods, p.Periods[i])
+		}
+	}
+	b.N = len(y)
+	if len(periods) > 0 {
+		b.Since, b.Until = periods[0], periods[len(periods)-1]
+	}
+	if len(y) < s.MinPeriods {
+		b.Class = costdrift.InsufficientData
+		b.Reason = fmt.Sprintf("only %d closed periods with ledger data; at least %d are needed", len(y), s.MinPeriods)
+		if len(y) > 0 {
+			b.MeanCost = meanOf(y)
+			b.FixedPerPeriod = b.MeanCost
+		}
+		return res
+	}
+
+	constant, err := fit.Constant(y)
+	if err != nil {
+		b.Class = costdrift.InsufficientData
+		b.Reason = "cannot fit a constant: " + err.Error()
+		return res
+	}
+	b.MeanCost = constant.Coef[0]
+	sd := constant.ResidualSE
+	b.CV = math.Inf(1)
+	if b.MeanCost != 0 {
+		b.CV = sd / math.Abs(b.MeanCost)
+	}
+	res.Fits = append(res.Fits, fitRecord(obj.Object, "", 0, costdrift.ModelConstant, constant, y))
+
+	cands := candidates(p, obj, s)
+	for _, c := range cands {
+		c.linearIdx = len(res.Fits)
+		f := fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelLinear, c.linear, c.x)
+		res.Fits = append(res.Fits, f)
+		if c.origin != nil {
+			res.Fits = append(res.Fits, fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelProportional, c.origin, c.x))
+		}
+	}
+	adjust(cands, s.Alpha)
+	ranked := rank(cands)
+	for _, c := range cands {
+		f := &res.Fits[c.linearIdx]
+		f.SlopeAdjustedP = c.adjustedP
+		f.Significant = c.plausible
+		f.Implausible = c.negative
+		f.PlausibleRanked = c.rank
+	}
+	classify(&res, cands, ranked, y, periods, s)
+	return res
+}
+
+// candidates fits every driver series that applies to the object at every
+// lag. A cost centre's own series wins over the company-wide one of the
+// same name.
+func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*candidate {
+	chosen := map[string]*costdrift.DriverSeries{}
+	for i := range p.Drivers {
+		d := &p.Drivers[i]
+		switch {
+		case d.CostCenter == obj.Object.CostCenter:
+			chosen[d.Name] = d
+		case d.CostCenter == "":
+			if _, ok := chosen[d.Name]; !ok {
+				chosen[d.Name] = d
+			}
+		}
+	}
+	names := make([]string, 0, len(chosen))
+	for n := range chosen {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+
+	var out []*candidate
+	for _, name := range names {
+		d := chosen[name]
+		for _, lag := range s.Lags {
+			c := &candidate{driver: d, lag: lag}
+			for i, v := range obj.Cost {
+				xv := d.Values[i+p.MaxLag-lag]
+				if math.IsNaN(v) || math.IsNaN(xv) {
+					continue
+				}
+				c.x = append(c.x, xv)
+				c.y = append(c.y, v)
+				c.periods = append(c.periods, p.Periods[i])
+			}
+			if len(c.x) < s.MinPeriods {
+				continue
+			}
+			lin, err := fit.Line(c.x, c.y)
+			if err != nil {
+				continue // a constant driver explains nothing
+			}
+			c.linear = lin
+			if orig, err := fit.ThroughOrigin(c.x, c.y); err == nil {
+				c.origin = orig
+			}
+			c.meanX = meanOf(c.x)
+			c.rangeMin, c.rangeMax = minMax(c.x)
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// adjust applies Holm's step-down correction to the slopes' p-values over
+// all candidates of the object, so that a driver counts as significant only
+// when it would also survive the number of drivers and lags tried (Holm
+// 1979; it controls the family-wise error rate like Bonferroni, with more
+// power).
+func adjust(cands []*candidate, alpha float64) {
+	m := len(cands)
+	order := make([]*candidate, m)
+	copy(order, cands)
+	sort.SliceStable(order, func(i, j int) bool { return order[i].linear.P[1] < order[j].linear.P[1] })
+	running := 0.0
+	for i, c := range order {
+		adj := math.Min(1, float64(m-i)*c.linear.P[1])
+		running = math.Max(running, adj) // adjusted p-values never decrease along the order
+		c.adjustedP = running
+		if c.adjustedP < alpha {
+			if c.linear.Coef[1] > 0 {
+				c.plausible = true
+			} else {
+				c.negative = true
+			}
+		}
+	}
+}
+
+// rank orders the plausible candidates by leave-one-out error (PRESS per
+// observation, since candidates may differ in n), not by R² alone.
+func rank(cands []*candidate) []*candidate {
+	var ranked []*candidate
+	for _, c := range cands {
+		if c.plausible {
+			ranked = append(ranked, c)
+		}
+	}
+	sort.SliceStable(ranked, func(i, j int) bool {
+		return ranked[i].linear.PRESS/float64(ranked[i].linear.N) < ranked[j].linear.PRESS/float64(ranked[j].linear.N)
+	})
+	for i, c := range ranked {
+		c.rank = i + 1
+	}
+	return ranked
+}
+
+// fitRecord turns a regression into a stored fit.
+func fitRecord(o costdrift.CostObject, driver string, lag int, model costdrift.Model, r *fit.Regression, x []float64) costdrift.Fit {
+	f := costdrift.Fit{
+		Object: o, Driver: driver, Lag: lag, Model: model, N: r.N,
+		R2: r.R2, ResidualSE: r.ResidualSE, PRESS: r.PRESS, AICc: r.AICc,
+		Intercept: math.NaN(), InterceptSE: math.NaN(), InterceptP: math.NaN(),
+		Slope: math.NaN(), SlopeSE: math.NaN(), SlopeT: math.NaN(), SlopeP: math.NaN(), SlopeAdjustedP: math.NaN(),
+		RangeMin: math.NaN(), RangeMax: math.NaN(),
+	}
+	switch model {
+	case costdrift.ModelConstant:
+		f.Intercept, f.InterceptSE, f.InterceptP = r.Coef[0], r.StdErr[0], r.P[0]
+	case costdrift.ModelLinear:
+		f.Intercept, f.InterceptSE, f.InterceptP = r.Coef[0], r.StdErr[0], r.P[0]
+		f.Slope, f.SlopeSE, f.SlopeT, f.SlopeP = r.Coef[1], r.StdErr[1], r.T[1], r.P[1]
+	case costdrift.ModelProportional:
+		f.Slope, f.SlopeSE, f.SlopeT, f.SlopeP = r.Coef[0], r.StdErr[0], r.T[0], r.P[0]
+	}
+	if driver != "" {
+		f.RangeMin, f.RangeMax = minMax(x)
+	}
+	return f
+}
+
+func meanOf(v []float64) float64 {
+	s := 0.0
+	for _, x := range v {
+		s += x
+	}
+	return s / float64(len(v))
+}
+
+func minMax(v []float64) (float64, float64) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, x := range v {
+		lo, hi = math.Min(lo, x), math.Max(hi, x)
+	}
+	return lo, hi
+}
+
+// driverLabel is how a reason names a driver and lag.
+func driverLabel(c *candidate) string {
+	name := strings.ReplaceAll(c.driver.Name, "_", " ")
+	switch c.lag {
+	case 0:
+		return name
+	case 1:
+		return name + " of the period before"
+	default:
+		return fmt.Sprintf("%s of %d periods before", name, c.lag)
+	}
+}
+
+// pText writes a p-value the way a reason shows it.
+func pText(p float64) string {
+	if p < 0.001 {
+		return "p < 0.001"
+	}
+	return fmt.Sprintf("p = %.3f", p)
+}
