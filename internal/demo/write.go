@@ -1,0 +1,411 @@
+package demo
+
+import (
+	"bytes"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"time"
+)
+
+// Files are the paths Write created, relative to dir.
+type Files struct {
+	Ledger   []string // one general-ledger file per calendar year, oldest first
+	Activity string
+	Accounts string
+}
+
+// Header rows of the three file kinds.
+var (
+	ledgerHeader   = []string{"entry_id", "line", "date", "account", "cost_center", "amount", "description"}
+	activityHeader = []string{"period", "driver", "value", "cost_center", "unit"}
+	accountsHeader = []string{"account", "name", "type", "group"}
+)
+
+// Ledger data is confidential, so the files are readable by the owner only.
+const (
+	fileMode   os.FileMode = 0o600
+	folderMode os.FileMode = 0o700
+)
+
+// Write writes the demo data set of seed below dir:
+//
+//	dir/data/gl/gl-2023.csv … gl-2026.csv  general ledger, one file per calendar year
+//	dir/data/activity.csv                   driver values, long form
+//	dir/data/accounts.csv                   chart of accounts
+//
+// Folders it creates get mode 0700 and files 0600. Each file is written to a
+// temporary name and renamed, so a reader never sees half a file and an
+// existing file of wider mode is replaced rather than reused. The same seed
+// gives byte-identical files.
+func Write(dir string, seed uint64) (Files, error) {
+	if dir == "" {
+		return Files{}, errors.New("demo: write: empty directory")
+	}
+	ds, err := build(seed)
+	if err != nil {
+		return Files{}, err
+	}
+	glDir := filepath.Join("data", "gl")
+	if err := os.MkdirAll(filepath.Join(dir, glDir), folderMode); err != nil {
+		return Files{}, fmt.Errorf("demo: write: %w", err)
+	}
+	var files Files
+	for _, year := range ds.years() {
+		name := filepath.Join(glDir, fmt.Sprintf("gl-%d.csv", year))
+		if err := writeFile(filepath.Join(dir, name), ds.ledgerCSV(year)); err != nil {
+			return Files{}, err
+		}
+		files.Ledger = append(files.Ledger, name)
+	}
+	files.Activity = filepath.Join("data", "activity.csv")
+	if err := writeFile(filepath.Join(dir, files.Activity), ds.activityCSV()); err != nil {
+		return Files{}, err
+	}
+	files.Accounts = filepath.Join("data", "accounts.csv")
+	if err := writeFile(filepath.Join(dir, files.Accounts), accountsCSV()); err != nil {
+		return Files{}, err
+	}
+	return files, nil
+}
+
+// writeFile writes data to path through a temporary file in the same folder
+// (created 0600 by os.CreateTemp) and a rename.
+func writeFile(path string, data []byte) error {
+	f, err := os.CreateTemp(filepath.Dir(path), ".demo-*.tmp")
+	if err != nil {
+		return fmt.Errorf("demo: write %s: %w", path, err)
+	}
+	tmp := f.Name()
+	fail := func(err error) error {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("demo: write %s: %w", path, err)
+	}
+	if _, err := f.Write(data); err != nil {
+		return fail(err)
+	}
+	if err := f.Chmod(fileMode); err != nil {
+		return fail(err)
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("demo: write %s: %w", path, err)
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("demo: write %s: %w", path, err)
+	}
+	return nil
+}
+
+// dataset is the whole demo in memory: activity, designed costs and the
+// ledger entries that carry them, entries[i] for period i (index 0 unused).
+type dataset struct {
+	activity *activity
+	costs    []objectCost
+	entries  [][]entry
+}
+
+// entry is one balanced journal entry: expense debit lines and one credit.
+type entry struct {
+	id     string
+	date   time.Time
+	lines  []line // debits first, the credit line last
+	bill   int    // index of the billing in billings, to order same-day entries
+	prefix string
+}
+
+type line struct {
+	account, costCenter string
+	cents               int64
+	description         string
+}
+
+// billing says how the cost of a group of objects reaches the ledger: which
+// objects share one document, whether a supplier invoice (credited to
+// payables) or a transfer (credited to the bank), how many documents a month
+// and the texts on them.
+type billing struct {
+	name     string
+	objects  [][2]string // account, cost centre; one debit line each
+	prefix   string      // entry id prefix: AP supplier invoice, BK bank transfer
+	credit   string
+	min, max int // documents per month
+	day      int // fixed day of month; 0 draws the days
+	// lineText gets the object, the period index i, the document number k
+	// (1-based), the number of documents n and a draw that picks a text
+	// variant; creditText gets the period label for i and the same k, n and
+	// variant.
+	lineText   func(o objectCost, i, k, n, variant int) string
+	creditText func(p string, k, n, variant int) string
+}
+
+var costCenterPlace = map[string]string{welding: "welding bay", painting: "paint shop", assembly: "assembly hall"}
+
+// campaigns are the invented marketing activities, one picked per document.
+var campaigns = []string{
+	"Spring catalogue printing",
+	"Trade fair stand hire",
+	"Online advertising on cycling forums",
+	"Demo-day rides with local clubs",
+	"Photo shoot for the new frame range",
+	"Sponsorship of a regional gravel race",
+	"Dealer brochure and sample decals",
+}
+
+var billings = []billing{
+	{
+		name: "rent", objects: [][2]string{{"6100", welding}, {"6100", painting}, {"6100", assembly}},
+		prefix: "BK", credit: accountBank, min: 1, max: 1, day: 1,
+		lineText: func(o objectCost, i, _, _, _ int) string {
+			if i == o.serviceCharge {
+				return fmt.Sprintf("Rent and service-charge true-up, %s %s", costCenterPlace[o.exp.CostCenter], periodLabel(i))
+			}
+			return fmt.Sprintf("Rent, %s %s", costCenterPlace[o.exp.CostCenter], periodLabel(i))
+		},
+		creditText: func(p string, _, _, _ int) string { return "Rent transfer " + p },
+	},
+	{
+		name: "lease", objects: [][2]string{{"6110", painting}},
+		prefix: "BK", credit: accountBank, min: 1, max: 1, day: 5,
+		lineText: func(_ objectCost, i, _, _, _ int) string {
+			return "Spray booth lease instalment " + periodLabel(i)
+		},
+		creditText: func(p string, _, _, _ int) string { return "Lease direct debit " + p },
+	},
+	{
+		name: "power", objects: [][2]string{{"6200", welding}, {"6200", painting}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 2,
+		lineText: func(o objectCost, i, k, n, _ int) string {
+			return fmt.Sprintf("Electricity, %s, meter reading %d of %d, %s", costCenterPlace[o.exp.CostCenter], k, n, periodLabel(i))
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Electricity bill %s-%d", p, k) },
+	},
+	{
+		name: "supervision", objects: [][2]string{{"6300", assembly}},
+		prefix: "BK", credit: accountBank, min: 2, max: 2,
+		lineText: func(_ objectCost, i, k, n, _ int) string {
+			return fmt.Sprintf("Shift supervision pay %s, part %d of %d", periodLabel(i), k, n)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Payroll transfer %s-%d", p, k) },
+	},
+	{
+		name: "tubing", objects: [][2]string{{"5100", welding}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 3,
+		lineText: func(_ objectCost, i, k, _, _ int) string {
+			return fmt.Sprintf("Chromoly tubing, batch %s-%d", periodLabel(i), k)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Tube stock invoice %s-%d", p, k) },
+	},
+	{
+		name: "paint", objects: [][2]string{{"5200", painting}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 3,
+		lineText: func(_ objectCost, i, k, _, _ int) string {
+			return fmt.Sprintf("Powder coat and primer, lot %s-%d", periodLabel(i), k)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Coatings invoice %s-%d", p, k) },
+	},
+	{
+		name: "freight", objects: [][2]string{{"6400", assembly}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 3,
+		lineText: func(_ objectCost, i, k, _, _ int) string {
+			return fmt.Sprintf("Outbound freight, consignments %s-%d", periodLabel(i), k)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Carrier invoice %s-%d", p, k) },
+	},
+	{
+		name: "packaging", objects: [][2]string{{"6420", assembly}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 3,
+		lineText: func(_ objectCost, i, k, _, _ int) string {
+			return fmt.Sprintf("Frame boxes and foam inserts, order %s-%d", periodLabel(i), k)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Packaging invoice %s-%d", p, k) },
+	},
+	{
+		name: "maintenance", objects: [][2]string{{"6500", welding}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 3,
+		lineText: func(_ objectCost, i, k, _, _ int) string {
+			return fmt.Sprintf("Welder servicing and spares, job %s-%d", periodLabel(i), k)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Service invoice %s-%d", p, k) },
+	},
+	{
+		name: "marketing", objects: [][2]string{{"6600", assembly}},
+		prefix: "AP", credit: accountPayables, min: 1, max: 3,
+		lineText: func(_ objectCost, i, _, _, variant int) string {
+			return campaigns[variant] + ", " + periodLabel(i)
+		},
+		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Marketing services invoice %s-%d", p, k) },
+	},
+}
+
+// build generates the whole data set of seed in memory.
+func build(seed uint64) (*dataset, error) {
+	a := generateActivity(seed)
+	costs, err := designCosts(seed, a)
+	if err != nil {
+		return nil, err
+	}
+	byObject := make(map[[2]string]int, len(costs))
+	for k, c := range costs {
+		byObject[[2]string{c.exp.Account, c.exp.CostCenter}] = k
+	}
+	ds := &dataset{activity: a, costs: costs, entries: make([][]entry, periodCount+1)}
+	billed := 0
+	for b, bl := range billings {
+		r := newStream(seed, "billing/"+bl.name)
+		for i := 1; i <= periodCount; i++ {
+			n := bl.min + r.IntN(bl.max-bl.min+1)
+			days := []int{bl.day}
+			if bl.day != 0 && n != 1 {
+				panic(fmt.Sprintf("demo: billing %s has a fixed day but %d documents a month", bl.name, n))
+			}
+			if bl.day == 0 {
+				// Distinct days drawn from 1..28, which every month has,
+				// February included.
+				days = r.Perm(28)[:n]
+				for d := range days {
+					days[d]++
+				}
+				slices.Sort(days)
+			}
+			shares := make([]float64, n)
+			for k := range shares {
+				shares[k] = 0.5 + r.Float64()
+			}
+			variants := make([]int, n)
+			for k := range variants {
+				variants[k] = r.IntN(len(campaigns))
+			}
+			parts := make([][]int64, len(bl.objects))
+			for o, obj := range bl.objects {
+				k, ok := byObject[obj]
+				if !ok {
+					panic(fmt.Sprintf("demo: billing %s names %s/%s, which has no expectation", bl.name, obj[0], obj[1]))
+				}
+				parts[o] = splitCents(costs[k].cents[i], shares)
+			}
+			p := periodLabel(i)
+			for k := range n {
+				e := entry{date: periodStart(i).AddDate(0, 0, days[k]-1), bill: b, prefix: bl.prefix}
+				var total int64
+				for o, obj := range bl.objects {
+					oc := costs[byObject[obj]]
+					text := bl.lineText(oc, i, k+1, n, variants[k])
+					e.lines = append(e.lines, line{account: obj[0], costCenter: obj[1], cents: parts[o][k], description: text})
+					total += parts[o][k]
+				}
+				e.lines = append(e.lines, line{account: bl.credit, cents: -total, description: bl.creditText(p, k+1, n, variants[k])})
+				ds.entries[i] = append(ds.entries[i], e)
+			}
+		}
+		billed += len(bl.objects)
+	}
+	if billed != len(costs) {
+		panic(fmt.Sprintf("demo: billings cover %d objects, expectations %d", billed, len(costs)))
+	}
+	for i := 1; i <= periodCount; i++ {
+		es := ds.entries[i]
+		slices.SortStableFunc(es, func(x, y entry) int {
+			if c := x.date.Compare(y.date); c != 0 {
+				return c
+			}
+			return x.bill - y.bill
+		})
+		seq := map[string]int{}
+		for k := range es {
+			seq[es[k].prefix]++
+			es[k].id = fmt.Sprintf("%s-%s-%04d", es[k].prefix, periodLabel(i), seq[es[k].prefix])
+		}
+	}
+	return ds, nil
+}
+
+// splitCents splits total into len(shares) parts in proportion to shares:
+// part_k = round(total·share_k/Σshare) for all but the last part, and the
+// last part takes what is left, so the parts add up to total exactly.
+func splitCents(total int64, shares []float64) []int64 {
+	var sum float64
+	for _, s := range shares {
+		sum += s
+	}
+	parts := make([]int64, len(shares))
+	var used int64
+	for k := 0; k < len(shares)-1; k++ {
+		parts[k] = int64(math.Round(float64(total) * shares[k] / sum))
+		used += parts[k]
+	}
+	parts[len(parts)-1] = total - used
+	return parts
+}
+
+// formatCents writes cents as a plain decimal with two decimals and a point,
+// e.g. 123450 → "1234.50", −5 → "-0.05".
+func formatCents(c int64) string {
+	sign := ""
+	if c < 0 {
+		sign, c = "-", -c
+	}
+	return fmt.Sprintf("%s%d.%02d", sign, c/100, c%100)
+}
+
+// years lists the calendar years the periods fall in, ascending.
+func (ds *dataset) years() []int {
+	var ys []int
+	for i := 1; i <= periodCount; i++ {
+		if y := periodStart(i).Year(); len(ys) == 0 || ys[len(ys)-1] != y {
+			ys = append(ys, y)
+		}
+	}
+	return ys
+}
+
+func encode(rows [][]string) []byte {
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	// Writing to a bytes.Buffer cannot fail, and WriteAll flushes.
+	if err := w.WriteAll(rows); err != nil {
+		panic("demo: csv encoding: " + err.Error())
+	}
+	return buf.Bytes()
+}
+
+func (ds *dataset) ledgerCSV(year int) []byte {
+	rows := [][]string{ledgerHeader}
+	for i := 1; i <= periodCount; i++ {
+		if periodStart(i).Year() != year {
+			continue
+		}
+		for _, e := range ds.entries[i] {
+			date := e.date.Format(time.DateOnly)
+			for n, l := range e.lines {
+				rows = append(rows, []string{e.id, strconv.Itoa(n + 1), date, l.account, l.costCenter, formatCents(l.cents), l.description})
+			}
+		}
+	}
+	return encode(rows)
+}
+
+func (ds *dataset) activityCSV() []byte {
+	rows := [][]string{activityHeader}
+	for i := 1; i <= periodCount; i++ {
+		for _, s := range ds.activity.series {
+			rows = append(rows, []string{periodLabel(i), s.driver, strconv.FormatFloat(s.values[i], 'f', s.decimals, 64), s.costCenter, s.unit})
+		}
+	}
+	return encode(rows)
+}
+
+func accountsCSV() []byte {
+	rows := [][]string{accountsHeader}
+	for _, a := range chart {
+		rows = append(rows, []string{a.number, a.name, a.kind, a.group})
+	}
+	return encode(rows)
+}

@@ -1,0 +1,206 @@
+package report
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// Caution is the footer every report carries.
+const Caution = `Formulas are statistical estimates from past data, valid only inside the observed activity range
+(the relevant range). They support, and never replace, the accountant's judgement and the
+organisation's policies. Ledger data is confidential: keep this report to its intended readers.`
+
+// Row is one cost object as the JSON report writes it. The first fourteen
+// fields are the documented contract; the rest add context.
+type Row struct {
+	Object         string                `json:"object"`
+	Account        string                `json:"account"`
+	CostCenter     string                `json:"cost_center"`
+	Class          costdrift.Class       `json:"class"`
+	Driver         *string               `json:"driver"`
+	Lag            *int                  `json:"lag"`
+	FixedPerPeriod *float64              `json:"fixed_per_period"`
+	VariableRate   *float64              `json:"variable_rate"`
+	R2             *float64              `json:"r2"`
+	N              int                   `json:"n"`
+	RangeMin       *float64              `json:"range_min"`
+	RangeMax       *float64              `json:"range_max"`
+	Since          string                `json:"since"`
+	Steps          []costdrift.StepLevel `json:"steps"`
+
+	AccountName string             `json:"account_name"`
+	Unit        string             `json:"unit"`
+	Formula     string             `json:"formula"`
+	Reason      string             `json:"reason"`
+	Until       string             `json:"until"`
+	HighLow     *costdrift.HighLow `json:"high_low"`
+}
+
+// Rows turns behaviours into report rows.
+func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
+	rows := make([]Row, 0, len(bs))
+	for _, b := range bs {
+		r := Row{
+			Object: b.Object.String(), Account: b.Object.Account, CostCenter: b.Object.CostCenter,
+			Class: b.Class, N: b.N, Since: b.Since, Until: b.Until, Steps: b.Steps,
+			AccountName: names[b.Object.Account], Unit: b.Unit, Reason: b.Reason, HighLow: b.HighLow,
+			Formula: Formula(b),
+		}
+		if r.Steps == nil {
+			r.Steps = []costdrift.StepLevel{}
+		}
+		if b.Driver != "" {
+			d, lag := b.Driver, b.Lag
+			r.Driver, r.Lag = &d, &lag
+			r.RangeMin, r.RangeMax = ptr(b.RangeMin), ptr(b.RangeMax)
+			r.R2 = ptr(b.R2)
+		}
+		if b.Class != costdrift.InsufficientData {
+			r.FixedPerPeriod = ptr(round(b.FixedPerPeriod, 2))
+			r.VariableRate = ptr(round(b.VariableRate, 6))
+		}
+		rows = append(rows, r)
+	}
+	return rows
+}
+
+// JSON writes the rows as an indented JSON array.
+func JSON(w io.Writer, rows []Row) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(rows)
+}
+
+// Table writes the rows as an aligned table followed by each object's
+// reason and the cautions.
+func Table(w io.Writer, rows []Row, currency string) error {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintf(tw, "OBJECT\tACCOUNT\tCLASS\tFORMULA (%s per period)\tR²\tN\tRELEVANT RANGE\tSINCE\n", currency)
+	for _, r := range rows {
+		r2, rng := "-", "-"
+		if r.R2 != nil {
+			r2 = fmt.Sprintf("%.2f", *r.R2)
+		}
+		if r.RangeMin != nil {
+			rng = Number(*r.RangeMin, 0) + " – " + Number(*r.RangeMax, 0)
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%s\n", r.Object, clip(r.AccountName, 24), r.Class, r.Formula, r2, r.N, rng, r.Since)
+	}
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "Why:")
+	for _, r := range rows {
+		fmt.Fprintf(w, "  %-12s %s\n", r.Object, r.Reason)
+		if r.HighLow != nil {
+			hl := r.HighLow
+			fmt.Fprintf(w, "  %-12s high-low: cost = %s + %s (high %s, low %s)\n", "", Number(hl.Fixed, 2), Number(hl.Rate, rateDecimals(hl.Rate)), hl.HighPeriod, hl.LowPeriod)
+			if hl.Warning != "" {
+				fmt.Fprintf(w, "  %-12s warning: %s\n", "", hl.Warning)
+			}
+		}
+	}
+	fmt.Fprintln(w)
+	_, err := fmt.Fprintln(w, Caution)
+	return err
+}
+
+// Formula writes a behaviour's cost formula out in words:
+// "cost = 4,210.00 + 1.87 per machine hour".
+func Formula(b costdrift.Behaviour) string {
+	per := "per " + unitName(b)
+	if b.Lag == 1 {
+		per += " of the period before"
+	} else if b.Lag > 1 {
+		per += fmt.Sprintf(" of %d periods before", b.Lag)
+	}
+	switch b.Class {
+	case costdrift.Fixed:
+		return "cost = " + Number(b.FixedPerPeriod, 2)
+	case costdrift.Variable:
+		return "cost = " + Number(b.VariableRate, rateDecimals(b.VariableRate)) + " " + per
+	case costdrift.Mixed:
+		sign, rate := "+", b.VariableRate
+		if rate < 0 {
+			sign, rate = "-", -rate
+		}
+		return fmt.Sprintf("cost = %s %s %s %s", Number(b.FixedPerPeriod, 2), sign, Number(rate, rateDecimals(rate)), per)
+	case costdrift.Step:
+		parts := make([]string, len(b.Steps))
+		for i, s := range b.Steps {
+			parts[i] = fmt.Sprintf("%s from %s", Number(s.Level, 2), Number(s.From, 0))
+		}
+		return "cost = " + strings.Join(parts, "; ") + " " + unitName(b)
+	case costdrift.Unexplained:
+		return "mean " + Number(b.MeanCost, 2) + " (no formula)"
+	default:
+		return "-"
+	}
+}
+
+func unitName(b costdrift.Behaviour) string {
+	if b.Unit != "" {
+		return b.Unit
+	}
+	return "unit of " + strings.ReplaceAll(b.Driver, "_", " ")
+}
+
+// rateDecimals shows small rates with enough digits to matter.
+func rateDecimals(v float64) int {
+	if math.Abs(v) < 1 && v != 0 {
+		return 4
+	}
+	return 2
+}
+
+// Number formats v with the given decimals and comma thousands separators:
+// 4210.5 -> "4,210.50".
+func Number(v float64, decimals int) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "-"
+	}
+	s := fmt.Sprintf("%.*f", decimals, math.Abs(v))
+	intPart, frac, _ := strings.Cut(s, ".")
+	var b strings.Builder
+	if v < 0 && strings.Trim(s, "0.") != "" {
+		b.WriteByte('-')
+	}
+	for i, c := range intPart {
+		if i > 0 && (len(intPart)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(c)
+	}
+	if decimals > 0 {
+		b.WriteByte('.')
+		b.WriteString(frac)
+	}
+	return b.String()
+}
+
+func clip(s string, n int) string {
+	r := []rune(s)
+	if len(r) <= n {
+		return s
+	}
+	return string(r[:n-1]) + "…"
+}
+
+func ptr(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func round(v float64, d int) float64 {
+	p := math.Pow10(d)
+	return math.Round(v*p) / p
+}
