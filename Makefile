@@ -1,0 +1,25 @@
+# costdrift: what a developer can do. `make help` lists it.
+GO      ?= go
+VERSION ?= $(shell git describe --tags --always --dirty 2>/dev/null || echo dev)
+LDFLAGS := -X main.version=$(VERSION)
+
+.PHONY: help build test demo lint ci
+
+help: ## list the targets
+	@awk 'BEGIN {FS = ":.*## "} /^[a-z-]+:.*## / {printf "  %-8s %s\n", $$1, $$2}' $(MAKEFILE_LIST)
+
+build: ## build bin/costdrift
+	$(GO) build -ldflags "$(LDFLAGS)" -o bin/costdrift ./cmd/costdrift
+
+test: ## run every test: unit, store, end-to-end
+	$(GO) test -count=1 ./...
+
+demo: build ## an invented company's books synced, analysed and reported (in costdrift-demo/)
+	./bin/costdrift demo --dir costdrift-demo
+
+lint: ## gofmt and go vet
+	@unformatted=$$(gofmt -l cmd internal migrations); if [ -n "$$unformatted" ]; then echo "gofmt needed: $$unformatted"; exit 1; fi
+	$(GO) vet ./...
+
+ci: ## what CI runs: lint, test, demo
+	bash .ci/run

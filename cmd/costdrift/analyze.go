@@ -1,0 +1,96 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"slices"
+	"sort"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/costdrift/costdrift/internal/analyze"
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/series"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+func (a *app) analyzeCommand() *cobra.Command {
+	return &cobra.Command{
+		Use:   "analyze",
+		Short: "Fit every driver to every cost object and classify its behaviour",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			e, err := a.loadConfig()
+			if err != nil {
+				return err
+			}
+			db, err := a.openStore(cmd.Context(), e, true)
+			if err != nil {
+				return err
+			}
+			defer db.Close()
+			_, err = a.analyzeAll(cmd.Context(), e, db, a.out)
+			return err
+		},
+	}
+}
+
+// analyzeAll builds the panel from the store, analyses every object and
+// stores the run, its fits and the behaviours in one transaction.
+func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) (*costdrift.AnalysisRun, error) {
+	started := a.now()
+	cfg := e.cfg.Analysis
+	scope, err := costdrift.ParseAccountScope(cfg.Accounts)
+	if err != nil {
+		return nil, err // validated with the config
+	}
+	costs, err := db.CostTotals(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: read ledger totals: %w", err)
+	}
+	activity, err := db.Activity(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: read activity: %w", err)
+	}
+	minor := int64(1)
+	for range e.currency.Exponent {
+		minor *= 10
+	}
+	panel, err := series.Build(costs, activity, series.Settings{
+		Grain: costdrift.Grain(cfg.Grain), Scope: scope, Window: cfg.Window, MaxLag: slices.Max(cfg.Lags),
+		Minor: minor, Calendar: e.calendar, Now: a.now(),
+	})
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
+	}
+	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha})
+
+	var fits []costdrift.Fit
+	behaviours := make([]costdrift.Behaviour, 0, len(results))
+	classes := map[costdrift.Class]int{}
+	for _, r := range results {
+		fits = append(fits, r.Fits...)
+		behaviours = append(behaviours, r.Behaviour)
+		classes[r.Behaviour.Class]++
+	}
+	settings, _ := json.Marshal(map[string]any{"grain": cfg.Grain, "accounts": cfg.Accounts, "window": cfg.Window,
+		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.currency.Code})
+	run := &costdrift.AnalysisRun{
+		StartedAt: started, FinishedAt: a.now(), Grain: costdrift.Grain(cfg.Grain), Objects: len(behaviours),
+		WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings),
+	}
+	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	var counts []string
+	for c, n := range classes {
+		counts = append(counts, fmt.Sprintf("%d %s", n, c))
+	}
+	sort.Strings(counts)
+	fmt.Fprintf(out, "analysed %d cost objects over %s to %s (%d periods with postings): %s\n", len(behaviours),
+		run.WindowFrom, run.WindowTo, panel.PeriodsWithPostings, strings.Join(counts, ", "))
+	return run, nil
+}

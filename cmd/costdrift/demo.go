@@ -1,0 +1,105 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/demo"
+)
+
+func (a *app) demoCommand() *cobra.Command {
+	var dir string
+	cmd := &cobra.Command{
+		Use:   "demo",
+		Short: "Write an invented company's books, then sync, analyse and report on them",
+		Long: `demo writes 36 months of ledger and activity data for Quillfeather Frames, an
+invented bicycle-frame workshop, with a config beside them; then it syncs,
+analyses and prints the report, and says how to query the store.`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return a.demo(cmd, dir)
+		},
+	}
+	cmd.Flags().StringVar(&dir, "dir", "costdrift-demo", "folder for the demo's data, config and store")
+	return cmd
+}
+
+func (a *app) demo(cmd *cobra.Command, dir string) error {
+	ctx := cmd.Context()
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return fmt.Errorf("demo folder %s: %w", dir, err)
+	}
+	if _, err := demo.Write(dir, demo.DefaultSeed); err != nil {
+		return fmt.Errorf("demo data: %w", err)
+	}
+	a.configPath = filepath.Join(dir, "costdrift.yaml")
+	f, err := os.OpenFile(a.configPath, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)
+	switch {
+	case errors.Is(err, fs.ErrExist):
+		fmt.Fprintf(a.out, "keeping the existing %s\n", a.configPath)
+	case err != nil:
+		return err
+	default:
+		_, werr := f.WriteString(config.Starter)
+		if cerr := f.Close(); werr == nil {
+			werr = cerr
+		}
+		if werr != nil {
+			return werr
+		}
+	}
+	fmt.Fprintf(a.out, "%s (an invented company): 36 months of ledger and activity written to %s\n\n", demo.Company, filepath.Join(dir, "data"))
+
+	e, err := a.loadConfig()
+	if err != nil {
+		return err
+	}
+	db, err := a.openStore(ctx, e, false)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	if _, err := syncAll(ctx, e, db, a.out); err != nil {
+		return err
+	}
+	if _, err := a.analyzeAll(ctx, e, db, a.out); err != nil {
+		return err
+	}
+	fmt.Fprintln(a.out)
+	if err := writeReport(ctx, db, "table", e.currency.Code, a.out); err != nil {
+		return err
+	}
+
+	bs, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		return err
+	}
+	found := map[string]string{}
+	for _, b := range bs {
+		found[b.Object.String()] = string(b.Class) + " " + b.Driver
+	}
+	fmt.Fprintln(a.out, "\nDesigned into the demo data, and what the analysis found:")
+	for _, x := range demo.Expectations() {
+		obj := x.Account + "/" + x.CostCenter
+		designed := x.Class + " " + x.Driver
+		if x.Lag > 0 {
+			designed += fmt.Sprintf(" (lag %d)", x.Lag)
+		}
+		line := fmt.Sprintf("  %-10s %-24s designed %-32s found %s", obj, x.AccountName, designed, found[obj])
+		if x.Drift != "" {
+			line += "   [drift: " + x.Drift + "]"
+		}
+		fmt.Fprintln(a.out, line)
+	}
+	fmt.Fprintf(a.out, "\nThe store is %s. Query it with sqlite3, for example:\n", db.Path())
+	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())
+	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())
+	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_series WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
+	return nil
+}

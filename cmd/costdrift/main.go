@@ -1,0 +1,62 @@
+// Command costdrift learns, for every expense account and cost centre,
+// whether its cost is fixed, variable, mixed or step-fixed, what drives it
+// and its cost formula, from the general ledger and activity data it syncs
+// into a local SQLite store.
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"syscall"
+	"time"
+
+	"github.com/spf13/cobra"
+)
+
+// version is set at build time with -ldflags "-X main.version=...".
+var version = "dev"
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	if err := newRoot(os.Stdout, os.Stderr, time.Now).ExecuteContext(ctx); err != nil {
+		fmt.Fprintln(os.Stderr, "costdrift: "+err.Error())
+		os.Exit(1)
+	}
+}
+
+// app carries what every command shares.
+type app struct {
+	configPath string
+	out, errw  io.Writer
+	now        func() time.Time
+}
+
+func newRoot(out, errw io.Writer, now func() time.Time) *cobra.Command {
+	a := &app{out: out, errw: errw, now: now}
+	root := &cobra.Command{
+		Use:   "costdrift",
+		Short: "Learn each cost's behaviour from the ledger, and notice when it changes",
+		Long: `costdrift syncs general-ledger postings and activity data into a SQLite store,
+tests every activity driver against every cost object by regression, and
+classifies each cost as fixed, variable, mixed or step-fixed with its formula.`,
+		SilenceUsage:  true,
+		SilenceErrors: true,
+	}
+	root.CompletionOptions.DisableDefaultCmd = true
+	root.SetOut(out)
+	root.SetErr(errw)
+	root.PersistentFlags().StringVar(&a.configPath, "config", defaultConfigPath(), "configuration file (env COSTDRIFT_CONFIG)")
+	root.AddCommand(a.initCommand(), a.syncCommand(), a.analyzeCommand(), a.reportCommand(), a.demoCommand(), a.versionCommand())
+	return root
+}
+
+func defaultConfigPath() string {
+	if p := os.Getenv("COSTDRIFT_CONFIG"); p != "" {
+		return p
+	}
+	return "costdrift.yaml"
+}

@@ -1,0 +1,45 @@
+package main
+
+import (
+	"context"
+	"fmt"
+
+	"github.com/costdrift/costdrift/internal/calendar"
+	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/money"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+// env is a loaded config with the values derived from it.
+type env struct {
+	cfg      *config.Config
+	currency money.Currency
+	calendar calendar.Calendar
+}
+
+func (a *app) loadConfig() (*env, error) {
+	cfg, err := config.Load(a.configPath)
+	if err != nil {
+		return nil, err
+	}
+	cur, err := money.ParseCurrency(cfg.Currency)
+	if err != nil {
+		return nil, err // validated already; kept for safety
+	}
+	return &env{cfg: cfg, currency: cur, calendar: calendar.Monthly(cfg.Calendar.FiscalYearStart, cfg.Calendar.CloseAfterDays)}, nil
+}
+
+// openStore opens the store; mustExist refuses to create an empty one for
+// commands that only read it.
+func (a *app) openStore(ctx context.Context, e *env, mustExist bool) (*sqlite.DB, error) {
+	path := e.cfg.StorePath()
+	if mustExist && !sqlite.Exists(path) {
+		return nil, fmt.Errorf("store %s does not exist yet: run `costdrift sync` first", path)
+	}
+	db, err := sqlite.Open(ctx, path, e.currency)
+	if err != nil {
+		return nil, err
+	}
+	db.Now = a.now
+	return db, nil
+}
