@@ -83,6 +83,9 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	found := map[string]string{}
 	for _, b := range bs {
 		found[b.Object.String()] = string(b.Class) + " " + b.Driver
+		if b.Driver != "" && b.Lag > 0 {
+			found[b.Object.String()] += fmt.Sprintf(" (lag %d)", b.Lag)
+		}
 	}
 	fmt.Fprintln(a.out, "\nDesigned into the demo data, and what the analysis found:")
 	for _, x := range demo.Expectations() {

@@ -13,8 +13,6 @@ import (
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/internal/csvsource"
-	"github.com/costdrift/costdrift/internal/money"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -98,6 +96,11 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 
 // readSource reads every file a source's path matches, in name order.
 func readSource(ctx context.Context, e *env, role costdrift.Role, src config.Source, run *costdrift.SyncRun, w costdrift.SourceWriter) error {
+	if read, ok := queryKinds[src.Kind]; ok {
+		n, err := read(ctx, e, role, src, w)
+		run.RowsRead += n
+		return err
+	}
 	pattern := e.cfg.Path(src.Path)
 	files, err := filepath.Glob(pattern)
 	if err != nil {
@@ -107,33 +110,16 @@ func readSource(ctx context.Context, e *env, role costdrift.Role, src config.Sou
 		return fmt.Errorf("no file matches %s (sources %s path in %s)", pattern, src.Name, e.cfg.File)
 	}
 	sort.Strings(files)
-	opt := csvsource.Options{
-		Source:   src.Name,
-		Columns:  src.Columns,
-		Notation: money.Notation{DecimalComma: src.DecimalComma, ThousandsSeparator: src.ThousandsSeparator},
-		Currency: e.currency,
-		Period:   e.calendar.Period,
-		Layout:   src.Layout,
-	}
-	if src.Delimiter != "" {
-		opt.Delimiter = []rune(src.Delimiter)[0]
-	}
-	if src.DateFormat != "" {
-		opt.DateLayout, _ = config.GoDateLayout(src.DateFormat) // validated with the config
-	}
-	read := csvsource.ReadLedger
-	switch role {
-	case costdrift.RoleActivity:
-		read = csvsource.ReadActivity
-	case costdrift.RoleAccounts:
-		read = csvsource.ReadAccounts
+	read, ok := fileKinds[src.Kind]
+	if !ok {
+		return fmt.Errorf("kind %q reads no files", src.Kind)
 	}
 	for _, f := range files {
 		display := f
 		if rel, err := filepath.Rel(filepath.Dir(e.cfg.File), f); err == nil && !filepath.IsAbs(src.Path) {
 			display = rel
 		}
-		n, err := read(ctx, f, display, opt, w)
+		n, err := read(ctx, e, role, src, f, display, w)
 		run.RowsRead += n
 		if err != nil {
 			return err

@@ -56,6 +56,35 @@ type Source struct {
 	ThousandsSeparator string `mapstructure:"thousands_separator"`
 	// Layout of an activity file: long or wide; empty means detect.
 	Layout string `mapstructure:"layout"`
+	// Encoding of a CSV file: utf-8 (default), windows-1252 or iso-8859-1.
+	Encoding string `mapstructure:"encoding"`
+
+	// Sheet of an XLSX workbook: its name, or its position from 1; empty
+	// means the first sheet.
+	Sheet string `mapstructure:"sheet"`
+
+	// AnalysisType of a SAF-T file whose analysis IDs become cost centres
+	// (often the department dimension); empty means lines carry none.
+	AnalysisType string `mapstructure:"analysis_type"`
+
+	// Driver of a SQL source: postgres, mysql, sqlserver or sqlite.
+	Driver string `mapstructure:"driver"`
+	// DSNEnv and DSNFile name where the connection string is read from: an
+	// environment variable or a file. It never appears in the config.
+	DSNEnv  string `mapstructure:"dsn_env"`
+	DSNFile string `mapstructure:"dsn_file"`
+	// Query is one SELECT (or WITH) statement returning the canonical
+	// columns, or for an aggregated ledger period, account, cost_center, amount.
+	Query string `mapstructure:"query"`
+	// Aggregated says the ledger query returns per-period sums, not lines.
+	Aggregated bool `mapstructure:"aggregated"`
+	// Refresh of a SQL source: full (default: re-read all, store the
+	// difference) or watermark (only rows whose WatermarkColumn is above the
+	// last value seen).
+	Refresh         string `mapstructure:"refresh"`
+	WatermarkColumn string `mapstructure:"watermark_column"`
+	// Timeout bounds a SQL query, e.g. "5m".
+	Timeout string `mapstructure:"timeout"`
 }
 
 // Analysis holds the method settings.

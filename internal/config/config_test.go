@@ -85,8 +85,6 @@ func TestLoadErrors(t *testing.T) {
 		{"bad grain", "analysis:\n  grain: department\n", `analysis.grain: must be account or account_cost_center, not "department" (FILE)`},
 		{"duplicate source names", "sources:\n  ledger:\n    - {name: gl, kind: csv, path: a.csv}\n  activity:\n    - {name: gl, kind: csv, path: b.csv}\n",
 			`sources.activity[0].name: "gl" is already the name of sources.ledger[0]; names must be unique (FILE)`},
-		{"source kind not built", "sources:\n  ledger:\n    - {name: gl, kind: sql, path: q.sql}\n",
-			`sources.ledger[0].kind: "sql" is not available in this version; use csv (FILE)`},
 		{"bad account range", "analysis:\n  accounts: [\"6999-5000\"]\n", `analysis.accounts: account range "6999-5000" runs backwards (FILE)`},
 		{"bad currency", "currency: euro\n", `currency: "euro" is not an ISO 4217 code (three capital letters, such as EUR) (FILE)`},
 		{"bad date format", "sources:\n  ledger:\n    - {name: gl, kind: csv, path: a.csv, date_format: DD/MM/YY}\n",
@@ -107,6 +105,24 @@ func TestLoadErrors(t *testing.T) {
 				t.Errorf("error\n got %s\nwant %s", err, want)
 			}
 		})
+	}
+}
+
+func TestUnknownSourceKind(t *testing.T) {
+	path := writeConfig(t, "sources:\n  ledger:\n    - {name: gl, kind: parquet, path: q.pq}\n")
+	_, err := Load(path)
+	if err == nil || !strings.HasPrefix(err.Error(), "sources.ledger[0].kind: must be one of csv") || !strings.HasSuffix(err.Error(), `not "parquet" (`+path+")") {
+		t.Fatalf("got %v", err)
+	}
+}
+
+func TestSQLSourceNeedsDSNOutsideConfig(t *testing.T) {
+	SourceKinds["sql"] = []string{"ledger"}
+	defer delete(SourceKinds, "sql")
+	path := writeConfig(t, "sources:\n  ledger:\n    - {name: erp, kind: sql, driver: postgres, query: SELECT 1}\n")
+	_, err := Load(path)
+	if err == nil || !strings.Contains(err.Error(), "set exactly one of dsn_env or dsn_file") {
+		t.Fatalf("got %v", err)
 	}
 }
 

@@ -3,6 +3,7 @@ package config
 import (
 	"fmt"
 	"net"
+	"sort"
 	"strings"
 	"time"
 
@@ -10,9 +11,11 @@ import (
 	"github.com/costdrift/costdrift/internal/money"
 )
 
-// Kinds of source this version reads. Others named by the product (xlsx,
-// saft, sql) are refused by name until they are built.
-var sourceKinds = map[string]bool{"csv": true}
+// SourceKinds lists the kinds of source this build reads, with the roles
+// each can fill. A kind's package registers itself in cmd/costdrift.
+var SourceKinds = map[string][]string{
+	"csv": {"ledger", "activity", "accounts"},
+}
 
 // Validate checks every key and returns the first problem, naming the key and
 // the file.
@@ -52,11 +55,12 @@ func (c *Config) validate() *Error {
 
 	names := map[string]string{}
 	for _, role := range []struct {
-		key  string
+		name string
 		list []Source
-	}{{"sources.ledger", c.Sources.Ledger}, {"sources.activity", c.Sources.Activity}, {"sources.accounts", c.Sources.Accounts}} {
+	}{{"ledger", c.Sources.Ledger}, {"activity", c.Sources.Activity}, {"accounts", c.Sources.Accounts}} {
 		for i, s := range role.list {
-			key := fmt.Sprintf("%s[%d]", role.key, i)
+			roleKey := "sources." + role.name
+			key := fmt.Sprintf("%s[%d]", roleKey, i)
 			if strings.TrimSpace(s.Name) == "" {
 				return bad(key+".name", "every source needs a name")
 			}
@@ -64,14 +68,20 @@ func (c *Config) validate() *Error {
 				return bad(key+".name", "%q is already the name of %s; names must be unique", s.Name, prev)
 			}
 			names[s.Name] = key
-			if !sourceKinds[s.Kind] {
-				if s.Kind == "xlsx" || s.Kind == "saft" || s.Kind == "sql" {
-					return bad(key+".kind", "%q is not available in this version; use csv", s.Kind)
-				}
-				return bad(key+".kind", "must be csv, not %q", s.Kind)
+			roles, known := SourceKinds[s.Kind]
+			if !known {
+				return bad(key+".kind", "must be one of %s, not %q", kindList(), s.Kind)
 			}
-			if strings.TrimSpace(s.Path) == "" {
-				return bad(key+".path", "must name a file or a glob such as data/gl/*.csv")
+			if !contains(roles, role.name) {
+				return bad(key+".kind", "a %s source cannot deliver %s", s.Kind, role.name)
+			}
+			if err := validateKind(key, s, bad); err != nil {
+				return err
+			}
+			switch strings.ToLower(s.Encoding) {
+			case "", "utf-8", "utf8", "windows-1252", "cp1252", "iso-8859-1", "latin1":
+			default:
+				return bad(key+".encoding", "must be utf-8, windows-1252 or iso-8859-1, not %q", s.Encoding)
 			}
 			switch s.Delimiter {
 			case "", ",", ";", "\t":
@@ -177,4 +187,61 @@ func GoDateLayout(format string) (string, error) {
 		return "", fmt.Errorf("%q: only YYYY, MM and DD may be used", format)
 	}
 	return layout, nil
+}
+
+// validateKind checks the keys a kind of source needs.
+func validateKind(key string, s Source, bad func(key, format string, args ...any) *Error) *Error {
+	if s.Kind == "sql" {
+		switch s.Driver {
+		case "postgres", "mysql", "sqlserver", "sqlite":
+		default:
+			return bad(key+".driver", "must be postgres, mysql, sqlserver or sqlite, not %q", s.Driver)
+		}
+		if (s.DSNEnv == "") == (s.DSNFile == "") {
+			return bad(key+".dsn_env", "set exactly one of dsn_env or dsn_file: the connection string never goes in the config")
+		}
+		if strings.TrimSpace(s.Query) == "" {
+			return bad(key+".query", "must be one SELECT or WITH statement")
+		}
+		if s.Path != "" {
+			return bad(key+".path", "a sql source reads no file; remove path")
+		}
+		switch s.Refresh {
+		case "", "full":
+		case "watermark":
+			if s.WatermarkColumn == "" {
+				return bad(key+".watermark_column", "must name a column when refresh is watermark")
+			}
+		default:
+			return bad(key+".refresh", "must be full or watermark, not %q", s.Refresh)
+		}
+		if s.Timeout != "" {
+			if d, err := time.ParseDuration(s.Timeout); err != nil || d <= 0 {
+				return bad(key+".timeout", "must be a duration such as 30s or 5m, not %q", s.Timeout)
+			}
+		}
+		return nil
+	}
+	if strings.TrimSpace(s.Path) == "" {
+		return bad(key+".path", "must name a file or a glob such as data/gl/*.csv")
+	}
+	return nil
+}
+
+func kindList() string {
+	kinds := make([]string, 0, len(SourceKinds))
+	for k := range SourceKinds {
+		kinds = append(kinds, k)
+	}
+	sort.Strings(kinds)
+	return strings.Join(kinds, ", ")
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
 }
