@@ -48,9 +48,9 @@ func ReadAccounts(ctx context.Context, path, display string, opt Options, w cost
 			Type: t.field(rec, "type"), Group: t.field(rec, "group")}
 		switch {
 		case len(rec) != len(t.header):
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header)), Raw: t.raw(rec)})
+			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header)), Raw: t.rawInput()})
 		case a.Account == "":
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "missing account", Raw: t.raw(rec)})
+			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "missing account", Raw: t.rawInput()})
 		default:
 			err = w.Account(a)
 		}

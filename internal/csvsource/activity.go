@@ -79,7 +79,7 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 			return read, err
 		}
 		reject := func(reason string) error {
-			return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw(rec)})
+			return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.rawInput()})
 		}
 		if len(rec) != len(t.header) {
 			if err := reject(fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header))); err != nil {

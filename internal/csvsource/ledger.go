@@ -68,7 +68,7 @@ func ReadLedger(ctx context.Context, path, display string, opt Options, w costdr
 		}
 		line, reason := parseLedgerRow(t, rec, opt, layout, signed, nextLine)
 		if reason != "" {
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw(rec)})
+			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.rawInput()})
 		} else {
 			err = w.LedgerLine(line)
 		}

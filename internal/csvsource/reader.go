@@ -37,7 +37,6 @@ type table struct {
 	r      *csv.Reader
 	header []string
 	col    map[string]int // canonical name -> index
-	delim  rune
 	line   int
 	// The file, and where the current record starts in it, so that a row
 	// the CSV reader cannot split is still stored as it was written.
@@ -93,7 +92,7 @@ func open(path, display string, delim rune) (*table, io.Closer, error) {
 		f.Close()
 		return nil, nil, fmt.Errorf("%s: cannot read the header line: %v", display, err)
 	}
-	t := &table{name: display, r: r, header: append([]string(nil), header...), delim: delim, line: 1,
+	t := &table{name: display, r: r, header: append([]string(nil), header...), line: 1,
 		file: f, bom: bom}
 	return t, f, nil
 }
@@ -183,18 +182,9 @@ func (t *table) has(name string) bool {
 
 func (t *table) location() string { return fmt.Sprintf("%s:%d", t.name, t.line) }
 
-// raw re-encodes a record as the line it came from, for the reject table.
-func (t *table) raw(rec []string) string {
-	var b strings.Builder
-	w := csv.NewWriter(&b)
-	w.Comma = t.delim
-	w.Write(rec)
-	w.Flush()
-	return strings.TrimRight(b.String(), "\r\n")
-}
-
-// rawInput returns the current record's bytes as they stand in the file,
-// for rows the CSV reader could not split into fields.
+// rawInput returns the current record's text as it stands in the file, for
+// the reject table: re-encoding the fields would not give back the row as
+// read, and a row the CSV reader cannot split has no fields.
 func (t *table) rawInput() string {
 	n := t.r.InputOffset() - t.start
 	if n > maxRaw {

@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -186,8 +187,8 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		}
 		b.Class = costdrift.Class(class)
 		b.Lag = int(lag.Int64)
-		b.FixedPerPeriod, b.VariableRate, b.R2 = fixed.Float64, rate.Float64, r2.Float64
-		b.RangeMin, b.RangeMax, b.MeanCost, b.CV = lo.Float64, hi.Float64, mean.Float64, cv.Float64
+		b.FixedPerPeriod, b.VariableRate, b.R2 = orNaN(fixed), orNaN(rate), orNaN(r2)
+		b.RangeMin, b.RangeMax, b.MeanCost, b.CV = orNaN(lo), orNaN(hi), orNaN(mean), orNaN(cv)
 		if steps != "" {
 			if err := json.Unmarshal([]byte(steps), &b.Steps); err != nil {
 				return nil, fmt.Errorf("behaviour %s: steps: %w", b.Object, err)
@@ -239,6 +240,15 @@ func num(v float64) any {
 		return nil
 	}
 	return v
+}
+
+// orNaN reads a NULL number back as NaN, unknown, as num stored it: reading
+// it as 0 would turn an unknown R² or an infinite CV into a measured value.
+func orNaN(v sql.NullFloat64) float64 {
+	if !v.Valid {
+		return math.NaN()
+	}
+	return v.Float64
 }
 
 func nullString(s string) any {

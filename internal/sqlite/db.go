@@ -10,6 +10,7 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"time"
 
 	_ "github.com/mattn/go-sqlite3" // registers the "sqlite3" driver
@@ -50,7 +51,11 @@ func Open(ctx context.Context, path string, currency money.Currency) (*DB, error
 	q.Set("_busy_timeout", "10000")
 	q.Set("_synchronous", "NORMAL")
 	q.Set("_txlock", "immediate")
-	sqldb, err := sql.Open("sqlite3", "file:"+path+"?"+q.Encode())
+	// In a file: URI SQLite ends the path at '?' or '#' and decodes '%XX';
+	// unescaped, such a name would open another file, with default
+	// permissions, beside the owner-only one created above.
+	uriPath := strings.NewReplacer("%", "%25", "?", "%3F", "#", "%23").Replace(path)
+	sqldb, err := sql.Open("sqlite3", "file:"+uriPath+"?"+q.Encode())
 	if err != nil {
 		return nil, fmt.Errorf("store %s: %w", path, err)
 	}

@@ -1,0 +1,240 @@
+package sqlite
+
+import (
+	"context"
+	"math"
+	"reflect"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+var weld = costdrift.CostObject{Account: "6200", CostCenter: "WELD"}
+
+func analysisRun(c *clock) *costdrift.AnalysisRun {
+	return &costdrift.AnalysisRun{StartedAt: c.t, FinishedAt: c.t.Add(3 * time.Second), WindowFrom: "2023-07", WindowTo: "2026-06",
+		Grain: costdrift.GrainAccountCostCenter, Objects: 1, Settings: `{"window":36}`}
+}
+
+// mixed is a mixed cost of welding on machine hours, the period before.
+func mixed() costdrift.Behaviour {
+	return costdrift.Behaviour{
+		Object: weld, Class: costdrift.Mixed, Driver: "machine_hours", Unit: "machine hour", Lag: 1,
+		FixedPerPeriod: 4210.5, VariableRate: 1.875, R2: 0.981, N: 36, RangeMin: 512.5, RangeMax: 1490,
+		Since: "2023-07", Until: "2026-06", Reason: "cost moves with machine hours above a significant fixed part",
+		HighLow: &costdrift.HighLow{HighPeriod: "2025-11", LowPeriod: "2024-08", HighActivity: 1490, LowActivity: 512.5,
+			HighCost: 7000.25, LowCost: 5180.75, Fixed: 4218.1, Rate: 1.86, Warning: "the low end (2024-08) is an outlier"},
+		CV: 0.125, MeanCost: 6100.25,
+	}
+}
+
+// step is a step-fixed cost of supervision on orders.
+func step() costdrift.Behaviour {
+	return costdrift.Behaviour{
+		Object: costdrift.CostObject{Account: "6300", CostCenter: "ASSY"}, Class: costdrift.Step, Driver: "orders", Unit: "order",
+		FixedPerPeriod: 3000, R2: 0.93, N: 30, RangeMin: 40, RangeMax: 160, Since: "2024-01", Until: "2026-06",
+		Steps:  []costdrift.StepLevel{{From: 40, To: 95, Level: 3000}, {From: 96, To: 160, Level: 4500.5}},
+		Reason: "a second supervisor above 95 orders", CV: 0.2, MeanCost: 3600,
+	}
+}
+
+// fixed is a fixed rent: no driver, so no lag, range or R².
+func fixed() costdrift.Behaviour {
+	return costdrift.Behaviour{
+		Object: costdrift.CostObject{Account: "6500"}, Class: costdrift.Fixed, FixedPerPeriod: 2500, R2: math.NaN(), N: 36,
+		Since: "2023-07", Until: "2026-06", Reason: "no driver explains it", CV: 0.01, MeanCost: 2500,
+	}
+}
+
+func save(t *testing.T, db *DB, c *clock, fits []costdrift.Fit, bs ...costdrift.Behaviour) *costdrift.AnalysisRun {
+	t.Helper()
+	run := analysisRun(c)
+	if err := db.SaveAnalysis(context.Background(), run, fits, bs); err != nil {
+		t.Fatalf("SaveAnalysis: %v", err)
+	}
+	return run
+}
+
+func current(t *testing.T, db *DB) []costdrift.Behaviour {
+	t.Helper()
+	bs, err := db.CurrentBehaviour(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	return bs
+}
+
+func TestCurrentBehaviourRoundTrip(t *testing.T) {
+	db, c := mustOpen(t)
+	save(t, db, c, nil, mixed(), step())
+	got := current(t, db)
+	// Ordered by account and cost centre; REAL columns hold float64 exactly.
+	want := []costdrift.Behaviour{mixed(), step()}
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("CurrentBehaviour:\n got  %+v\n want %+v", got, want)
+	}
+	if len(got) == 2 && (got[0].HighLow == nil || *got[0].HighLow != *want[0].HighLow) {
+		t.Errorf("high-low %+v, want %+v", got[0].HighLow, want[0].HighLow)
+	}
+	// The JSON columns use the documented names.
+	wantJSON := `"[{\"from\":40,\"to\":95,\"level\":3000},{\"from\":96,\"to\":160,\"level\":4500.5}]"` + "\n"
+	if got := dump(t, db, `SELECT steps FROM behaviour_history WHERE object = '6300/ASSY'`); got != wantJSON {
+		t.Errorf("steps column %s, want %s", got, wantJSON)
+	}
+	hl := dump(t, db, `SELECT high_low FROM behaviour_history WHERE object = '6200/WELD'`)
+	for _, key := range []string{"high_period", "low_period", "high_activity", "low_activity", "high_cost", "low_cost", "fixed", "rate", "warning"} {
+		if !strings.Contains(hl, `\"`+key+`\":`) {
+			t.Errorf("high_low column %s lacks %q", hl, key)
+		}
+	}
+}
+
+func TestSaveAnalysisNaNAsNull(t *testing.T) {
+	// SQLite has no NaN or infinity: they are stored as NULL, and read
+	// back as NaN, "unknown", never as a number.
+	db, c := mustOpen(t)
+	zeroMean := fixed()
+	zeroMean.Object = costdrift.CostObject{Account: "6900"}
+	zeroMean.MeanCost, zeroMean.FixedPerPeriod, zeroMean.CV = 0, 0, math.Inf(1) // a cost that nets to zero has no CV
+	fits := []costdrift.Fit{{Object: weld, Driver: "machine_hours", Model: costdrift.ModelLinear, N: 36, Intercept: 4210.5, InterceptSE: math.NaN(),
+		InterceptP: math.NaN(), Slope: 1.875, SlopeSE: 0.1, SlopeT: 18.75, SlopeP: 1e-12, SlopeAdjustedP: math.NaN(), R2: 0.98,
+		ResidualSE: 120, PRESS: math.Inf(1), AICc: math.Inf(-1), RangeMin: 512.5, RangeMax: 1490}}
+	save(t, db, c, fits, fixed(), zeroMean)
+
+	if got := dump(t, db, `SELECT intercept, intercept_se, intercept_p, slope_adjusted_p, press, aicc FROM fits`); got != "float64:4210.5|NULL|NULL|NULL|NULL|NULL\n" {
+		t.Errorf("fit numbers: %s", got)
+	}
+	want := `"6500"|float64:2500|NULL|NULL|NULL|NULL|float64:0.01` + "\n" + `"6900"|float64:0|NULL|NULL|NULL|NULL|NULL` + "\n"
+	if got := dump(t, db, `SELECT object, fixed_per_period, r2, lag, range_min, range_max, cv FROM behaviour_history ORDER BY object`); got != want {
+		t.Errorf("behaviour numbers:\n%s\nwant\n%s", got, want)
+	}
+	bs := current(t, db)
+	if len(bs) != 2 {
+		t.Fatalf("%d behaviours, want 2", len(bs))
+	}
+	if !math.IsNaN(bs[0].R2) || !math.IsNaN(bs[0].RangeMin) || !math.IsNaN(bs[0].RangeMax) || bs[0].CV != 0.01 || bs[0].FixedPerPeriod != 2500 {
+		t.Errorf("fixed cost read back %+v: want R² and range NaN, CV 0.01, fixed 2500", bs[0])
+	}
+	if !math.IsNaN(bs[1].CV) || bs[1].MeanCost != 0 {
+		t.Errorf("zero-mean cost read back with CV %v and mean %v; want NaN and 0", bs[1].CV, bs[1].MeanCost)
+	}
+}
+
+func TestSaveAnalysisBehaviourHistory(t *testing.T) {
+	// The open row is refreshed while class, driver and lag stay; any
+	// change closes it at the analysis time and opens a new one.
+	tests := []struct {
+		name   string
+		first  costdrift.Behaviour
+		second func(*costdrift.Behaviour)
+		closes bool
+	}{
+		{"same class, driver and lag", mixed(), func(b *costdrift.Behaviour) { b.FixedPerPeriod, b.N, b.Until = 4300, 37, "2026-07" }, false},
+		{"same fixed class without driver", fixed(), func(b *costdrift.Behaviour) { b.FixedPerPeriod = 2600 }, false},
+		{"another class", mixed(), func(b *costdrift.Behaviour) { b.Class, b.FixedPerPeriod = costdrift.Variable, 0 }, true},
+		{"another driver", mixed(), func(b *costdrift.Behaviour) { b.Driver, b.Unit = "frames_built", "frame" }, true},
+		{"another lag", mixed(), func(b *costdrift.Behaviour) { b.Lag = 0 }, true},
+		{"a driver found for a fixed cost", fixed(), func(b *costdrift.Behaviour) {
+			b.Class, b.Driver, b.Lag, b.R2, b.RangeMin, b.RangeMax = costdrift.Mixed, "orders", 0, 0.9, 10, 20
+		}, true},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			db, c := mustOpen(t)
+			first := save(t, db, c, nil, tc.first)
+			c.t = c.t.AddDate(0, 1, 0) // 2025-07-01T06:00:00Z
+			second := tc.first
+			tc.second(&second)
+			run2 := save(t, db, c, nil, second)
+			object := tc.first.Object.String()
+
+			history := dump(t, db, `SELECT first_run_id, last_run_id, valid_from_run_at, valid_to_run_at FROM behaviour_history
+				WHERE object = '`+object+`' ORDER BY id`)
+			id1, id2 := strconv.FormatInt(first.ID, 10), strconv.FormatInt(run2.ID, 10)
+			want := "int64:" + id1 + "|int64:" + id2 + `|"2025-06-01T06:00:00Z"|NULL` + "\n"
+			if tc.closes {
+				want = "int64:" + id1 + "|int64:" + id1 + `|"2025-06-01T06:00:00Z"|"2025-07-01T06:00:00Z"` + "\n" +
+					"int64:" + id2 + "|int64:" + id2 + `|"2025-07-01T06:00:00Z"|NULL` + "\n"
+			}
+			if history != want {
+				t.Errorf("behaviour_history:\n%s\nwant\n%s", history, want)
+			}
+			if n := count(t, db, "current_behaviour WHERE object = ? AND analysis_run_id = ?", object, run2.ID); n != 1 {
+				t.Errorf("current_behaviour has %d rows of %s from the second run, want 1", n, object)
+			}
+			bs := current(t, db)
+			if len(bs) != 1 || !sameBehaviour(bs[0], second) {
+				t.Errorf("CurrentBehaviour %+v, want %+v", bs, second)
+			}
+		})
+	}
+}
+
+// sameBehaviour compares behaviours, NaN equal to NaN and, for a cost
+// without a driver, the range (stored as unknown) and the lag ignored.
+func sameBehaviour(a, b costdrift.Behaviour) bool {
+	if a.Driver == "" {
+		a.RangeMin, a.RangeMax, b.RangeMin, b.RangeMax = 0, 0, 0, 0
+	}
+	for _, p := range []*float64{&a.R2, &b.R2, &a.CV, &b.CV} {
+		if math.IsNaN(*p) {
+			*p = -1
+		}
+	}
+	return reflect.DeepEqual(a, b)
+}
+
+func TestSaveAnalysisStoresRunAndFits(t *testing.T) {
+	db, c := mustOpen(t)
+	fits := []costdrift.Fit{
+		{Object: weld, Model: costdrift.ModelConstant, N: 36, Intercept: 6100.25, R2: 0, AICc: 512.5, RangeMin: math.NaN(), RangeMax: math.NaN()},
+		{Object: weld, Driver: "machine_hours", Lag: 1, Model: costdrift.ModelLinear, N: 35, Intercept: 4210.5, Slope: 1.875, SlopeP: 1e-9,
+			SlopeAdjustedP: 4e-9, R2: 0.981, RangeMin: 512.5, RangeMax: 1490, Significant: true, Chosen: true, PlausibleRanked: 1},
+		{Object: weld, Driver: "orders", Lag: 0, Model: costdrift.ModelLinear, N: 36, Slope: -2.5, SlopeP: 0.001, SlopeAdjustedP: 0.004,
+			Implausible: true},
+	}
+	run := save(t, db, c, fits, mixed())
+	if run.ID != 1 {
+		t.Errorf("run ID %d, want 1", run.ID)
+	}
+	wantRun := `int64:1|"2025-06-01T06:00:00Z"|"2025-06-01T06:00:03Z"|"2023-07"|"2026-06"|"account_cost_center"|int64:1|"{\"window\":36}"` + "\n"
+	if got := dump(t, db, `SELECT * FROM analysis_runs`); got != wantRun {
+		t.Errorf("analysis_runs:\n%s\nwant\n%s", got, wantRun)
+	}
+	wantFits := `"6200/WELD"|"6200"|"WELD"|""|int64:0|"constant"|int64:0|int64:0|int64:0|NULL|NULL|NULL` + "\n" +
+		`"6200/WELD"|"6200"|"WELD"|"machine_hours"|int64:1|"linear"|int64:1|int64:0|int64:1|int64:1|float64:512.5|float64:1490` + "\n" +
+		`"6200/WELD"|"6200"|"WELD"|"orders"|int64:0|"linear"|int64:0|int64:1|int64:0|NULL|float64:0|float64:0` + "\n"
+	if got := dump(t, db, `SELECT object, account, cost_center, driver, lag, model, significant, implausible, chosen, rank, range_min, range_max
+		FROM fits WHERE analysis_run_id = 1 ORDER BY driver`); got != wantFits {
+		t.Errorf("fits:\n%s\nwant\n%s", got, wantFits)
+	}
+}
+
+func TestSaveAnalysisIsAtomic(t *testing.T) {
+	// One bad behaviour keeps the whole analysis out: no run, no fits, and
+	// the other objects' history as it was.
+	db, c := mustOpen(t)
+	save(t, db, c, nil, mixed())
+	before := dump(t, db, `SELECT * FROM behaviour_history`)
+	bad := fixed()
+	bad.Class = "unknown_class"
+	changed := mixed()
+	changed.Class = costdrift.Variable
+	err := db.SaveAnalysis(context.Background(), analysisRun(c),
+		[]costdrift.Fit{{Object: weld, Model: costdrift.ModelConstant, N: 36}}, []costdrift.Behaviour{changed, bad})
+	if err == nil || !strings.Contains(err.Error(), "save behaviour 6500: CHECK constraint failed") {
+		t.Fatalf("error %v, want a refusal naming the object", err)
+	}
+	if n := count(t, db, "analysis_runs"); n != 1 {
+		t.Errorf("%d analysis runs, want the first only", n)
+	}
+	if n := count(t, db, "fits"); n != 0 {
+		t.Errorf("%d fits kept from a failed analysis", n)
+	}
+	if after := dump(t, db, `SELECT * FROM behaviour_history`); after != before {
+		t.Errorf("behaviour_history changed:\n%s\nwas\n%s", after, before)
+	}
+}
