@@ -26,7 +26,11 @@ func (a *app) loadConfig() (*env, error) {
 	if err != nil {
 		return nil, err // validated already; kept for safety
 	}
-	return &env{cfg: cfg, currency: cur, calendar: calendar.Monthly(cfg.Calendar.FiscalYearStart, cfg.Calendar.CloseAfterDays)}, nil
+	cal, err := calendar.New(cfg.Calendar.Period, cfg.Calendar.FiscalYearStart, cfg.Calendar.CloseAfterDays)
+	if err != nil {
+		return nil, fmt.Errorf("calendar: %w", err) // validated already; kept for safety
+	}
+	return &env{cfg: cfg, currency: cur, calendar: cal}, nil
 }
 
 // openStore opens the store; mustExist refuses to create an empty one for

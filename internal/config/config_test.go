@@ -92,6 +92,7 @@ func TestLoadErrors(t *testing.T) {
 		{"bad tls", "mail:\n  smtp:\n    tls: maybe\n", `mail.smtp.tls: must be starttls, tls or none, not "maybe" (FILE)`},
 		{"bad time zone", "schedule:\n  timezone: Mars/Olympus\n", `schedule.timezone: "Mars/Olympus" is not a known time zone (e.g. UTC, Europe/Oslo) (FILE)`},
 		{"lag twice", "analysis:\n  lags: [0, 0]\n", "analysis.lags: lag 0 is listed twice (FILE)"},
+		{"bad calendar period", "calendar:\n  period: quarter\n", `calendar.period: must be month, week, 4-4-5, 4-5-4 or 5-4-4, not "quarter" (FILE)`},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -105,6 +106,21 @@ func TestLoadErrors(t *testing.T) {
 				t.Errorf("error\n got %s\nwant %s", err, want)
 			}
 		})
+	}
+}
+
+// Every kind of calendar the calendar package builds is accepted, written
+// unquoted as a user would.
+func TestCalendarPeriodKinds(t *testing.T) {
+	for _, kind := range []string{"month", "week", "4-4-5", "4-5-4", "5-4-4"} {
+		c, err := Load(writeConfig(t, "calendar:\n  period: "+kind+"\n  fiscal_year_start: 2\n"))
+		if err != nil {
+			t.Errorf("calendar.period %s: %v", kind, err)
+			continue
+		}
+		if c.Calendar.Period != kind || c.Calendar.FiscalYearStart != 2 {
+			t.Errorf("calendar.period %s decoded to %+v", kind, c.Calendar)
+		}
 	}
 }
 

@@ -15,7 +15,7 @@ store: costdrift.db
 currency: EUR
 
 calendar:
-  period: month            # posting dates map to YYYY-MM periods
+  period: month            # month | week | 4-4-5 | 4-5-4 | 5-4-4 (see README)
   fiscal_year_start: 1     # month number the fiscal year starts in
   close_after_days: 10     # a period is analysed only this many days after its end
 

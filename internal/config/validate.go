@@ -40,11 +40,9 @@ func (c *Config) validate() *Error {
 	}
 
 	switch c.Calendar.Period {
-	case "month":
-	case "week", "4-4-5", "4-5-4", "5-4-4":
-		return bad("calendar.period", "%q is not available in this version; use month", c.Calendar.Period)
+	case "month", "week", "4-4-5", "4-5-4", "5-4-4":
 	default:
-		return bad("calendar.period", "must be month, not %q", c.Calendar.Period)
+		return bad("calendar.period", "must be month, week, 4-4-5, 4-5-4 or 5-4-4, not %q", c.Calendar.Period)
 	}
 	if c.Calendar.FiscalYearStart < 1 || c.Calendar.FiscalYearStart > 12 {
 		return bad("calendar.fiscal_year_start", "must be a month number from 1 to 12, not %d", c.Calendar.FiscalYearStart)
