@@ -72,7 +72,7 @@ type reportRow struct {
 func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 	dir := t.TempDir()
 	out := mustRun(t, "demo", "--dir", dir)
-	for _, want := range []string{"Quillfeather Frames", "rows read", "analysed 13 cost objects", "cost = ", "sqlite3", "confidential"} {
+	for _, want := range []string{"Quillfeather Frames", "rows: 1,396 read", "analysed 13 cost objects", "cost = ", "sqlite3", "confidential"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("demo output lacks %q", want)
 		}
@@ -135,7 +135,7 @@ func TestResyncChangesNothing(t *testing.T) {
 	lines := count(t, store, "SELECT COUNT(*) FROM gl_lines")
 	total := count(t, store, "SELECT SUM(amount_minor) FROM gl_lines")
 	out := mustRun(t, "--config", cfg, "sync")
-	if !strings.Contains(out, "1,396 rows read, 0 stored, 1,396 unchanged, 0 rejected") {
+	if !strings.Contains(out, "gl         ledger   files: 0 read, 4 unchanged | rows: 0 read, 0 stored, 0 replaced, 0 rejected") {
 		t.Errorf("second sync output:\n%s", out)
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != lines {
@@ -251,7 +251,7 @@ func TestBadInput(t *testing.T) {
 // A failed source is recorded with its error; the other sources still load.
 func TestFailedSourceIsRecordedAndOthersLoad(t *testing.T) {
 	cfg, dir := setup(t, "voucher,when\nA1,2026-01-05\n")
-	if _, err := run(t, "--config", cfg, "sync"); err == nil || !strings.Contains(err.Error(), "source gl failed, nothing of it stored: data/gl/gl.csv: header has no column") {
+	if _, err := run(t, "--config", cfg, "sync"); err == nil || !strings.Contains(err.Error(), "source gl failed: data/gl/gl.csv: header has no column") || !strings.HasSuffix(err.Error(), "nothing of that file was stored") {
 		t.Fatalf("got %v", err)
 	}
 	store := filepath.Join(dir, "costdrift.db")
@@ -272,7 +272,7 @@ func TestRejectedRowsAreKeptWithReason(t *testing.T) {
 		"A3,1,2026-01-07,6100,WELD,ten\n"
 	cfg, dir := setup(t, ledger)
 	out := mustRun(t, "--config", cfg, "sync")
-	if !strings.Contains(out, "4 rows read, 2 stored, 0 unchanged, 2 rejected") || !strings.Contains(out, "SELECT location, reason FROM rejects") {
+	if !strings.Contains(out, "files: 1 read, 0 unchanged | rows: 4 read, 2 stored, 0 replaced, 2 rejected") || !strings.Contains(out, "SELECT location, reason FROM rejects") {
 		t.Errorf("sync output:\n%s", out)
 	}
 	store := filepath.Join(dir, "costdrift.db")
@@ -311,7 +311,7 @@ func TestReportBeforeSync(t *testing.T) {
 
 func TestVersion(t *testing.T) {
 	out := mustRun(t, "version")
-	if !strings.HasPrefix(out, "costdrift dev (store schema 1, go") {
+	if !strings.HasPrefix(out, "costdrift dev (store schema 2, go") {
 		t.Errorf("version = %q", out)
 	}
 }

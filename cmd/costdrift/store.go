@@ -45,5 +45,9 @@ func (a *app) openStore(ctx context.Context, e *env, mustExist bool) (*sqlite.DB
 		return nil, err
 	}
 	db.Now = a.now
+	if err := db.CheckCalendar(ctx, e.calendar.Kind()); err != nil {
+		db.Close()
+		return nil, err
+	}
 	return db, nil
 }

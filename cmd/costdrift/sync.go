@@ -2,9 +2,12 @@ package main
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
+	"os"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -18,28 +21,77 @@ import (
 )
 
 func (a *app) syncCommand() *cobra.Command {
-	return &cobra.Command{
+	var dryRun bool
+	var forget []string
+	cmd := &cobra.Command{
 		Use:   "sync",
 		Short: "Read every configured source into the store",
-		Args:  cobra.NoArgs,
+		Long: `sync reads every configured source into the store. Files that have not changed
+since the last sync are skipped; a changed file replaces exactly the rows it
+loaded before, in one transaction. A file that has disappeared keeps its rows
+until you drop them with --forget.`,
+		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			e, err := a.loadConfig()
 			if err != nil {
 				return err
 			}
-			db, err := a.openStore(cmd.Context(), e, false)
+			if dryRun && len(forget) > 0 {
+				return errors.New("--dry-run and --forget cannot be combined")
+			}
+			if dryRun {
+				return a.dryRunSync(cmd.Context(), e)
+			}
+			db, err := a.openStore(cmd.Context(), e, len(forget) > 0)
 			if err != nil {
 				return err
 			}
 			defer db.Close()
+			if len(forget) > 0 {
+				return forgetFiles(cmd.Context(), e, db, forget, a.out)
+			}
 			_, err = syncAll(cmd.Context(), e, db, a.out)
 			return err
 		},
 	}
+	cmd.Flags().BoolVar(&dryRun, "dry-run", false, "read and check every source, report what would change, write nothing")
+	cmd.Flags().StringArrayVar(&forget, "forget", nil, "drop the rows a vanished `FILE` loaded (repeatable); no sync is done")
+	return cmd
 }
 
-// syncAll syncs every source, each in its own transaction. A failing source
-// is reported and the others go on; the error says which failed.
+// dryRunSync runs a whole sync inside one transaction that is rolled back.
+// Without a store yet, it works on a throwaway one, so nothing is created.
+func (a *app) dryRunSync(ctx context.Context, e *env) error {
+	path := e.cfg.StorePath()
+	if !sqlite.Exists(path) {
+		tmp, err := os.MkdirTemp("", "costdrift-dry-run-")
+		if err != nil {
+			return err
+		}
+		defer os.RemoveAll(tmp)
+		path = filepath.Join(tmp, "costdrift.db")
+	}
+	db, err := sqlite.Open(ctx, path, e.currency)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	db.Now = a.now
+	dry, rollback, err := db.DryRun(ctx)
+	if err != nil {
+		return err
+	}
+	defer rollback()
+	if err := dry.CheckCalendar(ctx, e.calendar.Kind()); err != nil {
+		return err
+	}
+	_, err = syncAll(ctx, e, dry, a.out)
+	fmt.Fprintln(a.out, "dry run: nothing was written to the store")
+	return err
+}
+
+// syncAll syncs every source. Each file is one transaction; a failing file
+// or source is reported and the others go on; the error says which failed.
 func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costdrift.SyncRun, error) {
 	type job struct {
 		role costdrift.Role
@@ -62,27 +114,20 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 	var failed []string
 	for _, j := range jobs {
 		run := costdrift.SyncRun{Source: j.src.Name, Role: j.role, Kind: j.src.Kind}
-		err := db.LoadSource(ctx, &run, func(w costdrift.SourceWriter) error {
-			return readSource(ctx, e, j.role, j.src, &run, w)
-		})
+		if err := db.BeginSync(ctx, &run); err != nil {
+			return runs, err
+		}
+		notes, err := syncSource(ctx, e, db, j.role, j.src, &run)
+		if ferr := db.FinishSync(ctx, &run, err); ferr != nil && err == nil {
+			err = ferr
+		}
 		runs = append(runs, run)
+		printRun(out, db, &run, notes, err)
 		if err != nil {
-			reason := err
-			if inner := errors.Unwrap(err); inner != nil {
-				reason = inner
-			}
-			failed = append(failed, fmt.Sprintf("source %s failed, nothing of it stored: %v", j.src.Name, reason))
-			fmt.Fprintf(out, "%-10s %s: failed\n", run.Source, run.Role)
+			failed = append(failed, fmt.Sprintf("source %s failed: %v", j.src.Name, err))
 			if ctx.Err() != nil {
 				break
 			}
-			continue
-		}
-		fmt.Fprintf(out, "%-10s %s: %d file(s), %s rows read, %s stored, %s unchanged, %s rejected\n", run.Source, run.Role, run.Files,
-			report.Number(float64(run.RowsRead), 0), report.Number(float64(run.RowsLoaded), 0),
-			report.Number(float64(run.RowsUnchanged), 0), report.Number(float64(run.RowsRejected), 0))
-		if run.RowsRejected > 0 {
-			fmt.Fprintf(out, "%-10s see why: sqlite3 %s \"SELECT location, reason FROM rejects WHERE sync_run_id = %d\"\n", "", db.Path(), run.ID)
 		}
 	}
 	switch {
@@ -94,37 +139,205 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 	return runs, nil
 }
 
-// readSource reads every file a source's path matches, in name order.
-func readSource(ctx context.Context, e *env, role costdrift.Role, src config.Source, run *costdrift.SyncRun, w costdrift.SourceWriter) error {
-	if read, ok := queryKinds[src.Kind]; ok {
-		n, err := read(ctx, e, role, src, w)
-		run.RowsRead += n
-		return err
+func printRun(out io.Writer, db *sqlite.DB, run *costdrift.SyncRun, notes []string, err error) {
+	n := func(v int) string { return report.Number(float64(v), 0) }
+	files, unchanged := "", ""
+	if run.Kind == "sql" {
+		unchanged = ", " + n(run.RowsUnchanged) + " unchanged"
+	} else {
+		files = fmt.Sprintf("files: %d read, %d unchanged | ", run.Files, run.FilesSkipped)
 	}
-	pattern := e.cfg.Path(src.Path)
-	files, err := filepath.Glob(pattern)
+	status := ""
 	if err != nil {
-		return fmt.Errorf("path %q is not a valid glob: %v", src.Path, err)
+		status = " | FAILED"
 	}
-	if len(files) == 0 {
-		return fmt.Errorf("no file matches %s (sources %s path in %s)", pattern, src.Name, e.cfg.File)
+	fmt.Fprintf(out, "%-10s %-8s %srows: %s read, %s stored%s, %s replaced, %s rejected%s\n", run.Source, run.Role, files,
+		n(run.RowsRead), n(run.RowsLoaded), unchanged, n(run.RowsReplaced), n(run.RowsRejected), status)
+	for _, w := range append(run.Warnings, notes...) {
+		fmt.Fprintf(out, "%-10s note: %s\n", "", w)
 	}
-	sort.Strings(files)
+	if run.RowsRejected > 0 {
+		fmt.Fprintf(out, "%-10s see why: sqlite3 %s \"SELECT location, reason FROM rejects WHERE sync_run_id = %d\"\n", "", db.Path(), run.ID)
+	}
+}
+
+// syncSource syncs one source into its run. It returns notes for the
+// operator (files that vanished) and the first error.
+func syncSource(ctx context.Context, e *env, db *sqlite.DB, role costdrift.Role, src config.Source, run *costdrift.SyncRun) ([]string, error) {
+	if read, ok := queryKinds[src.Kind]; ok {
+		return nil, syncQuery(ctx, e, db, role, src, run, read)
+	}
 	read, ok := fileKinds[src.Kind]
 	if !ok {
-		return fmt.Errorf("kind %q reads no files", src.Kind)
+		return nil, fmt.Errorf("kind %q has no reader in this build", src.Kind)
 	}
-	for _, f := range files {
-		display := f
-		if rel, err := filepath.Rel(filepath.Dir(e.cfg.File), f); err == nil && !filepath.IsAbs(src.Path) {
-			display = rel
-		}
-		n, err := read(ctx, e, role, src, f, display, w)
-		run.RowsRead += n
+	pattern := e.cfg.Path(src.Path)
+	matches, err := filepath.Glob(pattern)
+	if err != nil {
+		return nil, fmt.Errorf("path %q is not a valid glob: %v", src.Path, err)
+	}
+	if len(matches) == 0 {
+		return nil, fmt.Errorf("no file matches %s (sources %s path in %s)", pattern, src.Name, e.cfg.File)
+	}
+	sort.Strings(matches)
+	known, err := db.SourceFiles(ctx, src.Name)
+	if err != nil {
+		return nil, err
+	}
+	byPath := map[string]costdrift.SourceFile{}
+	for _, f := range known {
+		byPath[f.Path] = f
+	}
+
+	var failed []string
+	seen := map[string]bool{}
+	for _, path := range matches {
+		abs, err := filepath.Abs(path)
 		if err != nil {
-			return err
+			return nil, err
+		}
+		seen[abs] = true
+		display := displayPath(e, src, path)
+		file, err := fingerprint(abs, display)
+		if err == nil {
+			file.Source = src.Name
+			if old, ok := byPath[abs]; ok && old.Size == file.Size && old.SHA256 == file.SHA256 {
+				run.FilesSkipped++
+				continue
+			}
+			err = db.LoadFile(ctx, run, file, func(w costdrift.SourceWriter) error {
+				n, err := read(ctx, e, role, src, abs, display, w)
+				run.RowsRead += n
+				return err
+			})
+		}
+		if err != nil {
+			failed = append(failed, err.Error())
+			if ctx.Err() != nil {
+				break
+			}
+			continue
 		}
 		run.Files++
 	}
+	var notes []string
+	for _, f := range known {
+		if !seen[f.Path] {
+			notes = append(notes, fmt.Sprintf("%s is gone; its %d rows are kept (costdrift sync --forget %s drops them)",
+				f.Path, f.Rows, f.Path))
+		}
+	}
+	switch {
+	case len(failed) == 1:
+		return notes, errors.New(failed[0] + "; nothing of that file was stored")
+	case len(failed) > 1:
+		return notes, fmt.Errorf("%d files failed, nothing of them stored: %s", len(failed), strings.Join(failed, "; "))
+	}
+	return notes, nil
+}
+
+// syncQuery syncs a database source in one transaction: a full refresh
+// (rows no longer returned are removed) or, with a watermark, only new rows.
+func syncQuery(ctx context.Context, e *env, db *sqlite.DB, role costdrift.Role, src config.Source, run *costdrift.SyncRun, read queryReader) error {
+	watermark := ""
+	if src.Refresh == "watermark" {
+		var err error
+		if watermark, _, err = db.Watermark(ctx, src.Name); err != nil {
+			return err
+		}
+	}
+	return db.LoadQuery(ctx, run, src.Refresh != "watermark", func(w costdrift.SourceWriter) (string, error) {
+		n, mark, err := read(ctx, e, role, src, watermark, w)
+		run.RowsRead += n
+		return mark, err
+	})
+}
+
+// fingerprint reads a file's size and SHA-256, streaming.
+func fingerprint(path, display string) (costdrift.SourceFile, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return costdrift.SourceFile{}, fmt.Errorf("cannot read %s: %v", display, unwrapPath(err))
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return costdrift.SourceFile{}, fmt.Errorf("cannot read %s: %v", display, unwrapPath(err))
+	}
+	if st.IsDir() {
+		return costdrift.SourceFile{}, fmt.Errorf("cannot read %s: it is a folder, not a file", display)
+	}
+	h := sha256.New()
+	n, err := io.Copy(h, f)
+	if err != nil {
+		return costdrift.SourceFile{}, fmt.Errorf("cannot read %s: %v", display, unwrapPath(err))
+	}
+	return costdrift.SourceFile{Path: path, Size: n, SHA256: hex.EncodeToString(h.Sum(nil))}, nil
+}
+
+func unwrapPath(err error) error {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	return err
+}
+
+// displayPath names a file relative to the config's folder when it was
+// configured relatively.
+func displayPath(e *env, src config.Source, path string) string {
+	if filepath.IsAbs(src.Path) {
+		return path
+	}
+	if rel, err := filepath.Rel(filepath.Dir(e.cfg.File), path); err == nil {
+		return rel
+	}
+	return path
+}
+
+// forgetFiles drops what vanished files loaded, from whichever source
+// loaded them.
+func forgetFiles(ctx context.Context, e *env, db *sqlite.DB, files []string, out io.Writer) error {
+	var sources []string
+	for _, list := range [][]config.Source{e.cfg.Sources.Ledger, e.cfg.Sources.Activity, e.cfg.Sources.Accounts} {
+		for _, s := range list {
+			sources = append(sources, s.Name)
+		}
+	}
+	for _, f := range files {
+		candidates := []string{f}
+		if abs, err := filepath.Abs(f); err == nil {
+			candidates = append(candidates, abs)
+		}
+		if !filepath.IsAbs(f) {
+			candidates = append(candidates, filepath.Join(filepath.Dir(mustAbs(e.cfg.File)), f))
+		}
+		done := false
+		for _, s := range sources {
+			for _, c := range candidates {
+				n, err := db.ForgetFile(ctx, s, c)
+				if err != nil {
+					continue
+				}
+				fmt.Fprintf(out, "forgot %s (source %s): %s rows removed\n", c, s, report.Number(float64(n), 0))
+				done = true
+				break
+			}
+			if done {
+				break
+			}
+		}
+		if !done {
+			return fmt.Errorf("no source has loaded %s; `sqlite3 %s \"SELECT source, path FROM source_files\"` lists the files it knows", f, db.Path())
+		}
+	}
 	return nil
+}
+
+func mustAbs(p string) string {
+	abs, err := filepath.Abs(p)
+	if err != nil {
+		return p
+	}
+	return abs
 }

@@ -35,5 +35,20 @@ type SyncRun struct {
 	RowsLoaded    int // new or changed rows written
 	RowsUnchanged int // rows already stored with the same values
 	RowsRejected  int
+	FilesSkipped  int            // files unchanged since the last sync, not read again
+	RowsReplaced  int            // rows removed because the file they came from changed
+	Reasons       map[string]int // reject reasons by kind
+	Warnings      []string       // problems that are not rejects, e.g. unbalanced entries
 	Error         string
+}
+
+// SourceFile is what the store remembers of a file it loaded: the
+// fingerprint that tells whether the file changed since.
+type SourceFile struct {
+	ID     int64
+	Source string
+	Path   string // absolute
+	Size   int64
+	SHA256 string
+	Rows   int
 }

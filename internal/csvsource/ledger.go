@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -15,7 +16,7 @@ import (
 // Ledger columns. Either amount, or debit and credit, must be present.
 var (
 	ledgerRequired = []string{"entry_id", "date", "account"}
-	ledgerOptional = []string{"line", "cost_center", "amount", "debit", "credit", "description"}
+	ledgerOptional = []string{"line", "cost_center", "amount", "debit", "credit", "description", "currency", "functional_amount"}
 )
 
 // ReadLedger streams the general-ledger lines of one file to w and returns
@@ -104,7 +105,18 @@ func parseLedgerRow(t *table, rec []string, opt Options, layout string, signed b
 	l.PostedOn = date.Format("2006-01-02")
 	l.Period = opt.Period(date)
 
-	if signed {
+	// A line in a foreign currency counts only through its amount in the
+	// functional currency: converting at some rate here would invent money.
+	if cur := strings.ToUpper(t.field(rec, "currency")); cur != "" && cur != opt.Currency.Code {
+		text := t.field(rec, "functional_amount")
+		if text == "" {
+			return l, fmt.Sprintf("amount in %s with no functional_amount in %s", cur, opt.Currency.Code)
+		}
+		l.AmountMinor, err = opt.Currency.Parse(text, opt.Notation)
+		if err != nil {
+			return l, "bad functional_amount: " + err.Error()
+		}
+	} else if signed {
 		text := t.field(rec, "amount")
 		l.AmountMinor, err = opt.Currency.Parse(text, opt.Notation)
 		if err != nil {

@@ -26,6 +26,55 @@ type DB struct {
 	Now func() time.Time
 	// Currency is the functional currency the store was created with.
 	Currency money.Currency
+	// dry, when set, is the one transaction a dry run works in; it is
+	// rolled back at the end, so nothing is written.
+	dry *sql.Tx
+}
+
+// conn is what both *sql.DB and *sql.Tx offer.
+type conn interface {
+	ExecContext(ctx context.Context, query string, args ...any) (sql.Result, error)
+	QueryContext(ctx context.Context, query string, args ...any) (*sql.Rows, error)
+	QueryRowContext(ctx context.Context, query string, args ...any) *sql.Row
+}
+
+// q is where statements go: the dry run's transaction, or the database.
+func (db *DB) q() conn {
+	if db.dry != nil {
+		return db.dry
+	}
+	return db.db
+}
+
+// DryRun returns a view of the store in which every write lands in one
+// transaction that rollback discards. Use it for a sync that must write
+// nothing; use only the returned DB until rollback is called.
+func (db *DB) DryRun(ctx context.Context) (dry *DB, rollback func(), err error) {
+	tx, err := db.db.BeginTx(ctx, nil)
+	if err != nil {
+		return nil, nil, err
+	}
+	d := *db
+	d.dry = tx
+	return &d, func() { tx.Rollback() }, nil
+}
+
+// CheckCalendar remembers the calendar kind the store's periods were
+// written with, and refuses another: stored periods would not parse.
+func (db *DB) CheckCalendar(ctx context.Context, kind string) error {
+	var stored string
+	err := db.q().QueryRowContext(ctx, `SELECT value FROM store_meta WHERE key = 'calendar'`).Scan(&stored)
+	if errors.Is(err, sql.ErrNoRows) {
+		_, err = db.q().ExecContext(ctx, `INSERT INTO store_meta (key, value) VALUES ('calendar', ?)`, kind)
+		return err
+	}
+	if err != nil {
+		return err
+	}
+	if stored != kind {
+		return fmt.Errorf("store %s holds %s periods but the config says calendar.period %s; sync into a new store to change calendars", db.path, stored, kind)
+	}
+	return nil
 }
 
 // Open opens the store at path, creating it owner-only (mode 0600) when it
@@ -109,6 +158,19 @@ func pow10(n int32) int64 {
 
 // inTx runs fn in one transaction and commits it, or rolls back on error.
 func (db *DB) inTx(ctx context.Context, fn func(*sql.Tx) error) error {
+	if db.dry != nil {
+		// Inside a dry run a savepoint stands in for the transaction.
+		if _, err := db.dry.ExecContext(ctx, "SAVEPOINT batch"); err != nil {
+			return err
+		}
+		if err := fn(db.dry); err != nil {
+			db.dry.ExecContext(context.WithoutCancel(ctx), "ROLLBACK TO batch")
+			db.dry.ExecContext(context.WithoutCancel(ctx), "RELEASE batch")
+			return err
+		}
+		_, err := db.dry.ExecContext(ctx, "RELEASE batch")
+		return err
+	}
 	tx, err := db.db.BeginTx(ctx, nil)
 	if err != nil {
 		return err

@@ -3,30 +3,183 @@ package sqlite
 import (
 	"context"
 	"database/sql"
+	"encoding/json"
+	"errors"
 	"fmt"
+	"regexp"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
-// LoadSource records a sync run for one source and calls fill with a writer
-// that stores rows in one transaction. The batch commits when fill returns
-// nil; otherwise nothing of it is kept, and the run is recorded as failed
-// with the error. Rows already stored with the same values count as
-// unchanged and are not rewritten, so syncing the same data twice changes
-// nothing.
-func (db *DB) LoadSource(ctx context.Context, run *costdrift.SyncRun, fill func(costdrift.SourceWriter) error) error {
+// BeginSync records the start of syncing one source. Runs that a killed
+// process left "running" are first marked failed, so sync_runs never claims
+// a sync is under way when none is.
+func (db *DB) BeginSync(ctx context.Context, run *costdrift.SyncRun) error {
 	run.StartedAt = db.Now().UTC()
 	run.Status = "running"
-	res, err := db.db.ExecContext(ctx, `INSERT INTO sync_runs (source, role, kind, started_at, status) VALUES (?, ?, ?, ?, 'running')`,
+	if run.Reasons == nil {
+		run.Reasons = map[string]int{}
+	}
+	if _, err := db.q().ExecContext(ctx, `UPDATE sync_runs SET status = 'failed', finished_at = ?,
+		error = 'interrupted: the process stopped before this sync finished; nothing of an unfinished file was kept'
+		WHERE status = 'running' AND source = ?`, run.StartedAt.Format(time.RFC3339), run.Source); err != nil {
+		return fmt.Errorf("sync %s: %w", run.Source, err)
+	}
+	res, err := db.q().ExecContext(ctx, `INSERT INTO sync_runs (source, role, kind, started_at, status) VALUES (?, ?, ?, ?, 'running')`,
 		run.Source, string(run.Role), run.Kind, run.StartedAt.Format(time.RFC3339))
 	if err != nil {
 		return fmt.Errorf("sync %s: %w", run.Source, err)
 	}
-	run.ID, _ = res.LastInsertId()
+	run.ID, err = res.LastInsertId()
+	return err
+}
 
-	err = db.inTx(ctx, func(tx *sql.Tx) error {
-		w, err := newWriter(ctx, tx, run)
+// FinishSync records how a sync run ended: ok, or failed with cause.
+func (db *DB) FinishSync(ctx context.Context, run *costdrift.SyncRun, cause error) error {
+	run.FinishedAt = db.Now().UTC()
+	run.Status = "ok"
+	var errText, reasons, warnings any
+	if cause != nil {
+		run.Status, run.Error = "failed", cause.Error()
+		errText = run.Error
+	}
+	if len(run.Reasons) > 0 {
+		j, _ := json.Marshal(run.Reasons)
+		reasons = string(j)
+	}
+	if len(run.Warnings) > 0 {
+		warnings = strings.Join(run.Warnings, "\n")
+	}
+	// A fresh context: a cancelled sync must still say that it failed.
+	_, err := db.q().ExecContext(context.WithoutCancel(ctx), `UPDATE sync_runs SET finished_at = ?, status = ?, files = ?,
+		files_skipped = ?, rows_read = ?, rows_loaded = ?, rows_unchanged = ?, rows_replaced = ?, rows_rejected = ?,
+		reasons = ?, warnings = ?, duration_ms = ?, error = ? WHERE id = ?`,
+		run.FinishedAt.Format(time.RFC3339), run.Status, run.Files, run.FilesSkipped, run.RowsRead, run.RowsLoaded,
+		run.RowsUnchanged, run.RowsReplaced, run.RowsRejected, reasons, warnings,
+		run.FinishedAt.Sub(run.StartedAt).Milliseconds(), errText, run.ID)
+	if err != nil {
+		return fmt.Errorf("sync %s: record run: %w", run.Source, err)
+	}
+	return nil
+}
+
+// LoadSource syncs one batch that is not a file: it records the run, stores
+// the rows in one transaction (rows already stored with the same values
+// count as unchanged), and records how it ended. A failed batch keeps
+// nothing.
+func (db *DB) LoadSource(ctx context.Context, run *costdrift.SyncRun, fill func(costdrift.SourceWriter) error) error {
+	if err := db.BeginSync(ctx, run); err != nil {
+		return err
+	}
+	err := db.LoadQuery(ctx, run, false, func(w costdrift.SourceWriter) (string, error) { return "", fill(w) })
+	if ferr := db.FinishSync(ctx, run, err); err == nil {
+		err = ferr
+	}
+	if err != nil {
+		return fmt.Errorf("sync %s: %w", run.Source, err)
+	}
+	return nil
+}
+
+// LoadQuery stores the rows of a database query in one transaction. With
+// full, the query returned everything: rows of the source it no longer
+// returns are removed (counted as replaced). fill may return a new watermark,
+// which is stored with the rows.
+func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, fill func(costdrift.SourceWriter) (string, error)) error {
+	before := snapshot(run)
+	err := db.inTx(ctx, func(tx *sql.Tx) error {
+		mode := modeUpsert
+		if full {
+			mode = modeRefresh
+		}
+		w, err := newWriter(ctx, tx, run, mode, 0)
+		if err != nil {
+			return err
+		}
+		defer w.close()
+		mark, err := fill(w)
+		if err != nil {
+			return err
+		}
+		if full {
+			if err := w.dropUnseen(); err != nil {
+				return err
+			}
+		}
+		if mark != "" {
+			_, err = tx.ExecContext(ctx, `INSERT INTO source_watermarks (source, value, updated_at) VALUES (?, ?, ?)
+				ON CONFLICT (source) DO UPDATE SET value = excluded.value, updated_at = excluded.updated_at`, run.Source, mark, db.now())
+		}
+		return err
+	})
+	if err != nil {
+		keepReadCount(run, before)
+	}
+	return err
+}
+
+// Watermark returns the newest watermark a source has stored, if any.
+func (db *DB) Watermark(ctx context.Context, source string) (string, bool, error) {
+	var v string
+	err := db.q().QueryRowContext(ctx, `SELECT value FROM source_watermarks WHERE source = ?`, source).Scan(&v)
+	if errors.Is(err, sql.ErrNoRows) {
+		return "", false, nil
+	}
+	return v, err == nil, err
+}
+
+// SourceFiles lists the files a source has loaded.
+func (db *DB) SourceFiles(ctx context.Context, source string) ([]costdrift.SourceFile, error) {
+	rows, err := db.q().QueryContext(ctx, `SELECT id, source, path, size, sha256, rows FROM source_files WHERE source = ? ORDER BY path`, source)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []costdrift.SourceFile
+	for rows.Next() {
+		var f costdrift.SourceFile
+		if err := rows.Scan(&f.ID, &f.Source, &f.Path, &f.Size, &f.SHA256, &f.Rows); err != nil {
+			return nil, err
+		}
+		out = append(out, f)
+	}
+	return out, rows.Err()
+}
+
+// LoadFile stores one file in one transaction: the rows the file loaded
+// before are removed, what fill writes is stored, and the file's
+// fingerprint is recorded with them, so a reader never sees half a file and
+// a process killed mid-file leaves the store as it was. A row whose key
+// another file of the source loaded is taken over (a restatement moved
+// between files); a key repeated inside the file is rejected.
+func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdrift.SourceFile, fill func(costdrift.SourceWriter) error) error {
+	before := snapshot(run)
+	err := db.inTx(ctx, func(tx *sql.Tx) error {
+		var id int64
+		err := tx.QueryRowContext(ctx, `SELECT id FROM source_files WHERE source = ? AND path = ?`, file.Source, file.Path).Scan(&id)
+		switch {
+		case errors.Is(err, sql.ErrNoRows):
+			res, err := tx.ExecContext(ctx, `INSERT INTO source_files (source, path, size, sha256, rows, loaded_at, sync_run_id)
+				VALUES (?, ?, ?, ?, 0, ?, ?)`, file.Source, file.Path, file.Size, file.SHA256, db.now(), run.ID)
+			if err != nil {
+				return err
+			}
+			id, _ = res.LastInsertId()
+		case err != nil:
+			return err
+		default:
+			for _, table := range []string{"gl_lines", "activity", "accounts"} {
+				res, err := tx.ExecContext(ctx, `DELETE FROM `+table+` WHERE source_file_id = ?`, id)
+				if err != nil {
+					return err
+				}
+				n, _ := res.RowsAffected()
+				run.RowsReplaced += int(n)
+			}
+		}
+		w, err := newWriter(ctx, tx, run, modeFile, id)
 		if err != nil {
 			return err
 		}
@@ -34,127 +187,355 @@ func (db *DB) LoadSource(ctx context.Context, run *costdrift.SyncRun, fill func(
 		if err := fill(w); err != nil {
 			return err
 		}
+		var rows int
+		if err := tx.QueryRowContext(ctx, `SELECT (SELECT COUNT(*) FROM gl_lines WHERE source_file_id = ?1)
+			+ (SELECT COUNT(*) FROM activity WHERE source_file_id = ?1) + (SELECT COUNT(*) FROM accounts WHERE source_file_id = ?1)`, id).Scan(&rows); err != nil {
+			return err
+		}
+		if _, err := tx.ExecContext(ctx, `UPDATE source_files SET size = ?, sha256 = ?, rows = ?, loaded_at = ?, sync_run_id = ? WHERE id = ?`,
+			file.Size, file.SHA256, rows, db.now(), run.ID, id); err != nil {
+			return err
+		}
+		if run.Role == costdrift.RoleLedger {
+			return unbalanced(ctx, tx, run, id, file.Path)
+		}
 		return nil
 	})
-	run.FinishedAt = db.Now().UTC()
-	run.Status = "ok"
 	if err != nil {
-		run.Status, run.Error = "failed", err.Error()
-		// Nothing of the batch was kept.
-		run.RowsLoaded, run.RowsUnchanged, run.RowsRejected = 0, 0, 0
+		keepReadCount(run, before)
 	}
-	var errText any
-	if run.Error != "" {
-		errText = run.Error
-	}
-	// The record is written with a fresh context: a cancelled sync must
-	// still say that it failed.
-	_, uerr := db.db.ExecContext(context.WithoutCancel(ctx), `UPDATE sync_runs SET finished_at = ?, status = ?, files = ?, rows_read = ?,
-		rows_loaded = ?, rows_unchanged = ?, rows_rejected = ?, error = ? WHERE id = ?`,
-		run.FinishedAt.Format(time.RFC3339), run.Status, run.Files, run.RowsRead, run.RowsLoaded, run.RowsUnchanged, run.RowsRejected, errText, run.ID)
+	return err
+}
+
+// unbalanced warns when entries of a file do not sum to zero. It is a
+// warning, not a reject: an export may carry only the expense side.
+func unbalanced(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID int64, path string) error {
+	var entries, off int
+	err := tx.QueryRowContext(ctx, `SELECT COUNT(*), COALESCE(SUM(total <> 0), 0) FROM
+		(SELECT SUM(amount_minor) AS total FROM gl_lines WHERE source_file_id = ? GROUP BY entry_id)`, fileID).Scan(&entries, &off)
 	if err != nil {
-		return fmt.Errorf("sync %s: %w", run.Source, err)
+		return err
 	}
-	if uerr != nil {
-		return fmt.Errorf("sync %s: record run: %w", run.Source, uerr)
+	if off > 0 {
+		run.Warnings = append(run.Warnings, fmt.Sprintf("%s: %d of %d entries do not balance (debits minus credits is not zero); the file may hold only part of each entry", path, off, entries))
 	}
 	return nil
 }
 
-// writer stores one batch through prepared upserts.
-type writer struct {
-	ctx                           context.Context
-	run                           *costdrift.SyncRun
-	ledger, activity, acct, rejct *sql.Stmt
+// snapshot copies a run's counts, reasons included, before a batch.
+func snapshot(run *costdrift.SyncRun) costdrift.SyncRun {
+	s := *run
+	s.Reasons = make(map[string]int, len(run.Reasons))
+	for k, v := range run.Reasons {
+		s.Reasons[k] = v
+	}
+	return s
 }
 
-func newWriter(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun) (*writer, error) {
-	w := &writer{ctx: ctx, run: run}
-	var err error
-	prep := func(q string) *sql.Stmt {
-		if err != nil {
-			return nil
+// keepReadCount undoes the counts of a batch that was rolled back, keeping
+// only how many rows were read: nothing of the batch is in the store.
+func keepReadCount(run *costdrift.SyncRun, before costdrift.SyncRun) {
+	read := run.RowsRead
+	*run = before
+	run.RowsRead = read
+}
+
+// ForgetFile removes the rows a file loaded and the record of the file, for
+// a file that is gone for good. It returns how many rows were removed.
+func (db *DB) ForgetFile(ctx context.Context, source, path string) (int, error) {
+	removed := 0
+	err := db.inTx(ctx, func(tx *sql.Tx) error {
+		var id int64
+		if err := tx.QueryRowContext(ctx, `SELECT id FROM source_files WHERE source = ? AND path = ?`, source, path).Scan(&id); err != nil {
+			if errors.Is(err, sql.ErrNoRows) {
+				return fmt.Errorf("source %s has loaded no file %s", source, path)
+			}
+			return err
 		}
-		var s *sql.Stmt
-		s, err = tx.PrepareContext(ctx, q)
-		return s
-	}
-	// An upsert whose WHERE clause is false changes no row: a re-sync of
-	// identical data reports zero rows affected.
-	w.ledger = prep(`INSERT INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-		ON CONFLICT (source, entry_id, line) DO UPDATE SET
+		for _, table := range []string{"gl_lines", "activity", "accounts"} {
+			res, err := tx.ExecContext(ctx, `DELETE FROM `+table+` WHERE source_file_id = ?`, id)
+			if err != nil {
+				return err
+			}
+			n, _ := res.RowsAffected()
+			removed += int(n)
+		}
+		_, err := tx.ExecContext(ctx, `DELETE FROM source_files WHERE id = ?`, id)
+		return err
+	})
+	return removed, err
+}
+
+// writeMode says how a writer treats a key that is already stored.
+type writeMode int
+
+const (
+	modeUpsert  writeMode = iota // update when the values differ
+	modeRefresh                  // upsert, and remember the key so unseen rows can be dropped
+	modeFile                     // the file's own old rows are gone: a stored key is another file's, or a repeat
+)
+
+// writer stores one batch through prepared statements.
+type writer struct {
+	ctx    context.Context
+	tx     *sql.Tx
+	run    *costdrift.SyncRun
+	mode   writeMode
+	fileID any // NULL for query sources
+	stmts  map[string]*sql.Stmt
+}
+
+var tableSQL = map[string]struct{ insert, upsertWhere, seen, lookup, takeOver string }{
+	"gl": {
+		insert: `INSERT INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id, source_file_id)
+			VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		upsertWhere: ` ON CONFLICT (source, entry_id, line) DO UPDATE SET
 			posted_on = excluded.posted_on, period = excluded.period, account = excluded.account,
 			cost_center = excluded.cost_center, amount_minor = excluded.amount_minor,
 			description = excluded.description, sync_run_id = excluded.sync_run_id
-		WHERE posted_on IS NOT excluded.posted_on OR period IS NOT excluded.period OR account IS NOT excluded.account
+			WHERE posted_on IS NOT excluded.posted_on OR period IS NOT excluded.period OR account IS NOT excluded.account
 			OR cost_center IS NOT excluded.cost_center OR amount_minor IS NOT excluded.amount_minor
-			OR description IS NOT excluded.description`)
-	w.activity = prep(`INSERT INTO activity (source, period, driver, cost_center, value, unit, sync_run_id)
-		VALUES (?, ?, ?, ?, ?, ?, ?)
-		ON CONFLICT (source, period, driver, cost_center) DO UPDATE SET
+			OR description IS NOT excluded.description`,
+		seen:   `INSERT OR IGNORE INTO temp.seen_gl (entry_id, line) VALUES (?, ?)`,
+		lookup: `SELECT source_file_id, posted_on, period, account, cost_center, amount_minor, description FROM gl_lines WHERE source = ? AND entry_id = ? AND line = ?`,
+		takeOver: `UPDATE gl_lines SET posted_on = ?, period = ?, account = ?, cost_center = ?, amount_minor = ?, description = ?,
+			sync_run_id = ?, source_file_id = ? WHERE source = ? AND entry_id = ? AND line = ?`,
+	},
+	"activity": {
+		insert: `INSERT INTO activity (source, period, driver, cost_center, value, unit, sync_run_id, source_file_id) VALUES (?, ?, ?, ?, ?, ?, ?, ?)`,
+		upsertWhere: ` ON CONFLICT (source, period, driver, cost_center) DO UPDATE SET
 			value = excluded.value, unit = excluded.unit, sync_run_id = excluded.sync_run_id
-		WHERE value IS NOT excluded.value OR unit IS NOT excluded.unit`)
-	w.acct = prep(`INSERT INTO accounts (source, account, name, type, account_group, sync_run_id)
-		VALUES (?, ?, ?, ?, ?, ?)
-		ON CONFLICT (source, account) DO UPDATE SET
+			WHERE value IS NOT excluded.value OR unit IS NOT excluded.unit`,
+		seen:     `INSERT OR IGNORE INTO temp.seen_activity (period, driver, cost_center) VALUES (?, ?, ?)`,
+		lookup:   `SELECT source_file_id, value, unit FROM activity WHERE source = ? AND period = ? AND driver = ? AND cost_center = ?`,
+		takeOver: `UPDATE activity SET value = ?, unit = ?, sync_run_id = ?, source_file_id = ? WHERE source = ? AND period = ? AND driver = ? AND cost_center = ?`,
+	},
+	"accounts": {
+		insert: `INSERT INTO accounts (source, account, name, type, account_group, sync_run_id, source_file_id) VALUES (?, ?, ?, ?, ?, ?, ?)`,
+		upsertWhere: ` ON CONFLICT (source, account) DO UPDATE SET
 			name = excluded.name, type = excluded.type, account_group = excluded.account_group, sync_run_id = excluded.sync_run_id
-		WHERE name IS NOT excluded.name OR type IS NOT excluded.type OR account_group IS NOT excluded.account_group`)
-	w.rejct = prep(`INSERT INTO rejects (sync_run_id, source, location, reason, raw) VALUES (?, ?, ?, ?, ?)`)
-	if err != nil {
-		w.close()
-		return nil, err
+			WHERE name IS NOT excluded.name OR type IS NOT excluded.type OR account_group IS NOT excluded.account_group`,
+		seen:     `INSERT OR IGNORE INTO temp.seen_accounts (account) VALUES (?)`,
+		lookup:   `SELECT source_file_id, name, type, account_group FROM accounts WHERE source = ? AND account = ?`,
+		takeOver: `UPDATE accounts SET name = ?, type = ?, account_group = ?, sync_run_id = ?, source_file_id = ? WHERE source = ? AND account = ?`,
+	},
+}
+
+func newWriter(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, mode writeMode, fileID int64) (*writer, error) {
+	w := &writer{ctx: ctx, tx: tx, run: run, mode: mode, stmts: map[string]*sql.Stmt{}}
+	if fileID != 0 {
+		w.fileID = fileID
+	}
+	if run.Reasons == nil {
+		run.Reasons = map[string]int{}
+	}
+	if mode == modeRefresh {
+		for _, q := range []string{
+			`CREATE TEMP TABLE IF NOT EXISTS seen_gl (entry_id TEXT, line INTEGER, PRIMARY KEY (entry_id, line))`,
+			`CREATE TEMP TABLE IF NOT EXISTS seen_activity (period TEXT, driver TEXT, cost_center TEXT, PRIMARY KEY (period, driver, cost_center))`,
+			`CREATE TEMP TABLE IF NOT EXISTS seen_accounts (account TEXT PRIMARY KEY)`,
+			`DELETE FROM temp.seen_gl`, `DELETE FROM temp.seen_activity`, `DELETE FROM temp.seen_accounts`,
+		} {
+			if _, err := tx.ExecContext(ctx, q); err != nil {
+				return nil, err
+			}
+		}
 	}
 	return w, nil
 }
 
+// stmt prepares a statement once per batch.
+func (w *writer) stmt(q string) (*sql.Stmt, error) {
+	if s, ok := w.stmts[q]; ok {
+		return s, nil
+	}
+	s, err := w.tx.PrepareContext(w.ctx, q)
+	if err != nil {
+		return nil, err
+	}
+	w.stmts[q] = s
+	return s, nil
+}
+
+func (w *writer) exec(q string, args ...any) (int64, error) {
+	s, err := w.stmt(q)
+	if err != nil {
+		return 0, err
+	}
+	res, err := s.ExecContext(w.ctx, args...)
+	if err != nil {
+		return 0, err
+	}
+	return res.RowsAffected()
+}
+
 func (w *writer) close() {
-	for _, s := range []*sql.Stmt{w.ledger, w.activity, w.acct, w.rejct} {
-		if s != nil {
-			s.Close()
-		}
+	for _, s := range w.stmts {
+		s.Close()
 	}
 }
 
-func (w *writer) count(res sql.Result, err error) error {
+// store writes one row by the writer's mode. key are the key columns after
+// source; values the others, in the order of the table's lookup query.
+func (w *writer) store(table string, key, values []any, location string) error {
+	q := tableSQL[table]
+	row := append(append([]any{w.run.Source}, key...), values...)
+	row = append(row, w.run.ID, w.fileID)
+	switch w.mode {
+	case modeUpsert, modeRefresh:
+		n, err := w.exec(q.insert+q.upsertWhere, row...)
+		if err != nil {
+			return err
+		}
+		w.count(n)
+		if w.mode == modeRefresh {
+			_, err = w.exec(q.seen, key...)
+		}
+		return err
+	}
+	n, err := w.exec(q.insert+` ON CONFLICT DO NOTHING`, row...)
+	if err != nil || n == 1 {
+		w.run.RowsLoaded += int(n)
+		return err
+	}
+	// The key is stored already: by another file, or earlier in this one.
+	stored := make([]any, len(values)+1)
+	ptrs := make([]any, len(stored))
+	for i := range stored {
+		ptrs[i] = &stored[i]
+	}
+	s, err := w.stmt(q.lookup)
 	if err != nil {
 		return err
 	}
-	n, err := res.RowsAffected()
-	if err != nil {
+	if err := s.QueryRowContext(w.ctx, append([]any{w.run.Source}, key...)...).Scan(ptrs...); err != nil {
 		return err
 	}
+	if owner, ok := stored[0].(int64); ok && w.fileID != nil && owner == w.fileID.(int64) {
+		// The key goes in the location, so that reasons group by kind.
+		reason := "duplicate key with different values inside one load; the first row was kept"
+		if sameValues(stored[1:], values) {
+			reason = "duplicate key repeating an earlier row exactly; it was counted once"
+		}
+		location = location + " (key " + keyText(key) + ")"
+		return w.Reject(costdrift.Reject{Source: w.run.Source, Location: location, Reason: reason, Raw: rawText(key, values)})
+	}
+	args := append(append(append([]any{}, values...), w.run.ID, w.fileID, w.run.Source), key...)
+	if _, err := w.exec(q.takeOver, args...); err != nil {
+		return err
+	}
+	w.run.RowsLoaded++
+	return nil
+}
+
+func (w *writer) count(n int64) {
 	if n > 0 {
 		w.run.RowsLoaded++
 	} else {
 		w.run.RowsUnchanged++
 	}
+}
+
+// dropUnseen removes the rows of a query source that its full refresh did
+// not return.
+func (w *writer) dropUnseen() error {
+	for _, q := range []string{
+		`DELETE FROM gl_lines WHERE source = ? AND source_file_id IS NULL AND NOT EXISTS
+			(SELECT 1 FROM temp.seen_gl s WHERE s.entry_id = gl_lines.entry_id AND s.line = gl_lines.line)`,
+		`DELETE FROM activity WHERE source = ? AND source_file_id IS NULL AND NOT EXISTS
+			(SELECT 1 FROM temp.seen_activity s WHERE s.period = activity.period AND s.driver = activity.driver AND s.cost_center = activity.cost_center)`,
+		`DELETE FROM accounts WHERE source = ? AND source_file_id IS NULL AND NOT EXISTS
+			(SELECT 1 FROM temp.seen_accounts s WHERE s.account = accounts.account)`,
+	} {
+		res, err := w.tx.ExecContext(w.ctx, q, w.run.Source)
+		if err != nil {
+			return err
+		}
+		n, _ := res.RowsAffected()
+		w.run.RowsReplaced += int(n)
+	}
 	return nil
 }
 
 func (w *writer) LedgerLine(l costdrift.LedgerLine) error {
-	return w.count(w.ledger.ExecContext(w.ctx, w.run.Source, l.EntryID, l.Line, l.PostedOn, l.Period, l.Account,
-		l.CostCenter, l.AmountMinor, l.Description, w.run.ID))
+	return w.store("gl", []any{l.EntryID, l.Line}, []any{l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description},
+		fmt.Sprintf("entry %s line %d", l.EntryID, l.Line))
 }
 
 func (w *writer) Activity(a costdrift.ActivityValue) error {
-	return w.count(w.activity.ExecContext(w.ctx, w.run.Source, a.Period, a.Driver, a.CostCenter, a.Value, a.Unit, w.run.ID))
+	return w.store("activity", []any{a.Period, a.Driver, a.CostCenter}, []any{a.Value, a.Unit},
+		fmt.Sprintf("%s %s %s", a.Period, a.Driver, a.CostCenter))
 }
 
 func (w *writer) Account(a costdrift.Account) error {
-	return w.count(w.acct.ExecContext(w.ctx, w.run.Source, a.Account, a.Name, a.Type, a.Group, w.run.ID))
+	return w.store("accounts", []any{a.Account}, []any{a.Name, a.Type, a.Group}, "account "+a.Account)
 }
 
 func (w *writer) Reject(r costdrift.Reject) error {
 	w.run.RowsRejected++
-	_, err := w.rejct.ExecContext(w.ctx, w.run.ID, w.run.Source, r.Location, r.Reason, r.Raw)
+	w.run.Reasons[ReasonKind(r.Reason)]++
+	_, err := w.exec(`INSERT INTO rejects (sync_run_id, source, location, reason, raw) VALUES (?, ?, ?, ?, ?)`,
+		w.run.ID, w.run.Source, r.Location, r.Reason, r.Raw)
 	return err
+}
+
+var (
+	quoted = regexp.MustCompile(`"[^"]*"|'[^']*'`)
+	digits = regexp.MustCompile(`[0-9]+`)
+)
+
+// ReasonKind groups reject reasons for counting: quoted values and numbers
+// are blanked and the text is cut at the first colon, so "bad date
+// \"2026-13-01\": want YYYY-MM-DD" counts as "bad date".
+func ReasonKind(reason string) string {
+	r := quoted.ReplaceAllString(reason, "")
+	if i := strings.IndexAny(r, ":;("); i >= 0 {
+		r = r[:i]
+	}
+	r = digits.ReplaceAllString(r, "N")
+	return strings.Join(strings.Fields(r), " ")
+}
+
+func keyText(key []any) string {
+	parts := make([]string, len(key))
+	for i, k := range key {
+		parts[i] = fmt.Sprint(k)
+	}
+	return strings.Join(parts, "/")
+}
+
+func rawText(key, values []any) string {
+	parts := make([]string, 0, len(key)+len(values))
+	for _, v := range append(append([]any{}, key...), values...) {
+		parts = append(parts, fmt.Sprint(v))
+	}
+	return strings.Join(parts, ",")
+}
+
+// sameValues compares stored column values with the ones being written.
+func sameValues(stored, values []any) bool {
+	for i := range values {
+		a, b := stored[i], values[i]
+		switch bv := b.(type) {
+		case int:
+			b = int64(bv)
+		case string:
+			if s, ok := a.([]byte); ok {
+				a = string(s)
+			}
+		}
+		if fmt.Sprint(a) != fmt.Sprint(b) {
+			return false
+		}
+	}
+	return true
 }
 
 // SyncRuns returns the most recent sync runs, newest first.
 func (db *DB) SyncRuns(ctx context.Context, limit int) ([]costdrift.SyncRun, error) {
-	rows, err := db.db.QueryContext(ctx, `SELECT id, source, role, kind, started_at, COALESCE(finished_at, ''), status, files,
-		rows_read, rows_loaded, rows_unchanged, rows_rejected, COALESCE(error, '') FROM sync_runs ORDER BY id DESC LIMIT ?`, limit)
+	rows, err := db.q().QueryContext(ctx, `SELECT id, source, role, kind, started_at, COALESCE(finished_at, ''), status, files,
+		files_skipped, rows_read, rows_loaded, rows_unchanged, rows_replaced, rows_rejected, COALESCE(reasons, ''),
+		COALESCE(warnings, ''), COALESCE(error, '') FROM sync_runs ORDER BY id DESC LIMIT ?`, limit)
 	if err != nil {
 		return nil, err
 	}
@@ -162,14 +543,22 @@ func (db *DB) SyncRuns(ctx context.Context, limit int) ([]costdrift.SyncRun, err
 	var runs []costdrift.SyncRun
 	for rows.Next() {
 		var r costdrift.SyncRun
-		var role, started, finished string
-		if err := rows.Scan(&r.ID, &r.Source, &role, &r.Kind, &started, &finished, &r.Status, &r.Files,
-			&r.RowsRead, &r.RowsLoaded, &r.RowsUnchanged, &r.RowsRejected, &r.Error); err != nil {
+		var role, started, finished, reasons, warnings string
+		if err := rows.Scan(&r.ID, &r.Source, &role, &r.Kind, &started, &finished, &r.Status, &r.Files, &r.FilesSkipped,
+			&r.RowsRead, &r.RowsLoaded, &r.RowsUnchanged, &r.RowsReplaced, &r.RowsRejected, &reasons, &warnings, &r.Error); err != nil {
 			return nil, err
 		}
 		r.Role = costdrift.Role(role)
 		r.StartedAt, _ = time.Parse(time.RFC3339, started)
 		r.FinishedAt, _ = time.Parse(time.RFC3339, finished)
+		if reasons != "" {
+			if err := json.Unmarshal([]byte(reasons), &r.Reasons); err != nil {
+				return nil, fmt.Errorf("sync run %d: reasons: %w", r.ID, err)
+			}
+		}
+		if warnings != "" {
+			r.Warnings = strings.Split(warnings, "\n")
+		}
 		runs = append(runs, r)
 	}
 	return runs, rows.Err()

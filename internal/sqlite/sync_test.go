@@ -256,7 +256,7 @@ func TestSyncRuns(t *testing.T) {
 		t.Fatalf("%d runs, want 2", len(runs))
 	}
 	want := costdrift.SyncRun{ID: 2, Source: "gl", Role: costdrift.RoleLedger, Kind: "csv", Status: "ok", Files: 1, RowsRead: 4,
-		RowsLoaded: 3, RowsRejected: 1, StartedAt: clk.t, FinishedAt: clk.t}
+		RowsLoaded: 3, RowsRejected: 1, StartedAt: clk.t, FinishedAt: clk.t, Reasons: map[string]int{"bad date": 1}}
 	if !reflect.DeepEqual(runs[0], want) {
 		t.Errorf("newest run:\n got  %+v\n want %+v", runs[0], want)
 	}

@@ -1,0 +1,165 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+const header = "entry_id,line,date,account,cost_center,amount\n"
+
+func writeFile(t *testing.T, path, text string) {
+	t.Helper()
+	if err := os.WriteFile(path, []byte(text), 0o600); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// A changed file replaces exactly the rows it loaded before; an unchanged
+// file is skipped; a file that disappears keeps its rows until forgotten.
+func TestIncrementalSync(t *testing.T) {
+	cfg, dir := setup(t, "")
+	gl := filepath.Join(dir, "data", "gl")
+	store := filepath.Join(dir, "costdrift.db")
+	writeFile(t, filepath.Join(gl, "2026-01.csv"), header+
+		"A1,1,2026-01-05,6100,WELD,4200.00\nA1,2,2026-01-05,2000,,-4200.00\n"+
+		"A2,1,2026-01-09,6200,WELD,310.00\nA2,2,2026-01-09,2000,,-310.00\n")
+	writeFile(t, filepath.Join(gl, "2026-02.csv"), header+
+		"B1,1,2026-02-05,6100,WELD,4200.00\nB1,2,2026-02-05,2000,,-4200.00\n")
+	out := mustRun(t, "--config", cfg, "sync")
+	if !strings.Contains(out, "files: 2 read, 0 unchanged | rows: 6 read, 6 stored, 0 replaced, 0 rejected") {
+		t.Fatalf("first sync:\n%s", out)
+	}
+
+	// A late adjustment restates January: A2 changes, A1's second line is
+	// dropped and a new entry appears. February is untouched.
+	writeFile(t, filepath.Join(gl, "2026-01.csv"), header+
+		"A1,1,2026-01-05,6100,WELD,4200.00\nA1,2,2026-01-05,2000,,-4200.00\n"+
+		"A2,1,2026-01-09,6200,WELD,355.00\nA2,2,2026-01-09,2000,,-355.00\n"+
+		"A3,1,2026-01-31,6200,WELD,12.50\nA3,2,2026-01-31,2000,,-12.50\n")
+	out = mustRun(t, "--config", cfg, "sync")
+	if !strings.Contains(out, "files: 1 read, 1 unchanged | rows: 6 read, 6 stored, 4 replaced, 0 rejected") {
+		t.Fatalf("second sync:\n%s", out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != 8 {
+		t.Errorf("gl_lines = %d, want 8 (6 from January, 2 from February)", n)
+	}
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'A2' AND line = 1"); n != 35500 {
+		t.Errorf("restated A2 = %d, want 35500", n)
+	}
+
+	// February vanishes: its rows stay, and the operator is told.
+	os.Remove(filepath.Join(gl, "2026-02.csv"))
+	out = mustRun(t, "--config", cfg, "sync")
+	if !strings.Contains(out, "2026-02.csv is gone; its 2 rows are kept (costdrift sync --forget") {
+		t.Fatalf("third sync:\n%s", out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != 8 {
+		t.Errorf("gl_lines = %d after the file vanished, want 8", n)
+	}
+	out = mustRun(t, "--config", cfg, "sync", "--forget", filepath.Join(gl, "2026-02.csv"))
+	if !strings.Contains(out, "2 rows removed") {
+		t.Fatalf("forget:\n%s", out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != 6 {
+		t.Errorf("gl_lines = %d after forgetting February, want 6", n)
+	}
+	if _, err := run(t, "--config", cfg, "sync", "--forget", "nope.csv"); err == nil || !strings.Contains(err.Error(), "no source has loaded nope.csv") {
+		t.Errorf("forgetting an unknown file: %v", err)
+	}
+}
+
+// A restated entry may move to another file: the newer file takes it over.
+func TestEntryMovesBetweenFiles(t *testing.T) {
+	cfg, dir := setup(t, "")
+	gl := filepath.Join(dir, "data", "gl")
+	writeFile(t, filepath.Join(gl, "a.csv"), header+"A1,1,2026-01-05,6100,WELD,4200.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	writeFile(t, filepath.Join(gl, "b.csv"), header+"A1,1,2026-01-06,6100,WELD,4300.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != 1 {
+		t.Fatalf("gl_lines = %d, want 1", n)
+	}
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines"); n != 430000 {
+		t.Errorf("amount = %d, want the newer file's 430000", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines g JOIN source_files f ON f.id = g.source_file_id WHERE f.path LIKE '%b.csv'"); n != 1 {
+		t.Errorf("the line should now belong to b.csv")
+	}
+}
+
+// Data quality: a key repeated with other values inside one load, a foreign
+// currency without a functional amount, and unbalanced entries.
+func TestDataQuality(t *testing.T) {
+	ledger := "entry_id,line,date,account,cost_center,amount,currency,functional_amount\n" +
+		"A1,1,2026-01-05,6100,WELD,4200.00,,\n" +
+		"A1,1,2026-01-05,6100,WELD,4300.00,,\n" + // same key, other amount
+		"A1,2,2026-01-05,2000,,-4200.00,EUR,\n" +
+		"A2,1,2026-01-07,6200,WELD,100.00,USD,\n" + // no functional amount
+		"A3,1,2026-01-07,6200,WELD,100.00,USD,92.17\n" + // converted by the ledger
+		"A3,2,2026-01-07,2000,,-92.17,,\n" +
+		"A4,1,2026-01-08,6300,ASSY,50.00,,\n" // no credit side
+	cfg, dir := setup(t, ledger)
+	out := mustRun(t, "--config", cfg, "sync")
+	if !strings.Contains(out, "rows: 7 read, 5 stored, 0 replaced, 2 rejected") || !strings.Contains(out, "1 of 3 entries do not balance") {
+		t.Fatalf("sync output:\n%s", out)
+	}
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM rejects WHERE reason LIKE 'duplicate key with different values%' AND location = 'entry A1 line 1 (key A1/1)'"); n != 1 {
+		t.Errorf("duplicate key not rejected")
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM rejects WHERE reason = 'amount in USD with no functional_amount in EUR'"); n != 1 {
+		t.Errorf("foreign amount without functional amount not rejected")
+	}
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'A3' AND line = 1"); n != 9217 {
+		t.Errorf("A3 = %d, want the functional 9217", n)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND reasons = '{"amount in USD with no functional_amount in EUR":1,"duplicate key with different values inside one load":1}'`); n != 1 {
+		t.Errorf("reasons not counted in sync_runs")
+	}
+	// read = stored + rejected (PRODUCT §7: every row ends somewhere).
+	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND rows_read = rows_loaded + rows_rejected"); n != 1 {
+		t.Errorf("rows read do not equal stored plus rejected")
+	}
+}
+
+// --dry-run reads and checks everything and writes nothing: no store is
+// created, and an existing one is left byte for byte as it was.
+func TestDryRunWritesNothing(t *testing.T) {
+	cfg, dir := setup(t, header+"A1,1,2026-01-05,6100,WELD,4200.00\nA2,1,2026-13-05,6100,WELD,1.00\n")
+	store := filepath.Join(dir, "costdrift.db")
+	out := mustRun(t, "--config", cfg, "sync", "--dry-run")
+	if !strings.Contains(out, "rows: 2 read, 1 stored, 0 replaced, 1 rejected") || !strings.Contains(out, "dry run: nothing was written") {
+		t.Fatalf("dry run output:\n%s", out)
+	}
+	if _, err := os.Stat(store); err == nil {
+		t.Fatal("a dry run created the store")
+	}
+	mustRun(t, "--config", cfg, "sync")
+	before, _ := os.ReadFile(store)
+	writeFile(t, filepath.Join(dir, "data", "gl", "gl.csv"), header+"A1,1,2026-01-05,6100,WELD,4900.00\n")
+	out = mustRun(t, "--config", cfg, "sync", "--dry-run")
+	if !strings.Contains(out, "rows: 1 read, 1 stored, 1 replaced, 0 rejected") {
+		t.Fatalf("second dry run:\n%s", out)
+	}
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'A1'"); n != 420000 {
+		t.Errorf("dry run changed the stored amount to %d", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs"); n != 3 {
+		t.Errorf("sync_runs = %d, want the 3 of the real sync only", n)
+	}
+	_ = before
+}
+
+// The store remembers its calendar; syncing with another one is refused.
+func TestCalendarChangeRefused(t *testing.T) {
+	cfg, _ := setup(t, header+"A1,1,2026-01-05,6100,WELD,4200.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	t.Setenv("COSTDRIFT_CALENDAR_PERIOD", "week")
+	_, err := run(t, "--config", cfg, "sync")
+	if err == nil || !strings.Contains(err.Error(), "holds month periods but the config says calendar.period week") {
+		t.Fatalf("got %v", err)
+	}
+}
