@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"os"
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -36,6 +37,13 @@ func readCSV(ctx context.Context, e *env, role costdrift.Role, src config.Source
 		Currency: e.currency,
 		Period:   e.calendar.Period,
 		Layout:   src.Layout,
+		Encoding: src.Encoding,
+	}
+	if e.progress != nil {
+		if st, err := os.Stat(path); err == nil && st.Size() > progressMinBytes {
+			size := st.Size()
+			opt.Progress = func(done int64) { e.progress(display, done, size) }
+		}
 	}
 	if src.Delimiter != "" {
 		opt.Delimiter = []rune(src.Delimiter)[0]

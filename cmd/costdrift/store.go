@@ -15,6 +15,9 @@ type env struct {
 	cfg      *config.Config
 	currency money.Currency
 	calendar calendar.Calendar
+	// progress, when set, shows how far a long file has been read; it is
+	// set only when the output is a terminal.
+	progress func(display string, done, total int64)
 }
 
 func (a *app) loadConfig() (*env, error) {

@@ -93,6 +93,16 @@ func (a *app) dryRunSync(ctx context.Context, e *env) error {
 // syncAll syncs every source. Each file is one transaction; a failing file
 // or source is reported and the others go on; the error says which failed.
 func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costdrift.SyncRun, error) {
+	if isTerminal(out) {
+		e.progress = func(display string, done, total int64) {
+			fmt.Fprintf(out, "\r  %s  %3.0f %%  (%s of %s MB)\033[K", display, 100*float64(done)/float64(total),
+				report.Number(float64(done)/1e6, 0), report.Number(float64(total)/1e6, 0))
+			if done >= total {
+				fmt.Fprint(out, "\r\033[K")
+			}
+		}
+		defer func() { e.progress = nil }()
+	}
 	type job struct {
 		role costdrift.Role
 		src  config.Source
@@ -251,6 +261,20 @@ func syncQuery(ctx context.Context, e *env, db *sqlite.DB, role costdrift.Role, 
 		run.RowsRead += n
 		return mark, err
 	})
+}
+
+// progressMinBytes is the size from which a file shows a progress line.
+const progressMinBytes = 20 << 20
+
+// isTerminal reports whether w is a terminal, where a progress line that
+// rewrites itself makes sense; in a log it would only be noise.
+func isTerminal(w io.Writer) bool {
+	f, ok := w.(*os.File)
+	if !ok {
+		return false
+	}
+	st, err := f.Stat()
+	return err == nil && st.Mode()&os.ModeCharDevice != 0
 }
 
 // fingerprint reads a file's size and SHA-256, streaming.

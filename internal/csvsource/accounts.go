@@ -12,7 +12,7 @@ import (
 
 // ReadAccounts streams the chart of accounts (account, name, type, group) to w.
 func ReadAccounts(ctx context.Context, path, display string, opt Options, w costdrift.SourceWriter) (int, error) {
-	t, closer, err := open(path, display, opt.Delimiter)
+	t, closer, err := open(path, display, opt)
 	if err != nil {
 		return 0, err
 	}
@@ -47,8 +47,8 @@ func ReadAccounts(ctx context.Context, path, display string, opt Options, w cost
 		a := costdrift.Account{Source: opt.Source, Account: t.field(rec, "account"), Name: t.field(rec, "name"),
 			Type: t.field(rec, "type"), Group: t.field(rec, "group")}
 		switch {
-		case len(rec) != len(t.header):
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header)), Raw: t.rawInput()})
+		case t.rowProblem(rec) != "":
+			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: t.rowProblem(rec), Raw: t.rawInput()})
 		case a.Account == "":
 			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "missing account", Raw: t.rawInput()})
 		default:

@@ -19,7 +19,7 @@ import (
 // has period (and optionally cost_center) and one column per driver. The
 // layout is detected from the header unless opt.Layout says it.
 func ReadActivity(ctx context.Context, path, display string, opt Options, w costdrift.SourceWriter) (int, error) {
-	t, closer, err := open(path, display, opt.Delimiter)
+	t, closer, err := open(path, display, opt)
 	if err != nil {
 		return 0, err
 	}
@@ -81,8 +81,8 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 		reject := func(reason string) error {
 			return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.rawInput()})
 		}
-		if len(rec) != len(t.header) {
-			if err := reject(fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header))); err != nil {
+		if reason := t.rowProblem(rec); reason != "" {
+			if err := reject(reason); err != nil {
 				return read, err
 			}
 			continue

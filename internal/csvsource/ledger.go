@@ -22,7 +22,7 @@ var (
 // ReadLedger streams the general-ledger lines of one file to w and returns
 // how many data rows it read. display names the file in messages.
 func ReadLedger(ctx context.Context, path, display string, opt Options, w costdrift.SourceWriter) (int, error) {
-	t, closer, err := open(path, display, opt.Delimiter)
+	t, closer, err := open(path, display, opt)
 	if err != nil {
 		return 0, err
 	}
@@ -81,8 +81,8 @@ func ReadLedger(ctx context.Context, path, display string, opt Options, w costdr
 
 // parseLedgerRow turns a record into a ledger line, or says why it cannot.
 func parseLedgerRow(t *table, rec []string, opt Options, layout string, signed bool, nextLine map[string]int) (costdrift.LedgerLine, string) {
-	if len(rec) != len(t.header) {
-		return costdrift.LedgerLine{}, fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header))
+	if reason := t.rowProblem(rec); reason != "" {
+		return costdrift.LedgerLine{}, reason
 	}
 	l := costdrift.LedgerLine{
 		Source:      opt.Source,

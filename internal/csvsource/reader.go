@@ -11,6 +11,10 @@ import (
 	"os"
 	"strings"
 	"time"
+	"unicode/utf8"
+
+	"golang.org/x/text/encoding/charmap"
+	"golang.org/x/text/transform"
 
 	"github.com/costdrift/costdrift/internal/money"
 )
@@ -29,6 +33,10 @@ type Options struct {
 	Period func(time.Time) string
 	// Layout of an activity file: "long", "wide", or "" to detect.
 	Layout string
+	// Encoding of the file: "" or utf-8, windows-1252, iso-8859-1.
+	Encoding string
+	// Progress, when set, is told how many bytes of the file were read.
+	Progress func(done int64)
 }
 
 // table is an open CSV file positioned after its header.
@@ -43,6 +51,65 @@ type table struct {
 	file  io.ReaderAt
 	bom   int64 // bytes before the CSV reader's first byte
 	start int64 // reader offset of the current record
+	// decoded says the file is read through a character-set decoder, so
+	// reader offsets are not file offsets.
+	decoded bool
+	delim   rune
+	last    []string // the current record, for the raw text of a decoded file
+}
+
+// maxField is the longest field a row may hold: no ledger column needs
+// more, and a runaway quoted field must not land in the store.
+const maxField = 65536
+
+// rowProblem says why a record cannot be used whatever its columns mean:
+// a wrong number of fields, text that is not UTF-8, a field too long.
+func (t *table) rowProblem(rec []string) string {
+	if len(rec) != len(t.header) {
+		return fmt.Sprintf("has %d fields, the header has %d", len(rec), len(t.header))
+	}
+	for _, f := range rec {
+		if len(f) > maxField {
+			return fmt.Sprintf("a field is %d bytes long, more than the %d allowed", len(f), maxField)
+		}
+		if !utf8.ValidString(f) {
+			return "not valid UTF-8; set `encoding: windows-1252` (or iso-8859-1) for this source if the file is not UTF-8"
+		}
+	}
+	return ""
+}
+
+// decoderFor returns the decoder of a source's declared encoding, or nil
+// for UTF-8.
+func decoderFor(name string) (transform.Transformer, error) {
+	switch strings.ToLower(name) {
+	case "", "utf-8", "utf8":
+		return nil, nil
+	case "windows-1252", "cp1252":
+		return charmap.Windows1252.NewDecoder(), nil
+	case "iso-8859-1", "latin1":
+		return charmap.ISO8859_1.NewDecoder(), nil
+	}
+	return nil, fmt.Errorf("unknown encoding %q", name)
+}
+
+// progressReader reports how many bytes of the file were read, about every
+// megabyte.
+type progressReader struct {
+	r      io.Reader
+	done   int64
+	last   int64
+	report func(int64)
+}
+
+func (p *progressReader) Read(b []byte) (int, error) {
+	n, err := p.r.Read(b)
+	p.done += int64(n)
+	if p.done-p.last >= 1<<20 || err == io.EOF {
+		p.last = p.done
+		p.report(p.done)
+	}
+	return n, err
 }
 
 // maxRaw caps the stored text of a malformed row: an unclosed quote can run
@@ -51,7 +118,8 @@ const maxRaw = 4096
 
 // open opens path, detects the delimiter, strips a UTF-8 byte-order mark
 // and reads the header. An empty file is an error.
-func open(path, display string, delim rune) (*table, io.Closer, error) {
+func open(path, display string, opt Options) (*table, io.Closer, error) {
+	delim := opt.Delimiter
 	f, err := os.Open(path)
 	if err != nil {
 		var pe *os.PathError
@@ -64,7 +132,19 @@ func open(path, display string, delim rune) (*table, io.Closer, error) {
 		f.Close()
 		return nil, nil, fmt.Errorf("cannot read %s: it is a folder, not a file", display)
 	}
-	br := bufio.NewReaderSize(f, 1<<16)
+	var src io.Reader = f
+	if opt.Progress != nil {
+		src = &progressReader{r: f, report: opt.Progress}
+	}
+	decoder, err := decoderFor(opt.Encoding)
+	if err != nil {
+		f.Close()
+		return nil, nil, fmt.Errorf("%s: %v", display, err)
+	}
+	if decoder != nil {
+		src = transform.NewReader(src, decoder)
+	}
+	br := bufio.NewReaderSize(src, 1<<16)
 	var bom int64
 	head, err := br.Peek(3)
 	if err == nil && bytes.Equal(head, []byte("\xef\xbb\xbf")) {
@@ -93,7 +173,13 @@ func open(path, display string, delim rune) (*table, io.Closer, error) {
 		return nil, nil, fmt.Errorf("%s: cannot read the header line: %v", display, err)
 	}
 	t := &table{name: display, r: r, header: append([]string(nil), header...), line: 1,
-		file: f, bom: bom}
+		file: f, bom: bom, decoded: decoder != nil, delim: delim}
+	for _, h := range t.header {
+		if !utf8.ValidString(h) {
+			f.Close()
+			return nil, nil, fmt.Errorf("%s: the header is not valid UTF-8; set `encoding: windows-1252` (or iso-8859-1) for this source", display)
+		}
+	}
 	return t, f, nil
 }
 
@@ -157,6 +243,7 @@ func (t *table) bind(mapping map[string]string, required, optional []string, hin
 func (t *table) next() ([]string, error) {
 	t.start = t.r.InputOffset()
 	rec, err := t.r.Read()
+	t.last = rec
 	var pe *csv.ParseError
 	switch {
 	case err == nil:
@@ -186,6 +273,13 @@ func (t *table) location() string { return fmt.Sprintf("%s:%d", t.name, t.line) 
 // the reject table: re-encoding the fields would not give back the row as
 // read, and a row the CSV reader cannot split has no fields.
 func (t *table) rawInput() string {
+	if t.decoded {
+		raw := strings.Join(t.last, string(t.delim))
+		if len(raw) > maxRaw {
+			raw = raw[:maxRaw]
+		}
+		return raw
+	}
 	n := t.r.InputOffset() - t.start
 	if n > maxRaw {
 		n = maxRaw

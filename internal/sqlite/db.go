@@ -99,6 +99,9 @@ func Open(ctx context.Context, path string, currency money.Currency) (*DB, error
 	q.Set("_foreign_keys", "on")
 	q.Set("_busy_timeout", "10000")
 	q.Set("_synchronous", "NORMAL")
+	// 64 MiB of page cache (a negative size is in KiB) keeps the indexes of a
+	// large ledger in memory while a file loads; memory stays bounded.
+	q.Set("_cache_size", "-65536")
 	q.Set("_txlock", "immediate")
 	// In a file: URI SQLite ends the path at '?' or '#' and decodes '%XX';
 	// unescaped, such a name would open another file, with default

@@ -1,0 +1,95 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// A corpus of malformed ledger files: each ends as rejects with reasons or
+// as one clear source error; none crashes; every row read is either stored
+// or rejected (PRODUCT §7).
+func TestBadInputCorpus(t *testing.T) {
+	const h = "entry_id,line,date,account,cost_center,amount,description\n"
+	const good = "G1,1,2026-01-05,6100,WELD,10.00,ok\n"
+	huge := strings.Repeat("x", 10<<20)
+	tests := []struct {
+		name     string
+		content  string
+		stored   int    // rows expected in gl_lines
+		rejected int    // rows expected in rejects
+		reason   string // a reject reason (substring) or, with fails, the error
+		fails    bool
+	}{
+		{"truncated last row", h + good + "T1,1,2026-01-0", 1, 1, "has 3 fields", false},
+		{"extra field", h + good + "X1,1,2026-01-05,6100,WELD,1.00,a,b\n", 1, 1, "has 8 fields, the header has 7", false},
+		{"missing field", h + good + "M1,1,2026-01-05,6100,1.00,a\n", 1, 1, "has 6 fields", false},
+		{"byte-order mark", "\ufeff" + h + good, 1, 0, "", false},
+		{"CRLF line ends", strings.ReplaceAll(h+good+good[:0]+"C1,1,2026-01-06,6100,WELD,2.00,x\n", "\n", "\r\n"), 2, 0, "", false},
+		{"quoted comma", h + good + "Q1,1,2026-01-05,6100,WELD,1.00,\"rent, January\"\n", 2, 0, "", false},
+		{"quoted newline", h + good + "Q2,1,2026-01-05,6100,WELD,1.00,\"two\nlines\"\n", 2, 0, "", false},
+		{"decimal comma not declared", h + good + "D1,1,2026-01-05,6100,WELD,\"1,50\",x\n", 1, 1, "declare decimal_comma", false},
+		{"parenthesised negative", h + good + "P1,1,2026-01-05,6100,WELD,(12.30),credit note\n", 2, 0, "", false},
+		{"trailing minus", h + good + "P2,1,2026-01-05,6100,WELD,12.30-,credit note\n", 2, 0, "", false},
+		{"impossible date", h + good + "I1,1,2026-02-30,6100,WELD,1.00,x\n", 1, 1, "bad date", false},
+		{"month 13", h + good + "I2,1,2026-13-01,6100,WELD,1.00,x\n", 1, 1, "bad date", false},
+		{"date in another layout", h + good + "I3,1,05.01.2026,6100,WELD,1.00,x\n", 1, 1, "bad date", false},
+		{"NaN amount", h + good + "N1,1,2026-01-05,6100,WELD,NaN,x\n", 1, 1, "bad amount", false},
+		{"Infinity amount", h + good + "N2,1,2026-01-05,6100,WELD,Infinity,x\n", 1, 1, "bad amount", false},
+		{"1e400 amount", h + good + "N3,1,2026-01-05,6100,WELD,1e400,x\n", 1, 1, "bad amount", false},
+		{"huge plain amount", h + good + "N4,1,2026-01-05,6100,WELD,99999999999999999999999,x\n", 1, 1, "out of range", false},
+		{"too many decimals", h + good + "N5,1,2026-01-05,6100,WELD,1.005,x\n", 1, 1, "more decimals", false},
+		{"empty amount", h + good + "N6,1,2026-01-05,6100,WELD,,x\n", 1, 1, "empty amount", false},
+		{"missing account", h + good + "A1,1,2026-01-05,,WELD,1.00,x\n", 1, 1, "missing account", false},
+		{"missing entry id", h + good + ",1,2026-01-05,6100,WELD,1.00,x\n", 1, 1, "missing entry_id", false},
+		{"bad line number", h + good + "L1,zero,2026-01-05,6100,WELD,1.00,x\n", 1, 1, "bad line", false},
+		{"stray quote", h + good + "S1,1,2026-01-05,6100,WELD,1.00,a \"quoted\" word\n", 1, 1, "malformed CSV", false},
+		{"unclosed quote", h + good + "S2,1,2026-01-05,6100,WELD,1.00,\"never closed\n", 1, 1, "malformed CSV", false},
+		{"non-UTF-8 bytes", h + good + "U1,1,2026-01-05,6100,WELD,1.00,caf\xe9\n", 1, 1, "not valid UTF-8", false},
+		{"10 MB field", h + good + "B1,1,2026-01-05,6100,WELD,1.00," + huge + "\n", 1, 1, "more than the 65536 allowed", false},
+		{"NUL byte", h + good + "Z1,1,2026-01-05,6100,WELD,1.00,a\x00b\n", 2, 0, "", false},
+		{"blank lines between rows", h + "\n\n" + good + "\n,,,,,,\n", 1, 0, "", false},
+		{"duplicate key, other values", h + good + "G1,1,2026-01-05,6100,WELD,11.00,ok\n", 1, 1, "duplicate key", false},
+		{"semicolon file", strings.ReplaceAll(h+good, ",", ";"), 1, 0, "", false},
+		{"tab file", strings.ReplaceAll(h+good, ",", "\t"), 1, 0, "", false},
+		{"header only", h, 0, 0, "", false},
+		{"empty file", "", 0, 0, "is empty", true},
+		{"only whitespace", " \n\n ", 0, 0, "is empty", true},
+		{"header without required columns", "a,b,c\n1,2,3\n", 0, 0, "header has no column entry_id, date, account", true},
+		{"binary garbage", "\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", 0, 0, "", true},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			cfg, dir := setup(t, tc.content)
+			if tc.content == "" {
+				if err := os.WriteFile(filepath.Join(dir, "data", "gl", "gl.csv"), nil, 0o600); err != nil {
+					t.Fatal(err)
+				}
+			}
+			out, err := run(t, "--config", cfg, "sync")
+			if tc.fails {
+				if err == nil || !strings.Contains(err.Error(), tc.reason) || strings.Contains(err.Error(), "\n") {
+					t.Fatalf("want one-line error containing %q, got %v\n%s", tc.reason, err, out)
+				}
+			} else if err != nil {
+				t.Fatalf("sync: %v\n%s", err, out)
+			}
+			store := filepath.Join(dir, "costdrift.db")
+			if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != tc.stored {
+				t.Errorf("stored %d rows, want %d", n, tc.stored)
+			}
+			if n := count(t, store, "SELECT COUNT(*) FROM rejects r JOIN sync_runs s ON s.id = r.sync_run_id WHERE s.source = 'gl'"); n != tc.rejected {
+				t.Errorf("rejected %d rows, want %d\n%s", n, tc.rejected, out)
+			}
+			if tc.rejected > 0 && !tc.fails {
+				if n := count(t, store, "SELECT COUNT(*) FROM rejects WHERE instr(reason, '"+tc.reason+"') > 0"); n != 1 {
+					t.Errorf("no reject with reason %q", tc.reason)
+				}
+			}
+			if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND rows_read <> rows_loaded + rows_rejected"); n != 0 && !tc.fails {
+				t.Errorf("rows read do not equal stored plus rejected")
+			}
+		})
+	}
+}
