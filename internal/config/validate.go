@@ -14,7 +14,9 @@ import (
 // SourceKinds lists the kinds of source this build reads, with the roles
 // each can fill. A kind's package registers itself in cmd/costdrift.
 var SourceKinds = map[string][]string{
-	"csv": {"ledger", "activity", "accounts"},
+	"csv":  {"ledger", "activity", "accounts"},
+	"xlsx": {"ledger", "activity", "accounts"},
+	"sql":  {"ledger", "activity", "accounts"},
 }
 
 // Validate checks every key and returns the first problem, naming the key and
