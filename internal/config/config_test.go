@@ -133,11 +133,17 @@ func TestUnknownSourceKind(t *testing.T) {
 }
 
 func TestSQLSourceNeedsDSNOutsideConfig(t *testing.T) {
-	SourceKinds["sql"] = []string{"ledger"}
-	defer delete(SourceKinds, "sql")
 	path := writeConfig(t, "sources:\n  ledger:\n    - {name: erp, kind: sql, driver: postgres, query: SELECT 1}\n")
 	_, err := Load(path)
 	if err == nil || !strings.Contains(err.Error(), "set exactly one of dsn_env or dsn_file") {
+		t.Fatalf("got %v", err)
+	}
+}
+
+func TestAggregatedOnlyForTheLedger(t *testing.T) {
+	path := writeConfig(t, "sources:\n  activity:\n    - {name: erp, kind: sql, driver: postgres, dsn_env: ERP_DSN, aggregated: true, query: SELECT 1}\n")
+	_, err := Load(path)
+	if err == nil || !strings.Contains(err.Error(), "sources.activity[0].aggregated: applies to a ledger source only") {
 		t.Fatalf("got %v", err)
 	}
 }

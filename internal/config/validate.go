@@ -17,6 +17,7 @@ var SourceKinds = map[string][]string{
 	"csv":  {"ledger", "activity", "accounts"},
 	"xlsx": {"ledger", "activity", "accounts"},
 	"sql":  {"ledger", "activity", "accounts"},
+	"saft": {"ledger", "accounts"},
 }
 
 // Validate checks every key and returns the first problem, naming the key and
@@ -77,6 +78,9 @@ func (c *Config) validate() *Error {
 			}
 			if err := validateKind(key, s, bad); err != nil {
 				return err
+			}
+			if s.Aggregated && role.name != "ledger" {
+				return bad(key+".aggregated", "applies to a ledger source only")
 			}
 			switch strings.ToLower(s.Encoding) {
 			case "", "utf-8", "utf8", "windows-1252", "cp1252", "iso-8859-1", "latin1":

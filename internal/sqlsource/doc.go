@@ -1,0 +1,46 @@
+// Package sqlsource reads general-ledger lines, activity (long form) and the
+// chart of accounts from a SQL database through database/sql: PostgreSQL
+// (pgx), MySQL, SQL Server and SQLite.
+//
+// What it owns:
+//
+//   - The query guard. A source query must be exactly one SELECT or WITH
+//     statement. Before anything is sent, comments, string literals and
+//     quoted names are masked out in the driver's own dialect, and the rest
+//     must start with SELECT or WITH, hold no ';' before its end, and contain
+//     none of the words that begin or embed a write (INSERT, UPDATE, DELETE,
+//     MERGE, INTO, CREATE, DROP, EXEC, ...). That last rule is what refuses a
+//     PostgreSQL data-modifying WITH (WITH x AS (DELETE ... RETURNING ...))
+//     and a SQL Server batch that appends a statement without a ';'.
+//   - The read-only transaction. The query runs inside
+//     sql.TxOptions{ReadOnly: true} (PostgreSQL: BEGIN READ ONLY, so the
+//     server refuses a write the guard could not see, such as nextval() or a
+//     function that deletes; MySQL: START TRANSACTION READ ONLY; SQLite:
+//     PRAGMA query_only on the connection). SQL Server's driver has no
+//     read-only transactions, so there the guard and the login's rights are
+//     the protection. Every transaction is rolled back, never committed.
+//   - The timeout: one context deadline over connecting, querying and
+//     streaming (Options.Timeout, 5 minutes by default).
+//   - The connection string. It is read from an environment variable or an
+//     owner-only file (LoadDSN), never from the config, and it never appears
+//     in an error: every driver message is stripped of the connection string
+//     and of its password in each spelling, and errors do not wrap driver
+//     errors (a caller unwrapping would find the raw text again).
+//   - Mapping result columns to canonical ones by name, case-insensitively,
+//     through the source's columns mapping, and converting values: amounts
+//     exactly into minor units, dates from time values or text.
+//   - The watermark: with Options.WatermarkColumn set, the query's
+//     :watermark placeholder is bound to Options.Watermark (NULL on the first
+//     run) and the largest value of that column seen is returned in
+//     Result.Watermark. Keeping it between runs is the caller's job, in the
+//     same transaction as the batch.
+//
+// Rows are streamed (rows.Next) to a costdrift.SourceWriter one at a time, so
+// memory does not grow with the result: that is also why a ledger query must
+// return a line column rather than have lines numbered here. A row that
+// cannot be used becomes a Reject located "<source> row N (key)"; a problem
+// with the whole query (refused, cannot connect, timed out, a required
+// column missing) is a returned error, and the caller keeps nothing.
+//
+// It must not open or write the store, read the config file, or log.
+package sqlsource

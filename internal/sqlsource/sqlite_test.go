@@ -1,0 +1,256 @@
+package sqlsource
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"os"
+	"path/filepath"
+	"reflect"
+	"testing"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// The SQLite tests need no server: a database file in a temporary folder,
+// written here with the same driver and read back through the reader.
+
+// sqliteDB creates a database file with the test ledger and returns its
+// path, which is the whole connection string.
+func sqliteDB(t *testing.T) string {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), "ledger.db")
+	db, err := sql.Open("sqlite3", path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	for _, st := range []string{
+		// posted_on is declared DATE, so the driver returns a time; booked
+		// is text in a local layout. amount is TEXT (exact), amount_real
+		// REAL (a double), amount_cents INTEGER.
+		`CREATE TABLE gl (id INTEGER PRIMARY KEY, entry_id TEXT, line INTEGER, posted_on DATE, booked TEXT,
+			account TEXT, cost_center TEXT, amount TEXT, amount_real REAL, amount_cents INTEGER, changed TEXT)`,
+		`INSERT INTO gl VALUES
+			(1, 'JE-1001', 1, '2025-01-31', '31.01.2025', '6100', 'WELD', '1234.56', 1234.56, 123456, '2025-02-01 08:00:00'),
+			(2, 'JE-1001', 2, '2025-01-31', '31.01.2025', '2100', '', '-1300.00', -1300.0, -130000, '2025-02-01 08:00:00'),
+			(3, 'JE-1001', 3, '2025-01-31', '31.01.2025', '6100', 'WELD', '65.44', 65.44, 6544, '2025-02-01 08:00:00'),
+			(4, 'JE-1002', 1, '2025-02-28', '28.02.2025', '6200', 'PAINT', '0.30', 0.1 + 0.2, 30, '2025-03-01 09:30:00'),
+			(5, 'JE-1002', 2, '2025-02-28', '30.02.2025', '2100', NULL, '-0.30', -0.3, -30, '2025-03-01 09:30:00')`,
+		`CREATE TABLE activity (period TEXT, driver TEXT, cost_center TEXT, value REAL, unit TEXT)`,
+		`INSERT INTO activity VALUES
+			('2025-01', 'machine_hours', 'WELD', 410.5, 'machine hour'),
+			('2025-02-15', 'machine_hours', 'WELD', 395, 'machine hour'),
+			('2025-13', 'machine_hours', 'WELD', 1, 'machine hour'),
+			('2025-03', 'frames_built', NULL, 'many', 'frame')`,
+		`CREATE TABLE chart (konto TEXT, name TEXT, type TEXT, "group" TEXT)`,
+		`INSERT INTO chart VALUES ('6100', 'Energy', 'expense', 'Production overhead'), ('', 'Nobody', NULL, NULL)`,
+	} {
+		if _, err := db.Exec(st); err != nil {
+			t.Fatalf("%s: %v", st, err)
+		}
+	}
+	return path
+}
+
+func sqliteOptions(path, query string) Options {
+	return Options{Source: "books", Driver: "sqlite", DSN: path, DSNOrigin: "dsn_file books.dsn", Query: query,
+		Currency: eur(), Period: monthly, Timeout: 10 * time.Second}
+}
+
+func TestSQLiteLedger(t *testing.T) {
+	path := sqliteDB(t)
+	ctx := context.Background()
+
+	t.Run("text amounts and a DATE column", func(t *testing.T) {
+		rec := &recorder{}
+		res, err := ReadLedger(ctx, sqliteOptions(path, `SELECT entry_id, line, posted_on AS date, account, cost_center, amount FROM gl ORDER BY id`), rec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.Rows != 5 {
+			t.Errorf("read %d rows, want 5", res.Rows)
+		}
+		checkLines(t, rec.lines, []costdrift.LedgerLine{
+			line("books", "JE-1001", 1, "2025-01-31", "6100", "WELD", 123456, ""),
+			line("books", "JE-1001", 2, "2025-01-31", "2100", "", -130000, ""),
+			line("books", "JE-1001", 3, "2025-01-31", "6100", "WELD", 6544, ""),
+			line("books", "JE-1002", 1, "2025-02-28", "6200", "PAINT", 30, ""),
+			line("books", "JE-1002", 2, "2025-02-28", "2100", "", -30, ""),
+		})
+		checkRejects(t, rec.rejects, nil)
+	})
+
+	t.Run("REAL amounts and dates as text in a layout", func(t *testing.T) {
+		opt := sqliteOptions(path, `SELECT entry_id, line, booked, account, amount_real FROM gl ORDER BY id`)
+		opt.Columns = map[string]string{"date": "booked", "amount": "amount_real"}
+		opt.DateLayout = "02.01.2006"
+		rec := &recorder{}
+		if _, err := ReadLedger(ctx, opt, rec); err != nil {
+			t.Fatal(err)
+		}
+		// Row 4 holds the double 0.1 + 0.2; row 5 the date 30.02.2025.
+		checkLines(t, rec.lines, []costdrift.LedgerLine{
+			line("books", "JE-1001", 1, "2025-01-31", "6100", "", 123456, ""),
+			line("books", "JE-1001", 2, "2025-01-31", "2100", "", -130000, ""),
+			line("books", "JE-1001", 3, "2025-01-31", "6100", "", 6544, ""),
+		})
+		checkRejects(t, rec.rejects, []costdrift.Reject{
+			rej("books", "books row 4 (entry JE-1002, line 1)",
+				`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
+				`entry_id="JE-1002", line=1, booked="28.02.2025", account="6200", amount_real=0.30000000000000004`),
+			rej("books", "books row 5 (entry JE-1002, line 2)", `bad date "30.02.2025": want a date, or text as DD.MM.YYYY`,
+				`entry_id="JE-1002", line=2, booked="30.02.2025", account="2100", amount_real=-0.3`),
+		})
+	})
+
+	t.Run("aggregated from integer cents", func(t *testing.T) {
+		// printf writes the exact decimal of a whole number of cents / 100
+		// (well inside the 2^53 range of a double): 1300.00, not a double.
+		opt := sqliteOptions(path, `SELECT strftime('%Y-%m', posted_on) AS period, account, cost_center,
+			printf('%.2f', SUM(amount_cents) / 100.0) AS amount FROM gl GROUP BY 1, 2, 3 ORDER BY 1, 2, 3`)
+		opt.Aggregated = true
+		rec := &recorder{}
+		if _, err := ReadLedger(ctx, opt, rec); err != nil {
+			t.Fatal(err)
+		}
+		// 6100/WELD January: 123456 + 6544 = 130000 cents (by hand).
+		checkLines(t, rec.lines, []costdrift.LedgerLine{
+			sum("books", "2025-01", "2100", "", "2025-01-31", -130000),
+			sum("books", "2025-01", "6100", "WELD", "2025-01-31", 130000),
+			sum("books", "2025-02", "2100", "", "2025-02-28", -30),
+			sum("books", "2025-02", "6200", "PAINT", "2025-02-28", 30),
+		})
+		checkRejects(t, rec.rejects, nil)
+	})
+
+	t.Run("a store error stops the read and comes back as it is", func(t *testing.T) {
+		rec := &recorder{failOn: 2}
+		res, err := ReadLedger(ctx, sqliteOptions(path, `SELECT entry_id, line, posted_on AS date, account, amount FROM gl ORDER BY id`), rec)
+		if err != errWriter || res.Rows != 2 || len(rec.lines) != 1 {
+			t.Errorf("read %d rows, error %v, stored %d lines; want 2, %v, 1", res.Rows, err, len(rec.lines), errWriter)
+		}
+	})
+
+	t.Run("whole-query errors", func(t *testing.T) {
+		tests := []struct{ name, query, want string }{
+			{"no amount", `SELECT entry_id, line, posted_on AS date, account FROM gl`, "neither an amount column nor debit and credit columns"},
+			{"no line", `SELECT entry_id, posted_on AS date, account, amount FROM gl`, "has no column line (found: entry_id, date, account, amount)"},
+			{"two columns answer to one name", `SELECT entry_id, line, posted_on AS date, account, amount, cost_center AS ACCOUNT FROM gl`, "two columns named account"},
+			{"a table that is not there", `SELECT * FROM general_ledger`, "sqlite refused the query: no such table: general_ledger"},
+			{"a write", `DELETE FROM gl`, "query refused: it begins with DELETE"},
+		}
+		for _, tc := range tests {
+			t.Run(tc.name, func(t *testing.T) {
+				rec := &recorder{}
+				_, err := ReadLedger(ctx, sqliteOptions(path, tc.query), rec)
+				wantError(t, err, tc.want)
+				if !rec.empty() {
+					t.Errorf("wrote %+v", rec)
+				}
+			})
+		}
+	})
+}
+
+func TestSQLiteActivityAndAccounts(t *testing.T) {
+	path := sqliteDB(t)
+	ctx := context.Background()
+	rec := &recorder{}
+	if _, err := ReadActivity(ctx, sqliteOptions(path, `SELECT period, driver, cost_center, value, unit FROM activity`), rec); err != nil {
+		t.Fatal(err)
+	}
+	checkActivity(t, rec.activity, []costdrift.ActivityValue{
+		act("books", "2025-01", "machine_hours", "WELD", 410.5, "machine hour"),
+		act("books", "2025-02", "machine_hours", "WELD", 395, "machine hour"),
+	})
+	checkRejects(t, rec.rejects, []costdrift.Reject{
+		rej("books", "books row 3 (driver machine_hours, cost centre WELD)", `bad period "2025-13": want YYYY-MM or a date`,
+			`period="2025-13", driver="machine_hours", cost_center="WELD", value=1, unit="machine hour"`),
+		rej("books", "books row 4 (period 2025-03, driver frames_built)", `bad value "many": not a number`,
+			`period="2025-03", driver="frames_built", cost_center=NULL, value="many", unit="frame"`),
+	})
+
+	opt := sqliteOptions(path, `SELECT konto, name, type, "group" FROM chart`)
+	opt.Columns = map[string]string{"account": "Konto"}
+	rec = &recorder{}
+	if _, err := ReadAccounts(ctx, opt, rec); err != nil {
+		t.Fatal(err)
+	}
+	want := []costdrift.Account{{Source: "books", Account: "6100", Name: "Energy", Type: "expense", Group: "Production overhead"}}
+	if !reflect.DeepEqual(rec.accounts, want) {
+		t.Errorf("accounts %+v, want %+v", rec.accounts, want)
+	}
+	checkRejects(t, rec.rejects, []costdrift.Reject{rej("books", "books row 2", "missing account", `konto="", name="Nobody", type=NULL, group=NULL`)})
+}
+
+func TestSQLiteWatermark(t *testing.T) {
+	path := sqliteDB(t)
+	ctx := context.Background()
+	tests := []struct {
+		name, query, column string
+		first, second       string // watermarks after the first and second read
+		firstRows           int
+	}{
+		// The largest id, 5, and the largest changed text (by hand from
+		// sqliteDB); the second read finds nothing newer and keeps it.
+		{"integer key", `SELECT entry_id, line, posted_on AS date, account, amount, id FROM gl WHERE id > COALESCE(:watermark, 0)`,
+			"id", "5", "5", 5},
+		{"text timestamp", `SELECT entry_id, line, posted_on AS date, account, amount, changed FROM gl WHERE changed > COALESCE(:watermark, '')`,
+			"changed", "2025-03-01 09:30:00", "2025-03-01 09:30:00", 5},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			opt := sqliteOptions(path, tc.query)
+			opt.WatermarkColumn = tc.column
+			res, err := ReadLedger(ctx, opt, &recorder{})
+			if err != nil || res.Rows != tc.firstRows || res.Watermark != tc.first {
+				t.Fatalf("first read: %d rows, watermark %q, error %v; want %d, %q", res.Rows, res.Watermark, err, tc.firstRows, tc.first)
+			}
+			opt.Watermark = res.Watermark
+			res, err = ReadLedger(ctx, opt, &recorder{})
+			if err != nil || res.Rows != 0 || res.Watermark != tc.second {
+				t.Errorf("second read: %d rows, watermark %q, error %v; want 0, %q", res.Rows, res.Watermark, err, tc.second)
+			}
+		})
+	}
+	t.Run("misuse", func(t *testing.T) {
+		opt := sqliteOptions(path, `SELECT entry_id, line, posted_on AS date, account, amount FROM gl`)
+		opt.WatermarkColumn = "id"
+		_, err := ReadLedger(ctx, opt, &recorder{})
+		wantError(t, err, "refresh is watermark but the query does not use :watermark")
+
+		opt.Query = `SELECT entry_id, line, posted_on AS date, account, amount FROM gl WHERE id > COALESCE(:watermark, 0)`
+		_, err = ReadLedger(ctx, opt, &recorder{})
+		wantError(t, err, "the query result has no column id, the watermark_column")
+
+		opt.WatermarkColumn = ""
+		_, err = ReadLedger(ctx, opt, &recorder{})
+		wantError(t, err, "the query uses :watermark but refresh is not watermark")
+	})
+}
+
+func TestSQLiteTimeoutAndMissingFile(t *testing.T) {
+	path := sqliteDB(t)
+	// A recursive count to a billion takes minutes; the deadline stops it.
+	opt := sqliteOptions(path, `WITH RECURSIVE n(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM n WHERE i < 1000000000)
+		SELECT max(i) AS account FROM n`)
+	opt.Timeout = 200 * time.Millisecond
+	start := time.Now()
+	_, err := ReadAccounts(context.Background(), opt, &recorder{})
+	wantError(t, err, "the query did not finish within its timeout of 200ms")
+	if !errors.Is(err, context.DeadlineExceeded) {
+		t.Errorf("errors.Is(%v, context.DeadlineExceeded) is false", err)
+	}
+	if d := time.Since(start); d > 3*time.Second {
+		t.Errorf("took %v to give up, want about 200ms", d)
+	}
+
+	missing := filepath.Join(t.TempDir(), "nope.db")
+	_, err = ReadAccounts(context.Background(), sqliteOptions(missing, "SELECT 1 AS account"), &recorder{})
+	wantError(t, err, "the sqlite database named in dsn_file books.dsn does not exist")
+	if _, err := os.Stat(missing); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("the reader created %s", missing)
+	}
+}
