@@ -3,10 +3,10 @@ GO      ?= go
 VERSION ?= $(shell git describe --tags --always --dirty 2>/dev/null || echo dev)
 LDFLAGS := -X main.version=$(VERSION)
 
-.PHONY: help build test demo lint ci
+.PHONY: help build test demo lint crosscheck bench-sync bench-analyze ci
 
 help: ## list the targets
-	@awk 'BEGIN {FS = ":.*## "} /^[a-z-]+:.*## / {printf "  %-8s %s\n", $$1, $$2}' $(MAKEFILE_LIST)
+	@awk 'BEGIN {FS = ":.*## "} /^[a-z-]+:.*## / {printf "  %-14s %s\n", $$1, $$2}' $(MAKEFILE_LIST)
 
 build: ## build bin/costdrift
 	$(GO) build -ldflags "$(LDFLAGS)" -o bin/costdrift ./cmd/costdrift
@@ -20,6 +20,12 @@ demo: build ## an invented company's books synced, analysed and reported (in cos
 lint: ## gofmt and go vet
 	@unformatted=$$(gofmt -l cmd internal migrations); if [ -n "$$unformatted" ]; then echo "gofmt needed: $$unformatted"; exit 1; fi
 	$(GO) vet ./...
+
+crosscheck: ## regenerate the statsmodels/SciPy/R check values, compare with the committed ones, run the Go checks
+	bash scripts/crosscheck/run.sh
+
+bench-sync: ## sync of a 1,000,000-line ledger against the sqlite3 shell's .import, side by side
+	bash scripts/bench-sync.sh 1000000
 
 ci: ## what CI runs: lint, test, demo
 	bash .ci/run

@@ -47,3 +47,46 @@ func ExampleHighLowEstimate() {
 	// Output:
 	// periods 1 and 3: variable 10.00 per hour, fixed 4000.00
 }
+
+// Supervision cost of a workshop against machine hours (invented figures): one
+// supervisor below about 1 000 hours a month, two above. Step finds the
+// levels and their activity ranges; with 12 months, 2 levels (AICc counts 2
+// means, 1 breakpoint and the variance) beat 3. By hand: the low months
+// deviate from 4 005 by (15, −15, 5, −25, −5, 25), 1 750 in squares; the
+// high ones from 8 013.33 by 3 333.33 in squares; RSS = 5 083.33.
+func ExampleStep() {
+	hours := []float64{620, 1180, 710, 1320, 880, 1250, 940, 1400, 760, 1090, 830, 1210}
+	cost := []float64{4020, 8010, 3990, 8050, 4010, 7980, 3980, 8030, 4000, 7990, 4030, 8020}
+
+	s, err := fit.Step(hours, cost, 3, 3)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	best := s.Models[s.Best]
+	for _, l := range best.Levels {
+		fmt.Printf("%.0f to %.0f hours: %.2f a month (%d months)\n", l.From, l.To, l.Mean, l.N)
+	}
+	fmt.Printf("levels %d, RSS %.1f\n", len(best.Levels), best.RSS)
+	// Output:
+	// 620 to 940 hours: 4005.00 a month (6 months)
+	// 1090 to 1400 hours: 8013.33 a month (6 months)
+	// levels 2, RSS 5083.3
+}
+
+// The 95 % prediction interval of next month's cost at a planned activity,
+// for the machine-shop figures of ExampleLine.
+func ExampleRegression_PredictionInterval() {
+	hours := []float64{100, 120, 140, 160, 180}
+	cost := []float64{2600, 2950, 3200, 3500, 3850}
+
+	r, err := fit.Line(hours, cost)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	low, high := r.PredictionInterval([]float64{150}, 0.95)
+	fmt.Printf("at 150 hours: %.2f to %.2f\n", low, high)
+	// Output:
+	// at 150 hours: 3265.86 to 3479.14
+}
