@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"database/sql"
 	"encoding/json"
 	"os"
@@ -13,6 +14,7 @@ import (
 	_ "github.com/mattn/go-sqlite3"
 
 	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
 // today is the injected clock: every demo period (2023-07 to 2026-06) is closed.
@@ -64,11 +66,13 @@ type reportRow struct {
 	RangeMax   *float64 `json:"range_max"`
 	R2         *float64 `json:"r2"`
 	CostCenter string   `json:"cost_center"`
+	Steps      []struct {
+		Level float64 `json:"level"`
+	} `json:"steps"`
 }
 
 // Ground truth on invented data: every demo cost designed without a drift
-// event is recovered with its class, driver and lag. Until the step model
-// exists, a step cost may show as mixed or variable on its driver.
+// event is recovered with its class, driver and lag.
 func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 	dir := t.TempDir()
 	out := mustRun(t, "demo", "--dir", dir)
@@ -100,8 +104,7 @@ func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 		if r.Driver != nil {
 			driver = *r.Driver
 		}
-		classOK := r.Class == x.Class || (x.Class == "step" && (r.Class == "mixed" || r.Class == "variable"))
-		if !classOK || driver != x.Driver {
+		if r.Class != x.Class || driver != x.Driver {
 			t.Errorf("%s %s: designed %s on %q, found %s on %q", obj, x.AccountName, x.Class, x.Driver, r.Class, driver)
 			continue
 		}
@@ -111,6 +114,17 @@ func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 		// Designed formulas are recovered within the noise for variable costs.
 		if x.Class == "variable" && r.Class == "variable" && (r.Rate == nil || abs(*r.Rate-x.Rate) > 0.03*x.Rate) {
 			t.Errorf("%s: designed rate %.2f, found %v", obj, x.Rate, *r.Rate)
+		}
+		if x.Class == "step" {
+			if len(r.Steps) != len(x.Steps) {
+				t.Errorf("%s: designed %d levels, found %d", obj, len(x.Steps), len(r.Steps))
+			} else {
+				for i := range x.Steps {
+					if abs(r.Steps[i].Level-x.Steps[i].Level) > 0.02*x.Steps[i].Level {
+						t.Errorf("%s: level %d designed %.2f, found %.2f", obj, i+1, x.Steps[i].Level, r.Steps[i].Level)
+					}
+				}
+			}
 		}
 		if x.Class == "fixed" && (r.Fixed == nil || abs(*r.Fixed-x.Fixed) > 0.01*x.Fixed) {
 			t.Errorf("%s: designed fixed %.2f, found %v", obj, x.Fixed, *r.Fixed)
@@ -311,7 +325,7 @@ func TestReportBeforeSync(t *testing.T) {
 
 func TestVersion(t *testing.T) {
 	out := mustRun(t, "version")
-	if !strings.HasPrefix(out, "costdrift dev (store schema 2, go") {
+	if want := fmt.Sprintf("costdrift dev (store schema %d, go", sqlite.SchemaVersion()); !strings.HasPrefix(out, want) {
 		t.Errorf("version = %q", out)
 	}
 }

@@ -50,7 +50,7 @@ type candidate struct {
 	rangeMin   float64
 	rangeMax   float64
 	rank       int
-	originFits int
+	stepIdx    int // index into Result.Fits of its step fit
 }
 
 // Object analyses one cost object of the panel.

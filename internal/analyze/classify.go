@@ -21,6 +21,12 @@ import (
 //     cost = b·x; a variable share below MinorShare: fixed; otherwise
 //     mixed, cost = a + b·x.
 //
+//   - step: on the best-ranked drivers, a step model (2–4 levels rising in
+//     the driver, each at least 3 periods) that beats the line on the same
+//     data by ΔAICc >= StepMinDeltaAICc; the formula is its levels;
+//   - a second driver, by forward selection (forwardSelect), joins the
+//     formula and the shares are taken over both drivers.
+//
 // A significant negative slope is reported in the reason and never used.
 func classify(res *Result, cands, ranked []*candidate, y []float64, periods []string, s Settings) {
 	b := &res.Behaviour
@@ -35,11 +41,17 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	if implausible > 0 {
 		note = fmt.Sprintf("; %d significant negative slope(s) ignored as implausible", implausible)
 	}
+	diag := &costdrift.Diagnostics{Candidates: len(cands)}
+	constantFit := res.Fits[0]
+	diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelConstant, N: constantFit.N,
+		AICc: constantFit.AICc, PRESS: constantFit.PRESS, R2: 0})
 
 	if len(ranked) == 0 {
 		b.R2 = math.NaN()
 		b.FixedPerPeriod = b.MeanCost
 		res.Fits[0].Chosen = true
+		b.Diagnostics = diag
+		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
 		if b.CV <= FixedMaxCV {
 			b.Class = costdrift.Fixed
 			b.Reason = fmt.Sprintf("no driver explains it (%s, Holm-corrected at %g) and it varies %.1f %% around its mean (at most %.0f %%)%s",
@@ -52,15 +64,40 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		return
 	}
 
-	best := ranked[0]
-	lin := best.linear
-	a, slope := lin.Coef[0], lin.Coef[1]
-	level := a + slope*best.meanX
-	fixedShare, variableShare := a/level, slope*best.meanX/level
-	interceptP := lin.P[0]
-	label := driverLabel(best)
-	evidence := fmt.Sprintf("R² %.2f, slope %s after correction, n %d", lin.R2, pText(best.adjustedP), lin.N)
+	// Step models on the best-ranked drivers: a step beats the line on the
+	// same data by ΔAICc >= StepMinDeltaAICc, with levels rising in the driver.
+	var stepCand *candidate
+	var stepBest *stepFit
+	for i, c := range ranked {
+		if i == StepCandidates {
+			break
+		}
+		sf := fitStep(c)
+		if sf == nil {
+			continue
+		}
+		res.Fits = append(res.Fits, stepRecord(b.Object, c, sf))
+		if i == 0 {
+			diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelStep, Driver: c.driver.Name, Lag: c.lag,
+				N: len(c.x), AICc: sf.model.AICc, PRESS: sf.press, R2: sf.r2})
+		}
+		if sf.rising && c.linear.AICc-sf.model.AICc >= StepMinDeltaAICc && (stepBest == nil || sf.model.AICc < stepBest.model.AICc) {
+			stepCand, stepBest = c, sf
+			c.stepIdx = len(res.Fits) - 1
+		}
+	}
 
+	best := ranked[0]
+	if stepCand != nil {
+		best = stepCand
+	}
+	lin := best.linear
+	diag.Models = append(diag.Models,
+		costdrift.ModelSummary{Model: costdrift.ModelLinear, Driver: best.driver.Name, Lag: best.lag, N: lin.N, AICc: lin.AICc, PRESS: lin.PRESS, R2: lin.R2})
+	if best.origin != nil {
+		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelProportional, Driver: best.driver.Name, Lag: best.lag,
+			N: best.origin.N, AICc: best.origin.AICc, PRESS: best.origin.PRESS, R2: best.origin.R2})
+	}
 	b.Driver = best.driver.Name
 	b.Unit = best.driver.Unit
 	b.Lag = best.lag
@@ -69,16 +106,78 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	b.RangeMin, b.RangeMax = best.rangeMin, best.rangeMax
 	b.Since, b.Until = best.periods[0], best.periods[len(best.periods)-1]
 	b.HighLow = highLow(best)
+	b.Diagnostics = diag
+	label := driverLabel(best)
+
+	if stepCand != nil {
+		m := stepBest.model
+		b.Class = costdrift.Step
+		b.R2 = stepBest.r2
+		for _, l := range m.Levels {
+			b.Steps = append(b.Steps, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
+		}
+		b.FixedPerPeriod = m.Levels[0].Mean
+		chosen := &res.Fits[best.stepIdx]
+		chosen.Chosen = true
+		diagnose(chosen, lin, [][]float64{best.x}, best.y, best.periods, diag)
+		chosen.DurbinWatson = fit.DurbinWatson(m.Residuals)
+		diag.DurbinWatson = chosen.DurbinWatson
+		b.Outliers = chosen.Outliers
+		b.Reason = fmt.Sprintf("cost steps up with %s: %d levels (AICc %.1f below the straight line's, R² %.2f, n %d)%s",
+			label, len(m.Levels), lin.AICc-m.AICc, stepBest.r2, len(best.x), note)
+		return
+	}
+
+	// A second driver, by forward selection.
+	pair, secondTried := forwardSelect(best, cands, s)
+	if secondTried > 0 && pair != nil {
+		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelTwoDriver, Driver: best.driver.Name + " + " + pair.c.driver.Name,
+			Lag: best.lag, N: pair.full.N, AICc: pair.full.AICc, PRESS: pair.full.PRESS, R2: pair.full.R2})
+	}
+
+	var a, slope, slope2, level, fixedShare, variableShare, interceptP float64
+	var chosenReg *fit.Regression
+	var columns [][]float64
+	var ys []float64
+	var obsPeriods []string
+	evidence := fmt.Sprintf("R² %.2f, slope %s after correction, n %d", lin.R2, pText(best.adjustedP), lin.N)
+	if pair != nil {
+		r := pair.full
+		a, slope, slope2 = r.Coef[0], r.Coef[1], r.Coef[2]
+		m1, m2 := meanOf(pair.x1), meanOf(pair.x2)
+		level = a + slope*m1 + slope2*m2
+		fixedShare, variableShare = a/level, (slope*m1+slope2*m2)/level
+		interceptP = r.P[0]
+		chosenReg, columns, ys, obsPeriods = r, [][]float64{pair.x1, pair.x2}, pair.y, pair.periods
+		b.Driver2, b.Unit2, b.Lag2 = pair.c.driver.Name, pair.c.driver.Unit, pair.c.lag
+		b.R2, b.N = r.R2, r.N
+		label += " and " + driverLabel(pair.c)
+		evidence = fmt.Sprintf("R² %.2f with both, second driver partial F %s after correction, VIF %.1f, n %d", r.R2, pText(pair.partialP*float64(secondTried)), pair.vif, r.N)
+		res.Fits = append(res.Fits, twoDriverRecord(b.Object, best, pair))
+	} else {
+		a, slope = lin.Coef[0], lin.Coef[1]
+		level = a + slope*best.meanX
+		fixedShare, variableShare = a/level, slope*best.meanX/level
+		interceptP = lin.P[0]
+		chosenReg, columns, ys, obsPeriods = lin, [][]float64{best.x}, best.y, best.periods
+	}
+	chosenIdx := best.linearIdx
+	if pair != nil {
+		chosenIdx = len(res.Fits) - 1
+	}
 
 	switch {
 	case interceptP >= s.Alpha || fixedShare < MinorShare:
 		b.Class = costdrift.Variable
-		if best.origin != nil {
+		b.VariableRate = slope
+		b.VariableRate2 = slope2
+		if pair != nil {
+			if r, err := fit.OLS(columns, ys, false); err == nil {
+				b.VariableRate, b.VariableRate2 = r.Coef[0], r.Coef[1]
+			}
+		} else if best.origin != nil {
 			b.VariableRate = best.origin.Coef[0]
-			res.Fits[best.linearIdx+1].Chosen = true
-		} else {
-			b.VariableRate = slope
-			res.Fits[best.linearIdx].Chosen = true
+			chosenIdx = best.linearIdx + 1
 		}
 		why := fmt.Sprintf("fixed part not significant (%s)", pText(interceptP))
 		if interceptP < s.Alpha {
@@ -88,18 +187,28 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	case variableShare < MinorShare:
 		b.Class = costdrift.Fixed
 		b.Driver, b.Unit, b.Lag = "", "", 0
+		b.Driver2, b.Unit2, b.Lag2 = "", "", 0
 		b.R2 = math.NaN()
 		b.FixedPerPeriod = b.MeanCost
 		b.RangeMin, b.RangeMax = 0, 0
+		b.HighLow = nil
 		res.Fits[0].Chosen = true
+		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
 		b.Reason = fmt.Sprintf("%s is significant (%s) but drives only %.1f %% of cost at mean activity (below %.0f %%); treated as fixed%s",
 			label, evidence, 100*variableShare, 100*MinorShare, note)
+		return
 	default:
 		b.Class = costdrift.Mixed
-		b.FixedPerPeriod, b.VariableRate = a, slope
-		res.Fits[best.linearIdx].Chosen = true
+		b.FixedPerPeriod, b.VariableRate, b.VariableRate2 = a, slope, slope2
 		b.Reason = fmt.Sprintf("cost moves with %s (%s) above a significant fixed part (%s), %.0f %% fixed at mean activity%s",
 			label, evidence, pText(interceptP), 100*fixedShare, note)
+	}
+	chosen := &res.Fits[chosenIdx]
+	chosen.Chosen = true
+	diagnose(chosen, chosenReg, columns, ys, obsPeriods, diag)
+	b.Outliers = chosen.Outliers
+	if diag.RobustNote != "" {
+		b.Reason += "; robust fit disagrees (see explain)"
 	}
 }
 

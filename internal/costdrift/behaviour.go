@@ -20,7 +20,38 @@ const (
 	ModelLinear       Model = "linear"       // cost = a + b·driver
 	ModelProportional Model = "proportional" // cost = b·driver
 	ModelStep         Model = "step"         // cost = level(driver)
+	ModelTwoDriver    Model = "two_driver"   // cost = a + b·driver + b2·driver2
 )
+
+// Outlier is a period whose cost the fit explains badly or that sways it:
+// Cook's distance above 4/n.
+type Outlier struct {
+	Period      string  `json:"period"`
+	CooksD      float64 `json:"cooks_d"`
+	Studentised float64 `json:"studentised"`
+}
+
+// ModelSummary is one line of the model comparison for the chosen driver.
+type ModelSummary struct {
+	Model  Model   `json:"model"`
+	Driver string  `json:"driver,omitempty"`
+	Lag    int     `json:"lag"`
+	N      int     `json:"n"`
+	AICc   float64 `json:"aicc"`
+	PRESS  float64 `json:"press"`
+	R2     float64 `json:"r2"`
+}
+
+// Diagnostics back the chosen formula: the model comparison, the residuals'
+// autocorrelation and a robust fit beside least squares.
+type Diagnostics struct {
+	Models          []ModelSummary `json:"models"`
+	DurbinWatson    float64        `json:"durbin_watson"`
+	RobustIntercept float64        `json:"robust_intercept"`
+	RobustSlope     float64        `json:"robust_slope"`
+	RobustNote      string         `json:"robust_note,omitempty"`
+	Candidates      int            `json:"candidates"`
+}
 
 // Fit is one candidate model of one cost object against one driver and lag,
 // with the statistics that rank and classify it. Money is in currency units.
@@ -48,20 +79,37 @@ type Fit struct {
 	Implausible     bool // a significant negative slope: reported, never used
 	Chosen          bool // the fit the behaviour is based on
 	PlausibleRanked int  // rank by PRESS among significant plausible fits; 0 when unranked
+
+	Levels []StepLevel // model step: the levels
+
+	// Model two_driver: the second driver and its coefficient, tested by
+	// partial F, and the variance inflation of the pair.
+	Driver2  string
+	Lag2     int
+	Slope2   float64
+	Slope2SE float64
+	Slope2P  float64
+	VIF      float64
+
+	// Diagnostics, filled on the chosen fit.
+	DurbinWatson    float64
+	RobustIntercept float64
+	RobustSlope     float64
+	Outliers        []Outlier
 }
 
 // HighLow is the high-low estimate beside the regression: the line through the
 // periods of highest and lowest activity.
 type HighLow struct {
-	HighPeriod   string
-	LowPeriod    string
-	HighActivity float64
-	LowActivity  float64
-	HighCost     float64
-	LowCost      float64
-	Fixed        float64
-	Rate         float64
-	Warning      string // set when either end is an outlier of the regression
+	HighPeriod   string  `json:"high_period"`
+	LowPeriod    string  `json:"low_period"`
+	HighActivity float64 `json:"high_activity"`
+	LowActivity  float64 `json:"low_activity"`
+	HighCost     float64 `json:"high_cost"`
+	LowCost      float64 `json:"low_cost"`
+	Fixed        float64 `json:"fixed"`
+	Rate         float64 `json:"rate"`
+	Warning      string  `json:"warning,omitempty"` // set when either end is an outlier of the regression
 }
 
 // StepLevel is one level of a step-fixed cost: Level applies to driver values
@@ -70,6 +118,7 @@ type StepLevel struct {
 	From  float64 `json:"from"`
 	To    float64 `json:"to"`
 	Level float64 `json:"level"`
+	N     int     `json:"n,omitempty"` // periods at this level
 }
 
 // Behaviour is the classified behaviour of one cost object: its class, driver
@@ -94,4 +143,14 @@ type Behaviour struct {
 	HighLow        *HighLow
 	CV             float64 // coefficient of variation of the cost over the window
 	MeanCost       float64
+
+	// A second driver, when forward selection adopted one:
+	// cost = fixed + rate·driver + rate2·driver2.
+	Driver2       string
+	Unit2         string
+	Lag2          int
+	VariableRate2 float64
+
+	Outliers    []Outlier
+	Diagnostics *Diagnostics
 }

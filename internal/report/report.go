@@ -40,6 +40,14 @@ type Row struct {
 	Reason      string             `json:"reason"`
 	Until       string             `json:"until"`
 	HighLow     *costdrift.HighLow `json:"high_low"`
+
+	// A second driver, when the formula has one.
+	Driver2       *string  `json:"driver2"`
+	Lag2          *int     `json:"lag2"`
+	VariableRate2 *float64 `json:"variable_rate2"`
+	Unit2         string   `json:"unit2,omitempty"`
+	// Periods whose Cook's distance exceeds 4/n in the chosen fit.
+	Outliers []string `json:"outliers"`
 }
 
 // Rows turns behaviours into report rows.
@@ -54,6 +62,14 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 		}
 		if r.Steps == nil {
 			r.Steps = []costdrift.StepLevel{}
+		}
+		r.Outliers = []string{}
+		for _, o := range b.Outliers {
+			r.Outliers = append(r.Outliers, o.Period)
+		}
+		if b.Driver2 != "" {
+			d2, lag2 := b.Driver2, b.Lag2
+			r.Driver2, r.Lag2, r.VariableRate2, r.Unit2 = &d2, &lag2, ptr(round(b.VariableRate2, 6)), b.Unit2
 		}
 		if b.Driver != "" {
 			d, lag := b.Driver, b.Lag
@@ -115,11 +131,17 @@ func Table(w io.Writer, rows []Row, currency string) error {
 // Formula writes a behaviour's cost formula out in words:
 // "cost = 4,210.00 + 1.87 per machine hour".
 func Formula(b costdrift.Behaviour) string {
-	per := "per " + unitName(b)
-	if b.Lag == 1 {
-		per += " of the period before"
-	} else if b.Lag > 1 {
-		per += fmt.Sprintf(" of %d periods before", b.Lag)
+	per := "per " + unitName(b) + lagText(b.Lag)
+	if b.Driver2 != "" {
+		unit2 := b.Unit2
+		if unit2 == "" {
+			unit2 = "unit of " + strings.ReplaceAll(b.Driver2, "_", " ")
+		}
+		sign, rate := "+", b.VariableRate2
+		if rate < 0 {
+			sign, rate = "-", -rate
+		}
+		per += fmt.Sprintf(" %s %s per %s%s", sign, Number(rate, rateDecimals(rate)), unit2, lagText(b.Lag2))
 	}
 	switch b.Class {
 	case costdrift.Fixed:
@@ -135,14 +157,24 @@ func Formula(b costdrift.Behaviour) string {
 	case costdrift.Step:
 		parts := make([]string, len(b.Steps))
 		for i, s := range b.Steps {
-			parts[i] = fmt.Sprintf("%s from %s", Number(s.Level, 2), Number(s.From, 0))
+			parts[i] = fmt.Sprintf("%s at %s–%s", Number(s.Level, 2), Number(s.From, 0), Number(s.To, 0))
 		}
-		return "cost = " + strings.Join(parts, "; ") + " " + unitName(b)
+		return "cost = " + strings.Join(parts, " | ") + " " + unitName(b) + lagText(b.Lag)
 	case costdrift.Unexplained:
 		return "mean " + Number(b.MeanCost, 2) + " (no formula)"
 	default:
 		return "-"
 	}
+}
+
+func lagText(lag int) string {
+	switch {
+	case lag == 1:
+		return " of the period before"
+	case lag > 1:
+		return fmt.Sprintf(" of %d periods before", lag)
+	}
+	return ""
 }
 
 func unitName(b costdrift.Behaviour) string {

@@ -48,6 +48,12 @@ func TestFormula(t *testing.T) {
 		{"small rate", costdrift.Behaviour{Class: costdrift.Variable, Driver: "kwh", Unit: "kWh", VariableRate: 0.2125},
 			"cost = 0.2125 per kWh"},
 		{"fixed", costdrift.Behaviour{Class: costdrift.Fixed, FixedPerPeriod: 4200}, "cost = 4,200.00"},
+		{"step", costdrift.Behaviour{Class: costdrift.Step, Driver: "frames_built", Unit: "frame", Steps: []costdrift.StepLevel{
+			{From: 681, To: 999, Level: 6000}, {From: 1032, To: 1399, Level: 9000}, {From: 1412, To: 1669, Level: 12000}}},
+			"cost = 6,000.00 at 681–999 | 9,000.00 at 1,032–1,399 | 12,000.00 at 1,412–1,669 frame"},
+		{"two drivers", costdrift.Behaviour{Class: costdrift.Mixed, Driver: "machine_hours", Unit: "machine hour", FixedPerPeriod: 1000, VariableRate: 2,
+			Driver2: "orders", Unit2: "order", Lag2: 1, VariableRate2: 0.5},
+			"cost = 1,000.00 + 2.00 per machine hour + 0.5000 per order of the period before"},
 		{"unexplained", costdrift.Behaviour{Class: costdrift.Unexplained, MeanCost: 2367.07}, "mean 2,367.07 (no formula)"},
 		{"insufficient", costdrift.Behaviour{Class: costdrift.InsufficientData}, "-"},
 	}

@@ -99,8 +99,9 @@ func (db *DB) SaveAnalysis(ctx context.Context, run *costdrift.AnalysisRun, fits
 func insertFits(ctx context.Context, tx *sql.Tx, runID int64, fits []costdrift.Fit) error {
 	stmt, err := tx.PrepareContext(ctx, `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
 		intercept, intercept_se, intercept_p, slope, slope_se, slope_t, slope_p, slope_adjusted_p, r2, residual_se, press, aicc,
-		range_min, range_max, significant, implausible, chosen, rank)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
+		range_min, range_max, significant, implausible, chosen, rank,
+		levels, driver2, lag2, slope2, slope2_se, slope2_p, vif, durbin_watson, robust_intercept, robust_slope, outliers)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
 	if err != nil {
 		return err
 	}
@@ -113,12 +114,49 @@ func insertFits(ctx context.Context, tx *sql.Tx, runID int64, fits []costdrift.F
 		_, err := stmt.ExecContext(ctx, runID, f.Object.String(), f.Object.Account, f.Object.CostCenter, f.Driver, f.Lag, string(f.Model), f.N,
 			num(f.Intercept), num(f.InterceptSE), num(f.InterceptP), num(f.Slope), num(f.SlopeSE), num(f.SlopeT), num(f.SlopeP),
 			num(f.SlopeAdjustedP), num(f.R2), num(f.ResidualSE), num(f.PRESS), num(f.AICc), num(f.RangeMin), num(f.RangeMax),
-			f.Significant, f.Implausible, f.Chosen, rank)
+			f.Significant, f.Implausible, f.Chosen, rank,
+			jsonOrNull(f.Levels), nullString(f.Driver2), lag2(f), num2(f, f.Slope2), num2(f, f.Slope2SE), num2(f, f.Slope2P), num2(f, f.VIF),
+			diagNum(f, f.DurbinWatson), diagNum(f, f.RobustIntercept), diagNum(f, f.RobustSlope), jsonOrNull(f.Outliers))
 		if err != nil {
 			return fmt.Errorf("save fit %s %s lag %d %s: %w", f.Object, f.Driver, f.Lag, f.Model, err)
 		}
 	}
 	return nil
+}
+
+// jsonOrNull stores an empty list as NULL and anything else as JSON.
+func jsonOrNull[T any](v []T) any {
+	if len(v) == 0 {
+		return nil
+	}
+	j, err := json.Marshal(v)
+	if err != nil {
+		return nil
+	}
+	return string(j)
+}
+
+func lag2(f costdrift.Fit) any {
+	if f.Driver2 == "" {
+		return nil
+	}
+	return f.Lag2
+}
+
+// num2 stores a second-driver number only on two-driver fits.
+func num2(f costdrift.Fit, v float64) any {
+	if f.Driver2 == "" {
+		return nil
+	}
+	return num(v)
+}
+
+// diagNum stores diagnostics only on the chosen fit, where they were computed.
+func diagNum(f costdrift.Fit, v float64) any {
+	if !f.Chosen {
+		return nil
+	}
+	return num(v)
 }
 
 func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour) error {
@@ -144,13 +182,27 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *
 	}
 	hasDriver := b.Driver != ""
 	sameLag := (!hasDriver && !lag.Valid) || (hasDriver && lag.Valid && int(lag.Int64) == b.Lag)
+	diagnostics := ""
+	if b.Diagnostics != nil {
+		j, err := json.Marshal(toDiagnosticsJSON(*b.Diagnostics))
+		if err != nil {
+			return fmt.Errorf("diagnostics: %w", err)
+		}
+		diagnostics = string(j)
+	}
+	var lag2 any
+	if b.Driver2 != "" {
+		lag2 = b.Lag2
+	}
 	values := []any{string(b.Class), nullString(b.Driver), nullString(b.Unit), lagValue(b), num(b.FixedPerPeriod), num(b.VariableRate),
 		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
-		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow)}
+		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
+		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics)}
 	if id != 0 && class == string(b.Class) && driver == b.Driver && sameLag {
 		_, err := tx.ExecContext(ctx, `UPDATE behaviour_history SET class = ?, driver = ?, unit = ?, lag = ?, fixed_per_period = ?,
 			variable_rate = ?, r2 = ?, n = ?, range_min = ?, range_max = ?, since = ?, until = ?, steps = ?, reason = ?,
-			mean_cost = ?, cv = ?, high_low = ?, last_run_id = ? WHERE id = ?`, append(values, runID, id)...)
+			mean_cost = ?, cv = ?, high_low = ?, driver2 = ?, unit2 = ?, lag2 = ?, variable_rate2 = ?, outliers = ?, diagnostics = ?,
+			last_run_id = ? WHERE id = ?`, append(values, runID, id)...)
 		return err
 	}
 	if id != 0 {
@@ -159,8 +211,9 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *
 		}
 	}
 	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (class, driver, unit, lag, fixed_per_period, variable_rate, r2, n,
-		range_min, range_max, since, until, steps, reason, mean_cost, cv, high_low, object, account, cost_center,
-		first_run_id, last_run_id, valid_from_run_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		range_min, range_max, since, until, steps, reason, mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics,
+		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
 		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now)...)
 	return err
 }
@@ -169,7 +222,8 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *
 func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, error) {
 	rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
-		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, '')
+		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
+		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, '')
 		FROM current_behaviour ORDER BY account, cost_center`)
 	if err != nil {
 		return nil, err
@@ -181,9 +235,26 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		var class, steps, highLow string
 		var lag sql.NullInt64
 		var fixed, rate, r2, lo, hi, mean, cv sql.NullFloat64
+		var outliers, diagnostics string
+		var lag2 sql.NullInt64
+		var rate2 sql.NullFloat64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
-			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow); err != nil {
+			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics); err != nil {
 			return nil, err
+		}
+		b.Lag2, b.VariableRate2 = int(lag2.Int64), rate2.Float64
+		if outliers != "" {
+			if err := json.Unmarshal([]byte(outliers), &b.Outliers); err != nil {
+				return nil, fmt.Errorf("behaviour %s: outliers: %w", b.Object, err)
+			}
+		}
+		if diagnostics != "" {
+			var d diagnosticsJSON
+			if err := json.Unmarshal([]byte(diagnostics), &d); err != nil {
+				return nil, fmt.Errorf("behaviour %s: diagnostics: %w", b.Object, err)
+			}
+			b.Diagnostics = d.domain()
 		}
 		b.Class = costdrift.Class(class)
 		b.Lag = int(lag.Int64)
@@ -205,6 +276,68 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		out = append(out, b)
 	}
 	return out, rows.Err()
+}
+
+// diagnosticsJSON is the stored form of costdrift.Diagnostics: unknown
+// numbers (NaN) are null, since JSON has no NaN.
+type diagnosticsJSON struct {
+	Models          []modelJSON `json:"models"`
+	DurbinWatson    *float64    `json:"durbin_watson"`
+	RobustIntercept *float64    `json:"robust_intercept"`
+	RobustSlope     *float64    `json:"robust_slope"`
+	RobustNote      string      `json:"robust_note,omitempty"`
+	Candidates      int         `json:"candidates"`
+}
+
+type modelJSON struct {
+	Model  string   `json:"model"`
+	Driver string   `json:"driver,omitempty"`
+	Lag    int      `json:"lag"`
+	N      int      `json:"n"`
+	AICc   *float64 `json:"aicc"`
+	PRESS  *float64 `json:"press"`
+	R2     *float64 `json:"r2"`
+}
+
+func finite(v float64) *float64 {
+	if v != v || v > 1e308 || v < -1e308 {
+		return nil
+	}
+	return &v
+}
+
+func value(p *float64) float64 {
+	if p == nil {
+		return math.NaN()
+	}
+	return *p
+}
+
+func toDiagnosticsJSON(d costdrift.Diagnostics) diagnosticsJSON {
+	out := diagnosticsJSON{DurbinWatson: finite(d.DurbinWatson), RobustIntercept: finite(d.RobustIntercept),
+		RobustSlope: finite(d.RobustSlope), RobustNote: d.RobustNote, Candidates: d.Candidates}
+	for _, m := range d.Models {
+		out.Models = append(out.Models, modelJSON{Model: string(m.Model), Driver: m.Driver, Lag: m.Lag, N: m.N,
+			AICc: finite(m.AICc), PRESS: finite(m.PRESS), R2: finite(m.R2)})
+	}
+	return out
+}
+
+func (d diagnosticsJSON) domain() *costdrift.Diagnostics {
+	out := &costdrift.Diagnostics{DurbinWatson: value(d.DurbinWatson), RobustIntercept: value(d.RobustIntercept),
+		RobustSlope: value(d.RobustSlope), RobustNote: d.RobustNote, Candidates: d.Candidates}
+	for _, m := range d.Models {
+		out.Models = append(out.Models, costdrift.ModelSummary{Model: costdrift.Model(m.Model), Driver: m.Driver, Lag: m.Lag, N: m.N,
+			AICc: value(m.AICc), PRESS: value(m.PRESS), R2: value(m.R2)})
+	}
+	return out
+}
+
+func rate2(b *costdrift.Behaviour) any {
+	if b.Driver2 == "" {
+		return nil
+	}
+	return num(b.VariableRate2)
 }
 
 // highLowJSON fixes the JSON names of the high-low column.

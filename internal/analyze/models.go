@@ -1,0 +1,223 @@
+package analyze
+
+import (
+	"math"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/fit"
+)
+
+// Step model settings (PRODUCT §5): 2 to 4 levels, each at least 3 periods.
+// A step model must beat the straight line on the same data by at least
+// StepMinDeltaAICc, a difference conventionally read as "considerably less
+// support" for the worse model (Burnham & Anderson 2002, from memory).
+const (
+	StepMaxLevels    = 4
+	StepMinPerLevel  = 3
+	StepMinDeltaAICc = 4.0
+	// StepCandidates is how many of the best-ranked drivers get a step
+	// fit: a step cost whose levels rise with its driver always correlates
+	// with it, so it is among the significant drivers.
+	StepCandidates = 3
+	// MaxVIF is the largest variance inflation a second driver may bring.
+	MaxVIF = 5.0
+)
+
+// stepFit is the best step model of a candidate.
+type stepFit struct {
+	model  fit.StepModel
+	r2     float64
+	press  float64
+	rising bool
+}
+
+// fitStep fits the step model on a candidate's data.
+func fitStep(c *candidate) *stepFit {
+	sf, err := fit.Step(c.x, c.y, StepMaxLevels, StepMinPerLevel)
+	if err != nil {
+		return nil
+	}
+	// The lowest-AICc model whose levels rise with the driver: a split of
+	// one flat level into two nearly equal ones can win on AICc by noise
+	// while not rising, and must not hide the rising model below it.
+	best := -1
+	for i, m := range sf.Models {
+		if rising(m) && (best < 0 || m.AICc < sf.Models[best].AICc) {
+			best = i
+		}
+	}
+	if best < 0 {
+		best = sf.Best
+	}
+	m := sf.Models[best]
+	tss := 0.0
+	mean := meanOf(c.y)
+	for _, v := range c.y {
+		tss += (v - mean) * (v - mean)
+	}
+	out := &stepFit{model: m, rising: rising(m)}
+	if tss > 0 {
+		out.r2 = 1 - m.RSS/tss
+	}
+	// Leave-one-out error with the partition held fixed: leaving out one
+	// of n_g periods moves its level's mean, so the error of that period is
+	// e_i · n_g / (n_g − 1).
+	level := func(x float64) int {
+		for g := len(m.Levels) - 1; g >= 0; g-- {
+			if x >= m.Levels[g].From {
+				return g
+			}
+		}
+		return 0
+	}
+	for i, e := range m.Residuals {
+		n := float64(m.Levels[level(c.x[i])].N)
+		loo := e * n / (n - 1)
+		out.press += loo * loo
+	}
+	return out
+}
+
+// rising reports whether each level is above the one before.
+func rising(m fit.StepModel) bool {
+	for i := 1; i < len(m.Levels); i++ {
+		if m.Levels[i].Mean <= m.Levels[i-1].Mean {
+			return false
+		}
+	}
+	return true
+}
+
+// stepRecord turns a step fit into a stored fit.
+func stepRecord(o costdrift.CostObject, c *candidate, s *stepFit) costdrift.Fit {
+	f := costdrift.Fit{
+		Object: o, Driver: c.driver.Name, Lag: c.lag, Model: costdrift.ModelStep, N: len(c.x),
+		R2: s.r2, PRESS: s.press, AICc: s.model.AICc, RangeMin: c.rangeMin, RangeMax: c.rangeMax,
+		Intercept: math.NaN(), InterceptSE: math.NaN(), InterceptP: math.NaN(), Slope: math.NaN(), SlopeSE: math.NaN(),
+		SlopeT: math.NaN(), SlopeP: math.NaN(), SlopeAdjustedP: math.NaN(), ResidualSE: math.NaN(),
+	}
+	for _, l := range s.model.Levels {
+		f.Levels = append(f.Levels, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
+	}
+	return f
+}
+
+// second is a candidate second driver, fitted together with the best one on
+// the periods both cover.
+type second struct {
+	c        *candidate
+	full     *fit.Regression // cost = a + b·x + b2·x2
+	reduced  *fit.Regression // cost = a + b·x on the same periods
+	x1, x2   []float64
+	y        []float64
+	periods  []string
+	partialP float64
+	vif      float64
+}
+
+// pairWith aligns a second candidate with the first on their common periods.
+func pairWith(first, c2 *candidate) *second {
+	at := make(map[string]int, len(c2.periods))
+	for i, p := range c2.periods {
+		at[p] = i
+	}
+	s := &second{c: c2}
+	for i, p := range first.periods {
+		j, ok := at[p]
+		if !ok {
+			continue
+		}
+		s.x1 = append(s.x1, first.x[i])
+		s.x2 = append(s.x2, c2.x[j])
+		s.y = append(s.y, first.y[i])
+		s.periods = append(s.periods, p)
+	}
+	return s
+}
+
+// forwardSelect looks for a second driver (PRODUCT §5): its coefficient
+// positive and significant by the partial F test, Bonferroni-corrected over
+// the second drivers tried; the pair's variance inflation below MaxVIF; and
+// the leave-one-out error lower than with the first driver alone. Of those,
+// the one with the lowest PRESS is returned, with how many were tried.
+func forwardSelect(best *candidate, cands []*candidate, s Settings) (*second, int) {
+	var tried []*second
+	for _, c := range cands {
+		if c.driver.Name == best.driver.Name || c.negative {
+			continue
+		}
+		p := pairWith(best, c)
+		if len(p.y) < s.MinPeriods || len(p.y) < 6 {
+			continue
+		}
+		full, err := fit.OLS([][]float64{p.x1, p.x2}, p.y, true)
+		if err != nil {
+			continue // the two drivers are collinear
+		}
+		reduced := best.linear
+		if len(p.y) != len(best.y) {
+			if reduced, err = fit.Line(p.x1, p.y); err != nil {
+				continue
+			}
+		}
+		p.full, p.reduced = full, reduced
+		_, p.partialP = fit.PartialF(full, reduced)
+		vif, err := fit.VIF([][]float64{p.x1, p.x2})
+		if err != nil {
+			continue
+		}
+		p.vif = math.Max(vif[0], vif[1])
+		tried = append(tried, p)
+	}
+	var chosen *second
+	for _, p := range tried {
+		if p.full.Coef[2] <= 0 || p.full.Coef[1] <= 0 || p.partialP*float64(len(tried)) >= s.Alpha ||
+			p.vif >= MaxVIF || p.full.PRESS >= p.reduced.PRESS {
+			continue
+		}
+		if chosen == nil || p.full.PRESS < chosen.full.PRESS {
+			chosen = p
+		}
+	}
+	return chosen, len(tried)
+}
+
+// twoDriverRecord turns an adopted second driver into a stored fit.
+func twoDriverRecord(o costdrift.CostObject, best *candidate, p *second) costdrift.Fit {
+	r := p.full
+	f := costdrift.Fit{
+		Object: o, Driver: best.driver.Name, Lag: best.lag, Model: costdrift.ModelTwoDriver, N: r.N,
+		Intercept: r.Coef[0], InterceptSE: r.StdErr[0], InterceptP: r.P[0],
+		Slope: r.Coef[1], SlopeSE: r.StdErr[1], SlopeT: r.T[1], SlopeP: r.P[1], SlopeAdjustedP: math.NaN(),
+		R2: r.R2, ResidualSE: r.ResidualSE, PRESS: r.PRESS, AICc: r.AICc,
+		Driver2: p.c.driver.Name, Lag2: p.c.lag, Slope2: r.Coef[2], Slope2SE: r.StdErr[2], Slope2P: p.partialP, VIF: p.vif,
+	}
+	f.RangeMin, f.RangeMax = minMax(p.x1)
+	return f
+}
+
+// diagnose fills the chosen fit's diagnostics: the Durbin–Watson statistic of
+// its residuals, a Huber fit beside least squares, and the periods whose
+// Cook's distance exceeds 4/n.
+func diagnose(f *costdrift.Fit, r *fit.Regression, columns [][]float64, y []float64, periods []string, d *costdrift.Diagnostics) {
+	f.DurbinWatson = fit.DurbinWatson(r.Residuals)
+	d.DurbinWatson = f.DurbinWatson
+	f.RobustIntercept, f.RobustSlope = math.NaN(), math.NaN()
+	d.RobustIntercept, d.RobustSlope = math.NaN(), math.NaN()
+	if h, err := fit.Huber(columns, y); err == nil {
+		f.RobustIntercept, f.RobustSlope = h.Coef[0], h.Coef[1]
+		d.RobustIntercept, d.RobustSlope = h.Coef[0], h.Coef[1]
+		// Least squares and the robust fit differ by more than two standard
+		// errors of the slope: a few periods sway the formula.
+		if se := r.StdErr[1]; se > 0 && math.Abs(h.Coef[1]-r.Coef[1]) > 2*se {
+			d.RobustNote = "a robust (Huber) fit gives a rate more than two standard errors away from least squares: a few periods sway the formula"
+		}
+	}
+	limit := outlierCookScale / float64(r.N)
+	for i, cd := range r.CooksD {
+		if cd > limit {
+			student := r.Residuals[i] / (r.ResidualSE * math.Sqrt(1-r.Leverage[i]))
+			f.Outliers = append(f.Outliers, costdrift.Outlier{Period: periods[i], CooksD: cd, Studentised: student})
+		}
+	}
+}
