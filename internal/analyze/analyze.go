@@ -36,21 +36,21 @@ type Result struct {
 
 // candidate is one driver at one lag, aligned with the cost.
 type candidate struct {
-	driver     *costdrift.DriverSeries
-	lag        int
-	x, y       []float64
-	periods    []string
-	linear     *fit.Regression
-	origin     *fit.Regression
-	linearIdx  int // index into Result.Fits
-	adjustedP  float64
-	plausible  bool // significant positive slope after correction
-	negative   bool // significant negative slope after correction
-	meanX      float64
-	rangeMin   float64
-	rangeMax   float64
-	rank       int
-	stepIdx    int // index into Result.Fits of its step fit
+	driver    *costdrift.DriverSeries
+	lag       int
+	x, y      []float64
+	periods   []string
+	linear    *fit.Regression
+	origin    *fit.Regression
+	linearIdx int // index into Result.Fits
+	adjustedP float64
+	plausible bool // significant positive slope after correction
+	negative  bool // significant negative slope after correction
+	meanX     float64
+	rangeMin  float64
+	rangeMax  float64
+	rank      int
+	stepIdx   int // index into Result.Fits of its step fit
 }
 
 // Object analyses one cost object of the panel.

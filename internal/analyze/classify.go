@@ -14,6 +14,7 @@ import (
 //   - no driver with a positive slope significant after correction: fixed
 //     when the coefficient of variation is at most FixedMaxCV, else
 //     unexplained;
+//
 //   - best driver (lowest leave-one-out error) with cost = a + b·x: at mean
 //     activity x̄ the fixed share is a/(a + b·x̄) and the variable share
 //     b·x̄/(a + b·x̄). The intercept not significant, or a fixed share below
@@ -24,6 +25,7 @@ import (
 //   - step: on the best-ranked drivers, a step model (2–4 levels rising in
 //     the driver, each at least 3 periods) that beats the line on the same
 //     data by ΔAICc >= StepMinDeltaAICc; the formula is its levels;
+//
 //   - a second driver, by forward selection (forwardSelect), joins the
 //     formula and the shares are taken over both drivers.
 //
