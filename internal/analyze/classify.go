@@ -24,7 +24,9 @@ import (
 //
 //   - step: on the best-ranked drivers, a step model (2–4 levels rising in
 //     the driver, each at least 3 periods) that beats the line on the same
-//     data by ΔAICc >= StepMinDeltaAICc; the formula is its levels;
+//     data by ΔAICc >= StepMinDeltaAICc, and inside whose levels cost does
+//     not keep rising with the driver (no significant common slope within
+//     the levels); the formula is its levels;
 //
 //   - a second driver, by forward selection (forwardSelect), joins the
 //     formula and the shares are taken over both drivers.
@@ -83,7 +85,18 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 			diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelStep, Driver: c.driver.Name, Lag: c.lag,
 				N: len(c.x), AICc: sf.model.AICc, PRESS: sf.press, R2: sf.r2})
 		}
-		if sf.rising && c.linear.AICc-sf.model.AICc >= StepMinDeltaAICc && (stepBest == nil || sf.model.AICc < stepBest.model.AICc) {
+		flat := !(sf.withinP < s.Alpha && sf.withinSlope > 0)
+		// The step must also beat the best line of any driver, not only
+		// its own driver's: a step on a driver that merely correlates with
+		// the real one can beat that driver's poor line. AICc compares fits
+		// of the same costs; at another lag (one period fewer) the
+		// leave-one-out error per period decides instead.
+		top := ranked[0].linear
+		beatsBest := top.AICc-sf.model.AICc >= StepMinDeltaAICc
+		if top.N != len(c.y) {
+			beatsBest = sf.press/float64(len(c.y)) < top.PRESS/float64(top.N)
+		}
+		if sf.rising && flat && beatsBest && c.linear.AICc-sf.model.AICc >= StepMinDeltaAICc && (stepBest == nil || sf.model.AICc < stepBest.model.AICc) {
 			stepCand, stepBest = c, sf
 			c.stepIdx = len(res.Fits) - 1
 		}
