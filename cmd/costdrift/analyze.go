@@ -18,10 +18,14 @@ import (
 )
 
 func (a *app) analyzeCommand() *cobra.Command {
-	return &cobra.Command{
+	var all bool
+	cmd := &cobra.Command{
 		Use:   "analyze",
 		Short: "Fit every driver to every cost object and classify its behaviour",
-		Args:  cobra.NoArgs,
+		Long: `analyze fits every driver at every lag to every cost object in scope and
+classifies its behaviour. Objects whose costs, drivers and settings have not
+changed since their last analysis are left as they were; --all refits them too.`,
+		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			e, err := a.loadConfig()
 			if err != nil {
@@ -32,15 +36,17 @@ func (a *app) analyzeCommand() *cobra.Command {
 				return err
 			}
 			defer db.Close()
-			_, err = a.analyzeAll(cmd.Context(), e, db, a.out)
+			_, err = a.analyzeAll(cmd.Context(), e, db, a.out, all)
 			return err
 		},
 	}
+	cmd.Flags().BoolVar(&all, "all", false, "refit every object, changed or not")
+	return cmd
 }
 
 // analyzeAll builds the panel from the store, analyses every object and
 // stores the run, its fits and the behaviours in one transaction.
-func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) (*costdrift.AnalysisRun, error) {
+func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer, all bool) (*costdrift.AnalysisRun, error) {
 	started := a.now()
 	cfg := e.cfg.Analysis
 	scope, err := costdrift.ParseAccountScope(cfg.Accounts)
@@ -66,6 +72,23 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
 	}
+	settings, _ := json.Marshal(map[string]any{"grain": cfg.Grain, "accounts": cfg.Accounts, "window": cfg.Window,
+		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.currency.Code})
+	inputs := analyze.InputHashes(&panel, string(settings))
+	total := len(panel.Objects)
+	if !all {
+		previous, err := db.ObjectInputs(ctx)
+		if err != nil {
+			return nil, fmt.Errorf("analyze: %w", err)
+		}
+		changed := panel.Objects[:0:0]
+		for _, o := range panel.Objects {
+			if previous[o.Object.String()] != inputs[o.Object.String()] {
+				changed = append(changed, o)
+			}
+		}
+		panel.Objects = changed
+	}
 	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha})
 
 	var fits []costdrift.Fit
@@ -76,11 +99,12 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		behaviours = append(behaviours, r.Behaviour)
 		classes[r.Behaviour.Class]++
 	}
-	settings, _ := json.Marshal(map[string]any{"grain": cfg.Grain, "accounts": cfg.Accounts, "window": cfg.Window,
-		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.currency.Code})
-	run := &costdrift.AnalysisRun{
+	run := &costdrift.AnalysisRun{Inputs: map[string]string{}, Skipped: total - len(panel.Objects),
 		StartedAt: started, FinishedAt: a.now(), Grain: costdrift.Grain(cfg.Grain), Objects: len(behaviours),
 		WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings),
+	}
+	for _, o := range panel.Objects {
+		run.Inputs[o.Object.String()] = inputs[o.Object.String()]
 	}
 	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
@@ -90,7 +114,14 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		counts = append(counts, fmt.Sprintf("%d %s", n, c))
 	}
 	sort.Strings(counts)
-	fmt.Fprintf(out, "analysed %d cost objects over %s to %s (%d periods with postings): %s\n", len(behaviours),
-		run.WindowFrom, run.WindowTo, panel.PeriodsWithPostings, strings.Join(counts, ", "))
+	fmt.Fprintf(out, "analysed %d cost objects over %s to %s (%d periods with postings)", len(behaviours),
+		run.WindowFrom, run.WindowTo, panel.PeriodsWithPostings)
+	if len(counts) > 0 {
+		fmt.Fprintf(out, ": %s", strings.Join(counts, ", "))
+	}
+	if run.Skipped > 0 {
+		fmt.Fprintf(out, "; %d unchanged since their last analysis were left as they were (--all refits them)", run.Skipped)
+	}
+	fmt.Fprintln(out)
 	return run, nil
 }

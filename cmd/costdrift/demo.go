@@ -68,7 +68,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if _, err := syncAll(ctx, e, db, a.out); err != nil {
 		return err
 	}
-	if _, err := a.analyzeAll(ctx, e, db, a.out); err != nil {
+	if _, err := a.analyzeAll(ctx, e, db, a.out, false); err != nil {
 		return err
 	}
 	fmt.Fprintln(a.out)

@@ -158,19 +158,33 @@ func TestResyncChangesNothing(t *testing.T) {
 	if s := count(t, store, "SELECT SUM(amount_minor) FROM gl_lines"); s != total {
 		t.Errorf("sum changed from %d to %d", total, s)
 	}
-	mustRun(t, "--config", cfg, "analyze")
+	out = mustRun(t, "--config", cfg, "analyze")
+	if !strings.Contains(out, "analysed 0 cost objects") || !strings.Contains(out, "13 unchanged since their last analysis were left as they were") {
+		t.Errorf("second analysis:\n%s", out)
+	}
+	if n := count(t, store, "SELECT COUNT(DISTINCT analysis_run_id) FROM fits"); n != 1 {
+		t.Errorf("fits cover %d runs, want 1: nothing changed, so nothing was refitted", n)
+	}
+	out = mustRun(t, "--config", cfg, "analyze", "--all")
+	if !strings.Contains(out, "analysed 13 cost objects") {
+		t.Errorf("analysis with --all:\n%s", out)
+	}
 	if n := count(t, store, "SELECT COUNT(*) FROM current_behaviour"); n != 13 {
-		t.Errorf("current_behaviour has %d rows after a second analysis, want 13", n)
+		t.Errorf("current_behaviour has %d rows after a third analysis, want 13", n)
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM behaviour_history"); n != 13 {
 		t.Errorf("behaviour_history has %d rows, want 13: nothing changed, so nothing new", n)
 	}
-	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs"); n != 2 {
-		t.Errorf("analysis_runs = %d, want 2", n)
+	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs"); n != 3 {
+		t.Errorf("analysis_runs = %d, want 3", n)
 	}
-	// Every fit of both runs is kept: 13 objects, constant + drivers x lags x 2 models.
-	if n := count(t, store, "SELECT COUNT(DISTINCT analysis_run_id) FROM fits"); n != 2 {
-		t.Errorf("fits cover %d runs, want 2", n)
+	// The view of each object's latest fits follows the refit.
+	if n := count(t, store, "SELECT COUNT(DISTINCT analysis_run_id) FROM latest_fits"); n != 1 {
+		t.Errorf("latest_fits covers %d runs, want only the last", n)
+	}
+	// Which accounts does machine hours drive? One query on the store.
+	if n := count(t, store, "SELECT COUNT(*) FROM latest_fits WHERE driver = 'machine_hours' AND chosen"); n != 3 {
+		t.Errorf("machine hours drives %d objects, want 3 (power in WELD and PAINT, maintenance in WELD)", n)
 	}
 	if st, err := os.Stat(store); err != nil || st.Mode().Perm() != 0o600 {
 		t.Errorf("store mode = %v, want 0600", st.Mode().Perm())

@@ -21,4 +21,10 @@ type AnalysisRun struct {
 	Grain      Grain
 	Objects    int
 	Settings   string // JSON of the settings used
+	// Inputs maps each analysed object to a hash of what it was fitted on,
+	// so that the next analysis can skip objects whose data did not change.
+	Inputs map[string]string
+	// Skipped counts objects left as they were because their inputs did
+	// not change.
+	Skipped int
 }

@@ -92,8 +92,33 @@ func (db *DB) SaveAnalysis(ctx context.Context, run *costdrift.AnalysisRun, fits
 				return fmt.Errorf("save behaviour %s: %w", behaviours[i].Object, err)
 			}
 		}
+		for object, hash := range run.Inputs {
+			if _, err := tx.ExecContext(ctx, `INSERT INTO object_inputs (object, input_hash, analysis_run_id) VALUES (?, ?, ?)
+				ON CONFLICT (object) DO UPDATE SET input_hash = excluded.input_hash, analysis_run_id = excluded.analysis_run_id`,
+				object, hash, run.ID); err != nil {
+				return fmt.Errorf("save inputs of %s: %w", object, err)
+			}
+		}
 		return nil
 	})
+}
+
+// ObjectInputs returns the input hash of every object's latest analysis.
+func (db *DB) ObjectInputs(ctx context.Context) (map[string]string, error) {
+	rows, err := db.q().QueryContext(ctx, `SELECT object, input_hash FROM object_inputs`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	out := map[string]string{}
+	for rows.Next() {
+		var o, h string
+		if err := rows.Scan(&o, &h); err != nil {
+			return nil, err
+		}
+		out[o] = h
+	}
+	return out, rows.Err()
 }
 
 func insertFits(ctx context.Context, tx *sql.Tx, runID int64, fits []costdrift.Fit) error {
