@@ -8,6 +8,8 @@ import (
 	"fmt"
 	"regexp"
 	"strings"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -184,10 +186,12 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 			return err
 		}
 		defer w.close()
-		if err := fill(w); err != nil {
+		p := newPipeline(w)
+		if err := fill(p); err != nil {
+			p.finish()
 			return err
 		}
-		if err := w.flush(); err != nil {
+		if err := p.finish(); err != nil {
 			return err
 		}
 		var rows int
@@ -492,10 +496,15 @@ const ledgerBatch = 100
 // loaded) and takes the row-by-row path that decides between the two.
 func (w *writer) flush() error {
 	batch := w.pending
+	w.pending = w.pending[:0]
+	return w.storeBatch(batch)
+}
+
+// storeBatch stores ledger lines of a file, a full batch with one INSERT.
+func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	if len(batch) == 0 {
 		return nil
 	}
-	w.pending = w.pending[:0]
 	if len(batch) < ledgerBatch {
 		for _, l := range batch {
 			if err := w.storeLine(l); err != nil {
@@ -659,4 +668,79 @@ func (db *DB) SyncRuns(ctx context.Context, limit int) ([]costdrift.SyncRun, err
 		runs = append(runs, r)
 	}
 	return runs, rows.Err()
+}
+
+// pipeline hands a file's rows to a goroutine that stores them, so that
+// reading and parsing the next rows overlaps with SQLite storing the last
+// ones (the machine has more than one core; the store has one writer).
+// Rows reach the store in the order they were written.
+type pipeline struct {
+	w       *writer
+	pending []costdrift.LedgerLine
+	jobs    chan func() error
+	done    chan struct{}
+	err     error // the first error of a job; read after done
+	failed  atomic.Bool
+	once    sync.Once
+}
+
+func newPipeline(w *writer) *pipeline {
+	p := &pipeline{w: w, jobs: make(chan func() error, 8), done: make(chan struct{})}
+	go func() {
+		defer close(p.done)
+		for job := range p.jobs {
+			if p.err != nil {
+				continue // drain: nothing more is stored after a failure
+			}
+			if err := job(); err != nil {
+				p.err = err
+				p.failed.Store(true)
+			}
+		}
+	}()
+	return p
+}
+
+func (p *pipeline) submit(job func() error) error {
+	if p.failed.Load() {
+		return p.finish()
+	}
+	p.jobs <- job
+	return nil
+}
+
+// finish stores what is pending, waits for the goroutine and returns the
+// first error. It may be called more than once.
+func (p *pipeline) finish() error {
+	p.once.Do(func() {
+		if len(p.pending) > 0 && !p.failed.Load() {
+			batch := p.pending
+			p.jobs <- func() error { return p.w.storeBatch(batch) }
+		}
+		close(p.jobs)
+		<-p.done
+	})
+	return p.err
+}
+
+func (p *pipeline) LedgerLine(l costdrift.LedgerLine) error {
+	p.pending = append(p.pending, l)
+	if len(p.pending) < ledgerBatch {
+		return nil
+	}
+	batch := p.pending
+	p.pending = make([]costdrift.LedgerLine, 0, ledgerBatch)
+	return p.submit(func() error { return p.w.storeBatch(batch) })
+}
+
+func (p *pipeline) Activity(a costdrift.ActivityValue) error {
+	return p.submit(func() error { return p.w.Activity(a) })
+}
+
+func (p *pipeline) Account(a costdrift.Account) error {
+	return p.submit(func() error { return p.w.Account(a) })
+}
+
+func (p *pipeline) Reject(r costdrift.Reject) error {
+	return p.submit(func() error { return p.w.Reject(r) })
 }
