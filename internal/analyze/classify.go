@@ -46,11 +46,11 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		note = fmt.Sprintf("; %d significant negative slope(s) ignored as implausible", implausible)
 	}
 	diag := &costdrift.Diagnostics{Candidates: len(cands)}
-	constantFit := res.Fits[0]
-	diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelConstant, N: constantFit.N,
-		AICc: constantFit.AICc, PRESS: constantFit.PRESS, R2: 0})
 
 	if len(ranked) == 0 {
+		constantFit := res.Fits[0]
+		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelConstant, N: constantFit.N,
+			AICc: constantFit.AICc, PRESS: constantFit.PRESS, R2: 0})
 		b.R2 = math.NaN()
 		b.FixedPerPeriod = b.MeanCost
 		res.Fits[0].Chosen = true
@@ -72,6 +72,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	// same data by ΔAICc >= StepMinDeltaAICc, with levels rising in the driver.
 	var stepCand *candidate
 	var stepBest *stepFit
+	steps := map[*candidate]*stepFit{}
 	for i, c := range ranked {
 		if i == StepCandidates {
 			break
@@ -80,11 +81,8 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		if sf == nil {
 			continue
 		}
+		steps[c] = sf
 		res.Fits = append(res.Fits, stepRecord(b.Object, c, sf))
-		if i == 0 {
-			diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelStep, Driver: c.driver.Name, Lag: c.lag,
-				N: len(c.x), AICc: sf.model.AICc, PRESS: sf.press, R2: sf.r2})
-		}
 		flat := !(sf.withinP < s.Alpha && sf.withinSlope > 0)
 		// The step must also beat the best line of any driver, not only
 		// its own driver's: a step on a driver that merely correlates with
@@ -107,6 +105,16 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		best = stepCand
 	}
 	lin := best.linear
+	// The model comparison is on the chosen driver's periods, so that every
+	// AICc in it is of the same costs.
+	if constant, err := fit.Constant(best.y); err == nil {
+		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelConstant, N: constant.N,
+			AICc: constant.AICc, PRESS: constant.PRESS, R2: 0})
+	}
+	if sf, ok := steps[best]; ok {
+		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelStep, Driver: best.driver.Name, Lag: best.lag,
+			N: len(best.x), AICc: sf.model.AICc, PRESS: sf.press, R2: sf.r2})
+	}
 	diag.Models = append(diag.Models,
 		costdrift.ModelSummary{Model: costdrift.ModelLinear, Driver: best.driver.Name, Lag: best.lag, N: lin.N, AICc: lin.AICc, PRESS: lin.PRESS, R2: lin.R2})
 	if best.origin != nil {

@@ -1,0 +1,450 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"database/sql"
+	"encoding/json"
+	"encoding/xml"
+	"errors"
+	"image/png"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"reflect"
+	"regexp"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/chart"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+// explainJSON is the part of `explain --format json` the tests read.
+type explainJSON struct {
+	Class   string  `json:"class"`
+	Driver  *string `json:"driver"`
+	Lag     *int    `json:"lag"`
+	N       int     `json:"n"`
+	Drivers []struct {
+		Rank        int      `json:"rank"`
+		Driver      string   `json:"driver"`
+		Lag         int      `json:"lag"`
+		N           int      `json:"n"`
+		P           *float64 `json:"p"`
+		HolmP       *float64 `json:"holm_p"`
+		Chosen      bool     `json:"chosen"`
+		Significant bool     `json:"significant"`
+	} `json:"drivers"`
+	Models []struct {
+		Model      string   `json:"model"`
+		N          int      `json:"n"`
+		AICc       *float64 `json:"aicc"`
+		DeltaAICc  *float64 `json:"delta_aicc"`
+		Comparable bool     `json:"comparable"`
+		Best       bool     `json:"best"`
+		Chosen     bool     `json:"chosen"`
+	} `json:"models"`
+	Comparison *struct {
+		High struct {
+			Period         string `json:"period"`
+			ActivityPeriod string `json:"activity_period"`
+		} `json:"high"`
+	} `json:"high_low_comparison"`
+	Diagnostics struct {
+		DurbinWatson *float64 `json:"durbin_watson"`
+	} `json:"diagnostics"`
+	Notes []string `json:"notes"`
+}
+
+// Explain on the demo store (invented data): the step cost of supervision
+// on frames built and the mixed cost of maintenance on machine hours of the
+// period before, as the analysis stored them.
+func TestExplainDemo(t *testing.T) {
+	dir := t.TempDir()
+	mustRun(t, "demo", "--dir", dir)
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	store := filepath.Join(dir, "costdrift.db")
+
+	t.Run("step cost", func(t *testing.T) {
+		out := mustRun(t, "--config", cfg, "explain", "6300/ASSY")
+		for _, want := range []string{
+			"6300/ASSY — Supervision", "class      step", "driver     frames built", "formula    cost = 5,9",
+			"Drivers tried", "High-low beside least squares, on frames built", "highest activity", "least squares",
+			"Durbin–Watson", "Cook's distance", "estimates", "confidential",
+		} {
+			if !strings.Contains(out, want) {
+				t.Errorf("explain 6300/ASSY lacks %q:\n%s", want, out)
+			}
+		}
+		// The model comparison lists step first, with the lowest AICc.
+		if !regexp.MustCompile(`(?m)^  step +frames_built, lag 0 +36 +[0-9.]+ +[0-9.]+ +0\.0 .*lowest AICc`).MatchString(out) {
+			t.Errorf("model comparison does not rank step first with the lowest AICc:\n%s", out)
+		}
+		ex := explainAsJSON(t, cfg, "6300/ASSY")
+		if ex.Class != "step" || *ex.Driver != "frames_built" || *ex.Lag != 0 {
+			t.Errorf("JSON class %s on %v lag %v", ex.Class, *ex.Driver, *ex.Lag)
+		}
+		best := ""
+		for _, m := range ex.Models {
+			if m.Best {
+				best = m.Model
+			}
+			if m.Comparable && (m.DeltaAICc == nil || (m.Model != "step" && *m.DeltaAICc < 4)) {
+				t.Errorf("%s: ΔAICc %v; the step model must beat every other by at least 4", m.Model, m.DeltaAICc)
+			}
+		}
+		if best != "step" {
+			t.Errorf("lowest AICc: %q, want step", best)
+		}
+	})
+
+	t.Run("mixed cost at lag 1", func(t *testing.T) {
+		out := mustRun(t, "--config", cfg, "explain", "6500/WELD")
+		for _, want := range []string{
+			"6500/WELD — Maintenance", "class      mixed", "driver     machine hours of the period before",
+			"35 periods, 2023-08 to 2026-06",
+			"High-low beside least squares, on machine hours of the period before", "ACTIVITY OF",
+			"highest activity  2025-08  2025-07", "lowest activity   2023-12  2023-11",
+			"Durbin–Watson 1.85, near 2",
+		} {
+			if !strings.Contains(out, want) {
+				t.Errorf("explain 6500/WELD lacks %q:\n%s", want, out)
+			}
+		}
+		if !regexp.MustCompile(`(?m)^ +1  machine_hours +1 .*◀ chosen$`).MatchString(out) {
+			t.Errorf("machine_hours at lag 1 is not ranked first and chosen:\n%s", out)
+		}
+		ex := explainAsJSON(t, cfg, "6500/WELD")
+		d := ex.Drivers[0]
+		if d.Driver != "machine_hours" || d.Lag != 1 || d.Rank != 1 || !d.Chosen || d.N != 35 || *d.HolmP < *d.P {
+			t.Errorf("first driver %+v: want machine_hours lag 1, rank 1, chosen, n 35, Holm p >= p", d)
+		}
+		for _, m := range ex.Models {
+			// Every model of the comparison is fitted on the chosen driver's 35
+			// periods, so all of them carry a ΔAICc.
+			if m.N != 35 || !m.Comparable || m.DeltaAICc == nil {
+				t.Errorf("model %s on %d periods, comparable %v: want 35 and comparable", m.Model, m.N, m.Comparable)
+			}
+			if m.Model == "linear" && (!m.Best || !m.Chosen) {
+				t.Errorf("linear must be chosen with the lowest AICc: %+v", m)
+			}
+		}
+		if ex.Comparison == nil || ex.Comparison.High.Period != "2025-08" || ex.Comparison.High.ActivityPeriod != "2025-07" {
+			t.Errorf("high-low comparison %+v", ex.Comparison)
+		}
+		if ex.Diagnostics.DurbinWatson == nil || len(ex.Notes) != 0 {
+			t.Errorf("diagnostics %+v, notes %v", ex.Diagnostics, ex.Notes)
+		}
+	})
+
+	t.Run("JSON carries the report's numbers", func(t *testing.T) {
+		var rows []map[string]any
+		if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "report", "--format", "json")), &rows); err != nil {
+			t.Fatal(err)
+		}
+		for _, object := range []string{"6300/ASSY", "6500/WELD", "6100/WELD"} {
+			var ex map[string]any
+			if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "explain", object, "--format", "json")), &ex); err != nil {
+				t.Fatalf("%s: %v", object, err)
+			}
+			var row map[string]any
+			for _, r := range rows {
+				if r["object"] == object {
+					row = r
+				}
+			}
+			if row == nil {
+				t.Fatalf("%s not in the report", object)
+			}
+			for k, v := range row {
+				if !reflect.DeepEqual(ex[k], v) {
+					t.Errorf("%s %s: explain %v, report %v", object, k, ex[k], v)
+				}
+			}
+		}
+	})
+
+	t.Run("points are the periods the analysis fitted", func(t *testing.T) {
+		checkPoints(t, cfg, store, "6500/WELD", "6500", "WELD", "machine_hours", 1, 35)
+		checkPoints(t, cfg, store, "6300/ASSY", "6300", "ASSY", "frames_built", 0, 36)
+	})
+
+	t.Run("chart layers", func(t *testing.T) { checkChartLayers(t, cfg, store) })
+
+	t.Run("charts", func(t *testing.T) {
+		for _, c := range []struct{ object, file string }{
+			{"6300/ASSY", "6300.png"}, {"6500/WELD", "6500.png"}, {"6500/WELD", "6500.svg"},
+		} {
+			path := filepath.Join(t.TempDir(), c.file)
+			out := mustRun(t, "--config", cfg, "explain", c.object, "--chart", path)
+			if !strings.Contains(out, "Chart written to "+path) {
+				t.Errorf("%s: output does not name the chart:\n%s", c.object, out)
+			}
+			data, err := os.ReadFile(path)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if st, _ := os.Stat(path); st.Mode().Perm() != 0o600 {
+				t.Errorf("%s mode %v, want 0600: the chart shows ledger figures", path, st.Mode().Perm())
+			}
+			if strings.HasSuffix(path, ".png") {
+				img, err := png.Decode(bytes.NewReader(data))
+				if err != nil {
+					t.Fatalf("%s: %v", path, err)
+				}
+				if b := img.Bounds(); b.Dx() != 720 || b.Dy() != 480 {
+					t.Errorf("%s is %d×%d, want 720×480", path, b.Dx(), b.Dy())
+				}
+				continue
+			}
+			if !bytes.Contains(data, []byte("<svg")) || !bytes.Contains(data, []byte("6500/WELD Maintenance: cost = 931.18")) {
+				t.Errorf("%s is not the 6500/WELD chart", path)
+			}
+			dec := xml.NewDecoder(bytes.NewReader(data))
+			for {
+				_, err := dec.Token()
+				if errors.Is(err, io.EOF) {
+					break
+				}
+				if err != nil {
+					t.Fatalf("%s: not well-formed XML: %v", path, err)
+				}
+			}
+		}
+	})
+
+	t.Run("an object without a driver has no chart", func(t *testing.T) {
+		path := filepath.Join(t.TempDir(), "rent.png")
+		_, err := run(t, "--config", cfg, "explain", "6100/WELD", "--chart", path)
+		if err == nil || !strings.Contains(err.Error(), "6100/WELD is fixed with no driver") || strings.Contains(err.Error(), "\n") {
+			t.Errorf("error %v, want one line saying 6100/WELD has no driver", err)
+		}
+		if _, err := os.Stat(path); !errors.Is(err, os.ErrNotExist) {
+			t.Errorf("%s written anyway", path)
+		}
+		// Without --chart it is explained.
+		if out := mustRun(t, "--config", cfg, "explain", "6100/WELD"); !strings.Contains(out, "class      fixed") {
+			t.Errorf("explain 6100/WELD:\n%s", out)
+		}
+	})
+
+	t.Run("unknown objects", func(t *testing.T) {
+		for _, tc := range []struct {
+			object string
+			want   []string
+		}{
+			{"6200/WLD", []string{`unknown cost object "6200/WLD"`, "did you mean 6200/WELD", "`costdrift report`"}},
+			{"6200", []string{"did you mean 6200/PAINT, 6200/WELD?"}},
+			{"9999/XYZ", []string{`unknown cost object "9999/XYZ" (`, "`costdrift report`"}},
+		} {
+			_, err := run(t, "--config", cfg, "explain", tc.object)
+			if err == nil {
+				t.Errorf("explain %s succeeded", tc.object)
+				continue
+			}
+			for _, w := range tc.want {
+				if !strings.Contains(err.Error(), w) {
+					t.Errorf("explain %s: %q lacks %q", tc.object, err, w)
+				}
+			}
+		}
+		if _, err := run(t, "--config", cfg, "explain", "6500/WELD", "--format", "yaml"); err == nil || !strings.Contains(err.Error(), "text or json") {
+			t.Errorf("--format yaml: %v", err)
+		}
+	})
+
+	// Runs last: it changes the store.
+	t.Run("ledger changed since the analysis", func(t *testing.T) {
+		extra := "entry_id,line,date,account,cost_center,amount,description\n" +
+			"XT-1,1,2026-06-30,6700,WELD,150.00,new account after the analysis\n" +
+			"XT-2,1,2026-06-30,9100,WELD,80.00,outside the analysed accounts\n" +
+			"XT-3,1,2025-08-31,6500,WELD,500.00,late maintenance invoice\n"
+		if err := os.WriteFile(filepath.Join(dir, "data", "gl", "gl-zz-extra.csv"), []byte(extra), 0o600); err != nil {
+			t.Fatal(err)
+		}
+		mustRun(t, "--config", cfg, "sync")
+		for object, want := range map[string]string{
+			"6700/WELD": "6700/WELD has ledger lines but no analysis yet: run `costdrift analyze` first",
+			"9100/WELD": "account 9100 is outside analysis.accounts",
+		} {
+			if _, err := run(t, "--config", cfg, "explain", object); err == nil || !strings.Contains(err.Error(), want) {
+				t.Errorf("explain %s: %v, want %q", object, err, want)
+			}
+		}
+		// The high point's cost changed: the explanation says so.
+		out := strings.Join(strings.Fields(mustRun(t, "--config", cfg, "explain", "6500/WELD")), " ") // unwrapped
+		if !strings.Contains(out, "6500/WELD changed since analysis run 1 (the high or low activity period now has another cost") ||
+			!strings.Contains(out, "run `costdrift analyze` to refresh") {
+			t.Errorf("no note that the ledger changed:\n%s", out)
+		}
+	})
+}
+
+func TestExplainBeforeAnalysis(t *testing.T) {
+	cfg, _ := setup(t, "entry_id,date,account,amount\nJ1,2026-01-15,6100,100.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	_, err := run(t, "--config", cfg, "explain", "6100")
+	if err == nil || err.Error() != "no analysis stored yet: run `costdrift analyze` first" {
+		t.Errorf("explain before any analysis: %v", err)
+	}
+}
+
+func explainAsJSON(t *testing.T, cfg, object string) explainJSON {
+	t.Helper()
+	var ex explainJSON
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "explain", object, "--format", "json")), &ex); err != nil {
+		t.Fatalf("explain %s --format json: %v", object, err)
+	}
+	return ex
+}
+
+// checkPoints compares the periods explain charts with the cost_series view
+// read independently: each point's cost is the object's amount in its
+// period, its activity the driver's value lag months before.
+func checkPoints(t *testing.T, cfg, store, object, account, costCenter, driver string, lag, n int) {
+	t.Helper()
+	e, db := openDemo(t, cfg)
+	ctx := context.Background()
+	oa, err := db.ObjectAnalysis(ctx, object)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pts, err := analysedPoints(ctx, e, db, oa, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(pts) != n || len(pts) != oa.Behaviour.N {
+		t.Fatalf("%s: %d points, want the %d periods fitted", object, len(pts), n)
+	}
+
+	view, err := sql.Open("sqlite3", "file:"+store+"?mode=ro")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer view.Close()
+	value := func(query string, args ...any) float64 {
+		var v float64
+		if err := view.QueryRow(query, args...).Scan(&v); err != nil {
+			t.Fatalf("%s %v: %v", query, args, err)
+		}
+		return v
+	}
+	for _, p := range pts {
+		month, _ := time.Parse("2006-01", p.Period)
+		before := month.AddDate(0, -lag, 0).Format("2006-01")
+		cost := value(`SELECT amount FROM cost_series WHERE account = ? AND cost_center = ? AND driver = ? AND period = ?`,
+			account, costCenter, driver, p.Period)
+		activity := value(`SELECT driver_value FROM cost_series WHERE account = ? AND cost_center = ? AND driver = ? AND period = ?`,
+			account, costCenter, driver, before)
+		if math.Abs(p.Cost-cost) > 0.005 || p.Activity != activity {
+			t.Errorf("%s %s: point (%v, %v), want cost %v beside %s of %s, %v", object, p.Period, p.Activity, p.Cost, cost, driver, before, activity)
+		}
+	}
+	hl := oa.Behaviour.HighLow
+	for _, p := range pts {
+		if p.Period == hl.HighPeriod && (p.Activity != hl.HighActivity || p.Cost != hl.HighCost) {
+			t.Errorf("%s high point %+v, stored %+v", object, p, *hl)
+		}
+	}
+	if first := pts[0].Period; first != oa.Behaviour.Since {
+		t.Errorf("%s: first point %s, behaviour since %s", object, first, oa.Behaviour.Since)
+	}
+}
+
+// openDemo loads the config and opens the store as the commands do; the
+// store is closed when the test ends.
+func openDemo(t *testing.T, cfg string) (*env, *sqlite.DB) {
+	t.Helper()
+	a := &app{configPath: cfg, out: io.Discard, errw: io.Discard, now: today}
+	e, err := a.loadConfig()
+	if err != nil {
+		t.Fatal(err)
+	}
+	db, err := a.openStore(context.Background(), e, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { db.Close() })
+	return e, db
+}
+
+// checkChartLayers checks what each class draws: a step cost its levels
+// without the straight line's outliers, a variable cost a line through
+// zero, a formula with a second driver the line at that driver's mean.
+func checkChartLayers(t *testing.T, cfg, store string) {
+	e, db := openDemo(t, cfg)
+	ctx := context.Background()
+	layers := func(object string, change func(*sqlite.ObjectAnalysis)) chart.Scatter {
+		oa, err := db.ObjectAnalysis(ctx, object)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if change != nil {
+			change(&oa)
+		}
+		pts, err := analysedPoints(ctx, e, db, oa, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s, err := scatter(ctx, e, db, oa, pts, "name", "formula", 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := s.Validate(); err != nil {
+			t.Errorf("%s: %v", object, err)
+		}
+		return s
+	}
+
+	step := layers("6300/ASSY", nil)
+	if step.Fit != nil || len(step.Steps) != 3 || step.Steps[1].Level != 8977.126666666667 || step.HighLow == nil {
+		t.Errorf("step chart: fit %v, steps %+v, high-low %v", step.Fit, step.Steps, step.HighLow)
+	}
+	for _, p := range step.Points {
+		if p.Outlier {
+			t.Errorf("step chart marks %s, an outlier of the straight line only", p.Period)
+		}
+	}
+
+	variable := layers("5100/WELD", nil)
+	if variable.Fit == nil || variable.Fit.Fixed != 0 || math.Abs(variable.Fit.Rate-18.4) > 0.03*18.4 { // designed rate 18.40 (demo)
+		t.Errorf("variable chart line %+v, want cost = 18.4 per frame through zero", variable.Fit)
+	}
+
+	mixed := layers("6500/WELD", nil)
+	if mixed.Fit == nil || mixed.Fit.Fixed != 931.1790223828373 || mixed.Fit.Rate != 1.0712101673565406 || mixed.XLabel != "machine hours of the period before" {
+		t.Errorf("mixed chart line %+v, x label %q", mixed.Fit, mixed.XLabel)
+	}
+	outliers := 0
+	for _, p := range mixed.Points {
+		if p.Outlier {
+			outliers++
+		}
+	}
+	if outliers != 3 {
+		t.Errorf("mixed chart marks %d outliers, want the 3 stored", outliers)
+	}
+
+	// No demo cost has a second driver: give 6500/WELD one, orders of the
+	// same period, and check the line holds it at its mean over the points.
+	two := layers("6500/WELD", func(oa *sqlite.ObjectAnalysis) {
+		b := &oa.Behaviour
+		b.Driver2, b.Lag2, b.VariableRate2, b.FixedPerPeriod = "orders", 0, 0.5, 100
+	})
+	view, err := sql.Open("sqlite3", "file:"+store+"?mode=ro")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer view.Close()
+	var mean float64
+	if err := view.QueryRow(`SELECT AVG(driver_value) FROM cost_series WHERE account = '6500' AND cost_center = 'WELD'
+		AND driver = 'orders' AND period BETWEEN '2023-08' AND '2026-06'`).Scan(&mean); err != nil {
+		t.Fatal(err)
+	}
+	if two.Fit == nil || math.Abs(two.Fit.Fixed-(100+0.5*mean)) > 1e-9 || !strings.Contains(two.Fit.Label, "mean orders") {
+		t.Errorf("two-driver line %+v, want fixed 100 + 0.5 × mean orders %v", two.Fit, mean)
+	}
+}
