@@ -40,6 +40,7 @@ type candidate struct {
 	lag       int
 	x, y      []float64
 	periods   []string
+	index     []int // position of each observation in the panel's window
 	linear    *fit.Regression
 	origin    *fit.Regression
 	linearIdx int // index into Result.Fits
@@ -144,6 +145,10 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 		d := chosen[name]
 		for _, lag := range s.Lags {
 			c := &candidate{driver: d, lag: lag}
+			c.x = make([]float64, 0, len(obj.Cost))
+			c.y = make([]float64, 0, len(obj.Cost))
+			c.periods = make([]string, 0, len(obj.Cost))
+			c.index = make([]int, 0, len(obj.Cost))
 			for i, v := range obj.Cost {
 				xv := d.Values[i+p.MaxLag-lag]
 				if math.IsNaN(v) || math.IsNaN(xv) {
@@ -152,6 +157,7 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 				c.x = append(c.x, xv)
 				c.y = append(c.y, v)
 				c.periods = append(c.periods, p.Periods[i])
+				c.index = append(c.index, i)
 			}
 			if len(c.x) < s.MinPeriods {
 				continue

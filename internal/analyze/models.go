@@ -172,40 +172,102 @@ type second struct {
 	vif      float64
 }
 
-// pairWith aligns a second candidate with the first on their common periods.
+// pairWith aligns a second candidate with the first on their common
+// periods; both list their observations in window order.
 func pairWith(first, c2 *candidate) *second {
-	at := make(map[string]int, len(c2.periods))
-	for i, p := range c2.periods {
-		at[p] = i
-	}
 	s := &second{c: c2}
-	for i, p := range first.periods {
-		j, ok := at[p]
-		if !ok {
-			continue
+	if len(first.index) == len(c2.index) && first.index[0] == c2.index[0] && first.index[len(first.index)-1] == c2.index[len(c2.index)-1] {
+		// The usual case: both cover the same periods.
+		s.x1, s.x2, s.y, s.periods = first.x, c2.x, first.y, first.periods
+		return s
+	}
+	for i, j := 0, 0; i < len(first.index) && j < len(c2.index); {
+		switch {
+		case first.index[i] < c2.index[j]:
+			i++
+		case first.index[i] > c2.index[j]:
+			j++
+		default:
+			s.x1 = append(s.x1, first.x[i])
+			s.x2 = append(s.x2, c2.x[j])
+			s.y = append(s.y, first.y[i])
+			s.periods = append(s.periods, first.periods[i])
+			i++
+			j++
 		}
-		s.x1 = append(s.x1, first.x[i])
-		s.x2 = append(s.x2, c2.x[j])
-		s.y = append(s.y, first.y[i])
-		s.periods = append(s.periods, p)
 	}
 	return s
 }
 
+// screen computes, from centred sums, what the two-driver fit
+// cost = a + b·x1 + b2·x2 would give, without fitting it: the coefficients,
+// the partial F of x2 against the one-driver line, and the variance
+// inflation 1/(1 − r²) of the pair. Only pairs that pass on these go on to
+// the full fit.
+func (s *second) screen() (b1, b2, partialF, vif float64, ok bool) {
+	n := float64(len(s.y))
+	var m1, m2, my float64
+	for i := range s.y {
+		m1 += s.x1[i]
+		m2 += s.x2[i]
+		my += s.y[i]
+	}
+	m1, m2, my = m1/n, m2/n, my/n
+	var s11, s22, s12, s1y, s2y, syy float64
+	for i := range s.y {
+		d1, d2, dy := s.x1[i]-m1, s.x2[i]-m2, s.y[i]-my
+		s11 += d1 * d1
+		s22 += d2 * d2
+		s12 += d1 * d2
+		s1y += d1 * dy
+		s2y += d2 * dy
+		syy += dy * dy
+	}
+	det := s11*s22 - s12*s12
+	if s11 <= 0 || s22 <= 0 || det <= 1e-12*s11*s22 || n < 4 {
+		return 0, 0, 0, 0, false
+	}
+	b1 = (s22*s1y - s12*s2y) / det
+	b2 = (s11*s2y - s12*s1y) / det
+	rssFull := syy - b1*s1y - b2*s2y
+	rssReduced := syy - s1y*s1y/s11
+	if rssFull <= 0 {
+		return b1, b2, math.Inf(1), s11 * s22 / det, true
+	}
+	partialF = (rssReduced - rssFull) / (rssFull / (n - 3))
+	vif = s11 * s22 / det // 1 / (1 − r²) with r² = s12² / (s11·s22)
+	return b1, b2, partialF, vif, true
+}
+
 // forwardSelect looks for a second driver (PRODUCT §5): its coefficient
 // positive and significant by the partial F test at alpha /
-// SecondDriverStrictness, Bonferroni-corrected over the second drivers tried; the pair's variance inflation below MaxVIF; and
-// the leave-one-out error at least MinPRESSGain lower than with the first
-// driver alone. Of those,
-// the one with the lowest PRESS is returned, with how many were tried.
+// SecondDriverStrictness, Bonferroni-corrected over the second drivers tried;
+// the pair's variance inflation below MaxVIF; and the leave-one-out error at
+// least MinPRESSGain lower than with the first driver alone. Of those, the one
+// with the lowest PRESS is returned, with how many were tried. Pairs are
+// screened from sums first; only those that pass are fitted in full.
 func forwardSelect(best *candidate, cands []*candidate, s Settings) (*second, int) {
-	var tried []*second
+	var pairs []*second
 	for _, c := range cands {
 		if c.driver.Name == best.driver.Name || c.negative {
 			continue
 		}
 		p := pairWith(best, c)
 		if len(p.y) < s.MinPeriods || len(p.y) < 6 {
+			continue
+		}
+		pairs = append(pairs, p)
+	}
+	tried := len(pairs)
+	level := s.Alpha / SecondDriverStrictness / float64(max(tried, 1))
+	var chosen *second
+	for _, p := range pairs {
+		b1, b2, partialF, vif, ok := p.screen()
+		if !ok || b1 <= 0 || b2 <= 0 || vif >= MaxVIF {
+			continue
+		}
+		df := float64(len(p.y) - 3)
+		if fDist(df).Survival(partialF) >= level {
 			continue
 		}
 		full, err := fit.OLS([][]float64{p.x1, p.x2}, p.y, true)
@@ -218,27 +280,21 @@ func forwardSelect(best *candidate, cands []*candidate, s Settings) (*second, in
 				continue
 			}
 		}
-		p.full, p.reduced = full, reduced
+		p.full, p.reduced, p.vif = full, reduced, vif
 		_, p.partialP = fit.PartialF(full, reduced)
-		vif, err := fit.VIF([][]float64{p.x1, p.x2})
-		if err != nil {
+		if full.Coef[1] <= 0 || full.Coef[2] <= 0 || p.partialP*float64(tried) >= s.Alpha/SecondDriverStrictness ||
+			full.PRESS > (1-MinPRESSGain)*reduced.PRESS {
 			continue
 		}
-		p.vif = math.Max(vif[0], vif[1])
-		tried = append(tried, p)
-	}
-	var chosen *second
-	for _, p := range tried {
-		if p.full.Coef[2] <= 0 || p.full.Coef[1] <= 0 || p.partialP*float64(len(tried)) >= s.Alpha/SecondDriverStrictness ||
-			p.vif >= MaxVIF || p.full.PRESS > (1-MinPRESSGain)*p.reduced.PRESS {
-			continue
-		}
-		if chosen == nil || p.full.PRESS < chosen.full.PRESS {
+		if chosen == nil || full.PRESS < chosen.full.PRESS {
 			chosen = p
 		}
 	}
-	return chosen, len(tried)
+	return chosen, tried
 }
+
+// fDist is the F(1, df) distribution of a partial F test of one coefficient.
+func fDist(df float64) distuv.F { return distuv.F{D1: 1, D2: df} }
 
 // twoDriverRecord turns an adopted second driver into a stored fit.
 func twoDriverRecord(o costdrift.CostObject, best *candidate, p *second) costdrift.Fit {

@@ -709,7 +709,13 @@ func (r *Regression) finish(tss float64) {
 		r.R2 = 1 - r.RSS/tss
 		r.AdjR2 = 1 - (1-r.R2)*(n-lost)/df
 		r.F = math.Max(0, (tss-r.RSS)/float64(slopes)/s2)
-		r.FP = upperF(r.F, float64(slopes), df)
+		if slopes == 1 {
+			// One slope: F = t², and Pr(F(1, df) > t²) is the slope's
+			// two-sided p-value, already computed.
+			r.FP = r.P[k-1]
+		} else {
+			r.FP = upperF(r.F, float64(slopes), df)
+		}
 	}
 
 	var press float64
