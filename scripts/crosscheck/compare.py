@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Numeric diff of two golden JSON files written by generate.py or steps.R.
+"""Numeric diff of two golden JSON files written by generate.py, steps.R or drift.R.
 
 Usage: compare.py COMMITTED.json FRESH.json
 

@@ -1,5 +1,6 @@
 #!/usr/bin/env bash
-# Cross-checks of internal/fit against general-purpose libraries.
+# Cross-checks of internal/fit and internal/drift against general-purpose
+# libraries.
 #
 # 1. Regenerates the golden files into a temporary folder with the Debian
 #    packages named below and compares them numerically with the committed
@@ -39,9 +40,11 @@ else
   trap 'rm -rf "$tmp"' EXIT
   "$PY" "$here/generate.py" "$tmp/cases.json"
   Rscript "$here/steps.R" "$tmp/steps.json"
+  Rscript "$here/drift.R" "$tmp/drift.json"
   status=0
   "$PY" "$here/compare.py" "$golden/cases.json" "$tmp/cases.json" || status=1
   "$PY" "$here/compare.py" "$golden/steps.json" "$tmp/steps.json" || status=1
+  "$PY" "$here/compare.py" "$golden/drift.json" "$tmp/drift.json" || status=1
   if [ $status -ne 0 ]; then
     echo "crosscheck: FAILED: the committed golden files are not what the libraries compute now" >&2
     exit 1
@@ -49,3 +52,4 @@ else
 fi
 
 go test -count=1 -run 'Crosscheck|NIST' ./internal/fit/
+go test -count=1 -run 'Crosscheck|Nile' ./internal/drift/
