@@ -140,34 +140,48 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 	}
 	sort.Strings(names)
 
-	var out []*candidate
+	costComplete := complete(obj.Cost)
+	identity := make([]int, len(obj.Cost))
+	for i := range identity {
+		identity[i] = i
+	}
+	out := make([]*candidate, 0, len(names)*len(s.Lags))
 	for _, name := range names {
 		d := chosen[name]
 		for _, lag := range s.Lags {
 			c := &candidate{driver: d, lag: lag}
-			c.x = make([]float64, 0, len(obj.Cost))
-			c.y = make([]float64, 0, len(obj.Cost))
-			c.periods = make([]string, 0, len(obj.Cost))
-			c.index = make([]int, 0, len(obj.Cost))
-			for i, v := range obj.Cost {
-				xv := d.Values[i+p.MaxLag-lag]
-				if math.IsNaN(v) || math.IsNaN(xv) {
-					continue
+			start := p.MaxLag - lag
+			if costComplete && complete(d.Values[start:start+len(obj.Cost)]) {
+				// The usual case, no gap anywhere: the candidate's data are
+				// views of the panel's, and nothing is copied.
+				c.x, c.y, c.periods, c.index = d.Values[start:start+len(obj.Cost)], obj.Cost, p.Periods, identity
+			} else {
+				c.x = make([]float64, 0, len(obj.Cost))
+				c.y = make([]float64, 0, len(obj.Cost))
+				c.periods = make([]string, 0, len(obj.Cost))
+				c.index = make([]int, 0, len(obj.Cost))
+				for i, v := range obj.Cost {
+					xv := d.Values[i+start]
+					if math.IsNaN(v) || math.IsNaN(xv) {
+						continue
+					}
+					c.x = append(c.x, xv)
+					c.y = append(c.y, v)
+					c.periods = append(c.periods, p.Periods[i])
+					c.index = append(c.index, i)
 				}
-				c.x = append(c.x, xv)
-				c.y = append(c.y, v)
-				c.periods = append(c.periods, p.Periods[i])
-				c.index = append(c.index, i)
 			}
 			if len(c.x) < s.MinPeriods {
 				continue
 			}
-			lin, err := fit.Line(c.x, c.y)
+			// Summary fits, without per-period arrays: only the chosen
+			// driver's are needed, and full() computes them.
+			lin, err := fit.LineSummary(c.x, c.y)
 			if err != nil {
 				continue // a constant driver explains nothing
 			}
 			c.linear = lin
-			if orig, err := fit.ThroughOrigin(c.x, c.y); err == nil {
+			if orig, err := fit.ThroughOriginSummary(c.x, c.y); err == nil {
 				c.origin = orig
 			}
 			c.meanX = meanOf(c.x)
@@ -176,6 +190,27 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 		}
 	}
 	return out
+}
+
+// complete reports whether no value is missing (NaN).
+func complete(v []float64) bool {
+	for _, x := range v {
+		if math.IsNaN(x) {
+			return false
+		}
+	}
+	return true
+}
+
+// full gives the candidate's line its per-period arrays (residuals,
+// leverage, Cook's distance), which the chosen driver's diagnostics need.
+func (c *candidate) full() {
+	if c.linear.Residuals != nil {
+		return
+	}
+	if r, err := fit.Line(c.x, c.y); err == nil {
+		c.linear = r
+	}
 }
 
 // adjust applies Holm's step-down correction to the slopes' p-values over

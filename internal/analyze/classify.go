@@ -104,6 +104,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	if stepCand != nil {
 		best = stepCand
 	}
+	best.full()
 	lin := best.linear
 	// The model comparison is on the chosen driver's periods, so that every
 	// AICc in it is of the same costs.

@@ -110,7 +110,16 @@ type Regression struct {
 // newRegression allocates a Regression and every slice it holds from one
 // backing array, so that a fit costs two allocations.
 func newRegression(n, k, regressors int, intercept bool) *Regression {
-	size := 5*k + k*k + 3*n
+	return newRegressionArrays(n, k, regressors, intercept, true)
+}
+
+// newRegressionArrays is newRegression; without arrays the per-observation
+// slices (Residuals, Leverage, CooksD) are left nil.
+func newRegressionArrays(n, k, regressors int, intercept, arrays bool) *Regression {
+	size := 5*k + k*k
+	if arrays {
+		size += 3 * n
+	}
 	if intercept {
 		size += regressors
 	}
@@ -130,9 +139,11 @@ func newRegression(n, k, regressors int, intercept bool) *Regression {
 	if intercept {
 		r.centre = carve(regressors)
 	}
-	r.Residuals = carve(n)
-	r.Leverage = carve(n)
-	r.CooksD = carve(n)
+	if arrays {
+		r.Residuals = carve(n)
+		r.Leverage = carve(n)
+		r.CooksD = carve(n)
+	}
 	return r
 }
 
@@ -499,7 +510,15 @@ func (c *compensated) value() float64 { return c.hi + c.lo }
 // ErrTooFewObservations when N < 3, ErrNonFinite for NaN or ±Inf input, and
 // ErrIllConditioned when x is constant, which here means
 // sqrt(Sxx/Σx²) < 1e-7, the test OLS applies to a centred column.
-func Line(x, y []float64) (*Regression, error) {
+func Line(x, y []float64) (*Regression, error) { return line(x, y, true) }
+
+// LineSummary is Line without the per-observation arrays (Residuals,
+// Leverage and CooksD are nil); every other field, PRESS included, is the
+// same. It is for screening many candidate drivers, where the arrays of all
+// but the chosen one would be thrown away.
+func LineSummary(x, y []float64) (*Regression, error) { return line(x, y, false) }
+
+func line(x, y []float64, arrays bool) (*Regression, error) {
 	n := len(x)
 	if len(y) != n {
 		panic(fmt.Sprintf("fit: Line x has %d values, y has %d", n, len(y)))
@@ -558,16 +577,24 @@ func Line(x, y []float64) (*Regression, error) {
 	b := sxy / sxx
 
 	// Pass 3: residuals and leverage.
-	r := newRegression(n, 2, 1, true)
-	var rss float64
+	r := newRegressionArrays(n, 2, 1, true, arrays)
+	var rss, press float64
 	for i := 0; i < n; i++ {
 		u := x[i] - xbar
 		e := (y[i] - ybar) - b*u
-		r.Residuals[i] = e
-		r.Leverage[i] = 1/nf + u*u/sxx
+		h := 1/nf + u*u/sxx
+		if arrays {
+			r.Residuals[i] = e
+			r.Leverage[i] = h
+		} else if free := 1 - h; free < leverageOne {
+			press = math.Inf(1)
+		} else {
+			press += (e / free) * (e / free)
+		}
 		rss += e * e
 	}
 	r.RSS = rss
+	r.PRESS = press
 	r.Coef[0] = ybar - b*xbar
 	r.Coef[1] = b
 	r.StdErr[0] = math.Sqrt(1/nf + xbar*xbar/sxx)
@@ -589,7 +616,13 @@ func Line(x, y []float64) (*Regression, error) {
 // ThroughOrigin panics when len(x) != len(y). It returns an error wrapping
 // ErrTooFewObservations when N < 2, ErrNonFinite for NaN or ±Inf input or
 // overflowing sums, and ErrIllConditioned when every x is 0.
-func ThroughOrigin(x, y []float64) (*Regression, error) {
+func ThroughOrigin(x, y []float64) (*Regression, error) { return throughOrigin(x, y, true) }
+
+// ThroughOriginSummary is ThroughOrigin without the per-observation arrays,
+// as LineSummary is Line.
+func ThroughOriginSummary(x, y []float64) (*Regression, error) { return throughOrigin(x, y, false) }
+
+func throughOrigin(x, y []float64, arrays bool) (*Regression, error) {
 	n := len(x)
 	if len(y) != n {
 		panic(fmt.Sprintf("fit: ThroughOrigin x has %d values, y has %d", n, len(y)))
@@ -617,15 +650,23 @@ func ThroughOrigin(x, y []float64) (*Regression, error) {
 		return nil, fmt.Errorf("through origin: activity is all zero: %w", ErrIllConditioned)
 	}
 	b := sxy / sxx
-	r := newRegression(n, 1, 1, false)
-	var rss float64
+	r := newRegressionArrays(n, 1, 1, false, arrays)
+	var rss, press float64
 	for i := 0; i < n; i++ {
 		e := y[i] - b*x[i]
-		r.Residuals[i] = e
-		r.Leverage[i] = x[i] * x[i] / sxx
+		h := x[i] * x[i] / sxx
+		if arrays {
+			r.Residuals[i] = e
+			r.Leverage[i] = h
+		} else if free := 1 - h; free < leverageOne {
+			press = math.Inf(1)
+		} else {
+			press += (e / free) * (e / free)
+		}
 		rss += e * e
 	}
 	r.RSS = rss
+	r.PRESS = press
 	r.Coef[0] = b
 	r.StdErr[0] = 1 / math.Sqrt(sxx)
 	r.gamma[0] = b
@@ -718,6 +759,11 @@ func (r *Regression) finish(tss float64) {
 		}
 	}
 
+	if r.Leverage == nil {
+		// A summary fit: its caller computed PRESS, and keeps no arrays.
+		r.AIC, r.AICc, r.BIC = gaussianCriteria(r.RSS, r.N, k+1)
+		return
+	}
 	var press float64
 	for i, h := range r.Leverage {
 		e := r.Residuals[i]

@@ -946,3 +946,28 @@ func BenchmarkOLSTwoDrivers(b *testing.B) {
 		}
 	}
 }
+
+// The summary fits equal the full ones in every field they keep (internal
+// consistency: the same arithmetic without the arrays).
+func TestSummaryFitsEqualFullFits(t *testing.T) {
+	x := []float64{3, 7, 1, 9, 4, 6, 2, 8, 5, 10}
+	y := []float64{31, 64, 15, 90, 42, 55, 27, 77, 52, 95}
+	for name, pair := range map[string][2]func(x, y []float64) (*Regression, error){
+		"line":           {Line, LineSummary},
+		"through origin": {ThroughOrigin, ThroughOriginSummary},
+	} {
+		full, err1 := pair[0](x, y)
+		lean, err2 := pair[1](x, y)
+		if err1 != nil || err2 != nil {
+			t.Fatal(err1, err2)
+		}
+		if lean.Residuals != nil || lean.Leverage != nil || lean.CooksD != nil {
+			t.Errorf("%s: summary keeps arrays", name)
+		}
+		same := func(a, b float64) bool { return math.Abs(a-b) <= 1e-12*math.Max(1, math.Abs(a)) }
+		if !same(full.PRESS, lean.PRESS) || !same(full.RSS, lean.RSS) || !same(full.R2, lean.R2) || !same(full.AICc, lean.AICc) ||
+			!same(full.P[len(full.P)-1], lean.P[len(lean.P)-1]) || !same(full.Coef[0], lean.Coef[0]) {
+			t.Errorf("%s: summary %+v differs from full %+v", name, lean, full)
+		}
+	}
+}
