@@ -85,3 +85,33 @@ func TestLoadFileBatches(t *testing.T) {
 		t.Errorf("rejects\n got %q\nwant %q", reasons, want)
 	}
 }
+
+// A source name with a quote in it is stored as written, not as SQL.
+func TestLoadFileQuotedSourceName(t *testing.T) {
+	db, _ := mustOpen(t)
+	ctx := context.Background()
+	run := costdrift.SyncRun{Source: "o'brien ledger", Role: costdrift.RoleLedger, Kind: "csv"}
+	if err := db.BeginSync(ctx, &run); err != nil {
+		t.Fatal(err)
+	}
+	var lines []costdrift.LedgerLine
+	for i := 0; i < 150; i++ {
+		lines = append(lines, line(fmt.Sprintf("Q%03d", i), 1, 100))
+	}
+	err := db.LoadFile(ctx, &run, costdrift.SourceFile{Source: run.Source, Path: "/q.csv", Size: 1, SHA256: "x"}, func(w costdrift.SourceWriter) error {
+		for _, l := range lines {
+			if err := w.LedgerLine(l); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var n int
+	db.SQL().QueryRow(`SELECT COUNT(*) FROM gl_lines WHERE source = ?`, "o'brien ledger").Scan(&n)
+	if n != 150 {
+		t.Errorf("%d lines stored under the quoted source name, want 150", n)
+	}
+}

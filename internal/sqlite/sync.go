@@ -12,6 +12,8 @@ import (
 	"sync/atomic"
 	"time"
 
+	"github.com/mattn/go-sqlite3"
+
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
@@ -181,6 +183,7 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 				run.RowsReplaced += int(n)
 			}
 		}
+		loadedBefore := run.RowsLoaded
 		w, err := newWriter(ctx, tx, run, modeFile, id)
 		if err != nil {
 			return err
@@ -194,17 +197,15 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 		if err := p.finish(); err != nil {
 			return err
 		}
-		var rows int
-		if err := tx.QueryRowContext(ctx, `SELECT (SELECT COUNT(*) FROM gl_lines WHERE source_file_id = ?1)
-			+ (SELECT COUNT(*) FROM activity WHERE source_file_id = ?1) + (SELECT COUNT(*) FROM accounts WHERE source_file_id = ?1)`, id).Scan(&rows); err != nil {
-			return err
-		}
+		// Every row stored by this load, new or taken over from another
+		// file, now belongs to this file; its old rows were removed above.
+		rows := run.RowsLoaded - loadedBefore
 		if _, err := tx.ExecContext(ctx, `UPDATE source_files SET size = ?, sha256 = ?, rows = ?, loaded_at = ?, sync_run_id = ? WHERE id = ?`,
 			file.Size, file.SHA256, rows, db.now(), run.ID, id); err != nil {
 			return err
 		}
 		if run.Role == costdrift.RoleLedger {
-			return unbalanced(ctx, tx, run, id, file.Path)
+			return unbalanced(ctx, tx, run, id, file.Path, &w.balance)
 		}
 		return nil
 	})
@@ -216,15 +217,38 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 
 // unbalanced warns when entries of a file do not sum to zero. It is a
 // warning, not a reject: an export may carry only the expense side.
-func unbalanced(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID int64, path string) error {
-	var entries, off int
-	err := tx.QueryRowContext(ctx, `SELECT COUNT(*), COALESCE(SUM(total <> 0), 0) FROM
-		(SELECT SUM(amount_minor) AS total FROM gl_lines WHERE source_file_id = ? GROUP BY entry_id)`, fileID).Scan(&entries, &off)
-	if err != nil {
-		return err
+func unbalanced(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID int64, path string, b *balance) error {
+	b.close()
+	off := 0
+	switch {
+	case b.overflow:
+		err := tx.QueryRowContext(ctx, `SELECT COALESCE(SUM(total <> 0), 0) FROM
+			(SELECT SUM(amount_minor) AS total FROM gl_lines WHERE source_file_id = ? GROUP BY entry_id)`, fileID).Scan(&off)
+		if err != nil {
+			return err
+		}
+	case len(b.suspects) > 0:
+		stmt, err := tx.PrepareContext(ctx, `SELECT SUM(amount_minor) FROM gl_lines WHERE source = ? AND entry_id = ?`)
+		if err != nil {
+			return err
+		}
+		defer stmt.Close()
+		for entry := range b.suspects {
+			var total int64
+			if err := stmt.QueryRowContext(ctx, run.Source, entry).Scan(&total); err != nil {
+				return err
+			}
+			if total != 0 {
+				off++
+			}
+		}
 	}
 	if off > 0 {
-		run.Warnings = append(run.Warnings, fmt.Sprintf("%s: %d of %d entries do not balance (debits minus credits is not zero); the file may hold only part of each entry", path, off, entries))
+		noun := "entries do"
+		if off == 1 {
+			noun = "entry does"
+		}
+		run.Warnings = append(run.Warnings, fmt.Sprintf("%s: %d %s not balance (debits minus credits is not zero); the file may hold only part of each entry", path, off, noun))
 	}
 	return nil
 }
@@ -294,6 +318,7 @@ type writer struct {
 	pending     []costdrift.LedgerLine // ledger lines of a file not yet stored
 	batchInsert string
 	batchArgs   []any
+	balance     balance
 }
 
 var tableSQL = map[string]struct{ insert, upsertWhere, seen, lookup, takeOver string }{
@@ -481,8 +506,56 @@ func (w *writer) LedgerLine(l costdrift.LedgerLine) error {
 }
 
 func (w *writer) storeLine(l costdrift.LedgerLine) error {
-	return w.store("gl", []any{l.EntryID, l.Line}, []any{l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description},
+	rejected := w.run.RowsRejected
+	err := w.store("gl", []any{l.EntryID, l.Line}, []any{l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description},
 		fmt.Sprintf("entry %s line %d", l.EntryID, l.Line))
+	if err == nil && w.run.RowsRejected == rejected {
+		w.balance.add(l)
+	}
+	return err
+}
+
+// quoteSQL writes s as an SQL string literal.
+func quoteSQL(s string) string {
+	return "'" + strings.ReplaceAll(s, "'", "''") + "'"
+}
+
+// balance follows the entries of a file as its lines are stored, to warn of
+// entries that do not sum to zero without a query over the whole file: an
+// entry whose lines follow one another is checked as it ends; one whose
+// lines are scattered is a suspect, checked against the store at the end.
+type balance struct {
+	entry    string
+	sum      int64
+	started  bool
+	suspects map[string]struct{}
+	overflow bool // too many suspects to check one by one
+}
+
+// maxSuspects bounds the memory the check takes, whatever the file's size.
+const maxSuspects = 10000
+
+func (b *balance) add(l costdrift.LedgerLine) {
+	if b.started && l.EntryID == b.entry {
+		b.sum += l.AmountMinor
+		return
+	}
+	b.close()
+	b.entry, b.sum, b.started = l.EntryID, l.AmountMinor, true
+}
+
+func (b *balance) close() {
+	if !b.started || b.sum == 0 {
+		return
+	}
+	if b.suspects == nil {
+		b.suspects = map[string]struct{}{}
+	}
+	if len(b.suspects) >= maxSuspects {
+		b.overflow = true
+		return
+	}
+	b.suspects[b.entry] = struct{}{}
 }
 
 // ledgerBatch is how many ledger lines one INSERT carries. Fewer round
@@ -514,56 +587,49 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 		return nil
 	}
 	if w.batchInsert == "" {
+		// The source, run and file are the same for every line of the
+		// batch: written into the statement once, they are not bound a
+		// hundred times (each bound value is a call into SQLite). The
+		// source name is quoted as an SQL string; the ids are integers.
+		row := fmt.Sprintf("(%s,?,?,?,?,?,?,?,?,%d,%d)", quoteSQL(w.run.Source), w.run.ID, w.fileID)
 		var b strings.Builder
 		b.WriteString(`INSERT INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id, source_file_id) VALUES `)
 		for i := 0; i < ledgerBatch; i++ {
 			if i > 0 {
 				b.WriteByte(',')
 			}
-			b.WriteString("(?,?,?,?,?,?,?,?,?,?,?)")
+			b.WriteString(row)
 		}
-		b.WriteString(` ON CONFLICT DO NOTHING RETURNING entry_id, line`)
 		w.batchInsert = b.String()
-		w.batchArgs = make([]any, 0, ledgerBatch*11)
+		w.batchArgs = make([]any, 0, ledgerBatch*8)
 	}
 	args := w.batchArgs[:0]
 	for _, l := range batch {
-		args = append(args, w.run.Source, l.EntryID, l.Line, l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description, w.run.ID, w.fileID)
+		args = append(args, l.EntryID, l.Line, l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description)
 	}
 	s, err := w.stmt(w.batchInsert)
 	if err != nil {
 		return err
 	}
-	rows, err := s.QueryContext(w.ctx, args...)
-	if err != nil {
-		return err
-	}
-	type key struct {
-		entry string
-		line  int
-	}
-	inserted := make(map[key]int, len(batch))
-	for rows.Next() {
-		var k key
-		if err := rows.Scan(&k.entry, &k.line); err != nil {
-			rows.Close()
+	// A plain INSERT: a key that is stored already makes SQLite refuse
+	// the whole statement (and undo it), and the batch then takes the
+	// row-by-row path that tells a repeat inside the file from a line
+	// another file loaded. New files, the bulk of a sync, never get there.
+	if _, err := s.ExecContext(w.ctx, args...); err != nil {
+		var se sqlite3.Error
+		if !errors.As(err, &se) || se.ExtendedCode != sqlite3.ErrConstraintUnique {
 			return err
 		}
-		inserted[k]++
+		for _, l := range batch {
+			if err := w.storeLine(l); err != nil {
+				return err
+			}
+		}
+		return nil
 	}
-	if err := rows.Close(); err != nil {
-		return err
-	}
+	w.run.RowsLoaded += len(batch)
 	for _, l := range batch {
-		k := key{l.EntryID, l.Line}
-		if inserted[k] > 0 {
-			inserted[k]-- // the first line with this key is the one stored
-			w.run.RowsLoaded++
-			continue
-		}
-		if err := w.storeLine(l); err != nil {
-			return err
-		}
+		w.balance.add(l)
 	}
 	return nil
 }
