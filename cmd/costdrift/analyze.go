@@ -17,6 +17,10 @@ import (
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
+// bootstrapSeed fixes the resampling behind break p-values, so that the same
+// data give the same verdict on every run and machine.
+const bootstrapSeed uint64 = 0x636f737464726966
+
 func (a *app) analyzeCommand() *cobra.Command {
 	var all bool
 	cmd := &cobra.Command{
@@ -73,7 +77,8 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
 	}
 	settings, _ := json.Marshal(map[string]any{"grain": cfg.Grain, "accounts": cfg.Accounts, "window": cfg.Window,
-		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.currency.Code})
+		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.currency.Code,
+		"break_alpha": cfg.BreakAlpha, "bootstrap_replicates": cfg.BootstrapReplicates, "seed": bootstrapSeed})
 	inputs := analyze.InputHashes(&panel, string(settings))
 	total := len(panel.Objects)
 	if !all {
@@ -89,7 +94,8 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		}
 		panel.Objects = changed
 	}
-	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha})
+	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
+		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed})
 
 	var fits []costdrift.Fit
 	behaviours := make([]costdrift.Behaviour, 0, len(results))

@@ -69,6 +69,10 @@ type reportRow struct {
 	Steps      []struct {
 		Level float64 `json:"level"`
 	} `json:"steps"`
+	Break *struct {
+		Period string  `json:"period"`
+		P      float64 `json:"p"`
+	} `json:"break"`
 }
 
 // Ground truth on invented data: every demo cost designed without a drift
@@ -98,7 +102,24 @@ func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 			continue
 		}
 		if x.Drift != "" {
-			continue // drift detection comes with its own issue
+			// The drift event is found and dated within one period, and the
+			// formula is fitted from it on.
+			if r.Since != x.DriftFrom {
+				t.Errorf("%s: drift designed from %s, behaviour since %s", obj, x.DriftFrom, r.Since)
+			}
+			if r.Break == nil || r.Break.Period != x.DriftFrom || r.Break.P > 0.01 {
+				t.Errorf("%s: break %+v, want one at %s with p <= 0.01", obj, r.Break, x.DriftFrom)
+			}
+			if x.DriftRate != 0 && (r.Rate == nil || abs(*r.Rate-x.DriftRate) > 0.03*x.DriftRate) {
+				t.Errorf("%s: rate after the drift %v, designed %.2f", obj, r.Rate, x.DriftRate)
+			}
+			if x.DriftRate == 0 && (r.Fixed == nil || abs(*r.Fixed-x.DriftFixed) > 0.01*x.DriftFixed) {
+				t.Errorf("%s: fixed after the drift %v, designed %.2f", obj, r.Fixed, x.DriftFixed)
+			}
+			continue
+		}
+		if r.Break != nil {
+			t.Errorf("%s: a stable cost has a break %+v", obj, r.Break)
 		}
 		driver := ""
 		if r.Driver != nil {
@@ -172,8 +193,10 @@ func TestResyncChangesNothing(t *testing.T) {
 	if n := count(t, store, "SELECT COUNT(*) FROM current_behaviour"); n != 13 {
 		t.Errorf("current_behaviour has %d rows after a third analysis, want 13", n)
 	}
-	if n := count(t, store, "SELECT COUNT(*) FROM behaviour_history"); n != 13 {
-		t.Errorf("behaviour_history has %d rows, want 13: nothing changed, so nothing new", n)
+	// 13 current rows and, for the two drift events, the closed row of the
+	// behaviour before the break.
+	if n := count(t, store, "SELECT COUNT(*) FROM behaviour_history"); n != 15 {
+		t.Errorf("behaviour_history has %d rows, want 15: nothing changed, so nothing new", n)
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs"); n != 3 {
 		t.Errorf("analysis_runs = %d, want 3", n)

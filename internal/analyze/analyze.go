@@ -15,6 +15,15 @@ type Settings struct {
 	MinPeriods int     // fewer observations than this: insufficient_data [12]
 	Lags       []int   // periods a driver may lead the cost [0, 1]
 	Alpha      float64 // significance level after correction [0.05]
+
+	// BreakAlpha is the level at which a break in the window counts; 0
+	// turns the break test off. [0.01]
+	BreakAlpha float64
+	// Replicates of the residual bootstrap of the sup-F p-value [999], and
+	// its seed (mixed with each object's name, so that an object's p-value
+	// does not depend on which other objects were analysed).
+	Replicates int
+	Seed       uint64
 }
 
 // Thresholds of the classification, as fractions. They are common practice
@@ -32,6 +41,12 @@ const (
 type Result struct {
 	Fits      []costdrift.Fit
 	Behaviour costdrift.Behaviour
+
+	// The data the behaviour rests on, for the break test: the chosen
+	// driver's values (nil without a driver), the costs and their window
+	// positions.
+	x, y  []float64
+	index []int
 }
 
 // candidate is one driver at one lag, aligned with the cost.
@@ -54,8 +69,19 @@ type candidate struct {
 	stepIdx   int // index into Result.Fits of its step fit
 }
 
-// Object analyses one cost object of the panel.
+// Object analyses one cost object of the panel: the behaviour over the
+// window, then a test for a break in it; with a significant break, the
+// behaviour is fitted again from the break on (see breaks.go).
 func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result {
+	res := objectOn(p, obj, s)
+	if s.BreakAlpha > 0 {
+		res = withBreak(p, obj, res, s)
+	}
+	return res
+}
+
+// objectOn analyses one cost object over the panel's whole window.
+func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result {
 	var res Result
 	b := &res.Behaviour
 	b.Object = obj.Object
@@ -66,8 +92,10 @@ func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result 
 		if !math.IsNaN(v) {
 			y = append(y, v)
 			periods = append(periods, p.Periods[i])
+			res.index = append(res.index, i)
 		}
 	}
+	res.y = y
 	b.N = len(y)
 	if len(periods) > 0 {
 		b.Since, b.Until = periods[0], periods[len(periods)-1]

@@ -106,6 +106,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	}
 	best.full()
 	lin := best.linear
+	res.x, res.y, res.index = best.x, best.y, best.index
 	// The model comparison is on the chosen driver's periods, so that every
 	// AICc in it is of the same costs.
 	if constant, err := fit.Constant(best.y); err == nil {
@@ -217,6 +218,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		b.RangeMin, b.RangeMax = 0, 0
 		b.HighLow = nil
 		res.Fits[0].Chosen = true
+		res.x = nil // a fixed cost's break is a break in its level
 		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
 		b.Reason = fmt.Sprintf("%s is significant (%s) but drives only %.1f %% of cost at mean activity (below %.0f %%); treated as fixed%s",
 			label, evidence, 100*variableShare, 100*MinorShare, note)

@@ -95,6 +95,10 @@ type Analysis struct {
 	MinPeriods int      `mapstructure:"min_periods"`
 	Lags       []int    `mapstructure:"lags"`
 	Alpha      float64  `mapstructure:"alpha"`
+	// BreakAlpha is the level at which a break in a cost's behaviour
+	// counts; BootstrapReplicates the resamples of its p-value.
+	BreakAlpha          float64 `mapstructure:"break_alpha"`
+	BootstrapReplicates int     `mapstructure:"bootstrap_replicates"`
 }
 
 // Alerts holds the alert routing.

@@ -49,6 +49,8 @@ analysis:
   min_periods: 12              # fewer periods than this: insufficient_data
   lags: [0, 1]                 # periods a driver may lead the cost
   alpha: 0.05                  # significance level, after correction for the drivers tried
+  break_alpha: 0.01            # a change in behaviour counts at this level (0: no break test)
+  bootstrap_replicates: 999    # resamples behind a break's p-value
 
 alerts:
   recipients:

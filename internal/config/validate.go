@@ -140,6 +140,12 @@ func (c *Config) validate() *Error {
 	if !(a.Alpha > 0 && a.Alpha <= 0.2) {
 		return bad("analysis.alpha", "must be in (0, 0.2], not %g", a.Alpha)
 	}
+	if !(a.BreakAlpha >= 0 && a.BreakAlpha <= 0.1) {
+		return bad("analysis.break_alpha", "must be in [0, 0.1] (0 turns the break test off), not %g", a.BreakAlpha)
+	}
+	if a.BootstrapReplicates < 99 || a.BootstrapReplicates > 99999 {
+		return bad("analysis.bootstrap_replicates", "must be from 99 to 99999, not %d", a.BootstrapReplicates)
+	}
 
 	for i, r := range c.Alerts.Recipients {
 		key := fmt.Sprintf("alerts.recipients[%d]", i)

@@ -153,4 +153,43 @@ type Behaviour struct {
 
 	Outliers    []Outlier
 	Diagnostics *Diagnostics
+
+	// Break is the dated change found in the window, when there is one; the
+	// behaviour above is then fitted from its period on (Since).
+	Break *Break
+	// Pending is a change of class, driver or lag seen by one analysis
+	// without a significant break: it takes effect only when the next
+	// analysis sees it too, so that behaviour does not flap.
+	Pending *Pending
+}
+
+// Pending is a change awaiting confirmation.
+type Pending struct {
+	Class  Class  `json:"class"`
+	Driver string `json:"driver,omitempty"`
+	Lag    int    `json:"lag"`
+	Seen   int    `json:"seen"` // analyses in a row that saw it
+}
+
+// Break is a dated change in an object's behaviour: the sup-F (Quandt–Andrews)
+// test over candidate break periods, with its p-value, and the formula on
+// each side fitted with the same driver.
+type Break struct {
+	Period      string  `json:"period"`      // first period of the new behaviour
+	LastBefore  string  `json:"last_before"` // last period of the old one
+	WindowFrom  string  `json:"window_from"` // first period the analysis saw
+	Test        string  `json:"test"`
+	Statistic   float64 `json:"statistic"`
+	P           float64 `json:"p"`
+	Replicates  int     `json:"replicates"`
+	Driver      string  `json:"driver,omitempty"` // the driver both sides were fitted on
+	Lag         int     `json:"lag"`
+	FixedBefore float64 `json:"fixed_before"`
+	RateBefore  float64 `json:"rate_before"`
+	FixedAfter  float64 `json:"fixed_after"`
+	RateAfter   float64 `json:"rate_after"`
+	Periods     int     `json:"periods_after"` // periods since the break
+	// Provisional: fewer than min_periods follow the break, so the
+	// behaviour keeps the driver it had before and is refitted on them.
+	Provisional bool `json:"provisional"`
 }

@@ -48,6 +48,10 @@ type Row struct {
 	Unit2         string   `json:"unit2,omitempty"`
 	// Periods whose Cook's distance exceeds 4/n in the chosen fit.
 	Outliers []string `json:"outliers"`
+	// The dated break the behaviour starts at, and a change awaiting
+	// confirmation by the next analysis.
+	Break   *costdrift.Break   `json:"break"`
+	Pending *costdrift.Pending `json:"pending"`
 }
 
 // Rows turns behaviours into report rows.
@@ -63,6 +67,7 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 		if r.Steps == nil {
 			r.Steps = []costdrift.StepLevel{}
 		}
+		r.Break, r.Pending = b.Break, b.Pending
 		r.Outliers = []string{}
 		for _, o := range b.Outliers {
 			r.Outliers = append(r.Outliers, o.Period)

@@ -184,19 +184,82 @@ func diagNum(f costdrift.Fit, v float64) any {
 	return num(v)
 }
 
+// saveBehaviour keeps an object's effective-dated history (PRODUCT §5):
+//
+//   - no open row: the behaviour opens one from its first period; with a
+//     break, a closed row for the periods before the break is written first,
+//     with the formula fitted on them;
+//   - a break after the open row began: the open row closes the period before
+//     the break, and the new behaviour opens from it;
+//   - the same class, driver and lag: the open row is refreshed;
+//   - another class, driver or lag without a break: the change is pending
+//     until the next analysis sees it again; only then does it replace the
+//     open row. A change seen once and then not again is dropped, so the
+//     behaviour never flaps.
 func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour) error {
 	var id int64
-	var class, driver string
+	var class, driver, since, until, pendingText string
 	var lag sql.NullInt64
-	err := tx.QueryRowContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag FROM behaviour_history
-		WHERE object = ? AND valid_to_run_at IS NULL`, b.Object.String()).Scan(&id, &class, &driver, &lag)
+	err := tx.QueryRowContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag, COALESCE(since, ''), COALESCE(until, ''), COALESCE(pending, '')
+		FROM behaviour_history WHERE object = ? AND valid_to_run_at IS NULL`, b.Object.String()).Scan(&id, &class, &driver, &lag, &since, &until, &pendingText)
 	switch {
 	case errors.Is(err, sql.ErrNoRows):
 		id = 0
 	case err != nil:
 		return err
 	}
-	steps, highLow := "", ""
+	hasDriver := b.Driver != ""
+	sameLag := (!hasDriver && !lag.Valid) || (hasDriver && lag.Valid && int(lag.Int64) == b.Lag)
+	same := id != 0 && class == string(b.Class) && driver == b.Driver && sameLag
+	newBreak := b.Break != nil && (id == 0 || since < b.Break.Period)
+
+	switch {
+	case id == 0:
+		if b.Break != nil {
+			if err := insertBefore(ctx, tx, runID, now, b); err != nil {
+				return err
+			}
+		}
+		return insertBehaviour(ctx, tx, runID, now, b, b.Since)
+	case newBreak:
+		if err := closeBehaviour(ctx, tx, id, now, b.Break.LastBefore); err != nil {
+			return err
+		}
+		return insertBehaviour(ctx, tx, runID, now, b, b.Since)
+	case same:
+		b.Pending = nil
+		return updateBehaviour(ctx, tx, runID, id, b)
+	}
+
+	// A change of class, driver or lag without a break.
+	var pending costdrift.Pending
+	if pendingText != "" {
+		if err := json.Unmarshal([]byte(pendingText), &pending); err != nil {
+			return fmt.Errorf("pending: %w", err)
+		}
+	}
+	if pendingText != "" && pending.Class == b.Class && pending.Driver == b.Driver && pending.Lag == b.Lag {
+		// Seen a second time in a row: it takes effect after the last
+		// period the old behaviour was confirmed on.
+		if err := closeBehaviour(ctx, tx, id, now, until); err != nil {
+			return err
+		}
+		b.Pending = nil
+		return insertBehaviour(ctx, tx, runID, now, b, b.Since)
+	}
+	p, _ := json.Marshal(costdrift.Pending{Class: b.Class, Driver: b.Driver, Lag: b.Lag, Seen: 1})
+	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET pending = ?, last_run_id = ?, until = ? WHERE id = ?`,
+		string(p), runID, nullString(b.Until), id)
+	return err
+}
+
+// behaviourValues are the columns a behaviour row carries, in the order of
+// behaviourColumns.
+const behaviourColumns = `class, driver, unit, lag, fixed_per_period, variable_rate, r2, n, range_min, range_max, since, until, steps, reason,
+	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending`
+
+func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
+	steps, highLow, diagnostics, brk, pending := "", "", "", "", ""
 	if len(b.Steps) > 0 {
 		j, _ := json.Marshal(b.Steps)
 		steps = string(j)
@@ -205,41 +268,93 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *
 		j, _ := json.Marshal(highLowJSON(*b.HighLow))
 		highLow = string(j)
 	}
-	hasDriver := b.Driver != ""
-	sameLag := (!hasDriver && !lag.Valid) || (hasDriver && lag.Valid && int(lag.Int64) == b.Lag)
-	diagnostics := ""
 	if b.Diagnostics != nil {
 		j, err := json.Marshal(toDiagnosticsJSON(*b.Diagnostics))
 		if err != nil {
-			return fmt.Errorf("diagnostics: %w", err)
+			return nil, fmt.Errorf("diagnostics: %w", err)
 		}
 		diagnostics = string(j)
+	}
+	if b.Break != nil {
+		bb := *b.Break
+		if math.IsInf(bb.Statistic, 0) || math.IsNaN(bb.Statistic) {
+			bb.Statistic = math.MaxFloat64 // an exact step: JSON has no infinity
+		}
+		j, err := json.Marshal(bb)
+		if err != nil {
+			return nil, fmt.Errorf("break: %w", err)
+		}
+		brk = string(j)
+	}
+	if b.Pending != nil {
+		j, _ := json.Marshal(b.Pending)
+		pending = string(j)
 	}
 	var lag2 any
 	if b.Driver2 != "" {
 		lag2 = b.Lag2
 	}
-	values := []any{string(b.Class), nullString(b.Driver), nullString(b.Unit), lagValue(b), num(b.FixedPerPeriod), num(b.VariableRate),
+	return []any{string(b.Class), nullString(b.Driver), nullString(b.Unit), lagValue(b), num(b.FixedPerPeriod), num(b.VariableRate),
 		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
 		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
-		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics)}
-	if id != 0 && class == string(b.Class) && driver == b.Driver && sameLag {
-		_, err := tx.ExecContext(ctx, `UPDATE behaviour_history SET class = ?, driver = ?, unit = ?, lag = ?, fixed_per_period = ?,
-			variable_rate = ?, r2 = ?, n = ?, range_min = ?, range_max = ?, since = ?, until = ?, steps = ?, reason = ?,
-			mean_cost = ?, cv = ?, high_low = ?, driver2 = ?, unit2 = ?, lag2 = ?, variable_rate2 = ?, outliers = ?, diagnostics = ?,
-			last_run_id = ? WHERE id = ?`, append(values, runID, id)...)
+		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics),
+		nullString(brk), nullString(pending)}, nil
+}
+
+func insertBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour, from string) error {
+	values, err := behaviourValues(b)
+	if err != nil {
 		return err
 	}
-	if id != 0 {
-		if _, err := tx.ExecContext(ctx, `UPDATE behaviour_history SET valid_to_run_at = ? WHERE id = ?`, now, id); err != nil {
-			return err
-		}
+	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
+		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_from_period)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, nullString(from))...)
+	return err
+}
+
+func updateBehaviour(ctx context.Context, tx *sql.Tx, runID, id int64, b *costdrift.Behaviour) error {
+	values, err := behaviourValues(b)
+	if err != nil {
+		return err
 	}
-	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (class, driver, unit, lag, fixed_per_period, variable_rate, r2, n,
-		range_min, range_max, since, until, steps, reason, mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics,
-		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now)...)
+	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET (`+behaviourColumns+`, last_run_id)
+		= (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) WHERE id = ?`, append(values, runID, id)...)
+	return err
+}
+
+func closeBehaviour(ctx context.Context, tx *sql.Tx, id int64, now, lastPeriod string) error {
+	_, err := tx.ExecContext(ctx, `UPDATE behaviour_history SET valid_to_run_at = ?, valid_to_period = ? WHERE id = ?`, now, nullString(lastPeriod), id)
+	return err
+}
+
+// insertBefore records the behaviour before a break the first analysis of
+// an object found: the same class and driver, with the formula fitted on
+// the periods before the break, closed at the last of them.
+func insertBefore(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour) error {
+	before := *b
+	br := b.Break
+	before.Break, before.Pending, before.Steps, before.HighLow, before.Diagnostics, before.Outliers = nil, nil, nil, nil, nil, nil
+	before.Driver2, before.Unit2 = "", ""
+	before.FixedPerPeriod, before.VariableRate = br.FixedBefore, br.RateBefore
+	if br.Driver == "" {
+		before.Class, before.Driver, before.Unit = b.Class, "", ""
+		if b.Class != costdrift.Fixed && b.Class != costdrift.Unexplained {
+			before.Class = costdrift.Fixed
+		}
+		before.VariableRate = 0
+	}
+	before.Since, before.Until = br.WindowFrom, br.LastBefore
+	before.N = 0
+	before.Reason = fmt.Sprintf("before the break at %s: fitted on %s to %s with the same driver", br.Period, br.WindowFrom, br.LastBefore)
+	values, err := behaviourValues(&before)
+	if err != nil {
+		return err
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
+		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_to_run_at, valid_from_period, valid_to_period)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, now, nullString(br.WindowFrom), nullString(br.LastBefore))...)
 	return err
 }
 
@@ -248,7 +363,8 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 	rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
-		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, '')
+		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
+		COALESCE(break, ''), COALESCE(pending, '')
 		FROM current_behaviour ORDER BY account, cost_center`)
 	if err != nil {
 		return nil, err
@@ -260,13 +376,25 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		var class, steps, highLow string
 		var lag sql.NullInt64
 		var fixed, rate, r2, lo, hi, mean, cv sql.NullFloat64
-		var outliers, diagnostics string
+		var outliers, diagnostics, brk, pending string
 		var lag2 sql.NullInt64
 		var rate2 sql.NullFloat64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics); err != nil {
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending); err != nil {
 			return nil, err
+		}
+		if brk != "" {
+			b.Break = &costdrift.Break{}
+			if err := json.Unmarshal([]byte(brk), b.Break); err != nil {
+				return nil, fmt.Errorf("behaviour %s: break: %w", b.Object, err)
+			}
+		}
+		if pending != "" {
+			b.Pending = &costdrift.Pending{}
+			if err := json.Unmarshal([]byte(pending), b.Pending); err != nil {
+				return nil, fmt.Errorf("behaviour %s: pending: %w", b.Object, err)
+			}
 		}
 		b.Lag2, b.VariableRate2 = int(lag2.Int64), rate2.Float64
 		if outliers != "" {

@@ -124,8 +124,9 @@ func TestSaveAnalysisNaNAsNull(t *testing.T) {
 }
 
 func TestSaveAnalysisBehaviourHistory(t *testing.T) {
-	// The open row is refreshed while class, driver and lag stay; any
-	// change closes it at the analysis time and opens a new one.
+	// The open row is refreshed while class, driver and lag stay. A change
+	// without a break waits for a second analysis to see it: only then does
+	// it close the open row and open a new one (no flapping).
 	tests := []struct {
 		name   string
 		first  costdrift.Behaviour
@@ -150,26 +151,92 @@ func TestSaveAnalysisBehaviourHistory(t *testing.T) {
 			tc.second(&second)
 			run2 := save(t, db, c, nil, second)
 			object := tc.first.Object.String()
-
-			history := dump(t, db, `SELECT first_run_id, last_run_id, valid_from_run_at, valid_to_run_at FROM behaviour_history
-				WHERE object = '`+object+`' ORDER BY id`)
+			history := func() string {
+				return dump(t, db, `SELECT first_run_id, last_run_id, valid_from_run_at, valid_to_run_at FROM behaviour_history
+					WHERE object = '`+object+`' ORDER BY id`)
+			}
 			id1, id2 := strconv.FormatInt(first.ID, 10), strconv.FormatInt(run2.ID, 10)
-			want := "int64:" + id1 + "|int64:" + id2 + `|"2025-06-01T06:00:00Z"|NULL` + "\n"
-			if tc.closes {
-				want = "int64:" + id1 + "|int64:" + id1 + `|"2025-06-01T06:00:00Z"|"2025-07-01T06:00:00Z"` + "\n" +
-					"int64:" + id2 + "|int64:" + id2 + `|"2025-07-01T06:00:00Z"|NULL` + "\n"
-			}
-			if history != want {
-				t.Errorf("behaviour_history:\n%s\nwant\n%s", history, want)
-			}
-			if n := count(t, db, "current_behaviour WHERE object = ? AND analysis_run_id = ?", object, run2.ID); n != 1 {
-				t.Errorf("current_behaviour has %d rows of %s from the second run, want 1", n, object)
+			// After the second analysis a change is only pending.
+			if got, want := history(), "int64:"+id1+"|int64:"+id2+`|"2025-06-01T06:00:00Z"|NULL`+"\n"; got != want {
+				t.Errorf("after the second analysis:\n%s\nwant\n%s", got, want)
 			}
 			bs := current(t, db)
-			if len(bs) != 1 || !sameBehaviour(bs[0], second) {
+			if tc.closes {
+				if len(bs) != 1 || bs[0].Class != tc.first.Class || bs[0].Driver != tc.first.Driver || bs[0].Pending == nil ||
+					bs[0].Pending.Class != second.Class || bs[0].Pending.Driver != second.Driver || bs[0].Pending.Lag != second.Lag {
+					t.Fatalf("after one sighting the behaviour must stay, with the change pending: %+v", bs)
+				}
+			} else if len(bs) != 1 || !sameBehaviour(bs[0], second) || bs[0].Pending != nil {
+				t.Fatalf("CurrentBehaviour %+v, want %+v", bs, second)
+			}
+			if !tc.closes {
+				return
+			}
+			c.t = c.t.AddDate(0, 1, 0) // 2025-08-01T06:00:00Z
+			run3 := save(t, db, c, nil, second)
+			id3 := strconv.FormatInt(run3.ID, 10)
+			want := "int64:" + id1 + "|int64:" + id2 + `|"2025-06-01T06:00:00Z"|"2025-08-01T06:00:00Z"` + "\n" +
+				"int64:" + id3 + "|int64:" + id3 + `|"2025-08-01T06:00:00Z"|NULL` + "\n"
+			if got := history(); got != want {
+				t.Errorf("after the third analysis:\n%s\nwant\n%s", got, want)
+			}
+			bs = current(t, db)
+			if len(bs) != 1 || !sameBehaviour(bs[0], second) || bs[0].Pending != nil {
 				t.Errorf("CurrentBehaviour %+v, want %+v", bs, second)
 			}
 		})
+	}
+}
+
+// A change seen once and then not again is dropped: the behaviour does not
+// flap.
+func TestPendingChangeDropped(t *testing.T) {
+	db, c := mustOpen(t)
+	first := mixed()
+	save(t, db, c, nil, first)
+	other := first
+	other.Driver, other.Unit = "frames_built", "frame"
+	save(t, db, c, nil, other)
+	save(t, db, c, nil, first)
+	save(t, db, c, nil, other) // seen again, but not twice in a row
+	if n := count(t, db, "behaviour_history"); n != 1 {
+		t.Errorf("%d history rows, want 1: nothing was confirmed", n)
+	}
+	bs := current(t, db)
+	if len(bs) != 1 || bs[0].Driver != "machine_hours" || bs[0].Pending == nil || bs[0].Pending.Driver != "frames_built" {
+		t.Errorf("current %+v: want machine hours with frames built pending once", bs)
+	}
+}
+
+// A break dates the change at once: the open row closes the period before
+// the break; the first analysis of an object records the periods before a
+// break it finds as a closed row.
+func TestBreakDatesHistory(t *testing.T) {
+	db, c := mustOpen(t)
+	lease := fixed()
+	lease.Object = costdrift.CostObject{Account: "6110", CostCenter: "PAINT"}
+	lease.FixedPerPeriod, lease.Since = 3300, "2025-07"
+	lease.Break = &costdrift.Break{Period: "2025-07", LastBefore: "2025-06", WindowFrom: "2023-07", Statistic: 120, P: 0.001,
+		FixedBefore: 2800, FixedAfter: 3300, Test: "sup-F"}
+	save(t, db, c, nil, lease)
+	want := `"2023-07"|"2025-06"|float64:2800` + "\n" + `"2025-07"|NULL|float64:3300` + "\n"
+	if got := dump(t, db, `SELECT valid_from_period, valid_to_period, fixed_per_period FROM behaviour_periods WHERE object = '6110/PAINT' ORDER BY valid_from_period`); got != want {
+		t.Errorf("periods:\n%s\nwant\n%s", got, want)
+	}
+	// What was the formula in 2025-06? One query on the view.
+	if got := dump(t, db, `SELECT fixed_per_period FROM behaviour_periods WHERE object = '6110/PAINT'
+		AND valid_from_period <= '2025-06' AND (valid_to_period IS NULL OR valid_to_period >= '2025-06')`); got != "float64:2800\n" {
+		t.Errorf("formula in 2025-06: %s", got)
+	}
+	// The same break seen again refreshes the open row; a later break closes it.
+	save(t, db, c, nil, lease)
+	later := lease
+	later.FixedPerPeriod, later.Since = 3600, "2026-03"
+	later.Break = &costdrift.Break{Period: "2026-03", LastBefore: "2026-02", WindowFrom: "2023-09", FixedBefore: 3300, FixedAfter: 3600}
+	save(t, db, c, nil, later)
+	want = `"2023-07"|"2025-06"` + "\n" + `"2025-07"|"2026-02"` + "\n" + `"2026-03"|NULL` + "\n"
+	if got := dump(t, db, `SELECT valid_from_period, valid_to_period FROM behaviour_periods WHERE object = '6110/PAINT' ORDER BY valid_from_period`); got != want {
+		t.Errorf("periods after a second break:\n%s\nwant\n%s", got, want)
 	}
 }
 
