@@ -71,10 +71,22 @@ func (db *DB) applyMigrations(ctx context.Context, ms []migration) error {
 		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
 		return fmt.Errorf("migrations: %w", err)
 	}
-	var current int
-	if err := db.db.QueryRowContext(ctx, `SELECT COALESCE(MAX(version), 0) FROM schema_migrations`).Scan(&current); err != nil {
+	applied := map[int]bool{}
+	current := 0
+	rows, err := db.db.QueryContext(ctx, `SELECT version FROM schema_migrations`)
+	if err != nil {
 		return fmt.Errorf("migrations: %w", err)
 	}
+	for rows.Next() {
+		var v int
+		if err := rows.Scan(&v); err != nil {
+			rows.Close()
+			return fmt.Errorf("migrations: %w", err)
+		}
+		applied[v] = true
+		current = max(current, v)
+	}
+	rows.Close()
 	known := 0
 	if len(ms) > 0 {
 		known = ms[len(ms)-1].version
@@ -82,8 +94,10 @@ func (db *DB) applyMigrations(ctx context.Context, ms []migration) error {
 	if current > known {
 		return fmt.Errorf("it was written by a newer costdrift (schema %d; this build knows up to %d): upgrade costdrift, or restore the backup taken before the upgrade", current, known)
 	}
+	// Every migration not yet recorded is applied, in order: one numbered
+	// below the store's newest (added on a branch, say) is not skipped.
 	for _, m := range ms {
-		if m.version <= current {
+		if applied[m.version] {
 			continue
 		}
 		err := db.inTx(ctx, func(tx *sql.Tx) error {
