@@ -3,6 +3,10 @@ package analyze
 import (
 	"fmt"
 	"hash/fnv"
+	"math"
+	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/drift"
@@ -27,41 +31,24 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 	if b.Class == costdrift.InsufficientData || len(res.y) < 2*StepMinPerLevel+2 {
 		return res
 	}
-	fs, err := drift.SupFLine(res.x, res.y, drift.DefaultTrim)
-	if err != nil {
-		return res // a driver constant on one side: no test
-	}
-	k := 1
-	if res.x != nil {
-		k = 2
-	}
-	critical, err := drift.AndrewsCritical(k, drift.DefaultTrim, BreakScreenLevel)
-	if err != nil || fs.SupF < critical {
+	split, stat, pValue, test, ok := findBreak(res, s, obj.Object)
+	if !ok {
 		return res
 	}
-	var columns [][]float64
-	if res.x != nil {
-		columns = [][]float64{res.x}
-	}
-	test, err := drift.SupFPValue(columns, res.y, true, drift.DefaultTrim, drift.Bootstrap, s.Replicates, seedFor(s.Seed, obj.Object))
-	if err != nil || test.P >= s.BreakAlpha {
-		return res
-	}
-
-	at := res.index[fs.Break] // window position of the first period after the break
+	at := res.index[split] // window position of the first period after the break
 	brk := &costdrift.Break{
-		Period: p.Periods[at], LastBefore: p.Periods[res.index[fs.Break-1]], WindowFrom: p.Periods[res.index[0]], Test: "sup-F (Quandt–Andrews, 15 % trimming), residual bootstrap",
-		Statistic: fs.SupF, P: test.P, Replicates: s.Replicates, Driver: b.Driver, Lag: b.Lag,
-		Periods: len(res.y) - fs.Break,
+		Period: p.Periods[at], LastBefore: p.Periods[res.index[split-1]], WindowFrom: p.Periods[res.index[0]], Test: test,
+		Statistic: stat, P: pValue, Replicates: s.Replicates, Driver: b.Driver, Lag: b.Lag,
+		Periods: len(res.y) - split,
 	}
-	brk.FixedBefore, brk.RateBefore = sideFormula(res.x, res.y, 0, fs.Break)
-	brk.FixedAfter, brk.RateAfter = sideFormula(res.x, res.y, fs.Break, len(res.y))
+	brk.FixedBefore, brk.RateBefore = sideFormula(res.x, res.y, 0, split)
+	brk.FixedAfter, brk.RateAfter = sideFormula(res.x, res.y, split, len(res.y))
 
 	after := subPanel(p, obj, at)
 	next := objectOn(after, &after.Objects[0], s)
 	if next.Behaviour.Class != costdrift.InsufficientData {
 		next.Behaviour.Break = brk
-		next.Behaviour.Reason = fmt.Sprintf("since %s (break: sup-F %s, p %s): %s", brk.Period, statText(brk.Statistic), pValueText(test.P, s.Replicates), next.Behaviour.Reason)
+		next.Behaviour.Reason = fmt.Sprintf("since %s (break: %s): %s", brk.Period, breakText(brk, s), next.Behaviour.Reason)
 		return next
 	}
 	// Too few periods since the break to choose a driver: keep the one from
@@ -72,10 +59,10 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 	pb.Break = brk
 	pb.Since = brk.Period
 	pb.N = brk.Periods
-	post := res.y[fs.Break:]
+	post := res.y[split:]
 	switch pb.Class {
 	case costdrift.Variable:
-		if r, err := fit.ThroughOrigin(res.x[fs.Break:], post); err == nil {
+		if r, err := fit.ThroughOrigin(res.x[split:], post); err == nil {
 			pb.VariableRate = r.Coef[0]
 		}
 	case costdrift.Mixed:
@@ -84,9 +71,143 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		pb.MeanCost = meanOf(post)
 		pb.FixedPerPeriod = pb.MeanCost
 	}
-	pb.Reason = fmt.Sprintf("provisional since %s (break: sup-F %s, p %s): only %d periods since the break, fewer than %d, so the driver and class from before are kept and refitted on them",
-		brk.Period, statText(brk.Statistic), pValueText(test.P, s.Replicates), brk.Periods, s.MinPeriods)
+	pb.Reason = fmt.Sprintf("provisional since %s (break: %s): only %d periods since the break, fewer than %d, so the driver and class from before are kept and refitted on them",
+		brk.Period, breakText(brk, s), brk.Periods, s.MinPeriods)
 	return prov
+}
+
+// EndPeriods are the numbers of newest periods the end-of-window test
+// checks. The sup-F search leaves 15 % of the window out at each end, so a
+// change in the last few periods is invisible to it; a test of the newest
+// periods against the formula fitted on the others sees it.
+// One newest period alone is left to the spending check: it cannot tell a
+// change from a one-off.
+var EndPeriods = []int{2, 3, 4}
+
+// findBreak looks for a break in the behaviour's own model: first the sup-F
+// (Quandt–Andrews) search over the trimmed window, with a residual-bootstrap
+// p-value, then Chow's predictive test on the newest periods, Bonferroni-
+// corrected over EndPeriods. It returns the first observation after the
+// break, the statistic, its p-value and the test's name.
+func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat, p float64, test string, ok bool) {
+	k := 1
+	var columns [][]float64
+	if res.x != nil {
+		k = 2
+		columns = [][]float64{res.x}
+	}
+	if fs, err := drift.SupFLine(res.x, res.y, drift.DefaultTrim); err == nil {
+		critical, err := drift.AndrewsCritical(k, drift.DefaultTrim, BreakScreenLevel)
+		if err == nil && fs.SupF >= critical {
+			t, err := drift.SupFPValue(columns, res.y, true, drift.DefaultTrim, drift.Bootstrap, s.Replicates, seedFor(s.Seed, o))
+			if err == nil && t.P < s.BreakAlpha {
+				return fs.Break, fs.SupF, t.P, "sup-F (Quandt–Andrews, 15 % trimming), residual bootstrap", true
+			}
+		}
+	}
+	n := len(res.y)
+	bestRSS := math.Inf(1)
+	for _, m := range EndPeriods {
+		if n-m < s.MinPeriods {
+			continue
+		}
+		f, pm, rss, err := predictiveChow(res.x, res.y, n-m)
+		if err != nil || math.IsNaN(rss) {
+			continue
+		}
+		pm = math.Min(1, pm*float64(len(EndPeriods)))
+		// Of the significant splits, the one the data fit best when the
+		// newest periods may sit at a level of their own dates the change.
+		if pm < s.BreakAlpha && rss < bestRSS {
+			bestRSS, split, stat, p, ok = rss, n-m, f, pm, true
+		}
+	}
+	if ok {
+		test = "shift of the newest periods (level-dummy t test), Bonferroni-corrected"
+	}
+	return split, stat, p, test, ok
+}
+
+// predictiveChow tests the newest m = n − n1 periods against the formula
+// fitted on the first n1: their errors e_j are shifted together by a change
+// in behaviour. It is the t test of a level dummy for the newest periods
+// (Chow's predictive test narrowed to one direction, a shift):
+//
+//	δ = mean(e_j),   var(δ) = s²·(1/m + 1/n1 + (x̄_new − x̄_old)²/Sxx_old),
+//	s² = (RSS1 + Σ(e_j − δ)²) / (n − k − 1),   t = δ / √var(δ)  ~  t(n − k − 1)
+//
+// with k coefficients (1 for a fixed cost, 2 with a driver), RSS1 and Sxx_old
+// from the first n1 periods. Splits whose errors do not all share a sign
+// are not a change in behaviour and are passed over. splitRSS is the
+// numerator of s², used to date the change among the splits.
+func predictiveChow(x, y []float64, n1 int) (t, p, splitRSS float64, err error) {
+	k := 1
+	var first *fit.Regression
+	if x != nil {
+		k = 2
+		first, err = fit.LineSummary(x[:n1], y[:n1])
+	} else {
+		first, err = fit.Constant(y[:n1])
+	}
+	if err != nil {
+		return 0, 1, math.NaN(), err
+	}
+	m := len(y) - n1
+	errs := make([]float64, m)
+	sign, delta := 0.0, 0.0
+	for j := range errs {
+		pred := first.Coef[0]
+		if x != nil {
+			pred += first.Coef[1] * x[n1+j]
+		}
+		errs[j] = y[n1+j] - pred
+		delta += errs[j] / float64(m)
+		if j == 0 {
+			sign = math.Copysign(1, errs[j])
+		} else if math.Copysign(1, errs[j]) != sign {
+			return 0, 1, math.NaN(), nil
+		}
+	}
+	splitRSS = first.RSS
+	for _, e := range errs {
+		splitRSS += (e - delta) * (e - delta)
+	}
+	df := float64(len(y) - k - 1)
+	leverage := 1/float64(m) + 1/float64(n1)
+	if x != nil {
+		var oldMean, newMean, sxx float64
+		for _, v := range x[:n1] {
+			oldMean += v / float64(n1)
+		}
+		for _, v := range x[n1:] {
+			newMean += v / float64(m)
+		}
+		for _, v := range x[:n1] {
+			sxx += (v - oldMean) * (v - oldMean)
+		}
+		leverage += (newMean - oldMean) * (newMean - oldMean) / sxx
+	}
+	s2 := splitRSS / df
+	if s2 <= 0 {
+		if delta != 0 {
+			return math.Inf(1), 0, splitRSS, nil
+		}
+		return 0, 1, splitRSS, nil
+	}
+	t = delta / math.Sqrt(s2*leverage)
+	return t, 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Survival(math.Abs(t)), splitRSS, nil
+}
+
+// breakText writes a break's test and p-value for a reason.
+func breakText(b *costdrift.Break, s Settings) string {
+	name := "sup-F"
+	if strings.HasPrefix(b.Test, "shift") {
+		name = fmt.Sprintf("newest %d periods shifted, t", b.Periods)
+	}
+	if strings.HasPrefix(b.Test, "sup-F") {
+		return fmt.Sprintf("%s %s, p %s", name, statText(b.Statistic), pValueText(b.P, s.Replicates))
+	}
+	return fmt.Sprintf("%s %s, p %.3g", name, statText(b.Statistic), b.P)
 }
 
 // sideFormula fits one side of a break: a line on the driver, or the mean.
