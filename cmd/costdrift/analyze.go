@@ -11,6 +11,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/costdrift/costdrift/internal/alerts"
 	"github.com/costdrift/costdrift/internal/analyze"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/series"
@@ -115,6 +116,10 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
 	}
+	changes, err := raiseBehaviourAlerts(ctx, db, run.WindowTo)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: alerts: %w", err)
+	}
 	var counts []string
 	for c, n := range classes {
 		counts = append(counts, fmt.Sprintf("%d %s", n, c))
@@ -129,5 +134,27 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		fmt.Fprintf(out, "; %d unchanged since their last analysis were left as they were (--all refits them)", run.Skipped)
 	}
 	fmt.Fprintln(out)
+	fmt.Fprintf(out, "alerts: %d new, %d escalated, %d reopened, %d resolved (costdrift alerts list)\n",
+		len(changes.New), len(changes.Escalated), len(changes.Reopened), len(changes.Resolved))
 	return run, nil
+}
+
+// raiseBehaviourAlerts evaluates the rules on changes in behaviour over
+// every object's current behaviour (not only the refitted ones, so that the
+// alerts of unchanged objects hold) and lets the store open, update and
+// resolve alerts.
+func raiseBehaviourAlerts(ctx context.Context, db *sqlite.DB, period string) (sqlite.AlertChanges, error) {
+	current, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	previous, err := db.PreviousBehaviour(ctx)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	names, err := db.AccountNames(ctx)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	return db.ApplyAlerts(ctx, alerts.Behaviour(current, previous, names), alerts.BehaviourKinds, period)
 }

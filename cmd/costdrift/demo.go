@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -11,6 +12,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
 func (a *app) demoCommand() *cobra.Command {
@@ -100,9 +102,22 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		}
 		fmt.Fprintln(a.out, line)
 	}
+	fmt.Fprintln(a.out, "\nAlerts (costdrift alerts list):")
+	if err := a.listAlerts(ctx, db); err != nil {
+		return err
+	}
 	fmt.Fprintf(a.out, "\nThe store is %s. Query it with sqlite3, for example:\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_series WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
 	return nil
+}
+
+// listAlerts prints the open and acknowledged alerts as `alerts list` does.
+func (a *app) listAlerts(ctx context.Context, db *sqlite.DB) error {
+	list, err := db.Alerts(ctx, sqlite.AlertFilter{})
+	if err != nil {
+		return err
+	}
+	return writeAlertsTable(a.out, list, "")
 }

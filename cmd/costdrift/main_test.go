@@ -86,6 +86,21 @@ func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 		}
 	}
 	cfg := filepath.Join(dir, "costdrift.yaml")
+	// The demo ends with the two drift alerts, and the stable accounts raise
+	// none at warning level or above.
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM open_alerts WHERE kind = 'fixed_shift' AND object = '6110/PAINT' AND period = '2025-07' AND severity = 'warning'"); n != 1 {
+		t.Errorf("no fixed_shift alert for the lease renewal")
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM open_alerts WHERE kind = 'rate_shift' AND object = '6400/ASSY' AND period = '2025-02' AND severity = 'warning'"); n != 1 {
+		t.Errorf("no rate_shift alert for the freight contract")
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE object NOT IN ('6110/PAINT', '6400/ASSY')"); n != 0 {
+		t.Errorf("%d alerts on stable accounts", n)
+	}
+	if !strings.Contains(out, "fixed_shift  6110/PAINT") || !strings.Contains(out, "rate_shift   6400/ASSY") {
+		t.Errorf("demo output does not end with the two drift alerts:\n%s", out)
+	}
 	var rows []reportRow
 	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "report", "--format", "json")), &rows); err != nil {
 		t.Fatal(err)
@@ -185,6 +200,14 @@ func TestResyncChangesNothing(t *testing.T) {
 	}
 	if n := count(t, store, "SELECT COUNT(DISTINCT analysis_run_id) FROM fits"); n != 1 {
 		t.Errorf("fits cover %d runs, want 1: nothing changed, so nothing was refitted", n)
+	}
+	// The demo's two drift events are its only alerts, and a second
+	// analysis with no new data adds none.
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts"); n != 2 {
+		t.Errorf("%d alerts after a second analysis, want the demo's 2", n)
+	}
+	if !strings.Contains(out, "alerts: 0 new, 0 escalated, 0 reopened, 0 resolved") {
+		t.Errorf("second analysis changed alerts:\n%s", out)
 	}
 	out = mustRun(t, "--config", cfg, "analyze", "--all")
 	if !strings.Contains(out, "analysed 13 cost objects") {

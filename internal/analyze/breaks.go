@@ -41,12 +41,21 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		Statistic: stat, P: pValue, Replicates: s.Replicates, Driver: b.Driver, Lag: b.Lag,
 		Periods: len(res.y) - split,
 	}
-	brk.FixedBefore, brk.RateBefore = sideFormula(res.x, res.y, 0, split)
-	brk.FixedAfter, brk.RateAfter = sideFormula(res.x, res.y, split, len(res.y))
+	sides := func(proportional bool) {
+		brk.FixedBefore, brk.RateBefore = sideFormula(res.x, res.y, 0, split, proportional)
+		brk.FixedAfter, brk.RateAfter = sideFormula(res.x, res.y, split, len(res.y), proportional)
+	}
+	brk.LevelBefore = meanOf(res.y[:split])
+	if res.x != nil {
+		brk.ActivityBefore = meanOf(res.x[:split])
+	}
 
 	after := subPanel(p, obj, at)
 	next := objectOn(after, &after.Objects[0], s)
 	if next.Behaviour.Class != costdrift.InsufficientData {
+		// Both sides in the new behaviour's form: a variable cost's rates
+		// through the origin, the rest as fixed plus rate.
+		sides(next.Behaviour.Class == costdrift.Variable && next.Behaviour.Driver == b.Driver)
 		next.Behaviour.Break = brk
 		next.Behaviour.Reason = fmt.Sprintf("since %s (break: %s): %s", brk.Period, breakText(brk, s), next.Behaviour.Reason)
 		return next
@@ -54,6 +63,7 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 	// Too few periods since the break to choose a driver: keep the one from
 	// before and refit on what there is.
 	brk.Provisional = true
+	sides(b.Class == costdrift.Variable)
 	prov := res
 	pb := &prov.Behaviour
 	pb.Break = brk
@@ -210,8 +220,14 @@ func breakText(b *costdrift.Break, s Settings) string {
 	return fmt.Sprintf("%s %s, p %.3g", name, statText(b.Statistic), b.P)
 }
 
-// sideFormula fits one side of a break: a line on the driver, or the mean.
-func sideFormula(x, y []float64, lo, hi int) (fixed, rate float64) {
+// sideFormula fits one side of a break: a line on the driver (through the
+// origin for a variable cost), or the mean.
+func sideFormula(x, y []float64, lo, hi int, proportional bool) (fixed, rate float64) {
+	if x != nil && proportional {
+		if r, err := fit.ThroughOrigin(x[lo:hi], y[lo:hi]); err == nil {
+			return 0, r.Coef[0]
+		}
+	}
 	if x != nil {
 		if r, err := fit.Line(x[lo:hi], y[lo:hi]); err == nil {
 			return r.Coef[0], r.Coef[1]

@@ -189,6 +189,10 @@ type Break struct {
 	FixedAfter  float64 `json:"fixed_after"`
 	RateAfter   float64 `json:"rate_after"`
 	Periods     int     `json:"periods_after"` // periods since the break
+	// LevelBefore is the mean cost per period before the break, and
+	// ActivityBefore the driver's mean then: the scale a shift is judged on.
+	LevelBefore    float64 `json:"level_before"`
+	ActivityBefore float64 `json:"activity_before"`
 	// Provisional: fewer than min_periods follow the break, so the
 	// behaviour keeps the driver it had before and is refitted on them.
 	Provisional bool `json:"provisional"`

@@ -543,3 +543,31 @@ func nullString(s string) any {
 	}
 	return s
 }
+
+// PreviousBehaviour returns, for each object whose behaviour has changed at
+// least once, the behaviour its current one replaced: class, driver, lag
+// and formula.
+func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behaviour, error) {
+	rows, err := db.q().QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(lag, 0),
+		fixed_per_period, variable_rate, COALESCE(valid_from_period, since, '')
+		FROM behaviour_history h
+		WHERE valid_to_run_at IS NOT NULL
+		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	out := map[string]costdrift.Behaviour{}
+	for rows.Next() {
+		var b costdrift.Behaviour
+		var class string
+		var fixed, rate sql.NullFloat64
+		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Lag, &fixed, &rate, &b.Since); err != nil {
+			return nil, err
+		}
+		b.Class = costdrift.Class(class)
+		b.FixedPerPeriod, b.VariableRate = orNaN(fixed), orNaN(rate)
+		out[b.Object.String()] = b
+	}
+	return out, rows.Err()
+}

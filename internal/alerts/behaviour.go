@@ -1,0 +1,155 @@
+package alerts
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// MinShift is the smallest change worth an alert, as a share of the cost
+// per period at the activity before the change (PRODUCT §5: a change of at
+// least 10 % and significant).
+const MinShift = 0.10
+
+// BehaviourKinds are the kinds Behaviour evaluates: the store resolves open
+// alerts of these kinds that an evaluation no longer raises.
+var BehaviourKinds = []costdrift.AlertKind{costdrift.AlertReclassified, costdrift.AlertDriverChanged,
+	costdrift.AlertFixedShift, costdrift.AlertRateShift}
+
+// Behaviour raises the alerts of changes in behaviour, from each object's
+// current behaviour and the one it replaced (previous; absent when the
+// object has had only one):
+//
+//   - reclassified: the class differs from the previous behaviour's;
+//   - driver_changed: the same class, another driver (or lag);
+//   - fixed_shift, rate_shift: the current behaviour starts at a significant
+//     break, and its fixed part, or its rate times the activity before the
+//     break, moved by at least MinShift of the cost per period before it.
+//
+// Each is a warning, at least (a behaviour change, PRODUCT §4); a shift of
+// more than half the cost is critical. An alert holds while the current
+// behaviour is the changed one, and resolves when it is replaced.
+func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Behaviour, names map[string]string) []costdrift.Alert {
+	var out []costdrift.Alert
+	for _, b := range current {
+		object := b.Object.String()
+		label := object
+		if n := names[b.Object.Account]; n != "" {
+			label += " " + n
+		}
+		if prev, ok := previous[object]; ok && prev.Class != "" {
+			switch {
+			case prev.Class != b.Class:
+				out = append(out, costdrift.Alert{
+					Kind: costdrift.AlertReclassified, Object: object, Severity: costdrift.SeverityWarning, Period: b.Since,
+					Message:     fmt.Sprintf("%s is now %s (was %s) since %s", label, describe(b), describe(prev), b.Since),
+					Fingerprint: costdrift.Fingerprint(costdrift.AlertReclassified, object, string(prev.Class)+">"+string(b.Class)+"@"+b.Since),
+					Evidence:    evidence(b, prev),
+				})
+			case prev.Driver != b.Driver || prev.Lag != b.Lag:
+				out = append(out, costdrift.Alert{
+					Kind: costdrift.AlertDriverChanged, Object: object, Severity: costdrift.SeverityWarning, Period: b.Since,
+					Message:     fmt.Sprintf("%s follows %s now (was %s) since %s", label, driverText(b), driverText(prev), b.Since),
+					Fingerprint: costdrift.Fingerprint(costdrift.AlertDriverChanged, object, prev.Driver+">"+b.Driver+"@"+b.Since),
+					Evidence:    evidence(b, prev),
+				})
+			}
+		}
+		if k := b.Break; k != nil && k.LevelBefore != 0 {
+			level := math.Abs(k.LevelBefore)
+			fixed := (k.FixedAfter - k.FixedBefore) / level
+			rate := (k.RateAfter - k.RateBefore) * k.ActivityBefore / level
+			ev := map[string]any{"test": k.Test, "statistic": finite(k.Statistic), "p": finite(k.P), "break": k.Period,
+				"fixed_before": finite(k.FixedBefore), "fixed_after": finite(k.FixedAfter), "rate_before": finite(k.RateBefore),
+				"rate_after": finite(k.RateAfter), "periods_after": k.Periods, "provisional": k.Provisional, "r2": finite(b.R2), "n": b.N}
+			if math.Abs(fixed) >= MinShift {
+				out = append(out, costdrift.Alert{
+					Kind: costdrift.AlertFixedShift, Object: object, Severity: severity(fixed), Period: k.Period,
+					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s", label, direction(fixed), 100*math.Abs(fixed),
+						k.Period, money(k.FixedBefore), money(k.FixedAfter)),
+					Fingerprint: costdrift.Fingerprint(costdrift.AlertFixedShift, object, k.Period),
+					Evidence:    ev,
+				})
+			}
+			if k.Driver != "" && math.Abs(rate) >= MinShift {
+				out = append(out, costdrift.Alert{
+					Kind: costdrift.AlertRateShift, Object: object, Severity: severity(rate), Period: k.Period,
+					Message: fmt.Sprintf("%s: rate per %s %s from %s, %s to %s (%.0f %% of the cost at the activity before)", label,
+						unit(b, k.Driver), direction(rate), k.Period, rateText(k.RateBefore), rateText(k.RateAfter), 100*math.Abs(rate)),
+					Fingerprint: costdrift.Fingerprint(costdrift.AlertRateShift, object, k.Period),
+					Evidence:    ev,
+				})
+			}
+		}
+	}
+	return out
+}
+
+func severity(share float64) costdrift.Severity {
+	if math.Abs(share) > 0.5 {
+		return costdrift.SeverityCritical
+	}
+	return costdrift.SeverityWarning
+}
+
+func direction(v float64) string {
+	if v > 0 {
+		return "rose"
+	}
+	return "fell"
+}
+
+func describe(b costdrift.Behaviour) string {
+	if b.Driver == "" {
+		return string(b.Class)
+	}
+	return string(b.Class) + " on " + driverText(b)
+}
+
+func driverText(b costdrift.Behaviour) string {
+	if b.Driver == "" {
+		return "no driver"
+	}
+	d := strings.ReplaceAll(b.Driver, "_", " ")
+	if b.Lag == 1 {
+		d += " of the period before"
+	} else if b.Lag > 1 {
+		d += fmt.Sprintf(" of %d periods before", b.Lag)
+	}
+	return d
+}
+
+func unit(b costdrift.Behaviour, driver string) string {
+	if b.Unit != "" && b.Driver == driver {
+		return b.Unit
+	}
+	return "unit of " + strings.ReplaceAll(driver, "_", " ")
+}
+
+func money(v float64) string { return fmt.Sprintf("%.2f", v) }
+
+func rateText(v float64) string {
+	if math.Abs(v) < 1 {
+		return fmt.Sprintf("%.4f", v)
+	}
+	return fmt.Sprintf("%.2f", v)
+}
+
+func evidence(b, prev costdrift.Behaviour) map[string]any {
+	return map[string]any{
+		"class_before": string(prev.Class), "class_after": string(b.Class),
+		"driver_before": prev.Driver, "driver_after": b.Driver,
+		"fixed_before": finite(prev.FixedPerPeriod), "rate_before": finite(prev.VariableRate),
+		"fixed_after": finite(b.FixedPerPeriod), "rate_after": finite(b.VariableRate),
+		"since": b.Since, "reason": b.Reason, "r2": finite(b.R2), "n": b.N,
+	}
+}
+
+func finite(v float64) any {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return v
+}

@@ -1,0 +1,88 @@
+package alerts
+
+import (
+	"encoding/json"
+	"strings"
+	"testing"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+func lease(fixedAfter float64) costdrift.Behaviour {
+	return costdrift.Behaviour{Object: costdrift.CostObject{Account: "6110", CostCenter: "PAINT"}, Class: costdrift.Fixed,
+		FixedPerPeriod: fixedAfter, Since: "2025-07",
+		Break: &costdrift.Break{Period: "2025-07", Test: "sup-F", Statistic: 120, P: 0.001, FixedBefore: 2800, FixedAfter: fixedAfter, LevelBefore: 2800}}
+}
+
+func freight(rateAfter float64) costdrift.Behaviour {
+	return costdrift.Behaviour{Object: costdrift.CostObject{Account: "6400", CostCenter: "ASSY"}, Class: costdrift.Variable,
+		Driver: "shipments", Unit: "shipment", VariableRate: rateAfter, Since: "2025-02",
+		Break: &costdrift.Break{Period: "2025-02", Driver: "shipments", Statistic: 600, P: 0.001, FixedBefore: 20, RateBefore: 14.5,
+			FixedAfter: -15, RateAfter: rateAfter, LevelBefore: 14.5 * 800, ActivityBefore: 800}}
+}
+
+// The thresholds are worked by hand (a shift of at least 10 % of the cost per
+// period before the change, PRODUCT §5).
+func TestShifts(t *testing.T) {
+	tests := []struct {
+		name  string
+		b     costdrift.Behaviour
+		kinds []costdrift.AlertKind
+	}{
+		// 2,800 -> 3,300: +17.9 % of 2,800.
+		{"lease renewed", lease(3300), []costdrift.AlertKind{costdrift.AlertFixedShift}},
+		// 2,800 -> 3,000: +7.1 %, under 10 %.
+		{"small rise", lease(3000), nil},
+		// Rate 14.50 -> 11.90 at 800 shipments: -2,080 of 11,600, -17.9 %; the
+		// intercepts' move (35 of 11,600, 0.3 %) is noise and raises nothing.
+		{"cheaper carrier", freight(11.9), []costdrift.AlertKind{costdrift.AlertRateShift}},
+		// A shift of more than half the cost is critical.
+		{"doubled", lease(5700), []costdrift.AlertKind{costdrift.AlertFixedShift}},
+	}
+	for _, tc := range tests {
+		got := Behaviour([]costdrift.Behaviour{tc.b}, nil, map[string]string{"6110": "Equipment lease"})
+		if len(got) != len(tc.kinds) {
+			t.Fatalf("%s: %d alerts %+v, want %v", tc.name, len(got), got, tc.kinds)
+		}
+		for i, a := range got {
+			if a.Kind != tc.kinds[i] || a.Validate() != nil || a.Period != tc.b.Break.Period {
+				t.Errorf("%s: alert %+v", tc.name, a)
+			}
+			if _, err := json.Marshal(a.Evidence); err != nil {
+				t.Errorf("%s: evidence does not encode: %v", tc.name, err)
+			}
+		}
+		if tc.name == "doubled" && got[0].Severity != costdrift.SeverityCritical {
+			t.Errorf("doubled: severity %s, want critical", got[0].Severity)
+		}
+		if tc.name == "lease renewed" && (got[0].Severity != costdrift.SeverityWarning || !strings.Contains(got[0].Message, "6110/PAINT Equipment lease: fixed cost per period rose 18 % from 2025-07, 2800.00 to 3300.00")) {
+			t.Errorf("lease: %+v", got[0])
+		}
+	}
+	// The same break gives the same fingerprint on every evaluation.
+	a, b := Behaviour([]costdrift.Behaviour{lease(3300)}, nil, nil), Behaviour([]costdrift.Behaviour{lease(3310)}, nil, nil)
+	if a[0].Fingerprint != b[0].Fingerprint {
+		t.Error("fingerprint changed between evaluations of the same break")
+	}
+}
+
+func TestReclassifiedAndDriverChanged(t *testing.T) {
+	before := costdrift.Behaviour{Object: costdrift.CostObject{Account: "6200", CostCenter: "WELD"}, Class: costdrift.Fixed, FixedPerPeriod: 3000}
+	now := before
+	now.Class, now.Driver, now.Since, now.FixedPerPeriod, now.VariableRate = costdrift.Mixed, "machine_hours", "2026-01", 1800, 2.4
+	got := Behaviour([]costdrift.Behaviour{now}, map[string]costdrift.Behaviour{"6200/WELD": before}, nil)
+	if len(got) != 1 || got[0].Kind != costdrift.AlertReclassified || got[0].Severity != costdrift.SeverityWarning ||
+		got[0].Message != "6200/WELD is now mixed on machine hours (was fixed) since 2026-01" {
+		t.Fatalf("reclassified: %+v", got)
+	}
+	other := now
+	other.Driver, other.Lag = "frames_built", 1
+	got = Behaviour([]costdrift.Behaviour{other}, map[string]costdrift.Behaviour{"6200/WELD": now}, nil)
+	if len(got) != 1 || got[0].Kind != costdrift.AlertDriverChanged || !strings.Contains(got[0].Message, "frames built of the period before now (was machine hours)") {
+		t.Fatalf("driver changed: %+v", got)
+	}
+	// Unchanged behaviour raises nothing, so its alerts resolve.
+	if got := Behaviour([]costdrift.Behaviour{now}, map[string]costdrift.Behaviour{}, nil); len(got) != 0 {
+		t.Errorf("no previous behaviour: %+v", got)
+	}
+}
