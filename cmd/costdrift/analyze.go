@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/alerts"
+	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/analyze"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/series"
@@ -82,6 +83,7 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		"break_alpha": cfg.BreakAlpha, "bootstrap_replicates": cfg.BootstrapReplicates, "seed": bootstrapSeed})
 	inputs := analyze.InputHashes(&panel, string(settings))
 	total := len(panel.Objects)
+	whole := panel // every object in scope, for the rules on data gaps
 	if !all {
 		previous, err := db.ObjectInputs(ctx)
 		if err != nil {
@@ -116,7 +118,7 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
 	}
-	changes, err := raiseBehaviourAlerts(ctx, db, run.WindowTo)
+	changes, err := a.raiseAnalysisAlerts(ctx, e, db, &whole, activity, run.WindowTo)
 	if err != nil {
 		return nil, fmt.Errorf("analyze: alerts: %w", err)
 	}
@@ -139,11 +141,13 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	return run, nil
 }
 
-// raiseBehaviourAlerts evaluates the rules on changes in behaviour over
-// every object's current behaviour (not only the refitted ones, so that the
-// alerts of unchanged objects hold) and lets the store open, update and
-// resolve alerts.
-func raiseBehaviourAlerts(ctx context.Context, db *sqlite.DB, period string) (sqlite.AlertChanges, error) {
+// raiseAnalysisAlerts evaluates the rules that follow an analysis over
+// every object in scope (not only the refitted ones, so that the alerts of
+// unchanged objects hold) and lets the store open, update and resolve
+// alerts: behaviour changes, spending outliers, activity out of range, data
+// gaps and stale ledger sources.
+func (a *app) raiseAnalysisAlerts(ctx context.Context, e *env, db *sqlite.DB, panel *costdrift.Panel,
+	activity []costdrift.ActivityValue, period string) (sqlite.AlertChanges, error) {
 	current, err := db.CurrentBehaviour(ctx)
 	if err != nil {
 		return sqlite.AlertChanges{}, err
@@ -156,5 +160,92 @@ func raiseBehaviourAlerts(ctx context.Context, db *sqlite.DB, period string) (sq
 	if err != nil {
 		return sqlite.AlertChanges{}, err
 	}
-	return db.ApplyAlerts(ctx, alerts.Behaviour(current, previous, names), alerts.BehaviourKinds, period)
+	raised := alerts.Behaviour(current, previous, names)
+	raised = append(raised, alerts.Spending(current, names)...)
+	raised = append(raised, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
+	raised = append(raised, alerts.DataGap(panel, names)...)
+	states, err := a.sourceStates(ctx, e, db)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	raised = append(raised, alerts.StaleSource(states)...)
+	return db.ApplyAlerts(ctx, raised, alerts.AnalysisKinds, period)
+}
+
+// newestActivity finds, for each behaviour with a driver, the newest value
+// of that driver after the analysed window (the cost centre's own series,
+// else the company-wide one): activity the formula has not seen.
+func newestActivity(current []costdrift.Behaviour, activity []costdrift.ActivityValue, windowTo string) map[string]alerts.NewestActivity {
+	type key struct{ driver, cc string }
+	newest := map[key]alerts.NewestActivity{}
+	for _, v := range activity {
+		k := key{v.Driver, v.CostCenter}
+		if v.Period > windowTo && v.Period > newest[k].Period {
+			newest[k] = alerts.NewestActivity{Period: v.Period, Value: v.Value}
+		}
+	}
+	out := map[string]alerts.NewestActivity{}
+	for _, b := range current {
+		if b.Driver == "" {
+			continue
+		}
+		if v, ok := newest[key{b.Driver, b.Object.CostCenter}]; ok && b.Object.CostCenter != "" {
+			out[b.Object.String()] = v
+		} else if v, ok := newest[key{b.Driver, ""}]; ok {
+			out[b.Object.String()] = v
+		}
+	}
+	return out
+}
+
+// sourceStates reads, per configured source, its failures in a row and how
+// many closed periods its newest data lag the newest closed period any
+// source has data for.
+func (a *app) sourceStates(ctx context.Context, e *env, db *sqlite.DB) ([]alerts.SourceState, error) {
+	runs, err := db.SyncRuns(ctx, 500)
+	if err != nil {
+		return nil, err
+	}
+	newest, err := db.NewestPeriods(ctx)
+	if err != nil {
+		return nil, err
+	}
+	// A source is behind when the others have newer closed periods: an
+	// export that stopped on purpose is analysed up to where it stops, so
+	// the calendar alone does not make a source stale.
+	closed := ""
+	for _, p := range newest {
+		if p > closed && e.calendar.Closed(p, a.now()) {
+			closed = p
+		}
+	}
+	var states []alerts.SourceState
+	for _, list := range []struct {
+		role costdrift.Role
+		srcs []config.Source
+	}{{costdrift.RoleLedger, e.cfg.Sources.Ledger}, {costdrift.RoleActivity, e.cfg.Sources.Activity}, {costdrift.RoleAccounts, e.cfg.Sources.Accounts}} {
+		for _, src := range list.srcs {
+			s := alerts.SourceState{Name: src.Name, Role: list.role}
+			for _, r := range runs { // newest first
+				if r.Source != src.Name {
+					continue
+				}
+				if r.Status != "failed" {
+					break
+				}
+				if s.Failures == 0 {
+					s.LastError = r.Error
+				}
+				s.Failures++
+			}
+			if p := newest[src.Name]; p != "" {
+				s.NewestPeriod = p
+				for q := p; q < closed && s.PeriodsBehind < 400; q = e.calendar.Shift(q, 1) {
+					s.PeriodsBehind++
+				}
+			}
+			states = append(states, s)
+		}
+	}
+	return states, nil
 }

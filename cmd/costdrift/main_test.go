@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -95,10 +96,10 @@ func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 	if n := count(t, store, "SELECT COUNT(*) FROM open_alerts WHERE kind = 'rate_shift' AND object = '6400/ASSY' AND period = '2025-02' AND severity = 'warning'"); n != 1 {
 		t.Errorf("no rate_shift alert for the freight contract")
 	}
-	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE object NOT IN ('6110/PAINT', '6400/ASSY')"); n != 0 {
-		t.Errorf("%d alerts on stable accounts", n)
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE object NOT IN ('6110/PAINT', '6400/ASSY') AND severity <> 'info'"); n != 0 {
+		t.Errorf("%d warning or critical alerts on stable accounts", n)
 	}
-	if !strings.Contains(out, "fixed_shift  6110/PAINT") || !strings.Contains(out, "rate_shift   6400/ASSY") {
+	if !regexp.MustCompile(`warning +fixed_shift +6110/PAINT +2025-07`).MatchString(out) || !regexp.MustCompile(`warning +rate_shift +6400/ASSY +2025-02`).MatchString(out) {
 		t.Errorf("demo output does not end with the two drift alerts:\n%s", out)
 	}
 	var rows []reportRow
@@ -203,8 +204,11 @@ func TestResyncChangesNothing(t *testing.T) {
 	}
 	// The demo's two drift events are its only alerts, and a second
 	// analysis with no new data adds none.
-	if n := count(t, store, "SELECT COUNT(*) FROM alerts"); n != 2 {
-		t.Errorf("%d alerts after a second analysis, want the demo's 2", n)
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE severity <> 'info'"); n != 2 {
+		t.Errorf("%d warning alerts after a second analysis, want the demo's 2", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts"); n != 3 {
+		t.Errorf("%d alerts after a second analysis, want the 3 of the first (2 drifts, 1 spending outlier)", n)
 	}
 	if !strings.Contains(out, "alerts: 0 new, 0 escalated, 0 reopened, 0 resolved") {
 		t.Errorf("second analysis changed alerts:\n%s", out)

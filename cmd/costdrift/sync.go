@@ -14,6 +14,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/costdrift/costdrift/internal/alerts"
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/report"
@@ -140,6 +141,9 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 			}
 		}
 	}
+	if err := raiseSourceAlerts(ctx, e, db); err != nil {
+		failed = append(failed, "alerts: "+err.Error())
+	}
 	switch {
 	case len(failed) == 1:
 		return runs, errors.New(failed[0])
@@ -147,6 +151,18 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 		return runs, fmt.Errorf("%d of %d sources failed: %s", len(failed), len(jobs), strings.Join(failed, "; "))
 	}
 	return runs, nil
+}
+
+// raiseSourceAlerts raises source_failure for every source whose latest sync
+// failed, and resolves it for those that synced again.
+func raiseSourceAlerts(ctx context.Context, e *env, db *sqlite.DB) error {
+	a := &app{now: db.Now}
+	states, err := a.sourceStates(ctx, e, db)
+	if err != nil {
+		return err
+	}
+	_, err = db.ApplyAlerts(ctx, alerts.SourceFailure(states), []costdrift.AlertKind{costdrift.AlertSourceFailure}, e.calendar.Period(db.Now()))
+	return err
 }
 
 func printRun(out io.Writer, db *sqlite.DB, run *costdrift.SyncRun, notes []string, err error) {

@@ -143,6 +143,7 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 		f.PlausibleRanked = c.rank
 	}
 	classify(&res, cands, ranked, y, periods, s)
+	spending(p, &res, s)
 	return res
 }
 

@@ -66,6 +66,7 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 	sides(b.Class == costdrift.Variable)
 	prov := res
 	pb := &prov.Behaviour
+	pb.Spending = nil // the formula of the whole window predicts nothing after a break
 	pb.Break = brk
 	pb.Since = brk.Period
 	pb.N = brk.Periods

@@ -157,11 +157,29 @@ type Behaviour struct {
 	// Break is the dated change found in the window, when there is one; the
 	// behaviour above is then fitted from its period on (Since).
 	Break *Break
+	// Spending checks the newest periods' actual cost against the
+	// formula's 95 % prediction interval at their actual activity, the
+	// formula fitted without them.
+	Spending []SpendingCheck
+
 	// Pending is a change of class, driver or lag seen by one analysis
 	// without a significant break: it takes effect only when the next
 	// analysis sees it too, so that behaviour does not flap.
 	Pending *Pending
 }
+
+// SpendingCheck is one period's actual cost against its prediction.
+type SpendingCheck struct {
+	Period   string  `json:"period"`
+	Activity float64 `json:"activity"`
+	Actual   float64 `json:"actual"`
+	Expected float64 `json:"expected"`
+	Low      float64 `json:"low95"`
+	High     float64 `json:"high95"`
+}
+
+// Outside reports whether the actual cost is outside the interval.
+func (c SpendingCheck) Outside() bool { return c.Actual < c.Low || c.Actual > c.High }
 
 // Pending is a change awaiting confirmation.
 type Pending struct {

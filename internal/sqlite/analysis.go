@@ -256,7 +256,7 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *
 // behaviourValues are the columns a behaviour row carries, in the order of
 // behaviourColumns.
 const behaviourColumns = `class, driver, unit, lag, fixed_per_period, variable_rate, r2, n, range_min, range_max, since, until, steps, reason,
-	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending`
+	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending`
 
 func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 	steps, highLow, diagnostics, brk, pending := "", "", "", "", ""
@@ -298,7 +298,19 @@ func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
 		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
 		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics),
-		nullString(brk), nullString(pending)}, nil
+		nullString(brk), nullString(pending), spendingJSON(b.Spending)}, nil
+}
+
+// spendingJSON stores the spending checks, leaving out any that are not
+// finite numbers (JSON has no NaN).
+func spendingJSON(checks []costdrift.SpendingCheck) any {
+	var keep []costdrift.SpendingCheck
+	for _, c := range checks {
+		if !math.IsNaN(c.Low+c.High+c.Actual+c.Expected+c.Activity) && !math.IsInf(c.Low+c.High+c.Actual+c.Expected+c.Activity, 0) {
+			keep = append(keep, c)
+		}
+	}
+	return jsonOrNull(keep)
 }
 
 func insertBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour, from string) error {
@@ -308,7 +320,7 @@ func insertBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b
 	}
 	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
 		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_from_period)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
 		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, nullString(from))...)
 	return err
 }
@@ -319,7 +331,7 @@ func updateBehaviour(ctx context.Context, tx *sql.Tx, runID, id int64, b *costdr
 		return err
 	}
 	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET (`+behaviourColumns+`, last_run_id)
-		= (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) WHERE id = ?`, append(values, runID, id)...)
+		= (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) WHERE id = ?`, append(values, runID, id)...)
 	return err
 }
 
@@ -334,7 +346,7 @@ func closeBehaviour(ctx context.Context, tx *sql.Tx, id int64, now, lastPeriod s
 func insertBefore(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour) error {
 	before := *b
 	br := b.Break
-	before.Break, before.Pending, before.Steps, before.HighLow, before.Diagnostics, before.Outliers = nil, nil, nil, nil, nil, nil
+	before.Break, before.Pending, before.Steps, before.HighLow, before.Diagnostics, before.Outliers, before.Spending = nil, nil, nil, nil, nil, nil, nil
 	before.Driver2, before.Unit2 = "", ""
 	before.FixedPerPeriod, before.VariableRate = br.FixedBefore, br.RateBefore
 	if br.Driver == "" {
@@ -353,7 +365,7 @@ func insertBefore(ctx context.Context, tx *sql.Tx, runID int64, now string, b *c
 	}
 	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
 		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_to_run_at, valid_from_period, valid_to_period)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
 		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, now, nullString(br.WindowFrom), nullString(br.LastBefore))...)
 	return err
 }
@@ -364,7 +376,7 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		COALESCE(break, ''), COALESCE(pending, '')
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, '')
 		FROM current_behaviour ORDER BY account, cost_center`)
 	if err != nil {
 		return nil, err
@@ -376,13 +388,18 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		var class, steps, highLow string
 		var lag sql.NullInt64
 		var fixed, rate, r2, lo, hi, mean, cv sql.NullFloat64
-		var outliers, diagnostics, brk, pending string
+		var outliers, diagnostics, brk, pending, spending string
 		var lag2 sql.NullInt64
 		var rate2 sql.NullFloat64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending); err != nil {
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending); err != nil {
 			return nil, err
+		}
+		if spending != "" {
+			if err := json.Unmarshal([]byte(spending), &b.Spending); err != nil {
+				return nil, fmt.Errorf("behaviour %s: spending: %w", b.Object, err)
+			}
 		}
 		if brk != "" {
 			b.Break = &costdrift.Break{}
@@ -568,6 +585,28 @@ func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behav
 		b.Class = costdrift.Class(class)
 		b.FixedPerPeriod, b.VariableRate = orNaN(fixed), orNaN(rate)
 		out[b.Object.String()] = b
+	}
+	return out, rows.Err()
+}
+
+// NewestPeriods returns, per source, the newest period of its ledger lines
+// and activity.
+func (db *DB) NewestPeriods(ctx context.Context) (map[string]string, error) {
+	rows, err := db.q().QueryContext(ctx, `SELECT source, MAX(period) FROM gl_lines GROUP BY source
+		UNION ALL SELECT source, MAX(period) FROM activity GROUP BY source`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	out := map[string]string{}
+	for rows.Next() {
+		var s, p string
+		if err := rows.Scan(&s, &p); err != nil {
+			return nil, err
+		}
+		if p > out[s] {
+			out[s] = p
+		}
 	}
 	return out, rows.Err()
 }
