@@ -12,8 +12,8 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/alerts"
-	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/analyze"
+	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/series"
 	"github.com/costdrift/costdrift/internal/sqlite"
