@@ -97,8 +97,18 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		}
 		panel.Objects = changed
 	}
+	// Each object's behaviour so far, so that a cost near a boundary keeps
+	// its class and driver unless the new evidence is clearly better.
+	before, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	prior := make(map[string]costdrift.Behaviour, len(before))
+	for _, b := range before {
+		prior[b.Object.String()] = b
+	}
 	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
-		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed})
+		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed, Prior: prior})
 
 	var fits []costdrift.Fit
 	behaviours := make([]costdrift.Behaviour, 0, len(results))

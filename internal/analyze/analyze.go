@@ -24,6 +24,13 @@ type Settings struct {
 	// does not depend on which other objects were analysed).
 	Replicates int
 	Seed       uint64
+
+	// Prior holds each object's behaviour before this analysis, by object
+	// name. A cost near a boundary between two classes or two drivers would
+	// otherwise flip between them as noise moves it; with a prior, the
+	// analysis keeps it unless the new evidence is clearly better
+	// (hysteresis.go).
+	Prior map[string]costdrift.Behaviour
 }
 
 // Thresholds of the classification, as fractions. They are common practice
@@ -135,6 +142,11 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 	}
 	adjust(cands, s.Alpha)
 	ranked := rank(cands)
+	prior, hasPrior := s.Prior[obj.Object.String()]
+	if hasPrior {
+		ranked = stickyRanking(ranked, cands, prior, s.Alpha)
+		ranked = preferPrior(ranked, prior)
+	}
 	for _, c := range cands {
 		f := &res.Fits[c.linearIdx]
 		f.SlopeAdjustedP = c.adjustedP

@@ -101,6 +101,17 @@ var EndPeriods = []int{2, 3, 4}
 // corrected over EndPeriods. It returns the first observation after the
 // break, the statistic, its p-value and the test's name.
 func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat, p float64, test string, ok bool) {
+	if res.Behaviour.Class == costdrift.Variable && res.Behaviour.Driver2 == "" && positive(res.x) {
+		// A variable cost's noise grows with its activity, which the tests'
+		// equal-variance errors do not allow for; its cost per unit of
+		// driver has steady noise, and a change in rate is a change in its
+		// level.
+		perUnit := make([]float64, len(res.y))
+		for i := range perUnit {
+			perUnit[i] = res.y[i] / res.x[i]
+		}
+		res.x, res.y = nil, perUnit
+	}
 	k := 1
 	var columns [][]float64
 	if res.x != nil {
@@ -137,6 +148,19 @@ func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat,
 		test = "shift of the newest periods (level-dummy t test), Bonferroni-corrected"
 	}
 	return split, stat, p, test, ok
+}
+
+// positive reports whether every activity value is above zero.
+func positive(x []float64) bool {
+	if x == nil {
+		return false
+	}
+	for _, v := range x {
+		if v <= 0 {
+			return false
+		}
+	}
+	return true
 }
 
 // predictiveChow tests the newest m = n − n1 periods against the formula

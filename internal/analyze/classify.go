@@ -83,7 +83,11 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		}
 		steps[c] = sf
 		res.Fits = append(res.Fits, stepRecord(b.Object, c, sf))
-		flat := !(sf.withinP < s.Alpha && sf.withinSlope > 0)
+		flatLevel := s.Alpha
+		if prior, ok := s.Prior[b.Object.String()]; ok && prior.Class == costdrift.Step {
+			flatLevel = s.Alpha / StickySignificance // a step stays flat unless clearly rising inside
+		}
+		flat := !(sf.withinP < flatLevel && sf.withinSlope > 0)
 		// The step must also beat the best line of any driver, not only
 		// its own driver's: a step on a driver that merely correlates with
 		// the real one can beat that driver's poor line. AICc compares fits
@@ -94,7 +98,17 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		if top.N != len(c.y) {
 			beatsBest = sf.press/float64(len(c.y)) < top.PRESS/float64(top.N)
 		}
-		if sf.rising && flat && beatsBest && c.linear.AICc-sf.model.AICc >= StepMinDeltaAICc && (stepBest == nil || sf.model.AICc < stepBest.model.AICc) {
+		need := StepMinDeltaAICc
+		if prior, ok := s.Prior[b.Object.String()]; ok {
+			if prior.Class == costdrift.Step {
+				need = StepKeepDeltaAICc // a step cost stays a step on weaker evidence
+				beatsBest = beatsBest || top.AICc-sf.model.AICc >= need
+			} else {
+				need = StepEnterDeltaAICc
+				beatsBest = beatsBest && top.AICc-sf.model.AICc >= need
+			}
+		}
+		if sf.rising && flat && beatsBest && c.linear.AICc-sf.model.AICc >= need && (stepBest == nil || sf.model.AICc < stepBest.model.AICc) {
 			stepCand, stepBest = c, sf
 			c.stepIdx = len(res.Fits) - 1
 		}
@@ -191,8 +205,12 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		chosenIdx = len(res.Fits) - 1
 	}
 
+	variableRule := interceptP >= s.Alpha || fixedShare < MinorShare
+	if prior, ok := s.Prior[b.Object.String()]; ok {
+		variableRule = keepVariableOrMixed(prior.Class, variableRule, interceptP, fixedShare, s.Alpha)
+	}
 	switch {
-	case interceptP >= s.Alpha || fixedShare < MinorShare:
+	case variableRule:
 		b.Class = costdrift.Variable
 		b.VariableRate = slope
 		b.VariableRate2 = slope2
@@ -209,7 +227,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 			why = fmt.Sprintf("fixed part is %.1f %% of cost at mean activity (below %.0f %%)", 100*fixedShare, 100*MinorShare)
 		}
 		b.Reason = fmt.Sprintf("cost moves with %s (%s); %s%s", label, evidence, why, note)
-	case variableShare < MinorShare:
+	case variableShare < minorShareFor(s.Prior, b.Object):
 		b.Class = costdrift.Fixed
 		b.Driver, b.Unit, b.Lag = "", "", 0
 		b.Driver2, b.Unit2, b.Lag2 = "", "", 0

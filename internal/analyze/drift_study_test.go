@@ -90,51 +90,57 @@ func TestDetectionStudy(t *testing.T) {
 	t.Logf("15 %% level shift: found within 3 periods %.1f %%, dated within one period %.1f %%", pct(level.found), pct(level.dated))
 	t.Logf("20 %% rate shift:  found within 3 periods %.1f %%, dated within one period %.1f %%", pct(rate.found), pct(rate.dated))
 	// Targets: found within 3 periods in at least 90 %, dated within one
-	// period in at least 80 %. The rate shift's dating (76.5 % measured)
-	// is below the target; this floor guards what is reached until the
-	// dating of end-of-window changes improves.
-	floors := map[string][2]float64{"level shift": {90, 80}, "rate shift": {90, 75}}
+	// period in at least 80 %.
+	floors := map[string][2]float64{"level shift": {90, 80}, "rate shift": {90, 80}}
 	for name, c := range map[string]tally{"level shift": level, "rate shift": rate} {
 		if f := floors[name]; pct(c.found) < f[0] || pct(c.dated) < f[1] {
-			t.Errorf("%s: found %.1f %% (floor %.0f), dated %.1f %% (floor %.0f)", name, pct(c.found), f[0], pct(c.dated), f[1])
+			t.Errorf("%s: found %.1f %% (want %.0f), dated %.1f %% (want %.0f)", name, pct(c.found), f[0], pct(c.dated), f[1])
 		}
 	}
 }
 
-// On stable costs, twelve monthly analyses in a row should reclassify (a
-// change of class or driver seen in two analyses in a row, the rule that
-// confirms a change without a break) at most 2 % of objects. Measured: 4.4 %,
-// borderline costs whose class or driver flips between close candidates,
-// with or without the break test; the floor below guards that figure until
-// the classification gets hysteresis (preferring the previous driver and
-// class when the new ones are not clearly better).
+// On stable costs, twelve monthly analyses in a row should reclassify at
+// most 2 % of objects (the target; see the floor below). Each analysis gets the behaviour the store would hold
+// as its prior (hysteresis), and a change of class or driver counts only
+// when two analyses in a row see it, the store's rule for a change without a
+// break.
 func TestStableCostsAreNotReclassified(t *testing.T) {
 	const trials = 150
 	r := rand.New(rand.NewPCG(12, 34))
 	reclassified, breaks, objects := 0, 0, 0
+	kinds := map[string]int{}
 	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Variable, costdrift.Mixed} {
 		for k := 0; k < trials; k++ {
 			ds := studyDrivers(r, 48)
 			cost, _ := studyCost(r, class, ds, 48, 0.02+0.06*r.Float64())
 			objects++
-			var first, previous *costdrift.Behaviour
+			var confirmed, pending *costdrift.Behaviour
 			changed, broke := false, false
 			for end := 37; end <= 48; end++ {
 				p := window(cost, ds, end)
-				b := Object(p, &p.Objects[0], driftSettings).Behaviour
+				s := driftSettings
+				if confirmed != nil {
+					s.Prior = map[string]costdrift.Behaviour{p.Objects[0].Object.String(): *confirmed}
+				}
+				b := Object(p, &p.Objects[0], s).Behaviour
 				if b.Break != nil {
 					broke = true
 				}
 				differs := func(a *costdrift.Behaviour) bool {
-					return a != nil && (a.Class != b.Class || a.Driver != b.Driver || a.Lag != b.Lag)
+					return a.Class != b.Class || a.Driver != b.Driver || a.Lag != b.Lag
 				}
-				if first != nil && differs(first) && previous != nil && !differs(previous) {
-					changed = true // the same change seen twice in a row
+				switch {
+				case confirmed == nil:
+					confirmed = &b
+				case !differs(confirmed):
+					pending = nil
+				case pending != nil && !differs(pending):
+					changed = true
+					kinds[string(confirmed.Class)+">"+string(b.Class)+map[bool]string{true: " after a break", false: ""}[b.Break != nil]]++
+					confirmed, pending = &b, nil
+				default:
+					pending = &b
 				}
-				if first == nil {
-					first = &b
-				}
-				previous = &b
 			}
 			if changed {
 				reclassified++
@@ -144,9 +150,12 @@ func TestStableCostsAreNotReclassified(t *testing.T) {
 			}
 		}
 	}
-	t.Logf("stable costs over 12 analyses: %d of %d reclassified (%.1f %%), %d with a break found (%.1f %%)",
-		reclassified, objects, 100*float64(reclassified)/float64(objects), breaks, 100*float64(breaks)/float64(objects))
-	if float64(reclassified) > 0.05*float64(objects) {
-		t.Errorf("%d of %d stable costs reclassified, more than the 5 %% measured before (target 2 %%)", reclassified, objects)
+	t.Logf("stable costs over 12 analyses: %d of %d reclassified (%.1f %%), %d with a break found (%.1f %%); changes %v",
+		reclassified, objects, 100*float64(reclassified)/float64(objects), breaks, 100*float64(breaks)/float64(objects), kinds)
+	// Target 2 %; measured 2.4 % (11 of 450), most of them costs whose
+	// first analysis called them step and a later one, rightly, mixed. The
+	// floor guards what is reached.
+	if float64(reclassified) > 0.03*float64(objects) {
+		t.Errorf("%d of %d stable costs reclassified, more than the 3 %% floor (target 2 %%)", reclassified, objects)
 	}
 }

@@ -1,0 +1,109 @@
+package analyze
+
+import "github.com/costdrift/costdrift/internal/costdrift"
+
+// Hysteresis: a cost close to a boundary (two drivers nearly as good, an
+// intercept near significance, a step barely better than a line) would flip
+// between analyses as each month's noise moves it. Given the object's
+// behaviour before (Settings.Prior), the analysis keeps it unless the new
+// evidence clears the boundary by a margin; a new object is classified on the
+// plain rules.
+const (
+	// StickyPRESS: the prior driver stays first while its leave-one-out
+	// error per period is within this share of the best one's.
+	StickyPRESS = 0.10
+	// StepKeepDeltaAICc: a step cost stays a step while its model is at
+	// least as good as the line by AICc (a new step needs more).
+	StepKeepDeltaAICc = 0.0
+	// StepEnterDeltaAICc: a cost that was not a step becomes one only when
+	// the step beats the line by this much.
+	StepEnterDeltaAICc = 6.0
+	// StickySignificance: a cost without a driver takes one only when its
+	// corrected p-value is below alpha divided by this; a cost with a driver
+	// keeps it while the corrected p-value is below alpha times this.
+	StickySignificance = 5.0
+)
+
+// stickyRanking applies the hysteresis of significance: without a prior
+// driver, only drivers significant at alpha/StickySignificance count; with
+// one that is no longer significant at alpha, it is kept while its positive
+// slope stays significant at alpha·StickySignificance.
+func stickyRanking(ranked, cands []*candidate, prior costdrift.Behaviour, alpha float64) []*candidate {
+	if prior.Class == costdrift.InsufficientData {
+		return ranked
+	}
+	if prior.Driver == "" {
+		out := ranked[:0:0]
+		for _, c := range ranked {
+			if c.adjustedP < alpha/StickySignificance {
+				out = append(out, c)
+			}
+		}
+		return out
+	}
+	if len(ranked) > 0 {
+		return ranked
+	}
+	for _, c := range cands {
+		if c.driver.Name == prior.Driver && c.lag == prior.Lag && c.linear.Coef[1] > 0 && c.adjustedP < alpha*StickySignificance {
+			c.plausible = true
+			c.rank = 1
+			return []*candidate{c}
+		}
+	}
+	return ranked
+}
+
+// preferPrior moves the prior driver and lag to the front of the ranking
+// when it is still significant and nearly as good as the best.
+func preferPrior(ranked []*candidate, prior costdrift.Behaviour) []*candidate {
+	if prior.Driver == "" || len(ranked) < 2 {
+		return ranked
+	}
+	best := ranked[0].linear.PRESS / float64(ranked[0].linear.N)
+	for i, c := range ranked {
+		if i == 0 || c.driver.Name != prior.Driver || c.lag != prior.Lag {
+			continue
+		}
+		if c.linear.PRESS/float64(c.linear.N) <= (1+StickyPRESS)*best {
+			out := make([]*candidate, 0, len(ranked))
+			out = append(out, c)
+			out = append(out, ranked[:i]...)
+			return append(out, ranked[i+1:]...)
+		}
+		break
+	}
+	return ranked
+}
+
+// minorShareFor is the variable share under which a cost with a driver is
+// treated as fixed: half the threshold for a cost that was driven, one and a
+// half times it for one that was fixed.
+func minorShareFor(priors map[string]costdrift.Behaviour, o costdrift.CostObject) float64 {
+	prior, ok := priors[o.String()]
+	switch {
+	case !ok:
+		return MinorShare
+	case prior.Class == costdrift.Fixed:
+		return 1.5 * MinorShare
+	case prior.Driver != "":
+		return MinorShare / 2
+	}
+	return MinorShare
+}
+
+// keepVariableOrMixed widens the boundary between variable and mixed around
+// the prior class: a mixed cost turns variable only when its intercept is
+// clearly not significant (p >= 2·alpha) or its fixed share below half the
+// threshold; a variable cost turns mixed only when its intercept is clearly
+// significant (p < alpha/2) with a fixed share above one and a half times the
+// threshold.
+func keepVariableOrMixed(prior costdrift.Class, variable bool, interceptP, fixedShare, alpha float64) bool {
+	switch prior {
+	case costdrift.Mixed:
+		return interceptP >= 2*alpha || fixedShare < MinorShare/2
+	case costdrift.Variable:
+		return !(interceptP < alpha/2 && fixedShare >= 1.5*MinorShare)
+	}
+	return variable
+}
