@@ -129,15 +129,15 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 	if b.MeanCost != 0 {
 		b.CV = sd / math.Abs(b.MeanCost)
 	}
-	res.Fits = append(res.Fits, fitRecord(obj.Object, "", 0, costdrift.ModelConstant, constant, y))
+	res.Fits = append(res.Fits, fitRecord(obj.Object, "", 0, costdrift.ModelConstant, constant, 0, 0))
 
 	cands := candidates(p, obj, s)
 	for _, c := range cands {
 		c.linearIdx = len(res.Fits)
-		f := fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelLinear, c.linear, c.x)
+		f := fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelLinear, c.linear, c.rangeMin, c.rangeMax)
 		res.Fits = append(res.Fits, f)
 		if c.origin != nil {
-			res.Fits = append(res.Fits, fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelProportional, c.origin, c.x))
+			res.Fits = append(res.Fits, fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelProportional, c.origin, c.rangeMin, c.rangeMax))
 		}
 	}
 	adjust(cands, s.Alpha)
@@ -298,7 +298,7 @@ func rank(cands []*candidate) []*candidate {
 }
 
 // fitRecord turns a regression into a stored fit.
-func fitRecord(o costdrift.CostObject, driver string, lag int, model costdrift.Model, r *fit.Regression, x []float64) costdrift.Fit {
+func fitRecord(o costdrift.CostObject, driver string, lag int, model costdrift.Model, r *fit.Regression, lo, hi float64) costdrift.Fit {
 	f := costdrift.Fit{
 		Object: o, Driver: driver, Lag: lag, Model: model, N: r.N,
 		R2: r.R2, ResidualSE: r.ResidualSE, PRESS: r.PRESS, AICc: r.AICc,
@@ -316,7 +316,7 @@ func fitRecord(o costdrift.CostObject, driver string, lag int, model costdrift.M
 		f.Slope, f.SlopeSE, f.SlopeT, f.SlopeP = r.Coef[0], r.StdErr[0], r.T[0], r.P[0]
 	}
 	if driver != "" {
-		f.RangeMin, f.RangeMax = minMax(x)
+		f.RangeMin, f.RangeMax = lo, hi
 	}
 	return f
 }

@@ -20,7 +20,7 @@ func BenchmarkPanel(b *testing.B) {
 	cfg := panelgen.Default()
 	cfg.Objects = 500
 	p, _ := panelgen.Build(cfg)
-	s := analyze.Settings{MinPeriods: 12, Lags: []int{0, 1}, Alpha: 0.05}
+	s := analyze.Settings{MinPeriods: 12, Lags: []int{0, 1}, Alpha: 0.05, BreakAlpha: 0.01, Replicates: 999, Seed: 1}
 	// Every object has 36 periods and 30 varying drivers, so every
 	// candidate is fitted.
 	want := cfg.Objects * (cfg.Shared + cfg.Local) * len(s.Lags)

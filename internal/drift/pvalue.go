@@ -166,6 +166,13 @@ func HansenPValue(x float64, k int, lambda float64) (float64, error) {
 // bootstrapSupF is the residual bootstrap of SupFPValue for the observed
 // statistics fs.
 func bootstrapSupF(columns [][]float64, y []float64, intercept bool, fs *FStatsResult, replicates int, seed uint64) (float64, error) {
+	return bootstrapSupFUntil(columns, y, intercept, fs, replicates, seed, 1)
+}
+
+// bootstrapSupFUntil is bootstrapSupF that stops as soon as the p-value is
+// certain to reach stop (the replicates still to come can only raise it):
+// it then returns a p-value of at least stop, not the exact one.
+func bootstrapSupFUntil(columns [][]float64, y []float64, intercept bool, fs *FStatsResult, replicates int, seed uint64, stop float64) (float64, error) {
 	reg, err := fitModel(columns, y, intercept, 0, len(y))
 	if err != nil {
 		return 0, fmt.Errorf("bootstrap: no-break fit: %w", err)
@@ -192,9 +199,25 @@ func bootstrapSupF(columns [][]float64, y []float64, intercept bool, fs *FStatsR
 		}
 		if d.supF(ystar, fs.From, fs.To) >= fs.SupF {
 			exceed++
+			if p := float64(exceed+1) / float64(replicates+1); p >= stop {
+				return p, nil
+			}
 		}
 	}
 	return float64(exceed+1) / float64(replicates+1), nil
+}
+
+// SupFSignificant runs the residual bootstrap of SupFPValue only as far as
+// needed to tell whether the sup-F p-value is below level: a break that is
+// clearly not significant is settled after a few replicates. The p-value is
+// exact when below level, and a lower bound (at least level) otherwise.
+func SupFSignificant(columns [][]float64, y []float64, intercept bool, trim float64, replicates int, seed uint64, level float64) (p float64, fs *FStatsResult, err error) {
+	fs, err = FStats(columns, y, intercept, trim)
+	if err != nil {
+		return 1, nil, err
+	}
+	p, err = bootstrapSupFUntil(columns, y, intercept, fs, replicates, seed, level)
+	return p, fs, err
 }
 
 // drawIndex returns a uniform integer in [0, n) from src by Lemire's

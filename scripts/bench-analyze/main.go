@@ -53,7 +53,9 @@ import (
 )
 
 // settings are the product defaults the benchmark runs with.
-var settings = analyze.Settings{MinPeriods: 12, Lags: []int{0, 1}, Alpha: 0.05}
+// The product's defaults, break test included (analysis.break_alpha 0.01,
+// 999 bootstrap resamples).
+var settings = analyze.Settings{MinPeriods: 12, Lags: []int{0, 1}, Alpha: 0.05, BreakAlpha: 0.01, Replicates: 999, Seed: 1}
 
 func main() {
 	cfg := panelgen.Default()
