@@ -136,7 +136,16 @@ func run(cfg panelgen.Config, dir string, sampleSize int, cpuprofile string) err
 		kinds[panelgen.KindNames[t.Kind]]++
 	}
 	if dir != "" {
-		if err := writeOurFits(filepath.Join(dir, "ours_sample.f64"), p, results, cands, sample); err != nil {
+		// The Python side fits every candidate over the whole window; an
+		// object with a break was refitted from the break on, so the sample
+		// is analysed again with the break test off for the comparison.
+		plain := settings
+		plain.BreakAlpha = 0
+		compare := make([]analyze.Result, len(p.Objects))
+		for _, o := range sample {
+			compare[o] = analyze.Object(p, &p.Objects[o], plain)
+		}
+		if err := writeOurFits(filepath.Join(dir, "ours_sample.f64"), p, compare, cands, sample); err != nil {
 			return err
 		}
 	}
