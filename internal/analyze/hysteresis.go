@@ -17,7 +17,7 @@ const (
 	StepKeepDeltaAICc = 0.0
 	// StepEnterDeltaAICc: a cost that was not a step becomes one only when
 	// the step beats the line by this much.
-	StepEnterDeltaAICc = 6.0
+	StepEnterDeltaAICc = StepMinDeltaAICc + 2
 	// StickySignificance: a cost without a driver takes one only when its
 	// corrected p-value is below alpha divided by this; a cost with a driver
 	// keeps it while the corrected p-value is below alpha times this.
