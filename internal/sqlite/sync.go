@@ -515,6 +515,24 @@ func (w *writer) storeLine(l costdrift.LedgerLine) error {
 	return err
 }
 
+// insertRows runs a batch INSERT through the driver's query path, which
+// binds every value and steps the statement in one call into SQLite, where
+// the exec path makes one call per bound value: for a hundred rows of eight
+// values, eight hundred calls fewer.
+func insertRows(ctx context.Context, s *sql.Stmt, args []any) error {
+	rows, err := s.QueryContext(ctx, args...)
+	if err != nil {
+		return err
+	}
+	for rows.Next() {
+	}
+	if err := rows.Err(); err != nil {
+		rows.Close()
+		return err
+	}
+	return rows.Close()
+}
+
 // quoteSQL writes s as an SQL string literal.
 func quoteSQL(s string) string {
 	return "'" + strings.ReplaceAll(s, "'", "''") + "'"
@@ -615,7 +633,7 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	// the whole statement (and undo it), and the batch then takes the
 	// row-by-row path that tells a repeat inside the file from a line
 	// another file loaded. New files, the bulk of a sync, never get there.
-	if _, err := s.ExecContext(w.ctx, args...); err != nil {
+	if err := insertRows(w.ctx, s, args); err != nil {
 		var se sqlite3.Error
 		if !errors.As(err, &se) || se.ExtendedCode != sqlite3.ErrConstraintUnique {
 			return err
