@@ -73,12 +73,12 @@ func (c Currency) Parse(s string, n Notation) (int64, error) {
 	} else if strings.HasSuffix(s, "-") {
 		neg, s = true, s[:len(s)-1]
 	}
-	if strings.ContainsAny(s, "eE") {
-		return 0, fmt.Errorf("amount %q is in exponent notation", s)
-	}
 	d, err := decimal.NewFromString(s)
 	if err != nil {
 		return 0, fmt.Errorf("amount %q is not a number", s)
+	}
+	if strings.ContainsAny(s, "eE") {
+		return 0, fmt.Errorf("amount %q is in exponent notation", s)
 	}
 	if neg {
 		d = d.Neg()

@@ -2,6 +2,7 @@ package money
 
 import (
 	"errors"
+	"strings"
 	"testing"
 )
 
@@ -68,6 +69,12 @@ func TestParseRejects(t *testing.T) {
 				t.Fatalf("Parse(%q) = %d, want an error", tc.in, got)
 			}
 		})
+	}
+	if _, err := eur.Parse("twelve", Notation{}); err == nil || !strings.Contains(err.Error(), "is not a number") {
+		t.Errorf("twelve: got %v, want 'is not a number'", err)
+	}
+	if _, err := eur.Parse("1e3", Notation{}); err == nil || !strings.Contains(err.Error(), "exponent notation") {
+		t.Errorf("1e3: got %v, want 'exponent notation'", err)
 	}
 	if _, err := eur.Parse("1.005", Notation{}); !errors.Is(err, ErrTooPrecise) {
 		t.Errorf("1.005 EUR: got %v, want ErrTooPrecise", err)
