@@ -37,10 +37,10 @@ func TestAccountsFixture(t *testing.T) {
 		account("coa", "6200", "Welding consumables", "expense", "Production overhead"),
 		account("coa", "6500", "Rent and leases", "expense", "Occupancy"),
 	}
-	if !reflect.DeepEqual(rec.accounts, want) {
-		t.Errorf("accounts:\n got  %+v\n want %+v", rec.accounts, want)
+	if !reflect.DeepEqual(rec.Accounts, want) {
+		t.Errorf("accounts:\n got  %+v\n want %+v", rec.Accounts, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{rej("coa", "accounts.csv:5", "missing account", ",Unassigned,expense,Other")})
+	checkRejects(t, rec.Rejects, []costdrift.Reject{rej("coa", "accounts.csv:5", "missing account", ",Unassigned,expense,Other")})
 }
 
 func TestAccountsOptionalColumnsAndMapping(t *testing.T) {
@@ -53,10 +53,10 @@ func TestAccountsOptionalColumnsAndMapping(t *testing.T) {
 		t.Errorf("read %d rows, want 6", n)
 	}
 	want := []costdrift.Account{account("coa", "6200", "Schweißzubehör", "", ""), account("coa", "6300", "Wartung", "", "")}
-	if !reflect.DeepEqual(rec.accounts, want) {
-		t.Errorf("accounts:\n got  %+v\n want %+v", rec.accounts, want)
+	if !reflect.DeepEqual(rec.Accounts, want) {
+		t.Errorf("accounts:\n got  %+v\n want %+v", rec.Accounts, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("coa", "kontenplan.csv:4", "has 1 fields, the header has 2", "6400"),
 		rej("coa", "kontenplan.csv:5", "has 3 fields, the header has 2", "6500;Miete;extra"),
 		rej("coa", "kontenplan.csv:6", "missing account", ";ohne Nummer"),
@@ -76,7 +76,7 @@ func TestAccountsWholeFileErrors(t *testing.T) {
 				t.Fatalf("error %v, want one containing %q", err, tc.want)
 			}
 			oneLine(t, "error", err.Error())
-			if n != 0 || !rec.empty() {
+			if n != 0 || !rec.Empty() {
 				t.Errorf("read %d rows, wrote %+v; want nothing", n, rec)
 			}
 		})

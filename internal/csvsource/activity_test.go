@@ -70,10 +70,10 @@ func TestActivityLongForm(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			rec, n := readActivity(t, writeFile(t, "activity.csv", tc.content), activityOptions())
-			if n != len(tc.want) || len(rec.rejects) != 0 {
-				t.Errorf("read %d rows, want %d; rejects %+v", n, len(tc.want), rec.rejects)
+			if n != len(tc.want) || len(rec.Rejects) != 0 {
+				t.Errorf("read %d rows, want %d; rejects %+v", n, len(tc.want), rec.Rejects)
 			}
-			checkActivity(t, rec.activity, tc.want)
+			checkActivity(t, rec.Values, tc.want)
 		})
 	}
 }
@@ -93,8 +93,8 @@ func TestActivityLongFormRejects(t *testing.T) {
 	if n != 9 {
 		t.Errorf("read %d rows, want 9", n)
 	}
-	checkActivity(t, rec.activity, []costdrift.ActivityValue{act("2025-02", "machine_hours", "WELD", 12.5, "")})
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{act("2025-02", "machine_hours", "WELD", 12.5, "")})
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("ops", "activity.csv:2", `bad value "-12": activity cannot be negative`, "2025-01,machine_hours,-12,WELD"),
 		rej("ops", "activity.csv:3", "missing driver", "2025-01,,12,WELD"),
 		rej("ops", "activity.csv:4", "missing value", "2025-01,machine_hours,,WELD"),
@@ -119,17 +119,17 @@ func TestActivityWideForm(t *testing.T) {
 	if n != 7 {
 		t.Errorf("read %d rows, want 7", n)
 	}
-	checkActivity(t, rec.activity, []costdrift.ActivityValue{
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{
 		act("2025-01", "machine_hours", "", 1210.5, ""), act("2025-01", "frames_built", "", 340, ""), act("2025-01", "orders_shipped", "", 88, ""),
 		act("2025-02", "machine_hours", "", 1175, ""), act("2025-02", "orders_shipped", "", 91, ""),
 		act("2025-07", "machine_hours", "", 1299, ""), act("2025-07", "frames_built", "", 350, ""), act("2025-07", "orders_shipped", "", 96, ""),
 	})
-	for _, a := range rec.activity {
+	for _, a := range rec.Values {
 		if a.Period == "2025-03" || a.Period == "2025-04" {
 			t.Errorf("part of a rejected row was written: %+v", a)
 		}
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("ops", "activity.csv:4", `orders_shipped: bad value "n/a": not a number`, "2025-03,1302.25,362,n/a"),
 		rej("ops", "activity.csv:5", `frames_built: bad value "-1": activity cannot be negative`, "2025-04,1288,-1,97"),
 		rej("ops", "activity.csv:7", "has 3 fields, the header has 4", "2025-06,1300,355"),
@@ -142,8 +142,8 @@ func TestActivityWideFormCostCenterAndNotation(t *testing.T) {
 	opt.Notation = money.Notation{DecimalComma: true, ThousandsSeparator: "."}
 	path := writeFile(t, "activity.csv", "Period;Cost_Center;machine_hours;kWh\n2025-01;WELD;1.210,5;20.000\n2025-01;;410;\n")
 	rec, _ := readActivity(t, path, opt)
-	checkRejects(t, rec.rejects, nil)
-	checkActivity(t, rec.activity, []costdrift.ActivityValue{
+	checkRejects(t, rec.Rejects, nil)
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{
 		act("2025-01", "machine_hours", "WELD", 1210.5, ""), act("2025-01", "kWh", "WELD", 20000, ""),
 		act("2025-01", "machine_hours", "", 410, ""),
 	})
@@ -186,14 +186,14 @@ func TestActivityPeriod(t *testing.T) {
 			opt.DateLayout, opt.Period = tc.layout, tc.period
 			rec, _ := readActivity(t, writeFile(t, "activity.csv", "period,machine_hours\n"+tc.text+",12\n"), opt)
 			if tc.reason == "" {
-				checkRejects(t, rec.rejects, nil)
-				checkActivity(t, rec.activity, []costdrift.ActivityValue{act(tc.want, "machine_hours", "", 12, "")})
+				checkRejects(t, rec.Rejects, nil)
+				checkActivity(t, rec.Values, []costdrift.ActivityValue{act(tc.want, "machine_hours", "", 12, "")})
 				return
 			}
-			if len(rec.activity) != 0 {
-				t.Errorf("stored %+v, want nothing", rec.activity)
+			if len(rec.Values) != 0 {
+				t.Errorf("stored %+v, want nothing", rec.Values)
 			}
-			checkRejects(t, rec.rejects, []costdrift.Reject{rej("ops", "activity.csv:2", tc.reason, tc.text+",12")})
+			checkRejects(t, rec.Rejects, []costdrift.Reject{rej("ops", "activity.csv:2", tc.reason, tc.text+",12")})
 		})
 	}
 }
@@ -203,24 +203,24 @@ func TestActivityLayout(t *testing.T) {
 	wide := "period,driver_hours,orders\n2025-01,12,3\n"
 	t.Run("detected long", func(t *testing.T) {
 		rec, _ := readActivity(t, writeFile(t, "a.csv", long), activityOptions())
-		checkActivity(t, rec.activity, []costdrift.ActivityValue{act("2025-01", "machine_hours", "", 12, "")})
+		checkActivity(t, rec.Values, []costdrift.ActivityValue{act("2025-01", "machine_hours", "", 12, "")})
 	})
 	t.Run("detected wide", func(t *testing.T) {
 		rec, _ := readActivity(t, writeFile(t, "a.csv", wide), activityOptions())
-		checkActivity(t, rec.activity, []costdrift.ActivityValue{act("2025-01", "driver_hours", "", 12, ""), act("2025-01", "orders", "", 3, "")})
+		checkActivity(t, rec.Values, []costdrift.ActivityValue{act("2025-01", "driver_hours", "", 12, ""), act("2025-01", "orders", "", 3, "")})
 	})
 	t.Run("detected long through a mapping", func(t *testing.T) {
 		opt := activityOptions()
 		opt.Columns = map[string]string{"period": "Month", "driver": "Activity", "value": "Qty"}
 		rec, _ := readActivity(t, writeFile(t, "a.csv", "Month,Activity,Qty\n2025-01,orders,7\n"), opt)
-		checkActivity(t, rec.activity, []costdrift.ActivityValue{act("2025-01", "orders", "", 7, "")})
+		checkActivity(t, rec.Values, []costdrift.ActivityValue{act("2025-01", "orders", "", 7, "")})
 	})
 	t.Run("forced wide reads driver and value as driver columns", func(t *testing.T) {
 		opt := activityOptions()
 		opt.Layout = "wide"
 		rec, _ := readActivity(t, writeFile(t, "a.csv", long), opt)
-		checkActivity(t, rec.activity, nil)
-		checkRejects(t, rec.rejects, []costdrift.Reject{rej("ops", "a.csv:2", `driver: bad value "machine_hours": not a number`, "2025-01,machine_hours,12")})
+		checkActivity(t, rec.Values, nil)
+		checkRejects(t, rec.Rejects, []costdrift.Reject{rej("ops", "a.csv:2", `driver: bad value "machine_hours": not a number`, "2025-01,machine_hours,12")})
 	})
 	t.Run("forced long on a wide file", func(t *testing.T) {
 		opt := activityOptions()
@@ -230,7 +230,7 @@ func TestActivityLayout(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), "a.csv: header has no column driver, value (found: period, driver_hours, orders)") {
 			t.Errorf("error %v, want one naming driver and value", err)
 		}
-		if !rec.empty() {
+		if !rec.Empty() {
 			t.Errorf("wrote %+v", rec)
 		}
 	})
@@ -262,7 +262,7 @@ func TestActivityWholeFileErrors(t *testing.T) {
 				t.Fatalf("error %v, want one containing %q", err, tc.want)
 			}
 			oneLine(t, "error", err.Error())
-			if n != 0 || !rec.empty() {
+			if n != 0 || !rec.Empty() {
 				t.Errorf("read %d rows, wrote %+v; want nothing", n, rec)
 			}
 		})
@@ -274,12 +274,12 @@ func TestActivityFixtureWide(t *testing.T) {
 	if n != 4 {
 		t.Errorf("read %d rows, want 4", n)
 	}
-	checkActivity(t, rec.activity, []costdrift.ActivityValue{
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{
 		act("2025-01", "machine_hours", "", 1210.5, ""), act("2025-01", "frames_built", "", 340, ""), act("2025-01", "orders_shipped", "", 88, ""),
 		act("2025-02", "machine_hours", "", 1175, ""), act("2025-02", "orders_shipped", "", 91, ""),
 		act("2025-04", "machine_hours", "", 1288, ""), act("2025-04", "frames_built", "", 355, ""), act("2025-04", "orders_shipped", "", 97, ""),
 	})
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("ops", "activity.csv:4", `orders_shipped: bad value "n/a": not a number`, "2025-03,1302.25,362,n/a"),
 	})
 }
@@ -289,13 +289,13 @@ func TestActivityFixtureLongTab(t *testing.T) {
 	if n != 5 {
 		t.Errorf("read %d rows, want 5", n)
 	}
-	checkActivity(t, rec.activity, []costdrift.ActivityValue{
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{
 		act("2025-01", "machine_hours", "WELD", 410, "machine hour"),
 		act("2025-01", "machine_hours", "PAINT", 380.5, "machine hour"),
 		act("2025-01", "frames_built", "", 340, "frame"),
 		act("2025-02", "frames_built", "", 331, "frame"),
 	})
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("ops", "activity.tsv:5", `bad value "-12": activity cannot be negative`, "2025-02\tmachine_hours\t-12\tWELD\tmachine hour"),
 	})
 }
@@ -303,9 +303,9 @@ func TestActivityFixtureLongTab(t *testing.T) {
 func TestActivityWriterErrorStopsWideRow(t *testing.T) {
 	// A store failure in the middle of a wide row ends the read there.
 	path := writeFile(t, "activity.csv", "period,a,b,c\n2025-01,1,2,3\n2025-02,4,5,6\n")
-	rec := &recorder{failOn: 2}
+	rec := &recorder{FailOn: 2}
 	n, err := ReadActivity(context.Background(), path, "activity.csv", activityOptions(), rec)
-	if err != errWriter || n != 1 || !reflect.DeepEqual(rec.activity, []costdrift.ActivityValue{act("2025-01", "a", "", 1, "")}) {
-		t.Errorf("read %d rows, error %v, stored %+v; want 1 row, %v, only a=1", n, err, rec.activity, errWriter)
+	if err != errWriter || n != 1 || !reflect.DeepEqual(rec.Values, []costdrift.ActivityValue{act("2025-01", "a", "", 1, "")}) {
+		t.Errorf("read %d rows, error %v, stored %+v; want 1 row, %v, only a=1", n, err, rec.Values, errWriter)
 	}
 }

@@ -54,12 +54,12 @@ func TestLedgerSignedAmountToMinorUnits(t *testing.T) {
 		fmt.Fprintf(&b, "E%d,1,2025-03-15,6200,WELD,%q,%s\n", i, tc.amount, tc.name)
 	}
 	rec, n := readLedger(t, writeFile(t, "gl.csv", b.String()), options())
-	if n != len(tests) || len(rec.lines) != len(tests) {
-		t.Fatalf("read %d rows, stored %d lines, want %d; rejects %+v", n, len(rec.lines), len(tests), rec.rejects)
+	if n != len(tests) || len(rec.Lines) != len(tests) {
+		t.Fatalf("read %d rows, stored %d lines, want %d; rejects %+v", n, len(rec.Lines), len(tests), rec.Rejects)
 	}
 	for i, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got := rec.lines[i]
+			got := rec.Lines[i]
 			want := costdrift.LedgerLine{Source: "gl", EntryID: fmt.Sprintf("E%d", i), Line: 1, PostedOn: "2025-03-15",
 				Period: "2025-03", Account: "6200", CostCenter: "WELD", AmountMinor: tc.want, Description: tc.name}
 			if got != want {
@@ -81,13 +81,13 @@ func TestLedgerDebitCredit(t *testing.T) {
 		t.Errorf("read %d rows, want 4", n)
 	}
 	var got []int64
-	for _, l := range rec.lines {
+	for _, l := range rec.Lines {
 		got = append(got, l.AmountMinor)
 	}
 	if want := []int64{10000, -4025, 750}; !reflect.DeepEqual(got, want) {
 		t.Errorf("amounts %v, want %v", got, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		{Source: "gl", Location: "gl.csv:5", Reason: "missing amount: both debit and credit are empty", Raw: "C,2025-01-12,6200,,"},
 	})
 }
@@ -142,11 +142,11 @@ func TestLedgerHeaderVariants(t *testing.T) {
 				tc.opt(&opt)
 			}
 			rec, n := readLedger(t, writeFile(t, "gl.csv", tc.content), opt)
-			if n != 3 || len(rec.rejects) != 0 {
-				t.Fatalf("read %d rows, want 3; rejects %+v", n, rec.rejects)
+			if n != 3 || len(rec.Rejects) != 0 {
+				t.Fatalf("read %d rows, want 3; rejects %+v", n, rec.Rejects)
 			}
-			if !reflect.DeepEqual(rec.lines, want) {
-				t.Errorf("lines:\n got  %+v\n want %+v", rec.lines, want)
+			if !reflect.DeepEqual(rec.Lines, want) {
+				t.Errorf("lines:\n got  %+v\n want %+v", rec.Lines, want)
 			}
 		})
 	}
@@ -199,7 +199,7 @@ func TestLedgerEuropeanNotation(t *testing.T) {
 		minor          int64
 	}
 	var lines []got
-	for _, l := range rec.lines {
+	for _, l := range rec.Lines {
 		lines = append(lines, got{l.PostedOn, l.Period, l.AmountMinor})
 	}
 	want := []got{{"2025-03-05", "2025-03", 123456}, {"2024-12-31", "2024-12", -1234567890}, {"2025-01-01", "2025-01", 5},
@@ -207,7 +207,7 @@ func TestLedgerEuropeanNotation(t *testing.T) {
 	if !reflect.DeepEqual(lines, want) {
 		t.Errorf("lines %+v, want %+v", lines, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		{Source: "gl", Location: "gl.csv:6", Reason: `bad date "2025-06-15": want DD.MM.YYYY`, Raw: "E5;2025-06-15;6200;1,00"},
 	})
 }
@@ -223,7 +223,7 @@ func TestLedgerLineNumbersAssigned(t *testing.T) {
 		"B,2025-01-31,2100,-3.00\n") // B/2
 	rec, _ := readLedger(t, path, options())
 	var got []string
-	for _, l := range rec.lines {
+	for _, l := range rec.Lines {
 		got = append(got, fmt.Sprintf("%s/%d", l.EntryID, l.Line))
 	}
 	if want := []string{"A/1", "A/2", "B/1", "A/3", "B/2"}; !reflect.DeepEqual(got, want) {
@@ -246,10 +246,10 @@ func TestLedgerBlankLinesSkipped(t *testing.T) {
 	if n != 3 {
 		t.Errorf("read %d rows, want 3 (blank lines are not rows)", n)
 	}
-	if len(rec.lines) != 2 || rec.lines[0].EntryID != "E1" || rec.lines[1].EntryID != "E3" {
-		t.Errorf("lines %+v, want E1 and E3", rec.lines)
+	if len(rec.Lines) != 2 || rec.Lines[0].EntryID != "E1" || rec.Lines[1].EntryID != "E3" {
+		t.Errorf("lines %+v, want E1 and E3", rec.Lines)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		{Source: "gl", Location: "gl.csv:7", Reason: `bad amount: amount "bad" is not a number`, Raw: "E2,1,2025-01-31,6200,,bad,"},
 	})
 }
@@ -280,11 +280,11 @@ func TestLedgerRejects(t *testing.T) {
 	if n != 18 {
 		t.Errorf("read %d rows, want 18", n)
 	}
-	if len(rec.lines) != 2 || rec.lines[0].EntryID != "G1" || rec.lines[1].EntryID != "G2" || rec.lines[1].AmountMinor != -500 ||
-		rec.lines[1].Description != "good, after the bad ones" {
-		t.Errorf("stored %+v, want G1 and G2", rec.lines)
+	if len(rec.Lines) != 2 || rec.Lines[0].EntryID != "G1" || rec.Lines[1].EntryID != "G2" || rec.Lines[1].AmountMinor != -500 ||
+		rec.Lines[1].Description != "good, after the bad ones" {
+		t.Errorf("stored %+v, want G1 and G2", rec.Lines)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("gl", "gl.csv:3", `bad date "2025-02-30": want YYYY-MM-DD`, "B1,1,2025-02-30,6200,WELD,100.00,no such day"),
 		rej("gl", "gl.csv:4", `bad date "31/01/2025": want YYYY-MM-DD`, "B2,1,31/01/2025,6200,WELD,100.00,wrong layout"),
 		rej("gl", "gl.csv:5", `bad amount: amount "12.345": more decimals than the currency's minor unit (EUR has 2)`, "B3,1,2025-01-31,6200,WELD,12.345,too precise"),
@@ -310,10 +310,10 @@ func TestLedgerRejectedDebitCredit(t *testing.T) {
 		"E2;2025-01-31;6200;1.001;\n"+
 		"E3;2025-01-31;6200;;x\n")
 	rec, _ := readLedger(t, path, options())
-	if len(rec.lines) != 0 {
-		t.Errorf("stored %+v, want nothing", rec.lines)
+	if len(rec.Lines) != 0 {
+		t.Errorf("stored %+v, want nothing", rec.Lines)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("gl", "gl.csv:2", "missing amount: both debit and credit are empty", "E1;2025-01-31;6200;;"),
 		rej("gl", "gl.csv:3", `bad debit: amount "1.001": more decimals than the currency's minor unit (EUR has 2)`, "E2;2025-01-31;6200;1.001;"),
 		rej("gl", "gl.csv:4", `bad credit: amount "x" is not a number`, "E3;2025-01-31;6200;;x"),
@@ -329,10 +329,10 @@ func TestLedgerMalformedRowSpanningLines(t *testing.T) {
 		"E2,1,2025-01-31,6200,,2.00,\"never closed\n"+
 		"E3,1,2025-01-31,6200,,3.00,swallowed\n")
 	rec, n := readLedger(t, path, options())
-	if n != 2 || len(rec.lines) != 1 {
-		t.Errorf("read %d rows, stored %+v; want 2 rows and E1", n, rec.lines)
+	if n != 2 || len(rec.Lines) != 1 {
+		t.Errorf("read %d rows, stored %+v; want 2 rows and E1", n, rec.Lines)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("gl", "gl.csv:3", `malformed CSV: extraneous or missing " in quoted-field`,
 			"E2,1,2025-01-31,6200,,2.00,\"never closed\nE3,1,2025-01-31,6200,,3.00,swallowed"),
 	})
@@ -343,7 +343,7 @@ func TestLedgerMalformedRawAfterByteOrderMark(t *testing.T) {
 	// byte-order mark before the header must not shift it.
 	path := writeFile(t, "gl.csv", "\xef\xbb\xbf"+ledgerHeader+"E1,1,2025-01-31,6200,,1.00,a \"b\" c\r\n")
 	rec, _ := readLedger(t, path, options())
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("gl", "gl.csv:2", `malformed CSV: bare " in non-quoted-field`, `E1,1,2025-01-31,6200,,1.00,a "b" c`),
 	})
 }
@@ -385,7 +385,7 @@ func TestLedgerWholeFileErrors(t *testing.T) {
 			if err == nil {
 				t.Fatalf("no error; wrote %+v", rec)
 			}
-			if n != 0 || !rec.empty() {
+			if n != 0 || !rec.Empty() {
 				t.Errorf("read %d rows and wrote %+v; a whole-file error must write nothing", n, rec)
 			}
 			msg := err.Error()
@@ -411,13 +411,13 @@ func TestLedgerWriterErrorStops(t *testing.T) {
 		"E2,1,2025-01-31,6200,,bad,\n"+
 		"E3,1,2025-01-31,6200,,3.00,\n")
 	for failOn := 1; failOn <= 3; failOn++ {
-		rec := &recorder{failOn: failOn}
+		rec := &recorder{FailOn: failOn}
 		n, err := ReadLedger(context.Background(), path, "gl.csv", options(), rec)
 		if !errors.Is(err, errWriter) {
 			t.Errorf("fail on call %d: error %v, want %v", failOn, err, errWriter)
 		}
-		if n != failOn || rec.calls != failOn {
-			t.Errorf("fail on call %d: read %d rows with %d calls, want %d of each", failOn, n, rec.calls, failOn)
+		if n != failOn || rec.Calls != failOn {
+			t.Errorf("fail on call %d: read %d rows with %d calls, want %d of each", failOn, n, rec.Calls, failOn)
 		}
 	}
 }
@@ -437,8 +437,8 @@ func TestLedgerCancelled(t *testing.T) {
 	if !errors.Is(err, context.Canceled) {
 		t.Fatalf("error %v, want context.Canceled", err)
 	}
-	if n != 4096 || len(rec.lines) != 4095 {
-		t.Errorf("read %d rows, stored %d; want 4096 and 4095", n, len(rec.lines))
+	if n != 4096 || len(rec.Lines) != 4095 {
+		t.Errorf("read %d rows, stored %d; want 4096 and 4095", n, len(rec.Lines))
 	}
 }
 
@@ -464,10 +464,10 @@ func TestLedgerFixtureCanonical(t *testing.T) {
 		gl("erp", "JE-2025-0201", 2, "2025-02-28", "2025-02", "2100", "", -398740, "Supplier invoice Quillmoor Metals"),
 		gl("erp", "JE-2025-0203", 1, "2025-02-28", "2025-02", "6500", "", 250000, "Rent of hall B"),
 	}
-	if !reflect.DeepEqual(rec.lines, want) {
-		t.Errorf("lines:\n got  %+v\n want %+v", rec.lines, want)
+	if !reflect.DeepEqual(rec.Lines, want) {
+		t.Errorf("lines:\n got  %+v\n want %+v", rec.Lines, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("erp", "data/gl.csv:8", `bad date "2025-02-30": want YYYY-MM-DD`, "JE-2025-0202,1,2025-02-30,6100,PAINT,1775.00,Paint line power"),
 	})
 }
@@ -495,10 +495,10 @@ func TestLedgerFixtureSemicolonDecimalComma(t *testing.T) {
 		gl("gl", "B-17", 2, "2025-02-03", "2025-02", "1600", "", -123456, "Verbindlichkeit"),
 		gl("gl", "B-18", 1, "2025-02-28", "2025-02", "6100", "PAINT", -25050, "Gutschrift Strom"),
 	}
-	if !reflect.DeepEqual(rec.lines, want) {
-		t.Errorf("lines:\n got  %+v\n want %+v", rec.lines, want)
+	if !reflect.DeepEqual(rec.Lines, want) {
+		t.Errorf("lines:\n got  %+v\n want %+v", rec.Lines, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("gl", "buchungen.csv:4", "has 8 fields, the header has 7", "B-18;28.02.2025;6100;PAINT;12.000,00;;Stromabrechnung; Februar"),
 		rej("gl", "buchungen.csv:7", `bad date "31.02.2025": want DD.MM.YYYY`, "B-19;31.02.2025;6500;;800,00;;Miete"),
 	})
@@ -522,10 +522,10 @@ func TestLedgerMalformedRawIsCapped(t *testing.T) {
 		fmt.Fprintf(&b, "E%d,1,2025-01-31,6200,,1.00,swallowed\n", i+2)
 	}
 	rec, _ := readLedger(t, writeFile(t, "gl.csv", b.String()), options())
-	if len(rec.rejects) != 1 {
-		t.Fatalf("got %d rejects, want 1", len(rec.rejects))
+	if len(rec.Rejects) != 1 {
+		t.Fatalf("got %d rejects, want 1", len(rec.Rejects))
 	}
-	raw := rec.rejects[0].Raw
+	raw := rec.Rejects[0].Raw
 	if len(raw) != maxRaw || !strings.HasPrefix(raw, "E1,1,2025-01-31,6200,,1.00,\"open\nE2,1,") {
 		t.Errorf("raw has %d bytes and starts %q; want %d bytes from the row's start", len(raw), raw[:min(40, len(raw))], maxRaw)
 	}
@@ -538,7 +538,7 @@ func TestLedgerFolderIsNotAFile(t *testing.T) {
 	if err == nil || err.Error() != "cannot read data/archive: it is a folder, not a file" {
 		t.Errorf("error %v, want the folder named", err)
 	}
-	if n != 0 || !rec.empty() {
+	if n != 0 || !rec.Empty() {
 		t.Errorf("read %d rows, wrote %+v", n, rec)
 	}
 }

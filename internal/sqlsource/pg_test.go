@@ -290,7 +290,7 @@ func TestPostgres(t *testing.T) {
 		if res.Rows != 9 {
 			t.Errorf("read %d rows, want 9", res.Rows)
 		}
-		checkLines(t, rec.lines, []costdrift.LedgerLine{
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{
 			line("erp", "JE-1001", 1, "2025-01-31", "6100", "WELD", 123456, "Energy January"),
 			line("erp", "JE-1001", 2, "2025-01-31", "2100", "", -130000, "Energy January"),
 			line("erp", "JE-1001", 3, "2025-01-31", "6100", "WELD", 6544, "Energy January, meter fee"),
@@ -300,7 +300,7 @@ func TestPostgres(t *testing.T) {
 			line("erp", "JE-1004", 1, "2025-03-31", "6500", "ASSY", 80000, "Rent March"),
 			line("erp", "JE-1004", 2, "2025-03-31", "2100", "", -80000, "Rent March"),
 		})
-		checkRejects(t, rec.rejects, []costdrift.Reject{
+		checkRejects(t, rec.Rejects, []costdrift.Reject{
 			rej("erp", "erp row 6 (entry JE-1003, line 1)", `bad amount: amount "12.345": more decimals than the currency's minor unit (EUR has 2)`,
 				`entry_id="JE-1003", line=1, date=2025-02-15, account="6100", cost_center="WELD", amount="12.345", description="Meter reading"`),
 			rej("erp", "erp row 7 (entry JE-1003, line 2)", "missing account",
@@ -317,11 +317,11 @@ func TestPostgres(t *testing.T) {
 		if _, err := ReadLedger(ctx, opt, rec); err != nil {
 			t.Fatal(err)
 		}
-		checkLines(t, rec.lines, []costdrift.LedgerLine{
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{
 			line("erp", "JE-1004", 1, "2025-03-31", "6500", "ASSY", 80000, ""),
 			line("erp", "JE-1004", 2, "2025-03-31", "2100", "", -80000, ""),
 		})
-		checkRejects(t, rec.rejects, nil)
+		checkRejects(t, rec.Rejects, nil)
 	})
 
 	t.Run("floating-point amounts", func(t *testing.T) {
@@ -335,8 +335,8 @@ func TestPostgres(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		checkLines(t, rec.lines, []costdrift.LedgerLine{line("erp", "F-1", 1, "2025-01-31", "6100", "", 30, "")})
-		checkRejects(t, rec.rejects, []costdrift.Reject{rej("erp", "erp row 2 (entry F-2, line 1)",
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{line("erp", "F-1", 1, "2025-01-31", "6100", "", 30, "")})
+		checkRejects(t, rec.Rejects, []costdrift.Reject{rej("erp", "erp row 2 (entry F-2, line 1)",
 			`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
 			`entry_id="F-2", line=1, date=2025-01-31, account="6100", amount=0.30000000000000004`)})
 	})
@@ -355,7 +355,7 @@ func TestPostgres(t *testing.T) {
 		}
 		// Sums by hand from pgSchema: 6100/WELD January 1234.56 + 65.44 =
 		// 1300.00; February 12.345 has three decimals.
-		checkLines(t, rec.lines, []costdrift.LedgerLine{
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{
 			sum("erp", "2025-01", "2100", "", "2025-01-31", -130000),
 			sum("erp", "2025-01", "6100", "WELD", "2025-01-31", 130000),
 			sum("erp", "2025-02", "2100", "", "2025-02-28", -30),
@@ -363,7 +363,7 @@ func TestPostgres(t *testing.T) {
 			sum("erp", "2025-03", "2100", "", "2025-03-31", -80000),
 			sum("erp", "2025-03", "6500", "ASSY", "2025-03-31", 80000),
 		})
-		checkRejects(t, rec.rejects, []costdrift.Reject{
+		checkRejects(t, rec.Rejects, []costdrift.Reject{
 			rej("erp", "erp row 4 (period 2025-02, account 6100, cost centre WELD)", `bad amount: amount "12.345": more decimals than the currency's minor unit (EUR has 2)`,
 				`period="2025-02", account="6100", cost_center="WELD", amount="12.345"`),
 			rej("erp", "erp row 6 (period 2025-02, cost centre WELD)", "missing account",
@@ -379,7 +379,7 @@ func TestPostgres(t *testing.T) {
 		if _, err := ReadLedger(ctx, opt, rec); err != nil {
 			t.Fatal(err)
 		}
-		checkLines(t, rec.lines, []costdrift.LedgerLine{sum("erp", "2025-03", "6500", "", "2025-03-31", 80000)})
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{sum("erp", "2025-03", "6500", "", "2025-03-31", 80000)})
 	})
 
 	t.Run("activity", func(t *testing.T) {
@@ -391,12 +391,12 @@ func TestPostgres(t *testing.T) {
 		if res.Rows != 5 {
 			t.Errorf("read %d rows, want 5", res.Rows)
 		}
-		checkActivity(t, rec.activity, []costdrift.ActivityValue{
+		checkActivity(t, rec.Values, []costdrift.ActivityValue{
 			act("erp", "2025-01", "frames_built", "", 340, "frame"),
 			act("erp", "2025-01", "machine_hours", "WELD", 410.5, "machine hour"),
 			act("erp", "2025-02", "frames_built", "", 331, "frame"),
 		})
-		checkRejects(t, rec.rejects, []costdrift.Reject{
+		checkRejects(t, rec.Rejects, []costdrift.Reject{
 			rej("erp", "erp row 4 (period 2025-02, driver machine_hours, cost centre WELD)", `bad value "-3": activity cannot be negative`,
 				`period=2025-02-01, driver="machine_hours", cost_center="WELD", value="-3", unit="machine hour"`),
 			rej("erp", "erp row 5 (period 2025-02, cost centre PAINT)", "missing driver",
@@ -416,10 +416,10 @@ func TestPostgres(t *testing.T) {
 			{Source: "erp", Account: "6200", Name: "Paint and consumables", Type: "expense", Group: "Production overhead"},
 			{Source: "erp", Account: "2100", Name: "Trade payables", Type: "liability", Group: "Payables"},
 		}
-		if !reflect.DeepEqual(rec.accounts, want) {
-			t.Errorf("accounts:\n got  %+v\n want %+v", rec.accounts, want)
+		if !reflect.DeepEqual(rec.Accounts, want) {
+			t.Errorf("accounts:\n got  %+v\n want %+v", rec.Accounts, want)
 		}
-		checkRejects(t, rec.rejects, []costdrift.Reject{rej("erp", "erp row 3", "missing account",
+		checkRejects(t, rec.Rejects, []costdrift.Reject{rej("erp", "erp row 3", "missing account",
 			`account=NULL, name="Unassigned", type="expense", account_group=NULL`)})
 	})
 
@@ -427,7 +427,7 @@ func TestPostgres(t *testing.T) {
 		rec := &recorder{}
 		_, err := ReadLedger(ctx, pgOptions(s, `SELECT entry_id, posted_on, amount FROM gl_lines`), rec)
 		wantError(t, err, "the query result has no column line, date, account (found: entry_id, posted_on, amount)", "ROW_NUMBER")
-		if !rec.empty() {
+		if !rec.Empty() {
 			t.Errorf("wrote %+v", rec)
 		}
 	})
@@ -460,7 +460,7 @@ func TestPostgres(t *testing.T) {
 				rec := &recorder{}
 				_, err := ReadAccounts(ctx, pgOptions(s, tc.query), rec)
 				wantError(t, err, "postgres refused the query", tc.want, tc.state)
-				if !rec.empty() {
+				if !rec.Empty() {
 					t.Errorf("wrote %+v", rec)
 				}
 			})
@@ -538,8 +538,8 @@ func TestPostgres(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if res.Rows != 7 || len(rec.lines) != 7 {
-			t.Errorf("first read: %d rows, %d lines; want 7 and 7", res.Rows, len(rec.lines))
+		if res.Rows != 7 || len(rec.Lines) != 7 {
+			t.Errorf("first read: %d rows, %d lines; want 7 and 7", res.Rows, len(rec.Lines))
 		}
 		checkInstant(t, res.Watermark, "2025-04-02T07:15:00.123456Z")
 
@@ -556,7 +556,7 @@ func TestPostgres(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		checkLines(t, rec.lines, []costdrift.LedgerLine{line("erp", "JE-1005", 1, "2025-04-30", "6100", "WELD", 9990, "")})
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{line("erp", "JE-1005", 1, "2025-04-30", "6100", "WELD", 9990, "")})
 		checkInstant(t, res.Watermark, "2025-05-02T06:00:00Z")
 	})
 }

@@ -72,14 +72,14 @@ func TestSQLiteLedger(t *testing.T) {
 		if res.Rows != 5 {
 			t.Errorf("read %d rows, want 5", res.Rows)
 		}
-		checkLines(t, rec.lines, []costdrift.LedgerLine{
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{
 			line("books", "JE-1001", 1, "2025-01-31", "6100", "WELD", 123456, ""),
 			line("books", "JE-1001", 2, "2025-01-31", "2100", "", -130000, ""),
 			line("books", "JE-1001", 3, "2025-01-31", "6100", "WELD", 6544, ""),
 			line("books", "JE-1002", 1, "2025-02-28", "6200", "PAINT", 30, ""),
 			line("books", "JE-1002", 2, "2025-02-28", "2100", "", -30, ""),
 		})
-		checkRejects(t, rec.rejects, nil)
+		checkRejects(t, rec.Rejects, nil)
 	})
 
 	t.Run("REAL amounts and dates as text in a layout", func(t *testing.T) {
@@ -91,12 +91,12 @@ func TestSQLiteLedger(t *testing.T) {
 			t.Fatal(err)
 		}
 		// Row 4 holds the double 0.1 + 0.2; row 5 the date 30.02.2025.
-		checkLines(t, rec.lines, []costdrift.LedgerLine{
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{
 			line("books", "JE-1001", 1, "2025-01-31", "6100", "", 123456, ""),
 			line("books", "JE-1001", 2, "2025-01-31", "2100", "", -130000, ""),
 			line("books", "JE-1001", 3, "2025-01-31", "6100", "", 6544, ""),
 		})
-		checkRejects(t, rec.rejects, []costdrift.Reject{
+		checkRejects(t, rec.Rejects, []costdrift.Reject{
 			rej("books", "books row 4 (entry JE-1002, line 1)",
 				`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
 				`entry_id="JE-1002", line=1, booked="28.02.2025", account="6200", amount_real=0.30000000000000004`),
@@ -116,20 +116,20 @@ func TestSQLiteLedger(t *testing.T) {
 			t.Fatal(err)
 		}
 		// 6100/WELD January: 123456 + 6544 = 130000 cents (by hand).
-		checkLines(t, rec.lines, []costdrift.LedgerLine{
+		checkLines(t, rec.Lines, []costdrift.LedgerLine{
 			sum("books", "2025-01", "2100", "", "2025-01-31", -130000),
 			sum("books", "2025-01", "6100", "WELD", "2025-01-31", 130000),
 			sum("books", "2025-02", "2100", "", "2025-02-28", -30),
 			sum("books", "2025-02", "6200", "PAINT", "2025-02-28", 30),
 		})
-		checkRejects(t, rec.rejects, nil)
+		checkRejects(t, rec.Rejects, nil)
 	})
 
 	t.Run("a store error stops the read and comes back as it is", func(t *testing.T) {
-		rec := &recorder{failOn: 2}
+		rec := &recorder{FailOn: 2}
 		res, err := ReadLedger(ctx, sqliteOptions(path, `SELECT entry_id, line, posted_on AS date, account, amount FROM gl ORDER BY id`), rec)
-		if err != errWriter || res.Rows != 2 || len(rec.lines) != 1 {
-			t.Errorf("read %d rows, error %v, stored %d lines; want 2, %v, 1", res.Rows, err, len(rec.lines), errWriter)
+		if err != errWriter || res.Rows != 2 || len(rec.Lines) != 1 {
+			t.Errorf("read %d rows, error %v, stored %d lines; want 2, %v, 1", res.Rows, err, len(rec.Lines), errWriter)
 		}
 	})
 
@@ -146,7 +146,7 @@ func TestSQLiteLedger(t *testing.T) {
 				rec := &recorder{}
 				_, err := ReadLedger(ctx, sqliteOptions(path, tc.query), rec)
 				wantError(t, err, tc.want)
-				if !rec.empty() {
+				if !rec.Empty() {
 					t.Errorf("wrote %+v", rec)
 				}
 			})
@@ -161,11 +161,11 @@ func TestSQLiteActivityAndAccounts(t *testing.T) {
 	if _, err := ReadActivity(ctx, sqliteOptions(path, `SELECT period, driver, cost_center, value, unit FROM activity`), rec); err != nil {
 		t.Fatal(err)
 	}
-	checkActivity(t, rec.activity, []costdrift.ActivityValue{
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{
 		act("books", "2025-01", "machine_hours", "WELD", 410.5, "machine hour"),
 		act("books", "2025-02", "machine_hours", "WELD", 395, "machine hour"),
 	})
-	checkRejects(t, rec.rejects, []costdrift.Reject{
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("books", "books row 3 (driver machine_hours, cost centre WELD)", `bad period "2025-13": want YYYY-MM or a date`,
 			`period="2025-13", driver="machine_hours", cost_center="WELD", value=1, unit="machine hour"`),
 		rej("books", "books row 4 (period 2025-03, driver frames_built)", `bad value "many": not a number`,
@@ -179,10 +179,10 @@ func TestSQLiteActivityAndAccounts(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := []costdrift.Account{{Source: "books", Account: "6100", Name: "Energy", Type: "expense", Group: "Production overhead"}}
-	if !reflect.DeepEqual(rec.accounts, want) {
-		t.Errorf("accounts %+v, want %+v", rec.accounts, want)
+	if !reflect.DeepEqual(rec.Accounts, want) {
+		t.Errorf("accounts %+v, want %+v", rec.Accounts, want)
 	}
-	checkRejects(t, rec.rejects, []costdrift.Reject{rej("books", "books row 2", "missing account", `konto="", name="Nobody", type=NULL, group=NULL`)})
+	checkRejects(t, rec.Rejects, []costdrift.Reject{rej("books", "books row 2", "missing account", `konto="", name="Nobody", type=NULL, group=NULL`)})
 }
 
 func TestSQLiteWatermark(t *testing.T) {

@@ -1,13 +1,13 @@
 package sqlsource
 
 import (
-	"errors"
 	"reflect"
 	"strings"
 	"testing"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
 	"github.com/costdrift/costdrift/internal/money"
 )
 
@@ -18,64 +18,11 @@ import (
 // and credit negative in a signed amount; a month's last day is the day
 // before the next month's first. The ledger rows are invented test data.
 
-// recorder is a costdrift.SourceWriter that keeps what it is given, in
-// order, and can fail on a chosen call to test that readers stop.
-type recorder struct {
-	lines    []costdrift.LedgerLine
-	activity []costdrift.ActivityValue
-	accounts []costdrift.Account
-	rejects  []costdrift.Reject
-	calls    int
-	failOn   int // the 1-based call that returns errWriter; 0 never
-}
+// recorder is the shared test writer: it keeps what readers write, in order,
+// and fails on a chosen call to test that readers stop.
+type recorder = costdrifttest.Recorder
 
-var errWriter = errors.New("store is full")
-
-func (r *recorder) call() error {
-	r.calls++
-	if r.failOn > 0 && r.calls == r.failOn {
-		return errWriter
-	}
-	return nil
-}
-
-func (r *recorder) LedgerLine(l costdrift.LedgerLine) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.lines = append(r.lines, l)
-	return nil
-}
-
-func (r *recorder) Activity(a costdrift.ActivityValue) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.activity = append(r.activity, a)
-	return nil
-}
-
-func (r *recorder) Account(a costdrift.Account) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.accounts = append(r.accounts, a)
-	return nil
-}
-
-func (r *recorder) Reject(x costdrift.Reject) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.rejects = append(r.rejects, x)
-	return nil
-}
-
-func (r *recorder) empty() bool {
-	return len(r.lines)+len(r.activity)+len(r.accounts)+len(r.rejects) == 0
-}
-
-var _ costdrift.SourceWriter = (*recorder)(nil)
+var errWriter = costdrifttest.ErrWriter
 
 // monthly is the plain calendar month of a date, which is what the monthly
 // calendar with a January fiscal year start returns.

@@ -18,6 +18,7 @@ import (
 	"github.com/xuri/excelize/v2"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
 	"github.com/costdrift/costdrift/internal/money"
 )
 
@@ -31,60 +32,11 @@ import (
 // against anchors of the 1900 date system recalled from memory. Every
 // workbook is written by excelize inside the test, with invented rows.
 
-// recorder is a costdrift.SourceWriter that keeps what it is given, in
-// order, and can fail on a chosen call to test that readers stop.
-type recorder struct {
-	lines    []costdrift.LedgerLine
-	activity []costdrift.ActivityValue
-	accounts []costdrift.Account
-	rejects  []costdrift.Reject
-	calls    int
-	failOn   int // the 1-based call that returns errWriter; 0 never
-}
+// recorder is the shared test writer: it keeps what readers write, in order,
+// and fails on a chosen call to test that readers stop.
+type recorder = costdrifttest.Recorder
 
-var errWriter = errors.New("store is full")
-
-func (r *recorder) call() error {
-	r.calls++
-	if r.failOn > 0 && r.calls == r.failOn {
-		return errWriter
-	}
-	return nil
-}
-
-func (r *recorder) LedgerLine(l costdrift.LedgerLine) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.lines = append(r.lines, l)
-	return nil
-}
-
-func (r *recorder) Activity(a costdrift.ActivityValue) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.activity = append(r.activity, a)
-	return nil
-}
-
-func (r *recorder) Account(a costdrift.Account) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.accounts = append(r.accounts, a)
-	return nil
-}
-
-func (r *recorder) Reject(x costdrift.Reject) error {
-	if err := r.call(); err != nil {
-		return err
-	}
-	r.rejects = append(r.rejects, x)
-	return nil
-}
-
-var _ costdrift.SourceWriter = (*recorder)(nil)
+var errWriter = costdrifttest.ErrWriter
 
 var eur = money.Currency{Code: "EUR", Exponent: 2}
 
@@ -189,8 +141,8 @@ func TestReadLedgerSignedAmounts(t *testing.T) {
 		{Source: "gl", EntryID: "E2", Line: 1, PostedOn: "2025-02-28", Period: "2025-02", Account: "6200", CostCenter: "PAINT", AmountMinor: 9995, Description: "paint"},
 		{Source: "gl", EntryID: "E3", Line: 1, PostedOn: "2025-03-01", Period: "2025-03", Account: "6300", AmountMinor: 30, Description: "0.1 + 0.2 as stored"},
 	}
-	if n != 4 || len(w.rejects) != 0 || !reflect.DeepEqual(w.lines, want) {
-		t.Fatalf("read %d, rejects %v\ngot  %+v\nwant %+v", n, w.rejects, w.lines, want)
+	if n != 4 || len(w.Rejects) != 0 || !reflect.DeepEqual(w.Lines, want) {
+		t.Fatalf("read %d, rejects %v\ngot  %+v\nwant %+v", n, w.Rejects, w.Lines, want)
 	}
 }
 
@@ -214,12 +166,12 @@ func TestReadLedgerDebitCredit(t *testing.T) {
 		amount int64
 	}
 	var g []got
-	for _, l := range w.lines {
+	for _, l := range w.Lines {
 		g = append(g, got{l.EntryID, l.Line, l.AmountMinor})
 	}
 	want := []got{{"E1", 1, 50000}, {"E1", 2, -50000}, {"E2", 1, 1000}, {"E1", 3, 25}}
-	if !reflect.DeepEqual(g, want) || len(w.rejects) != 0 {
-		t.Fatalf("got %v, rejects %v; want %v", g, w.rejects, want)
+	if !reflect.DeepEqual(g, want) || len(w.Rejects) != 0 {
+		t.Fatalf("got %v, rejects %v; want %v", g, w.Rejects, want)
 	}
 }
 
@@ -241,13 +193,13 @@ func TestReadLedgerNotationAppliesToTextOnly(t *testing.T) {
 		t.Fatal(err)
 	}
 	var got []int64
-	for _, l := range w.lines {
+	for _, l := range w.Lines {
 		got = append(got, l.AmountMinor)
 	}
 	// Hand-worked: 1234.5 -> 123450; "1.234,50" -> 1234.50 -> 123450;
 	// "1.500" -> 1500 -> 150000; the number 1.5 -> 150.
-	if want := []int64{123450, 123450, 150000, 150}; !reflect.DeepEqual(got, want) || len(w.rejects) != 0 {
-		t.Fatalf("amounts %v, rejects %v; want %v", got, w.rejects, want)
+	if want := []int64{123450, 123450, 150000, 150}; !reflect.DeepEqual(got, want) || len(w.Rejects) != 0 {
+		t.Fatalf("amounts %v, rejects %v; want %v", got, w.Rejects, want)
 	}
 }
 
@@ -313,7 +265,7 @@ func TestReadLedgerDates(t *testing.T) {
 		t.Fatal(err)
 	}
 	var got []string
-	for _, l := range w.lines {
+	for _, l := range w.Lines {
 		got = append(got, l.EntryID+" "+l.PostedOn)
 	}
 	// Hand-worked: serial 45672 = 1899-12-30 + 45672 days = 2025-01-15; the
@@ -322,9 +274,9 @@ func TestReadLedgerDates(t *testing.T) {
 	if !reflect.DeepEqual(got, want) {
 		t.Fatalf("got %v, want %v", got, want)
 	}
-	if len(w.rejects) != 1 || w.rejects[0].Location != "gl.xlsx:Sheet1!7" ||
-		w.rejects[0].Reason != "bad date 20250115: a number without a date format; format the column as a date or write DD.MM.YYYY" {
-		t.Fatalf("rejects %+v", w.rejects)
+	if len(w.Rejects) != 1 || w.Rejects[0].Location != "gl.xlsx:Sheet1!7" ||
+		w.Rejects[0].Reason != "bad date 20250115: a number without a date format; format the column as a date or write DD.MM.YYYY" {
+		t.Fatalf("rejects %+v", w.Rejects)
 	}
 }
 
@@ -345,8 +297,8 @@ func TestReadLedgerDate1904(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Hand-worked: in the 1904 system 2025-01-15 is 1904-01-01 + 44210 days.
-	if len(w.lines) != 2 || w.lines[0].PostedOn != "2025-01-15" || w.lines[1].PostedOn != "2025-01-15" {
-		t.Fatalf("lines %+v rejects %+v", w.lines, w.rejects)
+	if len(w.Lines) != 2 || w.Lines[0].PostedOn != "2025-01-15" || w.Lines[1].PostedOn != "2025-01-15" {
+		t.Fatalf("lines %+v rejects %+v", w.Lines, w.Rejects)
 	}
 }
 
@@ -448,13 +400,13 @@ func TestReadLedgerMappedHeaderBelowBlankRows(t *testing.T) {
 	}
 	want := costdrift.LedgerLine{Source: "gl", EntryID: "B-7", Line: 1, PostedOn: "2025-06-03", Period: "2025-06",
 		Account: "6100", CostCenter: "ASSY", AmountMinor: 4210, Description: "Verpackung"}
-	if n != 2 || len(w.lines) != 1 || w.lines[0] != want {
-		t.Fatalf("read %d, lines %+v", n, w.lines)
+	if n != 2 || len(w.Lines) != 1 || w.Lines[0] != want {
+		t.Fatalf("read %d, lines %+v", n, w.Lines)
 	}
 	// The reject is located on the row a spreadsheet shows: 5.
-	if len(w.rejects) != 1 || w.rejects[0] != (costdrift.Reject{Source: "gl", Location: "gl.xlsx:Sheet1!5",
+	if len(w.Rejects) != 1 || w.Rejects[0] != (costdrift.Reject{Source: "gl", Location: "gl.xlsx:Sheet1!5",
 		Reason: "missing account", Raw: "B-8,45812,,ASSY,1,ohne Konto"}) {
-		t.Fatalf("rejects %+v", w.rejects)
+		t.Fatalf("rejects %+v", w.Rejects)
 	}
 }
 
@@ -481,8 +433,8 @@ func TestReadLedgerSheetByNameOrPosition(t *testing.T) {
 		if _, err := ReadLedger(context.Background(), path, "book.xlsx", opt, &w); err != nil {
 			t.Fatalf("sheet %q: %v", tc.sheet, err)
 		}
-		if len(w.lines) != 1 || w.lines[0].EntryID != tc.entry {
-			t.Fatalf("sheet %q: lines %+v", tc.sheet, w.lines)
+		if len(w.Lines) != 1 || w.Lines[0].EntryID != tc.entry {
+			t.Fatalf("sheet %q: lines %+v", tc.sheet, w.Lines)
 		}
 	}
 	for _, tc := range []struct{ sheet, err string }{
@@ -520,8 +472,8 @@ func TestReadLedgerRejects(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n != 11 || len(w.lines) != 1 || w.lines[0].EntryID != "E1" {
-		t.Fatalf("read %d, lines %+v", n, w.lines)
+	if n != 11 || len(w.Lines) != 1 || w.Lines[0].EntryID != "E1" {
+		t.Fatalf("read %d, lines %+v", n, w.Lines)
 	}
 	want := []struct{ location, reason string }{
 		{"gl.xlsx:Sheet1!3", "missing account"},
@@ -535,10 +487,10 @@ func TestReadLedgerRejects(t *testing.T) {
 		{"gl.xlsx:Sheet1!12", "bad amount: the cell is a date (45672), not an amount"},
 		{"gl.xlsx:Sheet1!13", "bad amount: empty amount"},
 	}
-	if len(w.rejects) != len(want) {
-		t.Fatalf("got %d rejects, want %d: %+v", len(w.rejects), len(want), w.rejects)
+	if len(w.Rejects) != len(want) {
+		t.Fatalf("got %d rejects, want %d: %+v", len(w.Rejects), len(want), w.Rejects)
 	}
-	for i, r := range w.rejects {
+	for i, r := range w.Rejects {
 		if r.Source != "gl" || r.Location != want[i].location || r.Reason != want[i].reason {
 			t.Errorf("reject %d: got %s %q, want %s %q", i, r.Location, r.Reason, want[i].location, want[i].reason)
 		}
@@ -546,7 +498,7 @@ func TestReadLedgerRejects(t *testing.T) {
 			t.Errorf("reject %d: reason spans lines: %q", i, r.Reason)
 		}
 	}
-	if got := w.rejects[1].Raw; got != "E3,1,15.01.2025,6100,WELD,10,\"text date, wrong layout\"" {
+	if got := w.Rejects[1].Raw; got != "E3,1,15.01.2025,6100,WELD,10,\"text date, wrong layout\"" {
 		t.Errorf("raw row: %q", got)
 	}
 }
@@ -589,15 +541,15 @@ func TestReadActivityLong(t *testing.T) {
 		{Source: "act", Period: "2025-02", Driver: "machine_hours", CostCenter: "WELD", Value: 398.25, Unit: "hour"},
 		{Source: "act", Period: "2025-03", Driver: "frames_built", Value: 120},
 	}
-	if n != 5 || !reflect.DeepEqual(w.activity, want) {
-		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.activity, want)
+	if n != 5 || !reflect.DeepEqual(w.Values, want) {
+		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.Values, want)
 	}
 	wantRejects := []costdrift.Reject{
 		{Source: "act", Location: "act.xlsx:Sheet1!5", Reason: "bad value -3: activity cannot be negative", Raw: "2025-04,frames_built,-3"},
 		{Source: "act", Location: "act.xlsx:Sheet1!6", Reason: `bad period "2025-13": want YYYY-MM, a date, or a date cell`, Raw: "2025-13,frames_built,3"},
 	}
-	if !reflect.DeepEqual(w.rejects, wantRejects) {
-		t.Fatalf("rejects %+v", w.rejects)
+	if !reflect.DeepEqual(w.Rejects, wantRejects) {
+		t.Fatalf("rejects %+v", w.Rejects)
 	}
 }
 
@@ -622,11 +574,11 @@ func TestReadActivityWide(t *testing.T) {
 		{Source: "act", Period: "2025-03", Driver: "frames_built", Value: 131},
 		{Source: "act", Period: "2025-03", Driver: "shipments", Value: 9},
 	}
-	if n != 3 || !reflect.DeepEqual(w.activity, want) {
-		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.activity, want)
+	if n != 3 || !reflect.DeepEqual(w.Values, want) {
+		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.Values, want)
 	}
-	if len(w.rejects) != 1 || w.rejects[0].Location != "act.xlsx:Sheet1!3" || w.rejects[0].Reason != `frames_built: bad value "abc": not a number` {
-		t.Fatalf("rejects %+v", w.rejects)
+	if len(w.Rejects) != 1 || w.Rejects[0].Location != "act.xlsx:Sheet1!3" || w.Rejects[0].Reason != `frames_built: bad value "abc": not a number` {
+		t.Fatalf("rejects %+v", w.Rejects)
 	}
 }
 
@@ -648,11 +600,11 @@ func TestReadAccounts(t *testing.T) {
 		{Source: "coa", Account: "6100", Name: "Tubing", Type: "expense", Group: "materials"},
 		{Source: "coa", Account: "6200", Name: "Paint", Type: "expense", Group: "materials"},
 	}
-	if n != 3 || !reflect.DeepEqual(w.accounts, want) {
-		t.Fatalf("read %d, accounts %+v", n, w.accounts)
+	if n != 3 || !reflect.DeepEqual(w.Accounts, want) {
+		t.Fatalf("read %d, accounts %+v", n, w.Accounts)
 	}
-	if len(w.rejects) != 1 || w.rejects[0] != (costdrift.Reject{Source: "coa", Location: "coa.xlsx:Sheet1!4", Reason: "missing account", Raw: ",Orphan,expense"}) {
-		t.Fatalf("rejects %+v", w.rejects)
+	if len(w.Rejects) != 1 || w.Rejects[0] != (costdrift.Reject{Source: "coa", Location: "coa.xlsx:Sheet1!4", Reason: "missing account", Raw: ",Orphan,expense"}) {
+		t.Fatalf("rejects %+v", w.Rejects)
 	}
 }
 
@@ -717,8 +669,8 @@ func TestWorkbookErrors(t *testing.T) {
 			if err == nil || err.Error() != tc.want {
 				t.Fatalf("got %v\nwant %s", err, tc.want)
 			}
-			if n != 0 || w.calls != 0 {
-				t.Fatalf("read %d and wrote %d rows before failing", n, w.calls)
+			if n != 0 || w.Calls != 0 {
+				t.Fatalf("read %d and wrote %d rows before failing", n, w.Calls)
 			}
 		})
 	}
@@ -818,10 +770,10 @@ func TestReadLedgerStopsWhenTheWriterFails(t *testing.T) {
 		{"E2", day(2025, 1, 1), "6100", 2},
 		{"E3", day(2025, 1, 1), "6100", 3},
 	})
-	w := recorder{failOn: 2}
+	w := recorder{FailOn: 2}
 	n, err := ReadLedger(context.Background(), path, "gl.xlsx", options(), &w)
-	if !errors.Is(err, errWriter) || n != 2 || len(w.lines) != 1 {
-		t.Fatalf("read %d, err %v, lines %d", n, err, len(w.lines))
+	if !errors.Is(err, errWriter) || n != 2 || len(w.Lines) != 1 {
+		t.Fatalf("read %d, err %v, lines %d", n, err, len(w.Lines))
 	}
 }
 
