@@ -2,10 +2,7 @@ package csvsource
 
 import (
 	"context"
-	"encoding/csv"
-	"errors"
 	"fmt"
-	"io"
 	"math"
 	"strconv"
 	"strings"
@@ -54,45 +51,14 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 		}
 	}
 
-	read := 0
-	for {
-		rec, err := t.next()
-		if errors.Is(err, io.EOF) {
-			return read, nil
-		}
-		var pe *csv.ParseError
-		if errors.As(err, &pe) {
-			read++
-			if err := w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "malformed CSV: " + pe.Err.Error(), Raw: t.rawInput()}); err != nil {
-				return read, err
-			}
-			continue
-		}
-		if err != nil {
-			return read, fmt.Errorf("%s: %w", display, err)
-		}
-		if blank(rec) {
-			continue
-		}
-		read++
-		if err := checkCtx(ctx, read); err != nil {
-			return read, err
-		}
-		reject := func(reason string) error {
-			return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.rawInput()})
-		}
+	return t.rows(ctx, display, opt, w, func(rec []string) error {
+		reject := func(reason string) error { return t.reject(opt, w, reason) }
 		if reason := t.rowProblem(rec); reason != "" {
-			if err := reject(reason); err != nil {
-				return read, err
-			}
-			continue
+			return reject(reason)
 		}
 		period, reason := parsePeriod(t.field(rec, "period"), opt)
 		if reason != "" {
-			if err := reject(reason); err != nil {
-				return read, err
-			}
-			continue
+			return reject(reason)
 		}
 		cc := t.field(rec, "cost_center")
 		if layout == "long" {
@@ -104,14 +70,9 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 				a.Value, reason = parseValue(t.field(rec, "value"), opt)
 			}
 			if reason != "" {
-				err = reject(reason)
-			} else {
-				err = w.Activity(a)
+				return reject(reason)
 			}
-			if err != nil {
-				return read, err
-			}
-			continue
+			return w.Activity(a)
 		}
 		// Wide form: check the whole row first, so that it is stored whole
 		// or rejected whole.
@@ -130,17 +91,15 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 			values = append(values, costdrift.ActivityValue{Source: opt.Source, Period: period, Driver: strings.TrimSpace(t.header[i]), CostCenter: cc, Value: v})
 		}
 		if reason != "" {
-			if err := reject(reason); err != nil {
-				return read, err
-			}
-			continue
+			return reject(reason)
 		}
 		for _, a := range values {
 			if err := w.Activity(a); err != nil {
-				return read, err
+				return err
 			}
 		}
-	}
+		return nil
+	})
 }
 
 // parsePeriod accepts YYYY-MM, or a date (in the source's date layout or

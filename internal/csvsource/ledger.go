@@ -2,10 +2,7 @@ package csvsource
 
 import (
 	"context"
-	"encoding/csv"
-	"errors"
 	"fmt"
-	"io"
 	"strconv"
 	"strings"
 	"time"
@@ -43,40 +40,13 @@ func ReadLedger(ctx context.Context, path, display string, opt Options, w costdr
 	// Without a line column, lines are numbered within their entry in file
 	// order, which is stable as long as the export is.
 	nextLine := map[string]int{}
-	read := 0
-	for {
-		rec, err := t.next()
-		if errors.Is(err, io.EOF) {
-			return read, nil
-		}
-		var pe *csv.ParseError
-		if errors.As(err, &pe) {
-			read++
-			if err := w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: "malformed CSV: " + pe.Err.Error(), Raw: t.rawInput()}); err != nil {
-				return read, err
-			}
-			continue
-		}
-		if err != nil {
-			return read, fmt.Errorf("%s: %w", display, err)
-		}
-		if blank(rec) {
-			continue
-		}
-		read++
-		if err := checkCtx(ctx, read); err != nil {
-			return read, err
-		}
+	return t.rows(ctx, display, opt, w, func(rec []string) error {
 		line, reason := parseLedgerRow(t, rec, opt, layout, signed, nextLine)
 		if reason != "" {
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.rawInput()})
-		} else {
-			err = w.LedgerLine(line)
+			return t.reject(opt, w, reason)
 		}
-		if err != nil {
-			return read, err
-		}
-	}
+		return w.LedgerLine(line)
+	})
 }
 
 // parseLedgerRow turns a record into a ledger line, or says why it cannot.

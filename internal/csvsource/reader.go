@@ -16,6 +16,7 @@ import (
 	"golang.org/x/text/encoding/charmap"
 	"golang.org/x/text/transform"
 
+	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/money"
 )
 
@@ -300,6 +301,46 @@ func blank(rec []string) bool {
 		}
 	}
 	return true
+}
+
+// rows calls row for every data record of the table, in file order, and
+// returns how many records it read. A record the CSV reader cannot split is
+// rejected here; blank lines are skipped; the context is checked now and then.
+func (t *table) rows(ctx context.Context, display string, opt Options, w costdrift.SourceWriter, row func(rec []string) error) (int, error) {
+	read := 0
+	for {
+		rec, err := t.next()
+		if errors.Is(err, io.EOF) {
+			return read, nil
+		}
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			read++
+			if err := t.reject(opt, w, "malformed CSV: "+pe.Err.Error()); err != nil {
+				return read, err
+			}
+			continue
+		}
+		if err != nil {
+			return read, fmt.Errorf("%s: %w", display, err)
+		}
+		if blank(rec) {
+			continue
+		}
+		read++
+		if err := checkCtx(ctx, read); err != nil {
+			return read, err
+		}
+		if err := row(rec); err != nil {
+			return read, err
+		}
+	}
+}
+
+// reject stores the current record as rejected, with its location and the
+// row as written.
+func (t *table) reject(opt Options, w costdrift.SourceWriter, reason string) error {
+	return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.rawInput()})
 }
 
 func checkCtx(ctx context.Context, n int) error {
