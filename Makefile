@@ -3,7 +3,7 @@ GO      ?= go
 VERSION ?= $(shell git describe --tags --always --dirty 2>/dev/null || echo dev)
 LDFLAGS := -X main.version=$(VERSION)
 
-.PHONY: help build test demo lint crosscheck bench-sync bench-analyze ci
+.PHONY: help build test demo lint mailpit crosscheck bench-sync bench-analyze ci
 
 help: ## list the targets
 	@awk 'BEGIN {FS = ":.*## "} /^[a-z-]+:.*## / {printf "  %-14s %s\n", $$1, $$2}' $(MAKEFILE_LIST)
@@ -20,6 +20,9 @@ demo: build ## an invented company's books synced, analysed and reported (in cos
 lint: ## gofmt and go vet
 	@unformatted=$$(gofmt -l cmd internal migrations); if [ -n "$$unformatted" ]; then echo "gofmt needed: $$unformatted"; exit 1; fi
 	$(GO) vet ./...
+
+mailpit: ## install the SMTP server the alert-mail tests run against, into $(go env GOPATH)/bin
+	$(GO) install github.com/axllent/mailpit@v1.33.1
 
 crosscheck: ## regenerate the statsmodels/SciPy/R check values, compare with the committed ones, run the Go checks
 	bash scripts/crosscheck/run.sh

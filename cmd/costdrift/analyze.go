@@ -148,6 +148,9 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	fmt.Fprintln(out)
 	fmt.Fprintf(out, "alerts: %d new, %d escalated, %d reopened, %d resolved (costdrift alerts list)\n",
 		len(changes.New), len(changes.Escalated), len(changes.Reopened), len(changes.Resolved))
+	if err := a.deliverAlerts(ctx, e, db, out); err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
 	return run, nil
 }
 

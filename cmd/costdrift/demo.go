@@ -106,6 +106,10 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if err := a.listAlerts(ctx, db); err != nil {
 		return err
 	}
+	if e.cfg.Mail.SMTP.Host == "" {
+		fmt.Fprintf(a.out, "\nAlert mail goes to the folder %s while mail.smtp.host is empty: open its .eml files in a mail client.\n",
+			e.cfg.Path(e.cfg.Mail.Outbox))
+	}
 	fmt.Fprintf(a.out, "\nThe store is %s. Query it with sqlite3, for example:\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())

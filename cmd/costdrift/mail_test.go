@@ -1,0 +1,297 @@
+package main
+
+import (
+	"bytes"
+	"database/sql"
+	"encoding/json"
+	"fmt"
+	"go/build"
+	"io"
+	"net"
+	"net/http"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/config"
+)
+
+const smtpTestPassword = "Cycle-s3cret-never-shown"
+
+// runAt executes the command line with the clock at now.
+func runAt(t *testing.T, now time.Time, args ...string) string {
+	t.Helper()
+	var out bytes.Buffer
+	root := newRoot(&out, &out, func() time.Time { return now })
+	root.SetArgs(args)
+	if err := root.Execute(); err != nil {
+		t.Fatalf("costdrift %s: %v\n%s", strings.Join(args, " "), err, out.String())
+	}
+	return out.String()
+}
+
+func mailpitPath(t *testing.T) string {
+	t.Helper()
+	if p, err := exec.LookPath("mailpit"); err == nil {
+		return p
+	}
+	gopath := os.Getenv("GOPATH")
+	if gopath == "" {
+		gopath = build.Default.GOPATH
+	}
+	p := filepath.Join(strings.Split(gopath, string(os.PathListSeparator))[0], "bin", "mailpit")
+	if _, err := os.Stat(p); err == nil {
+		return p
+	}
+	if os.Getenv("CI") == "true" {
+		t.Fatal("mailpit not found on PATH or in GOPATH/bin; CI must install it: go install github.com/axllent/mailpit@v1.33.1")
+	}
+	t.Skip("mailpit not found; install it to run the SMTP tests: go install github.com/axllent/mailpit@v1.33.1")
+	return ""
+}
+
+func loopbackPort(t *testing.T) int {
+	t.Helper()
+	l, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	return l.Addr().(*net.TCPAddr).Port
+}
+
+type pitMessage struct {
+	ID      string
+	To      []struct{ Address string }
+	Subject string
+	Text    string
+	HTML    string
+	Inline  []struct{ ContentType, ContentID string }
+}
+
+func pitGet(t *testing.T, url string, v any) []byte {
+	t.Helper()
+	resp, err := http.Get(url)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer resp.Body.Close()
+	b, _ := io.ReadAll(resp.Body)
+	if resp.StatusCode != 200 {
+		t.Fatalf("GET %s: %d %s", url, resp.StatusCode, b)
+	}
+	if v != nil {
+		if err := json.Unmarshal(b, v); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return b
+}
+
+// pitMessages is every message mailpit holds, by recipient, with its raw text.
+func pitMessages(t *testing.T, api string) (map[string][]pitMessage, []string) {
+	t.Helper()
+	var list struct{ Messages []struct{ ID string } }
+	pitGet(t, api+"/api/v1/messages", &list)
+	out := map[string][]pitMessage{}
+	var raws []string
+	for _, s := range list.Messages {
+		var m pitMessage
+		pitGet(t, api+"/api/v1/message/"+s.ID, &m)
+		for _, to := range m.To {
+			out[to.Address] = append(out[to.Address], m)
+		}
+		raws = append(raws, string(pitGet(t, api+"/api/v1/message/"+s.ID+"/raw", nil)))
+	}
+	return out, raws
+}
+
+// TestMailCycleServerDownThenBack: the demo's analysis finds the SMTP
+// server down, records the failure per recipient, retries only after the
+// backoff, delivers each digest exactly once when the server is back, and
+// routes by cost centre; the password shows in no output, message or store.
+func TestMailCycleServerDownThenBack(t *testing.T) {
+	bin := mailpitPath(t)
+	dir := t.TempDir()
+	smtpPort, httpPort := loopbackPort(t), loopbackPort(t)
+	cfg := strings.Replace(config.Starter, `    - email: costs@example.test
+      cost_centers: ["*"]
+      accounts: ["*"]
+      min_severity: warning    # info | warning | critical`, `    - email: paint@example.test
+      cost_centers: ["PAINT"]
+      min_severity: warning
+    - email: freight@example.test
+      accounts: ["64*"]
+      cost_centers: ["AS*"]
+      min_severity: warning
+    - email: controller@example.test
+      cost_centers: ["*"]
+      accounts: ["*"]
+      min_severity: critical
+    - email: costs@example.test
+      cost_centers: ["*"]
+      accounts: ["*"]
+      min_severity: warning`, 1)
+	cfg = strings.Replace(cfg, `    host: ""                   # empty: messages go to the outbox folder
+    port: 587
+    tls: starttls              # starttls | tls | none (none only to a loopback host)
+    username: ""`, fmt.Sprintf(`    host: 127.0.0.1
+    port: %d
+    tls: none
+    username: costdrift`, smtpPort), 1)
+	if !strings.Contains(cfg, "paint@example.test") || !strings.Contains(cfg, "tls: none") {
+		t.Fatal("the starter config changed: update this test's replacements")
+	}
+	cfgPath := filepath.Join(dir, "costdrift.yaml")
+	if err := os.WriteFile(cfgPath, []byte(cfg), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	t.Setenv("COSTDRIFT_SMTP_PASSWORD", smtpTestPassword)
+	store := filepath.Join(dir, "costdrift.db")
+
+	// Cycle 1: nothing listens on the port.
+	t0 := today()
+	out := runAt(t, t0, "demo", "--dir", dir)
+	if strings.Count(out, "not sent, retried on a later cycle") != 3 {
+		t.Errorf("demo output does not report the three failed digests:\n%s", out)
+	}
+	// paint: 6110/PAINT; freight: 6400/ASSY; costs: both; controller: no
+	// critical alert in the demo.
+	if n := count(t, store, "SELECT COUNT(*) FROM deliveries WHERE status = 'failed' AND attempts = 1 AND severity_sent IS NULL AND next_attempt_at = '2026-12-01T09:05:00Z' AND last_error LIKE '%connect%'"); n != 4 {
+		t.Errorf("%d failed deliveries recorded with a 5-minute backoff, want 4", n)
+	}
+
+	cmd := exec.Command(bin, "--smtp", fmt.Sprintf("127.0.0.1:%d", smtpPort), "--listen", fmt.Sprintf("127.0.0.1:%d", httpPort),
+		"--database", filepath.Join(t.TempDir(), "mailpit.db"), "--smtp-disable-rdns", "--disable-version-check", "--quiet",
+		"--smtp-auth-accept-any", "--smtp-auth-allow-insecure")
+	var pitLog bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &pitLog, &pitLog
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { cmd.Process.Kill(); cmd.Wait() })
+	api := fmt.Sprintf("http://127.0.0.1:%d", httpPort)
+	for deadline := time.Now().Add(15 * time.Second); ; time.Sleep(50 * time.Millisecond) {
+		c, err := net.Dial("tcp", fmt.Sprintf("127.0.0.1:%d", smtpPort))
+		if err == nil {
+			c.Close()
+			if resp, err := http.Get(api + "/api/v1/messages"); err == nil {
+				resp.Body.Close()
+				break
+			}
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("mailpit did not start: %s", pitLog.String())
+		}
+	}
+
+	// Before the backoff has passed nothing is tried.
+	out = runAt(t, t0.Add(time.Minute), "--config", cfgPath, "alerts", "send")
+	if got, _ := pitMessages(t, api); len(got) != 0 || out != "" {
+		t.Errorf("sent before the backoff passed: %d recipients, output %q", len(got), out)
+	}
+	// Cycle 2: past the backoff, the server is back.
+	outs := out + runAt(t, t0.Add(6*time.Minute), "--config", cfgPath, "alerts", "send")
+	// Cycle 3: nothing is due any more.
+	third := runAt(t, t0.Add(7*time.Hour), "--config", cfgPath, "alerts", "send")
+	outs += third
+	if third != "" {
+		t.Errorf("third cycle sent again: %q", third)
+	}
+	got, raws := pitMessages(t, api)
+	if len(raws) != 3 || len(got["paint@example.test"]) != 1 || len(got["freight@example.test"]) != 1 || len(got["costs@example.test"]) != 1 {
+		t.Fatalf("%d messages, by recipient %v; want one each to paint, freight and costs", len(raws), got)
+	}
+	for to, want := range map[string]string{
+		"paint@example.test":   "costdrift: 1 change in cost behaviour (PAINT)",
+		"freight@example.test": "costdrift: 1 change in cost behaviour (ASSY)",
+		"costs@example.test":   "costdrift: 2 changes in cost behaviour (PAINT, ASSY)",
+	} {
+		if s := got[to][0].Subject; s != want {
+			t.Errorf("%s: subject %q, want %q", to, s, want)
+		}
+	}
+	freight := got["freight@example.test"][0]
+	// 6400/ASSY is variable on shipments: its chart is drawn; 6110/PAINT is
+	// fixed, with no activity to draw against.
+	if len(freight.Inline) != 1 || freight.Inline[0].ContentType != "image/png" || !strings.Contains(freight.HTML, "cid:"+freight.Inline[0].ContentID) {
+		t.Errorf("freight digest: inline parts %+v", freight.Inline)
+	}
+	if len(got["paint@example.test"][0].Inline) != 0 {
+		t.Errorf("paint digest has a chart for a fixed cost")
+	}
+	for _, want := range []string{"costdrift explain 6400/ASSY", "Since: 2025-02", "was  14.4756 × shipments", "now  11.9174 × shipments", "p-value: < 0.001", "Formulas are statistical estimates"} {
+		if !strings.Contains(freight.Text, want) {
+			t.Errorf("freight text part lacks %q:\n%s", want, freight.Text)
+		}
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM deliveries WHERE status = 'sent' AND attempts = 0 AND severity_sent = 'warning' AND sent_at = '2026-12-01T09:06:00Z' AND last_error IS NULL"); n != 4 {
+		t.Errorf("%d deliveries recorded as sent, want 4", n)
+	}
+	dbBytes, _ := os.ReadFile(store)
+	for what, text := range map[string]string{"output": out + outs, "store": string(dbBytes), "messages": strings.Join(raws, "\n"), "server log": pitLog.String()} {
+		if strings.Contains(text, smtpTestPassword) {
+			t.Errorf("the SMTP password appears in the %s", what)
+		}
+	}
+
+	// test-email reports the server's answer.
+	answer := runAt(t, t0.Add(8*time.Hour), "--config", cfgPath, "alerts", "test-email", "--to", "check@example.test")
+	if !strings.Contains(answer, "test message to check@example.test accepted by 127.0.0.1:") || !strings.Contains(answer, ": 250 ") {
+		t.Errorf("test-email output %q", answer)
+	}
+	if got, _ := pitMessages(t, api); len(got["check@example.test"]) != 1 || got["check@example.test"][0].Subject != "costdrift: test message" {
+		t.Errorf("test message not received as sent")
+	}
+}
+
+func TestMailOutboxAndRefusals(t *testing.T) {
+	dir := t.TempDir()
+	out := mustRun(t, "demo", "--dir", dir)
+	cfgPath := filepath.Join(dir, "costdrift.yaml")
+	files, _ := filepath.Glob(filepath.Join(dir, "outbox", "*.eml"))
+	if len(files) != 1 || !strings.Contains(out, "mail: 2 alert(s) to costs@example.test: written to "+files[0]) {
+		t.Fatalf("outbox %v; demo output:\n%s", files, out)
+	}
+	// Sent once: another cycle writes nothing.
+	if again := mustRun(t, "--config", cfgPath, "alerts", "send"); again != "" {
+		t.Errorf("second send wrote %q", again)
+	}
+	// Escalated after it was sent: mailed again, once, at the new severity.
+	store := filepath.Join(dir, "costdrift.db")
+	sqldb, err := sql.Open("sqlite3", store)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := sqldb.Exec("UPDATE alerts SET severity = 'critical' WHERE object = '6400/ASSY'"); err != nil {
+		t.Fatal(err)
+	}
+	sqldb.Close()
+	escalated := mustRun(t, "--config", cfgPath, "alerts", "send")
+	if !strings.Contains(escalated, "mail: 1 alert(s) to costs@example.test: written to") {
+		t.Errorf("escalated alert not mailed again: %q", escalated)
+	}
+	if again := mustRun(t, "--config", cfgPath, "alerts", "send"); again != "" {
+		t.Errorf("escalated alert mailed twice: %q", again)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM deliveries d JOIN alerts a ON a.id = d.alert_id WHERE a.object = '6400/ASSY' AND d.severity_sent = 'critical' AND d.status = 'sent'"); n != 1 {
+		t.Errorf("escalation not recorded as sent at critical")
+	}
+	files, _ = filepath.Glob(filepath.Join(dir, "outbox", "*.eml"))
+	if len(files) != 2 {
+		t.Errorf("%d outbox files after the escalation, want 2", len(files))
+	}
+	if out := mustRun(t, "--config", cfgPath, "alerts", "test-email"); !strings.Contains(out, "test message to costs@example.test written to "+filepath.Join(dir, "outbox")) {
+		t.Errorf("test-email with no host: %q", out)
+	}
+	// Plain text to a host that is not this machine is refused, with the key named.
+	t.Setenv("COSTDRIFT_MAIL_SMTP_HOST", "smtp.example.test")
+	t.Setenv("COSTDRIFT_MAIL_SMTP_TLS", "none")
+	_, err = run(t, "--config", cfgPath, "alerts", "test-email", "--to", "x@example.test")
+	if err == nil || !strings.Contains(err.Error(), "mail.smtp.tls is none, but smtp.example.test is not a loopback host") {
+		t.Errorf("tls none to a network host: %v", err)
+	}
+}

@@ -1,0 +1,290 @@
+package mail
+
+import (
+	"bytes"
+	"flag"
+	netmail "net/mail"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+var update = flag.Bool("update", false, "rewrite the golden files in testdata/mail")
+
+// caution is the footer the command passes (report.Caution); the mail
+// package takes it as text.
+const caution = `Formulas are statistical estimates from past data, valid only inside the observed activity range
+(the relevant range). They support, and never replace, the accountant's judgement and the
+organisation's policies. Ledger data is confidential: keep this report to its intended readers.`
+
+func alert(id int64, kind costdrift.AlertKind, object string, sev costdrift.Severity) costdrift.Alert {
+	return costdrift.Alert{ID: id, Kind: kind, Object: object, Severity: sev, Status: costdrift.AlertOpen,
+		Message: string(kind) + " on " + object, Fingerprint: costdrift.Fingerprint(kind, object, "")}
+}
+
+func TestRoutes(t *testing.T) {
+	weld := alert(1, costdrift.AlertRateShift, "6200/WELD", costdrift.SeverityWarning)
+	rent := alert(2, costdrift.AlertDataGap, "6500", costdrift.SeverityWarning)
+	info := alert(3, costdrift.AlertSpendingOutlier, "6400/PAINT", costdrift.SeverityInfo)
+	source := alert(4, costdrift.AlertSourceFailure, "gl", costdrift.SeverityCritical)
+	for _, tc := range []struct {
+		name string
+		r    Recipient
+		a    costdrift.Alert
+		want bool // common practice: glob routing as path.Match defines it
+	}{
+		{"everything", Recipient{}, weld, true},
+		{"cost centre glob", Recipient{CostCenters: []string{"WE*"}}, weld, true},
+		{"other cost centre", Recipient{CostCenters: []string{"PAINT"}}, weld, false},
+		{"account range glob", Recipient{Accounts: []string{"62??"}}, weld, true},
+		{"account glob misses", Recipient{Accounts: []string{"5*"}}, weld, false},
+		{"both must match", Recipient{Accounts: []string{"62*"}, CostCenters: []string{"PAINT"}}, weld, false},
+		{"no cost centre, star", Recipient{CostCenters: []string{"*"}}, rent, true},
+		{"no cost centre, named list", Recipient{CostCenters: []string{"WELD"}}, rent, false},
+		{"below min severity", Recipient{MinSeverity: costdrift.SeverityWarning}, info, false},
+		{"at min severity", Recipient{MinSeverity: costdrift.SeverityWarning}, weld, true},
+		{"source to star", Recipient{CostCenters: []string{"*"}, Accounts: []string{"62*"}}, source, true},
+		{"source to everything", Recipient{}, source, true},
+		{"source not to a narrow list", Recipient{CostCenters: []string{"WELD"}}, source, false},
+		{"source below min severity", Recipient{MinSeverity: costdrift.SeverityCritical}, source, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := Routes(tc.r, tc.a); got != tc.want {
+				t.Errorf("Routes(%+v, %s) = %v, want %v", tc.r, tc.a.Object, got, tc.want)
+			}
+		})
+	}
+}
+
+func TestDueAndBackoff(t *testing.T) {
+	now := time.Date(2026, 1, 5, 6, 0, 0, 0, time.UTC)
+	warn := alert(1, costdrift.AlertRateShift, "6200/WELD", costdrift.SeverityWarning)
+	crit := warn
+	crit.Severity = costdrift.SeverityCritical
+	for _, tc := range []struct {
+		name string
+		a    costdrift.Alert
+		prev *State
+		want bool
+	}{
+		{"never sent", warn, nil, true},
+		{"sent at this severity", warn, &State{SeveritySent: costdrift.SeverityWarning}, false},
+		{"escalated since", crit, &State{SeveritySent: costdrift.SeverityWarning}, true},
+		{"failed, backoff not over", warn, &State{Failed: true, Attempts: 1, NextAttempt: now.Add(time.Minute)}, false},
+		{"failed, backoff over", warn, &State{Failed: true, Attempts: 1, NextAttempt: now}, true},
+		{"escalation failed, retry due", crit, &State{SeveritySent: costdrift.SeverityWarning, Failed: true, NextAttempt: now.Add(-time.Second)}, true},
+	} {
+		if got := Due(tc.a, tc.prev, now); got != tc.want {
+			t.Errorf("%s: Due = %v, want %v", tc.name, got, tc.want)
+		}
+	}
+	// 5 min × 2^(attempts−1), capped at 6 h (hand-worked: 5, 10, 20, 40,
+	// 80, 160, 320 min, then 640 > 360).
+	for attempts, want := range map[int]time.Duration{1: 5 * time.Minute, 2: 10 * time.Minute, 3: 20 * time.Minute,
+		7: 320 * time.Minute, 8: 6 * time.Hour, 40: 6 * time.Hour} {
+		if got := Backoff(attempts); got != want {
+			t.Errorf("Backoff(%d) = %s, want %s", attempts, got, want)
+		}
+	}
+}
+
+// sampleDigest is invented: two behaviour changes and a failing source.
+func sampleDigest(to string) Digest {
+	shift := alert(7, costdrift.AlertRateShift, "6400/ASSY", costdrift.SeverityWarning)
+	shift.Period = "2025-02"
+	shift.Message = "6400/ASSY Freight out: rate per shipment fell from 2025-02, 14.48 to 11.92 (18 % of the cost at the activity before)"
+	shift.Evidence = map[string]any{"test": "sup-F", "statistic": 696.16, "p": 0.0002, "break": "2025-02",
+		"fixed_before": 0.0, "fixed_after": 0.0, "rate_before": 14.48, "rate_after": 11.92, "r2": 0.9951, "n": 17.0,
+		"periods_after": 17.0, "provisional": false}
+	recl := alert(8, costdrift.AlertReclassified, "6300/PAINT", costdrift.SeverityCritical)
+	recl.Period = "2025-09"
+	recl.Message = "6300/PAINT Paint is now mixed on machine hours (was fixed) since 2025-09"
+	recl.Evidence = map[string]any{"class_before": "fixed", "class_after": "mixed", "driver_before": "", "driver_after": "machine_hours",
+		"fixed_before": 2100.0, "rate_before": nil, "fixed_after": 850.0, "rate_after": 3.125, "since": "2025-09",
+		"reason": "slope significant", "r2": 0.82, "n": 36.0}
+	src := alert(9, costdrift.AlertSourceFailure, "gl", costdrift.SeverityWarning)
+	src.Message = "source gl failed: data/gl.csv: no such file"
+	src.Evidence = map[string]any{"failures_in_a_row": 2.0, "error": "data/gl.csv: no such file"}
+	return Digest{To: to, From: "costdrift <costdrift@example.test>", Date: time.Date(2026, 1, 5, 6, 0, 0, 0, time.UTC), Cautions: caution,
+		Items: []Item{
+			{Alert: recl, AccountName: "Paint", Class: "mixed", Driver: "machine_hours", Chart: tinyPNG},
+			{Alert: shift, AccountName: "Freight out", Class: "variable", Driver: "shipments", Chart: tinyPNG},
+			{Alert: src},
+		}}
+}
+
+// tinyPNG is a valid 1×1 PNG (the format's smallest image).
+var tinyPNG = []byte{0x89, 'P', 'N', 'G', '\r', '\n', 0x1a, '\n', 0, 0, 0, 0x0d, 'I', 'H', 'D', 'R', 0, 0, 0, 1, 0, 0, 0, 1, 8, 6, 0, 0, 0,
+	0x1f, 0x15, 0xc4, 0x89, 0, 0, 0, 0x0d, 'I', 'D', 'A', 'T', 0x78, 0x9c, 0x63, 0xf8, 0xcf, 0xc0, 0xf0, 0x1f, 0, 0x05, 0, 0x01, 0xff,
+	0x89, 0x99, 0x3d, 0x1d, 0, 0, 0, 0, 'I', 'E', 'N', 'D', 0xae, 0x42, 0x60, 0x82}
+
+func TestTextGolden(t *testing.T) {
+	got, err := Text(sampleDigest("costs@example.test"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join("..", "..", "testdata", "mail", "digest.txt")
+	if *update {
+		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("%v (go test ./internal/mail/ -run TestTextGolden -update writes it)", err)
+	}
+	if got != string(want) {
+		t.Errorf("text part differs from %s (-update rewrites it):\n%s", path, got)
+	}
+}
+
+func TestSubject(t *testing.T) {
+	d := sampleDigest("x@example.test")
+	// Cost centres, else the source, in the digest's order.
+	if got, want := Subject(d.Items), "costdrift: 3 changes in cost behaviour, 1 critical (PAINT, ASSY, source gl)"; got != want {
+		t.Errorf("Subject = %q, want %q", got, want)
+	}
+	if got, want := Subject(d.Items[1:2]), "costdrift: 1 change in cost behaviour (ASSY)"; got != want {
+		t.Errorf("Subject = %q, want %q", got, want)
+	}
+	rent := alert(1, costdrift.AlertDataGap, "6500", costdrift.SeverityWarning)
+	var many []Item
+	for _, o := range []string{"6200/A", "6200/B", "6200/C", "6200/D", "6200/E"} {
+		many = append(many, Item{Alert: alert(2, costdrift.AlertFixedShift, o, costdrift.SeverityWarning)})
+	}
+	many = append(many, Item{Alert: rent})
+	if got, want := Subject(many), "costdrift: 6 changes in cost behaviour (A, B, C, +3 more)"; got != want {
+		t.Errorf("Subject = %q, want %q", got, want)
+	}
+}
+
+const hostile = `<script>alert("x")</script>`
+
+func hostileDigest() Digest {
+	d := sampleDigest("costs@example.test")
+	d.Items[0].AccountName = hostile
+	d.Items[0].Alert.Message = "6300/PAINT " + hostile + " is now mixed"
+	d.Items[1].Alert.Object = "6400/" + hostile
+	return d
+}
+
+func TestHTMLEscapesEverything(t *testing.T) {
+	html, err := HTML(hostileDigest())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(html, "<script") {
+		t.Errorf("HTML part carries a script element:\n%s", html)
+	}
+	if !strings.Contains(html, "&lt;script&gt;") {
+		t.Errorf("HTML part lacks the escaped account name")
+	}
+	for _, want := range []string{`src="cid:chart-8@costdrift"`, `src="cid:chart-7@costdrift"`, "costdrift explain 6300/PAINT",
+		"Formulas are statistical estimates", "850.00 &#43; 3.125 × machine hours", "2100.00", "&lt; 0.001", "0.995"} {
+		if !strings.Contains(html, want) {
+			t.Errorf("HTML part lacks %q", want)
+		}
+	}
+	// Nothing remote: the only image sources are content ids.
+	if strings.Contains(html, "http://") || strings.Contains(html, "https://") {
+		t.Errorf("HTML part refers to a remote resource")
+	}
+	if strings.Count(html, "<img") != 2 {
+		t.Errorf("%d images, want 2 (no chart for the source alert)", strings.Count(html, "<img"))
+	}
+	txt, _ := Text(hostileDigest())
+	// The pasted command must stay one shell word.
+	if !strings.Contains(txt, `costdrift explain '6400/<script>alert("x")</script>'`) {
+		t.Errorf("text part lacks the quoted explain command:\n%s", txt)
+	}
+}
+
+func TestCheckRefusesPlainTextOverNetwork(t *testing.T) {
+	for _, tc := range []struct {
+		s    Server
+		fail bool
+	}{
+		{Server{Host: "smtp.example.test", Port: 587, TLS: "starttls"}, false},
+		{Server{Host: "smtp.example.test", Port: 465, TLS: "tls"}, false},
+		{Server{Host: "smtp.example.test", Port: 25, TLS: "none"}, true},
+		{Server{Host: "192.0.2.1", Port: 25, TLS: "none"}, true},
+		{Server{Host: "localhost", Port: 25, TLS: "none"}, false},
+		{Server{Host: "127.0.0.1", Port: 25, TLS: "none"}, false},
+		{Server{Host: "::1", Port: 25, TLS: "none"}, false},
+		{Server{Host: "smtp.example.test", Port: 25, TLS: "maybe"}, true},
+	} {
+		err := tc.s.Check()
+		if (err != nil) != tc.fail {
+			t.Errorf("Check(%s, %s) = %v, want failure %v", tc.s.Host, tc.s.TLS, err, tc.fail)
+		}
+		if err != nil && tc.s.TLS == "none" && !strings.Contains(err.Error(), "not a loopback host") {
+			t.Errorf("unclear error: %v", err)
+		}
+	}
+	res := Server{Host: "smtp.example.test", Port: 25, TLS: "none"}.Send(t.Context(), nil)
+	if len(res) != 0 {
+		t.Errorf("Send of nothing returned %v", res)
+	}
+}
+
+func TestOutboxWritesOwnerOnlyEml(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "outbox")
+	d := sampleDigest("costs@example.test")
+	m, err := Message(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p1, err := WriteOutbox(dir, m, d.Date, d.To)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p2, err := WriteOutbox(dir, m, d.Date, d.To)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p1 == p2 || filepath.Base(p1) != "20260105T060000Z-costs_example.test.eml" {
+		t.Errorf("outbox files %s, %s", p1, p2)
+	}
+	for path, want := range map[string]os.FileMode{dir: 0o700 | os.ModeDir, p1: 0o600, p2: 0o600} {
+		st, err := os.Stat(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if st.Mode() != want {
+			t.Errorf("%s: mode %s, want %s", path, st.Mode(), want)
+		}
+	}
+	raw, _ := os.ReadFile(p1)
+	msg, err := netmail.ReadMessage(bytes.NewReader(raw))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := msg.Header.Get("Subject"), "costdrift: 3 changes in cost behaviour, 1 critical (PAINT, ASSY, source gl)"; got != want {
+		t.Errorf("Subject %q, want %q", got, want)
+	}
+	for _, want := range []string{"Content-Type: text/plain", "Content-Type: text/html", "Content-Id: <chart-8@costdrift>",
+		"Content-Id: <chart-7@costdrift>", "To: <costs@example.test>"} {
+		if !strings.Contains(string(raw), want) {
+			t.Errorf(".eml lacks %q", want)
+		}
+	}
+}
+
+func TestPasswordFromEnvOrFile(t *testing.T) {
+	t.Setenv("COSTDRIFT_TEST_SMTP_PW", "from-env")
+	if pw, err := Password("COSTDRIFT_TEST_SMTP_PW", ""); err != nil || pw != "from-env" {
+		t.Errorf("Password(env) = %q, %v", pw, err)
+	}
+	f := filepath.Join(t.TempDir(), "pw")
+	os.WriteFile(f, []byte("from-file\r\nignored\n"), 0o600)
+	if pw, err := Password("COSTDRIFT_TEST_SMTP_PW", f); err != nil || pw != "from-file" {
+		t.Errorf("Password(file) = %q, %v", pw, err)
+	}
+	if _, err := Password("", filepath.Join(t.TempDir(), "missing")); err == nil || !strings.Contains(err.Error(), "mail.smtp.password_file") {
+		t.Errorf("missing file: %v", err)
+	}
+}

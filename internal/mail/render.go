@@ -1,0 +1,414 @@
+package mail
+
+import (
+	"bytes"
+	"fmt"
+	htmltemplate "html/template"
+	"math"
+	"regexp"
+	"strconv"
+	"strings"
+	"text/template"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// Item is one alert in a digest, with its scatter chart as PNG bytes when
+// the store has the data to draw one (nil otherwise).
+type Item struct {
+	Alert       costdrift.Alert
+	AccountName string // the account's name from the chart of accounts, "" if unknown
+	// Class and Driver are the object's current class and driver from the
+	// store; the evidence's class_before/after and driver_before/after,
+	// when a rule recorded them, take precedence.
+	Class  string
+	Driver string
+	Chart  []byte
+}
+
+// Digest is one message: every alert due for one recipient in one cycle.
+type Digest struct {
+	To       string
+	From     string
+	Items    []Item
+	Date     time.Time
+	Cautions string // the footer every report carries
+	Subject  string // "" = Subject(Items); set for a test message
+}
+
+// Subject says how many changes and where, e.g.
+// "costdrift: 2 changes in cost behaviour (PAINT, ASSY)": the cost centres
+// of the alerts, else their accounts, else the sources, at most three named.
+func Subject(items []Item) string {
+	n := len(items)
+	what := "changes in cost behaviour"
+	if n == 1 {
+		what = "change in cost behaviour"
+	}
+	critical := 0
+	var places []string
+	seen := map[string]bool{}
+	for _, it := range items {
+		if it.Alert.Severity == costdrift.SeverityCritical {
+			critical++
+		}
+		p := it.Alert.Object
+		if !SourceKind(it.Alert.Kind) {
+			account, center, _ := strings.Cut(p, "/")
+			p = account
+			if center != "" {
+				p = center
+			}
+		} else {
+			p = "source " + p
+		}
+		if !seen[p] {
+			seen[p] = true
+			places = append(places, p)
+		}
+	}
+	s := fmt.Sprintf("costdrift: %d %s", n, what)
+	if critical > 0 {
+		s += fmt.Sprintf(", %d critical", critical)
+	}
+	if len(places) > 3 {
+		places = append(places[:3], fmt.Sprintf("+%d more", len(places)-3))
+	}
+	if len(places) > 0 {
+		s += " (" + strings.Join(places, ", ") + ")"
+	}
+	return oneLine(s)
+}
+
+func (d Digest) subject() string {
+	if d.Subject != "" {
+		return oneLine(d.Subject)
+	}
+	return Subject(d.Items)
+}
+
+// view is an Item as the templates show it; every field is plain text
+// (html/template escapes it in the HTML part).
+type view struct {
+	ID       int64
+	Title    string // "WARNING  reclassified  6200/PAINT Paint and coatings"
+	Severity string
+	Kind     string
+	Object   string
+	Message  string
+	Since    string
+	Changes  []row // what changed: before and after
+	Evidence []row // test, p-value, R², n
+	Explain  string
+	Show     string
+	CID      string // content id of the chart, "" without one
+}
+
+type row struct{ Name, Before, After string }
+
+// kindText is how each kind is named in the mail.
+var kindText = map[costdrift.AlertKind]string{
+	costdrift.AlertReclassified:    "class changed",
+	costdrift.AlertDriverChanged:   "driver changed",
+	costdrift.AlertFixedShift:      "fixed part shifted",
+	costdrift.AlertRateShift:       "rate shifted",
+	costdrift.AlertSpendingOutlier: "spending outside the prediction",
+	costdrift.AlertOutOfRange:      "activity outside the relevant range",
+	costdrift.AlertDataGap:         "postings missing",
+	costdrift.AlertStaleSource:     "source behind",
+	costdrift.AlertSourceFailure:   "source failing",
+}
+
+func views(items []Item) []view {
+	out := make([]view, 0, len(items))
+	for _, it := range items {
+		a := it.Alert
+		ev := a.Evidence
+		v := view{ID: a.ID, Severity: strings.ToUpper(string(a.Severity)), Kind: kindText[a.Kind], Object: oneLine(a.Object),
+			Message: oneLine(a.Message), Since: oneLine(a.Period), Show: fmt.Sprintf("costdrift alerts show %d", a.ID)}
+		if it.AccountName != "" {
+			v.Object += " " + oneLine(it.AccountName)
+		}
+		if v.Kind == "" {
+			v.Kind = string(a.Kind)
+		}
+		if !SourceKind(a.Kind) {
+			v.Explain = "costdrift explain " + shellQuote(a.Object)
+		}
+		if s := text(ev["break"]); s != "" {
+			v.Since = s
+		} else if s := text(ev["since"]); s != "" {
+			v.Since = s
+		}
+		driverBefore, driverAfter := text(ev["driver_before"]), text(ev["driver_after"])
+		if driverBefore == "" && driverAfter == "" {
+			driverBefore = text(ev["driver"])
+			if driverBefore == "" {
+				driverBefore = oneLine(it.Driver)
+			}
+			driverAfter = driverBefore
+		}
+		if c0, c1 := text(ev["class_before"]), text(ev["class_after"]); c0 != "" || c1 != "" {
+			v.Changes = append(v.Changes, row{"class", words(c0), words(c1)})
+		} else if it.Class != "" && !SourceKind(a.Kind) {
+			v.Changes = append(v.Changes, row{"class", words(it.Class), words(it.Class)})
+		}
+		if driverBefore != "" || driverAfter != "" {
+			v.Changes = append(v.Changes, row{"driver", driverWords(driverBefore), driverWords(driverAfter)})
+		}
+		if _, ok := ev["fixed_before"]; ok {
+			v.Changes = append(v.Changes, row{"formula per period",
+				formula(ev["fixed_before"], ev["rate_before"], driverBefore), formula(ev["fixed_after"], ev["rate_after"], driverAfter)})
+		}
+		if _, ok := ev["expected"]; ok {
+			v.Changes = append(v.Changes, row{"cost in " + text(ev["period"]),
+				"expected " + number(ev["expected"]) + " (95 %: " + number(ev["low95"]) + " to " + number(ev["high95"]) + ")",
+				"actual " + number(ev["actual"])})
+		}
+		if _, ok := ev["range_min"]; ok {
+			v.Changes = append(v.Changes, row{"activity in " + text(ev["period"]),
+				"relevant range " + number(ev["range_min"]) + " to " + number(ev["range_max"]), number(ev["activity"])})
+		}
+		for _, e := range []struct{ key, name string }{
+			{"test", "test"}, {"statistic", "statistic"}, {"p", "p-value"}, {"r2", "R²"}, {"n", "n (periods)"},
+			{"periods_after", "periods after the change"}, {"reason", "reason"}, {"failures_in_a_row", "failures in a row"},
+			{"error", "last error"}, {"newest_period", "newest period"}, {"closed_periods_behind", "closed periods behind"},
+		} {
+			val, ok := ev[e.key]
+			if !ok || val == nil {
+				continue
+			}
+			s := ""
+			switch e.key {
+			case "p":
+				s = pValue(val)
+			case "r2":
+				s = fixed(val, 3)
+			case "statistic":
+				if f, ok := float(val); ok && math.Abs(f) >= 1e6 {
+					s = strconv.FormatFloat(f, 'g', 3, 64)
+				} else {
+					s = fixed(val, 2)
+				}
+			default:
+				s = text(val)
+			}
+			if s != "" {
+				v.Evidence = append(v.Evidence, row{Name: e.name, After: s})
+			}
+		}
+		if b, _ := ev["provisional"].(bool); b {
+			v.Evidence = append(v.Evidence, row{Name: "provisional", After: "yes: few periods after the change so far"})
+		}
+		if len(it.Chart) > 0 && !SourceKind(a.Kind) {
+			v.CID = fmt.Sprintf("chart-%d@costdrift", a.ID)
+		}
+		v.Title = v.Severity + "  " + v.Kind + "  " + v.Object
+		out = append(out, v)
+	}
+	return out
+}
+
+type page struct {
+	Subject  string
+	Items    []view
+	Cautions []string // paragraphs
+	Caution  string
+}
+
+func newPage(d Digest) page {
+	p := page{Subject: d.subject(), Items: views(d.Items), Caution: strings.TrimSpace(d.Cautions)}
+	for _, para := range strings.Split(d.Cautions, "\n\n") {
+		if t := strings.Join(strings.Fields(para), " "); t != "" {
+			p.Cautions = append(p.Cautions, t)
+		}
+	}
+	return p
+}
+
+var textTmpl = template.Must(template.New("text").Parse(`{{.Subject}}
+{{range $i, $v := .Items}}
+{{"--"}} {{$v.Title}}
+{{$v.Message}}
+{{- if $v.Since}}
+Since: {{$v.Since}}{{end}}
+{{- range $v.Changes}}
+{{.Name}}:
+    was  {{.Before}}
+    now  {{.After}}
+{{- end}}
+{{- if $v.Evidence}}
+Evidence:{{range $v.Evidence}}
+    {{.Name}}: {{.After}}{{end}}{{end}}
+{{- if $v.Explain}}
+To see more: {{$v.Explain}}{{end}}
+Alert: {{$v.Show}}
+{{end}}
+{{.Caution}}
+`))
+
+// Text renders the plain-text part.
+func Text(d Digest) (string, error) {
+	var b bytes.Buffer
+	if err := textTmpl.Execute(&b, newPage(d)); err != nil {
+		return "", fmt.Errorf("mail: text part: %w", err)
+	}
+	return b.String(), nil
+}
+
+var htmlTmpl = htmltemplate.Must(htmltemplate.New("html").Parse(`<!DOCTYPE html>
+<html><head><meta charset="utf-8"><title>{{.Subject}}</title></head>
+<body style="margin:0;padding:16px;background:#ffffff;color:#1a1a1a;font-family:Arial,Helvetica,sans-serif;font-size:14px;line-height:1.4">
+<table role="presentation" width="100%" cellpadding="0" cellspacing="0" style="max-width:760px">
+<tr><td><h1 style="font-size:18px;margin:0 0 12px 0">{{.Subject}}</h1></td></tr>
+{{range .Items}}
+<tr><td style="border-top:2px solid #444444;padding:12px 0">
+<p style="margin:0 0 4px 0"><strong style="{{if eq .Severity "CRITICAL"}}color:#9b0000{{else if eq .Severity "WARNING"}}color:#7a4a00{{else}}color:#1f4e79{{end}}">{{.Severity}}</strong>
+&nbsp;{{.Kind}} &nbsp;<strong>{{.Object}}</strong></p>
+<p style="margin:0 0 8px 0">{{.Message}}</p>
+{{if .Since}}<p style="margin:0 0 8px 0">Since: <strong>{{.Since}}</strong></p>{{end}}
+{{if .Changes}}<table cellpadding="4" cellspacing="0" style="border-collapse:collapse;margin:0 0 8px 0">
+<tr><th align="left" style="border-bottom:1px solid #999999"></th><th align="left" style="border-bottom:1px solid #999999">was</th><th align="left" style="border-bottom:1px solid #999999">now</th></tr>
+{{range .Changes}}<tr><td style="color:#555555">{{.Name}}</td><td>{{.Before}}</td><td><strong>{{.After}}</strong></td></tr>
+{{end}}</table>{{end}}
+{{if .Evidence}}<table cellpadding="2" cellspacing="0" style="margin:0 0 8px 0;color:#333333">
+{{range .Evidence}}<tr><td style="color:#555555;padding-right:12px">{{.Name}}</td><td>{{.After}}</td></tr>
+{{end}}</table>{{end}}
+{{if .CID}}<p style="margin:0 0 8px 0"><img src="cid:{{.CID}}" width="600" alt="scatter of cost against activity for {{.Object}}, with the previous and the new formula" style="max-width:100%;height:auto;border:1px solid #cccccc"></p>{{end}}
+{{if .Explain}}<p style="margin:0">To see more: <code style="background:#f2f2f2;padding:2px 4px">{{.Explain}}</code></p>{{end}}
+<p style="margin:0;color:#555555">Alert: <code>{{.Show}}</code></p>
+</td></tr>
+{{end}}
+<tr><td style="border-top:1px solid #999999;padding-top:12px;color:#555555;font-size:12px">{{range .Cautions}}<p style="margin:0 0 6px 0">{{.}}</p>{{end}}</td></tr>
+</table>
+</body></html>
+`))
+
+// HTML renders the HTML part: tables and inline styles only, no remote
+// content; charts are referenced by content id (cid:) and travel inside
+// the message. html/template escapes every value.
+func HTML(d Digest) (string, error) {
+	var b bytes.Buffer
+	if err := htmlTmpl.Execute(&b, newPage(d)); err != nil {
+		return "", fmt.Errorf("mail: html part: %w", err)
+	}
+	return b.String(), nil
+}
+
+// text shows an evidence value: strings as they are, whole numbers without
+// decimals, other numbers with up to four significant decimals.
+func text(v any) string {
+	switch x := v.(type) {
+	case nil:
+		return ""
+	case string:
+		return oneLine(x)
+	case bool:
+		return strconv.FormatBool(x)
+	case int:
+		return strconv.Itoa(x)
+	case int64:
+		return strconv.FormatInt(x, 10)
+	case float64:
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return ""
+		}
+		if x == math.Trunc(x) && math.Abs(x) < 1e15 {
+			return strconv.FormatFloat(x, 'f', 0, 64)
+		}
+		return strconv.FormatFloat(x, 'g', 6, 64)
+	}
+	return oneLine(fmt.Sprint(v))
+}
+
+func float(v any) (float64, bool) {
+	switch x := v.(type) {
+	case float64:
+		return x, !math.IsNaN(x) && !math.IsInf(x, 0)
+	case int:
+		return float64(x), true
+	case int64:
+		return float64(x), true
+	}
+	return 0, false
+}
+
+func fixed(v any, digits int) string {
+	f, ok := float(v)
+	if !ok {
+		return ""
+	}
+	return strconv.FormatFloat(f, 'f', digits, 64)
+}
+
+// number is an amount with two decimals.
+func number(v any) string { return fixed(v, 2) }
+
+// pValue shows p with three decimals, or "< 0.001".
+func pValue(v any) string {
+	f, ok := float(v)
+	if !ok {
+		return ""
+	}
+	if f < 0.001 {
+		return "< 0.001"
+	}
+	return strconv.FormatFloat(f, 'f', 3, 64)
+}
+
+// formula writes fixed + rate × driver, the cost per period.
+func formula(fixedPart, rate any, driver string) string {
+	f, okF := float(fixedPart)
+	r, okR := float(rate)
+	switch {
+	case !okF && !okR:
+		return "none"
+	case !okR || r == 0 || driver == "":
+		return number(f)
+	case !okF || f == 0:
+		return rateText(r) + " × " + words(driver)
+	}
+	return number(f) + " + " + rateText(r) + " × " + words(driver)
+}
+
+// rateText shows a rate with up to four decimals and at least two:
+// 14.48, 3.125, 0.0412.
+func rateText(r float64) string {
+	s := strconv.FormatFloat(r, 'f', 4, 64)
+	for strings.HasSuffix(s, "0") && len(s)-strings.IndexByte(s, '.') > 3 {
+		s = s[:len(s)-1]
+	}
+	return s
+}
+
+func words(s string) string { return strings.ReplaceAll(s, "_", " ") }
+
+func driverWords(s string) string {
+	if s == "" {
+		return "none"
+	}
+	return words(s)
+}
+
+// oneLine keeps a value from breaking the layout or a header: control
+// characters become spaces.
+func oneLine(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r < 0x20 || r == 0x7f {
+			return ' '
+		}
+		return r
+	}, s)
+}
+
+var shellSafe = regexp.MustCompile(`^[A-Za-z0-9_./:=@%+-]+$`)
+
+// shellQuote makes object one word for a POSIX shell, so the command can be
+// pasted as it stands.
+func shellQuote(s string) string {
+	if shellSafe.MatchString(s) {
+		return s
+	}
+	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
+}
