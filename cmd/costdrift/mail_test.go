@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"encoding/json"
 	"fmt"
-	"go/build"
 	"io"
 	"net"
 	"net/http"
@@ -15,6 +14,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
 
 	"github.com/costdrift/costdrift/internal/config"
 )
@@ -33,25 +34,7 @@ func runAt(t *testing.T, now time.Time, args ...string) string {
 	return out.String()
 }
 
-func mailpitPath(t *testing.T) string {
-	t.Helper()
-	if p, err := exec.LookPath("mailpit"); err == nil {
-		return p
-	}
-	gopath := os.Getenv("GOPATH")
-	if gopath == "" {
-		gopath = build.Default.GOPATH
-	}
-	p := filepath.Join(strings.Split(gopath, string(os.PathListSeparator))[0], "bin", "mailpit")
-	if _, err := os.Stat(p); err == nil {
-		return p
-	}
-	if os.Getenv("CI") == "true" {
-		t.Fatal("mailpit not found on PATH or in GOPATH/bin; CI must install it: go install github.com/axllent/mailpit@v1.33.1")
-	}
-	t.Skip("mailpit not found; install it to run the SMTP tests: go install github.com/axllent/mailpit@v1.33.1")
-	return ""
-}
+func mailpitPath(t *testing.T) string { return costdrifttest.Mailpit(t) }
 
 func loopbackPort(t *testing.T) int {
 	t.Helper()

@@ -11,7 +11,6 @@ import (
 	"encoding/json"
 	"encoding/pem"
 	"fmt"
-	"go/build"
 	"io"
 	"math/big"
 	"net"
@@ -23,35 +22,16 @@ import (
 	"testing"
 	"time"
 
+	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
+
 	gomail "github.com/wneessen/go-mail"
 )
 
 // The tests below talk to a real SMTP server: mailpit, started on free
 // loopback ports and read back through its HTTP API.
 
-const mailpitInstall = "go install github.com/axllent/mailpit@v1.33.1"
-
-// mailpitBinary finds mailpit on PATH or in $(go env GOPATH)/bin. Missing,
-// the test fails in CI (CI=true) and is skipped elsewhere.
-func mailpitBinary(t *testing.T) string {
-	t.Helper()
-	if p, err := exec.LookPath("mailpit"); err == nil {
-		return p
-	}
-	gopath := os.Getenv("GOPATH")
-	if gopath == "" {
-		gopath = build.Default.GOPATH
-	}
-	p := filepath.Join(strings.Split(gopath, string(os.PathListSeparator))[0], "bin", "mailpit")
-	if _, err := os.Stat(p); err == nil {
-		return p
-	}
-	if os.Getenv("CI") == "true" {
-		t.Fatalf("mailpit not found on PATH or in GOPATH/bin; CI must install it: %s", mailpitInstall)
-	}
-	t.Skipf("mailpit not found; install it to run the SMTP tests: %s", mailpitInstall)
-	return ""
-}
+// mailpitBinary finds mailpit (costdrifttest.Mailpit).
+func mailpitBinary(t *testing.T) string { return costdrifttest.Mailpit(t) }
 
 func freePort(t *testing.T) int {
 	t.Helper()
