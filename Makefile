@@ -3,7 +3,7 @@ GO      ?= go
 VERSION ?= $(shell git describe --tags --always --dirty 2>/dev/null || echo dev)
 LDFLAGS := -X main.version=$(VERSION)
 
-.PHONY: help build test demo lint mailpit crosscheck bench-sync bench-analyze ci
+.PHONY: help build test demo lint mailpit crosscheck bench-sync bench-analyze soak ci
 
 help: ## list the targets
 	@awk 'BEGIN {FS = ":.*## "} /^[a-z-]+:.*## / {printf "  %-14s %s\n", $$1, $$2}' $(MAKEFILE_LIST)
@@ -32,6 +32,9 @@ bench-sync: ## sync of a 1,000,000-line ledger against the sqlite3 shell's .impo
 
 bench-analyze: ## analysis of 10,000 objects x 30 drivers x 2 lags against a statsmodels loop and a numpy floor
 	bash scripts/bench-analyze/run.sh
+
+soak: build ## run the daemon 10 minutes with files arriving; sample goroutines, open files, RSS and Go heap (not in CI)
+	bash scripts/soak.sh 600 30
 
 ci: ## what CI runs: lint, test, demo
 	bash .ci/run

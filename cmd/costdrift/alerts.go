@@ -50,6 +50,21 @@ func (a *app) withStore(ctx context.Context, fn func(*env, *sqlite.DB) error) er
 	return fn(e, db)
 }
 
+// withStoreToWrite is withStore for a command that changes the store: it
+// holds the store's lock while it runs.
+func (a *app) withStoreToWrite(ctx context.Context, fn func(*env, *sqlite.DB) error) error {
+	e, err := a.loadConfig()
+	if err != nil {
+		return err
+	}
+	db, closeStore, err := a.openStoreToWrite(ctx, e, true)
+	if err != nil {
+		return err
+	}
+	defer closeStore()
+	return fn(e, db)
+}
+
 func checkFormat(format string) error {
 	if format != "table" && format != "json" {
 		return fmt.Errorf("--format must be table or json, not %q", format)
@@ -145,7 +160,7 @@ escalates.`,
 			if err != nil {
 				return err
 			}
-			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStoreToWrite(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				if until != "" {
 					if _, err := e.calendar.Parse(until); err != nil {
 						return fmt.Errorf("--until: %v; give a period of the %s calendar the store uses", err, e.calendar.Kind())

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"log/slog"
 	"slices"
 	"sort"
 	"strings"
@@ -37,11 +38,11 @@ changed since their last analysis are left as they were; --all refits them too.`
 			if err != nil {
 				return err
 			}
-			db, err := a.openStore(cmd.Context(), e, true)
+			db, closeStore, err := a.openStoreToWrite(cmd.Context(), e, true)
 			if err != nil {
 				return err
 			}
-			defer db.Close()
+			defer closeStore()
 			_, err = a.analyzeAll(cmd.Context(), e, db, a.out, all)
 			return err
 		},
@@ -113,7 +114,16 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	var fits []costdrift.Fit
 	behaviours := make([]costdrift.Behaviour, 0, len(results))
 	classes := map[costdrift.Class]int{}
+	failed := map[string]bool{}
 	for _, r := range results {
+		if r.Err != nil {
+			// A defect in one object's analysis skips that object; its
+			// previous behaviour stays and it is tried again next run.
+			failed[r.Behaviour.Object.String()] = true
+			slog.Error("cost object skipped", "object", r.Behaviour.Object.String(), "error", r.Err, "stack", r.Stack)
+			fmt.Fprintf(out, "analyze: %s skipped: %v\n", r.Behaviour.Object, r.Err)
+			continue
+		}
 		fits = append(fits, r.Fits...)
 		behaviours = append(behaviours, r.Behaviour)
 		classes[r.Behaviour.Class]++
@@ -123,7 +133,9 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings),
 	}
 	for _, o := range panel.Objects {
-		run.Inputs[o.Object.String()] = inputs[o.Object.String()]
+		if !failed[o.Object.String()] {
+			run.Inputs[o.Object.String()] = inputs[o.Object.String()]
+		}
 	}
 	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)

@@ -62,11 +62,11 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if err != nil {
 		return err
 	}
-	db, err := a.openStore(ctx, e, false)
+	db, closeStore, err := a.openStoreToWrite(ctx, e, false)
 	if err != nil {
 		return err
 	}
-	defer db.Close()
+	defer closeStore()
 	if _, err := syncAll(ctx, e, db, a.out); err != nil {
 		return err
 	}

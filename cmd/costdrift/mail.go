@@ -243,7 +243,7 @@ escalated since, or whose delivery failed and is due for a retry. With no
 mail.smtp.host the messages are written to the mail.outbox folder.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStoreToWrite(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				if len(e.cfg.Alerts.Recipients) == 0 {
 					return fmt.Errorf("alerts.recipients is empty in %s: nobody to send to", e.cfg.File)
 				}

@@ -54,3 +54,24 @@ func (a *app) openStore(ctx context.Context, e *env, mustExist bool) (*sqlite.DB
 	}
 	return db, nil
 }
+
+// openStoreToWrite takes the store's lock, then opens it; closing the
+// returned function closes the store and gives the lock up. Commands that
+// write (sync, analyze, alert changes, the daemon) use it, so that none of
+// them runs beside a daemon on the same store.
+func (a *app) openStoreToWrite(ctx context.Context, e *env, mustExist bool) (*sqlite.DB, func(), error) {
+	path := e.cfg.StorePath()
+	if mustExist && !sqlite.Exists(path) {
+		return nil, nil, fmt.Errorf("store %s does not exist yet: run `costdrift sync` first", path)
+	}
+	lock, err := lockStore(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	db, err := a.openStore(ctx, e, mustExist)
+	if err != nil {
+		lock.release()
+		return nil, nil, err
+	}
+	return db, func() { db.Close(); lock.release() }, nil
+}

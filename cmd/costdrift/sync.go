@@ -44,11 +44,11 @@ until you drop them with --forget.`,
 			if dryRun {
 				return a.dryRunSync(cmd.Context(), e)
 			}
-			db, err := a.openStore(cmd.Context(), e, len(forget) > 0)
+			db, closeStore, err := a.openStoreToWrite(cmd.Context(), e, len(forget) > 0)
 			if err != nil {
 				return err
 			}
-			defer db.Close()
+			defer closeStore()
 			if len(forget) > 0 {
 				return forgetFiles(cmd.Context(), e, db, forget, a.out)
 			}
@@ -135,7 +135,9 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 			return runs, err
 		}
 		notes, err := syncSource(ctx, e, db, j.role, j.src, &run)
-		if ferr := db.FinishSync(ctx, &run, err); ferr != nil && err == nil {
+		// Recorded even when ctx was cancelled (a stopping daemon), so that
+		// sync_runs does not claim the run is still going.
+		if ferr := db.FinishSync(context.WithoutCancel(ctx), &run, err); ferr != nil && err == nil {
 			err = ferr
 		}
 		runs = append(runs, run)

@@ -49,6 +49,12 @@ type Result struct {
 	Fits      []costdrift.Fit
 	Behaviour costdrift.Behaviour
 
+	// Err is set, by Panel, when the object's analysis panicked; Fits and
+	// Behaviour are then empty but for the object, which the caller skips.
+	// Stack is where the panic happened, for the log.
+	Err   error
+	Stack string
+
 	// The data the behaviour rests on, for the break test: the chosen
 	// driver's values (nil without a driver), the costs and their window
 	// positions.

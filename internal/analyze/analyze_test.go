@@ -234,3 +234,33 @@ func TestRandomCostRarelyGetsADriver(t *testing.T) {
 		t.Errorf("%.1f %% of random costs were given a driver, want at most 8 %%", 100*rate)
 	}
 }
+
+// A panic in one object's analysis is returned as that object's error and
+// the other objects are still analysed. A cost-centre driver series
+// shorter than the window breaks Panel's precondition for the one object of
+// that centre; it stands in for a defect.
+func TestPanicInOneObjectIsContained(t *testing.T) {
+	const n = 24
+	r := rand.New(rand.NewPCG(3, 4))
+	cost := make([]float64, n)
+	for i := range cost {
+		cost[i] = noisy(r, 4200, 0.02)
+	}
+	p := panelOf(n, cost)
+	broken := costdrift.CostObject{Account: "6300", CostCenter: "PAINT"}
+	p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: broken, Cost: cost})
+	p.Drivers = append(p.Drivers, costdrift.DriverSeries{Name: "paint_hours", CostCenter: "PAINT", Values: []float64{1, 2}})
+	results := Panel(p, defaults)
+	if len(results) != 2 {
+		t.Fatalf("%d results, want 2", len(results))
+	}
+	if results[0].Err != nil || results[0].Behaviour.Class != costdrift.Fixed {
+		t.Errorf("the sound object: err %v, class %q, want fixed", results[0].Err, results[0].Behaviour.Class)
+	}
+	if err := results[1].Err; err == nil || !strings.HasPrefix(err.Error(), "analyze 6300/PAINT: internal error: ") {
+		t.Errorf("the broken object: err %v", err)
+	}
+	if results[1].Behaviour.Object != broken || len(results[1].Fits) != 0 || !strings.Contains(results[1].Stack, "objectRecovered") {
+		t.Errorf("the broken object's result: %+v", results[1].Behaviour)
+	}
+}

@@ -1,7 +1,9 @@
 package analyze
 
 import (
+	"fmt"
 	"runtime"
+	"runtime/debug"
 	"sync"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -18,7 +20,7 @@ func Panel(p *costdrift.Panel, s Settings) []Result {
 		go func() {
 			defer wg.Done()
 			for i := range work {
-				results[i] = Object(p, &p.Objects[i], s)
+				results[i] = objectRecovered(p, &p.Objects[i], s)
 			}
 		}()
 	}
@@ -28,4 +30,18 @@ func Panel(p *costdrift.Panel, s Settings) []Result {
 	close(work)
 	wg.Wait()
 	return results
+}
+
+// objectRecovered is Object, except that a panic in one object's analysis
+// (a defect, never an expected outcome) is caught and returned as the
+// result's Err, so that the other objects of the panel are still analysed.
+// The result then holds only the object's name.
+func objectRecovered(p *costdrift.Panel, o *costdrift.ObjectSeries, s Settings) (r Result) {
+	defer func() {
+		if v := recover(); v != nil {
+			r = Result{Behaviour: costdrift.Behaviour{Object: o.Object},
+				Err: fmt.Errorf("analyze %s: internal error: %v", o.Object, v), Stack: string(debug.Stack())}
+		}
+	}()
+	return Object(p, o, s)
 }

@@ -17,6 +17,7 @@ type Config struct {
 	Mail     Mail     `mapstructure:"mail"`
 	Schedule Schedule `mapstructure:"schedule"`
 	HTTP     HTTP     `mapstructure:"http"`
+	Log      Log      `mapstructure:"log"`
 
 	// File is the path the config was loaded from; relative paths in the
 	// config are relative to its folder.
@@ -141,6 +142,15 @@ type Schedule struct {
 // HTTP is the optional health and metrics listener.
 type HTTP struct {
 	Listen string `mapstructure:"listen"`
+	// AllowRemote permits a listen address other than loopback; the
+	// endpoints carry no secrets but say how the books are doing.
+	AllowRemote bool `mapstructure:"allow_remote"`
+}
+
+// Log is how the daemon writes its log lines.
+type Log struct {
+	Format string `mapstructure:"format"` // text | json
+	Level  string `mapstructure:"level"`  // debug | info | warn | error
 }
 
 // Path resolves p against the folder of the config file; absolute paths are

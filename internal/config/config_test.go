@@ -91,6 +91,14 @@ func TestLoadErrors(t *testing.T) {
 			`sources.ledger[0].date_format: "DD/MM/YY" must contain YYYY, MM and DD, e.g. DD.MM.YYYY (FILE)`},
 		{"bad tls", "mail:\n  smtp:\n    tls: maybe\n", `mail.smtp.tls: must be starttls, tls or none, not "maybe" (FILE)`},
 		{"bad time zone", "schedule:\n  timezone: Mars/Olympus\n", `schedule.timezone: "Mars/Olympus" is not a known time zone (e.g. UTC, Europe/Oslo) (FILE)`},
+		{"bad cron", "schedule:\n  cron: \"0 6 * *\"\n",
+			`schedule.cron: "0 6 * *" is not a cron expression (five fields such as "0 6 * * *", an optional leading seconds field, or @every 30s): expected 5 to 6 fields, found 4: [0 6 * *] (FILE)`},
+		{"remote listen", "http:\n  listen: 0.0.0.0:9464\n",
+			`http.listen: "0.0.0.0:9464" is not a loopback address; set http.allow_remote: true to listen beyond this machine (FILE)`},
+		{"every interface", "http:\n  listen: \":9464\"\n",
+			`http.listen: ":9464" is not a loopback address; set http.allow_remote: true to listen beyond this machine (FILE)`},
+		{"bad log format", "log:\n  format: xml\n", `log.format: must be text or json, not "xml" (FILE)`},
+		{"bad log level", "log:\n  level: loud\n", `log.level: must be debug, info, warn or error, not "loud" (FILE)`},
 		{"lag twice", "analysis:\n  lags: [0, 0]\n", "analysis.lags: lag 0 is listed twice (FILE)"},
 		{"bad calendar period", "calendar:\n  period: quarter\n", `calendar.period: must be month, week, 4-4-5, 4-5-4 or 5-4-4, not "quarter" (FILE)`},
 	}
@@ -167,6 +175,24 @@ func TestGoDateLayout(t *testing.T) {
 		got, err := GoDateLayout(in)
 		if err != nil || got != want {
 			t.Errorf("GoDateLayout(%q) = %q, %v; want %q", in, got, err, want)
+		}
+	}
+}
+
+// Schedules the daemon accepts: five fields, a leading seconds field, a
+// descriptor; a remote listener is allowed once http.allow_remote says so.
+func TestScheduleAndListenAccepted(t *testing.T) {
+	for _, yaml := range []string{
+		"schedule:\n  cron: \"30 0 6 * * *\"\n",
+		"schedule:\n  cron: \"@every 30s\"\n",
+		"schedule:\n  cron: \"@daily\"\n  timezone: Europe/Oslo\n",
+		"http:\n  listen: \"[::1]:9464\"\n",
+		"http:\n  listen: localhost:9464\n",
+		"http:\n  listen: 0.0.0.0:9464\n  allow_remote: true\n",
+		"log:\n  format: json\n  level: debug\n",
+	} {
+		if _, err := Load(writeConfig(t, yaml)); err != nil {
+			t.Errorf("%q: %v", yaml, err)
 		}
 	}
 }

@@ -1,7 +1,8 @@
 // Package config owns costdrift's one configuration file: the typed Config,
 // its defaults, loading through viper (with COSTDRIFT_* environment
 // overrides), validation with errors that name the key and the file, and the
-// commented starter file that `costdrift init` writes.
+// commented starter file that `costdrift init` writes, and the parser of
+// schedule.cron that the daemon schedules with (so what validates, runs).
 //
 // It must not open the store, read sources or log; callers decide what to do
 // with a config that failed to load.

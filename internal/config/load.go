@@ -43,6 +43,9 @@ var defaults = map[string]any{
 	"schedule.cron":                 "0 6 * * *",
 	"schedule.timezone":             "UTC",
 	"http.listen":                   "",
+	"http.allow_remote":             false,
+	"log.format":                    "text",
+	"log.level":                     "info",
 }
 
 // Default returns the configuration with every default applied and no sources.

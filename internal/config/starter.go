@@ -70,9 +70,15 @@ mail:
   outbox: outbox
 
 schedule:
-  cron: "0 6 * * *"            # every day at 06:00
+  cron: "0 6 * * *"            # every day at 06:00; an optional leading seconds
+                               # field and @every 30s, @hourly, @daily also work
   timezone: UTC
 
 http:
   listen: ""                   # e.g. 127.0.0.1:9464 for /healthz and /metrics
+  allow_remote: false          # true to listen on an address other than loopback
+
+log:
+  format: text                 # text | json
+  level: info                  # debug | info | warn | error
 `

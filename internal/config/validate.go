@@ -177,10 +177,27 @@ func (c *Config) validate() *Error {
 	if _, err := time.LoadLocation(c.Schedule.Timezone); err != nil {
 		return bad("schedule.timezone", "%q is not a known time zone (e.g. UTC, Europe/Oslo)", c.Schedule.Timezone)
 	}
+	if _, err := CronParser.Parse(c.Schedule.Cron); err != nil {
+		return bad("schedule.cron", "%q is not a cron expression (five fields such as \"0 6 * * *\", an optional leading seconds field, or @every 30s): %v", c.Schedule.Cron, err)
+	}
 	if c.HTTP.Listen != "" {
-		if _, _, err := net.SplitHostPort(c.HTTP.Listen); err != nil {
+		host, _, err := net.SplitHostPort(c.HTTP.Listen)
+		if err != nil {
 			return bad("http.listen", "must be host:port such as 127.0.0.1:9464, not %q", c.HTTP.Listen)
 		}
+		if !c.HTTP.AllowRemote && !isLoopback(host) {
+			return bad("http.listen", "%q is not a loopback address; set http.allow_remote: true to listen beyond this machine", c.HTTP.Listen)
+		}
+	}
+	switch c.Log.Format {
+	case "text", "json":
+	default:
+		return bad("log.format", "must be text or json, not %q", c.Log.Format)
+	}
+	switch c.Log.Level {
+	case "debug", "info", "warn", "error":
+	default:
+		return bad("log.level", "must be debug, info, warn or error, not %q", c.Log.Level)
 	}
 	return nil
 }
@@ -254,4 +271,14 @@ func contains(list []string, s string) bool {
 		}
 	}
 	return false
+}
+
+// isLoopback reports whether host names only this machine; an empty host
+// (":9464") listens on every interface and so is not loopback.
+func isLoopback(host string) bool {
+	if host == "localhost" {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
 }

@@ -1,0 +1,63 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"net/http"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus/promhttp"
+)
+
+// healthJSON is the body of /healthz.
+type healthJSON struct {
+	Status      string `json:"status"` // ok | unhealthy
+	Reason      string `json:"reason"`
+	LastCycle   int64  `json:"last_cycle,omitempty"`
+	LastStatus  string `json:"last_status,omitempty"`
+	LastError   string `json:"last_error,omitempty"`
+	LastSuccess string `json:"last_success,omitempty"` // RFC 3339, UTC
+	MaxAge      string `json:"max_age"`                // two schedule intervals
+}
+
+func (d *daemon) handler() http.Handler {
+	mux := http.NewServeMux()
+	mux.HandleFunc("GET /healthz", func(w http.ResponseWriter, r *http.Request) {
+		h, ok := d.health(time.Now())
+		w.Header().Set("Content-Type", "application/json")
+		if !ok {
+			w.WriteHeader(http.StatusServiceUnavailable)
+		}
+		json.NewEncoder(w).Encode(h)
+	})
+	mux.Handle("GET /metrics", promhttp.HandlerFor(d.m.reg, promhttp.HandlerOpts{}))
+	return mux
+}
+
+// health is healthy while the latest finished cycle succeeded and finished
+// within two schedule intervals of now: one missed tick is tolerated, two
+// are not.
+func (d *daemon) health(now time.Time) (healthJSON, bool) {
+	d.mu.Lock()
+	defer d.mu.Unlock()
+	next := d.plan.Next(now)
+	maxAge := 2 * d.plan.Next(next).Sub(next)
+	h := healthJSON{MaxAge: maxAge.String(), LastCycle: d.last.ID, LastStatus: d.last.Status, LastError: d.last.Error}
+	if !d.good.IsZero() {
+		h.LastSuccess = d.good.UTC().Format(time.RFC3339)
+	}
+	h.Status = "unhealthy"
+	switch {
+	case d.last.ID == 0:
+		h.Reason = "no cycle has finished yet"
+	case d.last.Status != "ok":
+		h.Reason = "the latest cycle failed"
+	case now.Sub(d.good) > maxAge:
+		h.Reason = fmt.Sprintf("the latest successful cycle finished %s ago, more than two schedule intervals (%s)",
+			now.Sub(d.good).Round(time.Second), maxAge)
+	default:
+		h.Status, h.Reason = "ok", "the latest cycle succeeded on time"
+		return h, true
+	}
+	return h, false
+}

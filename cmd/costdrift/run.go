@@ -1,0 +1,409 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"log/slog"
+	"net"
+	"net/http"
+	"os"
+	"os/signal"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"syscall"
+	"time"
+
+	"github.com/robfig/cron/v3"
+	"github.com/spf13/cobra"
+
+	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+// stopTimeout bounds how long a stopping daemon waits for the running cycle
+// to roll back its open transaction; a rollback takes milliseconds, so
+// reaching it means something is stuck.
+const stopTimeout = 30 * time.Second
+
+func (a *app) runCommand() *cobra.Command {
+	var once bool
+	cmd := &cobra.Command{
+		Use:   "run",
+		Short: "Run as a daemon: sync, analyse, alert and mail on schedule.cron",
+		Long: `run keeps costdrift going beside the ledger: on every tick of schedule.cron it
+runs one cycle, the same steps as ` + "`costdrift sync`" + ` then ` + "`costdrift analyze`" + ` (which
+raises alerts and mails them). It holds the store's lock while it runs, so no
+other writing command or second daemon works on the same store.
+
+SIGINT or SIGTERM: no new cycles; the running one rolls its open transaction
+back; the daemon exits 0. SIGHUP: the config file is read again; a config
+that does not load is logged and the running one is kept.
+
+With http.listen set, /healthz answers 200 while the latest cycle succeeded
+within two schedule intervals (503 otherwise) and /metrics gives Prometheus
+metrics.`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			e, err := a.loadConfig()
+			if err != nil {
+				return err
+			}
+			level := new(slog.LevelVar)
+			log := newLogger(a.errw, e.cfg.Log, level)
+			// What the shared steps log (a skipped cost object) goes the
+			// same way as the daemon's own lines.
+			slog.SetDefault(log)
+			ctx := cmd.Context()
+			db, closeStore, err := a.openStoreToWrite(ctx, e, false)
+			if err != nil {
+				return err
+			}
+			if once {
+				defer closeStore()
+				_, err := a.cycle(ctx, e, db, log, nil)
+				return err
+			}
+			d := &daemon{a: a, e: e, db: db, log: log, level: level, m: newMetrics()}
+			err = d.run(ctx)
+			closeStore() // last: the cycle and the listener are done with it
+			if err == nil {
+				log.Info("stopped")
+			}
+			return err
+		},
+	}
+	cmd.Flags().BoolVar(&once, "once", false, "run one cycle now and exit (status 1 when it failed)")
+	return cmd
+}
+
+// newLogger writes log lines as text or JSON per log.format.
+func newLogger(w io.Writer, cfg config.Log, level *slog.LevelVar) *slog.Logger {
+	level.Set(logLevel(cfg.Level))
+	opts := &slog.HandlerOptions{Level: level}
+	if cfg.Format == "json" {
+		return slog.New(slog.NewJSONHandler(w, opts))
+	}
+	return slog.New(slog.NewTextHandler(w, opts))
+}
+
+func logLevel(name string) slog.Level {
+	switch name {
+	case "debug":
+		return slog.LevelDebug
+	case "warn":
+		return slog.LevelWarn
+	case "error":
+		return slog.LevelError
+	}
+	return slog.LevelInfo
+}
+
+// cycle is one scheduled pass: every source synced, then the analysis with
+// its alerts and mail, exactly as `costdrift sync` and `costdrift analyze`
+// do it. A failing source fails its part and the analysis still runs on
+// what the store holds; the cycle is recorded in the store's cycles table.
+// m may be nil (run --once exports no metrics).
+func (a *app) cycle(ctx context.Context, e *env, db *sqlite.DB, log *slog.Logger, m *metrics) (costdrift.Cycle, error) {
+	c := costdrift.Cycle{Stages: map[string]time.Duration{}}
+	if err := db.BeginCycle(ctx, &c); err != nil {
+		log.Error("cycle could not start", "error", err)
+		return c, err
+	}
+	start := time.Now()
+	log.Info("cycle started", "cycle", c.ID)
+	var failed []string
+
+	t := time.Now()
+	runs, err := syncAll(ctx, e, db, io.Discard)
+	c.Stages["sync"] = time.Since(t)
+	var loaded, rejected, read, files int
+	for _, r := range runs {
+		read += r.RowsRead
+		loaded += r.RowsLoaded
+		rejected += r.RowsRejected
+		files += r.Files
+		lvl := slog.LevelInfo
+		if r.Status != "ok" {
+			lvl = slog.LevelWarn
+		}
+		log.Log(ctx, lvl, "source synced", "cycle", c.ID, "source", r.Source, "role", string(r.Role), "kind", r.Kind,
+			"status", r.Status, "files", r.Files, "files_skipped", r.FilesSkipped, "rows_read", r.RowsRead,
+			"rows_loaded", r.RowsLoaded, "rows_rejected", r.RowsRejected, "error", r.Error)
+	}
+	if m != nil {
+		m.rowsSynced.Add(float64(loaded))
+		m.rowsRejected.Add(float64(rejected))
+		m.stageSeconds.WithLabelValues("sync").Observe(c.Stages["sync"].Seconds())
+	}
+	syncStatus := "ok"
+	if err != nil {
+		syncStatus = "failed"
+		failed = append(failed, "sync: "+oneLineError(err))
+	}
+	log.Info("stage finished", "cycle", c.ID, "stage", "sync", "status", syncStatus, "sources", len(runs),
+		"files", files, "rows_read", read, "rows_loaded", loaded, "rows_rejected", rejected,
+		"duration", c.Stages["sync"].Round(time.Millisecond))
+
+	if ctx.Err() == nil {
+		t = time.Now()
+		run, err := a.analyzeAll(ctx, e, db, io.Discard, false)
+		c.Stages["analyze"] = time.Since(t)
+		if m != nil {
+			m.stageSeconds.WithLabelValues("analyze").Observe(c.Stages["analyze"].Seconds())
+		}
+		attrs := []any{"cycle", c.ID, "stage", "analyze", "status", "ok", "duration", c.Stages["analyze"].Round(time.Millisecond)}
+		if err != nil {
+			failed = append(failed, oneLineError(err))
+			attrs[5] = "failed"
+			attrs = append(attrs, "error", oneLineError(err))
+		} else {
+			attrs = append(attrs, "objects", run.Objects, "unchanged", run.Skipped, "window_to", run.WindowTo)
+		}
+		if ctx.Err() == nil {
+			attrs = append(attrs, alertAttrs(ctx, db, m)...)
+		}
+		log.Info("stage finished", attrs...)
+	}
+
+	var cause error
+	switch {
+	case ctx.Err() != nil:
+		cause = errors.New("interrupted: the daemon was stopped; the open transaction was rolled back")
+	case len(failed) > 0:
+		cause = errors.New(strings.Join(failed, "; "))
+	}
+	// The cycle's own context may be cancelled by now; its record is still
+	// written, briefly.
+	rec, cancel := context.WithTimeout(context.WithoutCancel(ctx), 5*time.Second)
+	defer cancel()
+	if err := db.FinishCycle(rec, &c, cause); err != nil {
+		log.Error("cycle not recorded", "cycle", c.ID, "error", err)
+	}
+	total := time.Since(start)
+	if m != nil {
+		m.stageSeconds.WithLabelValues("cycle").Observe(total.Seconds())
+		m.cycles.WithLabelValues(c.Status).Inc()
+		if cause == nil {
+			m.lastSuccess.Set(float64(time.Now().Unix()))
+		}
+	}
+	if cause != nil {
+		log.Error("cycle finished", "cycle", c.ID, "status", c.Status, "duration", total.Round(time.Millisecond), "error", cause.Error())
+		return c, fmt.Errorf("cycle %d failed: %w", c.ID, cause)
+	}
+	log.Info("cycle finished", "cycle", c.ID, "status", c.Status, "duration", total.Round(time.Millisecond))
+	return c, nil
+}
+
+// alertAttrs counts the open alerts by kind and the failing deliveries,
+// for the cycle's log line and the metrics.
+func alertAttrs(ctx context.Context, db *sqlite.DB, m *metrics) []any {
+	open, err := db.Alerts(ctx, sqlite.AlertFilter{Status: costdrift.AlertOpen})
+	if err != nil {
+		return []any{"alerts_error", err.Error()}
+	}
+	byKind := map[costdrift.AlertKind]int{}
+	for _, al := range open {
+		byKind[al.Kind]++
+	}
+	failing := 0
+	if past, err := db.Deliveries(ctx, ""); err == nil {
+		for _, byRecipient := range past {
+			for _, d := range byRecipient {
+				if d.Status == sqlite.DeliveryFailed {
+					failing++
+				}
+			}
+		}
+	}
+	if m != nil {
+		m.alertsOpen.Reset()
+		for _, k := range costdrift.AlertKinds() {
+			m.alertsOpen.WithLabelValues(string(k)).Set(float64(byKind[k]))
+		}
+		m.deliveryFailing.Set(float64(failing))
+	}
+	return []any{"alerts_open", len(open), "deliveries_failing", failing}
+}
+
+// daemon is `costdrift run` between its start and its stop.
+type daemon struct {
+	a     *app
+	db    *sqlite.DB
+	log   *slog.Logger
+	level *slog.LevelVar
+	m     *metrics
+	busy  atomic.Bool // a cycle is running
+
+	mu    sync.Mutex // guards the fields below
+	e     *env       // the config in force; a reload replaces it
+	cron  *cron.Cron
+	entry cron.EntryID
+	plan  cron.Schedule
+	last  costdrift.Cycle // the latest finished cycle
+	good  time.Time       // when the latest successful cycle finished
+}
+
+// run schedules cycles until ctx ends, then stops in order: no new ticks,
+// the running cycle rolled back, the listener shut; the caller closes the
+// store.
+func (d *daemon) run(ctx context.Context) error {
+	plan, err := d.e.cfg.Schedule.Plan()
+	if err != nil {
+		return err // validated with the config
+	}
+	d.plan = plan // before the listener, which reads it
+	d.seedHealth(ctx)
+
+	var srv *http.Server
+	if addr := d.e.cfg.HTTP.Listen; addr != "" {
+		ln, err := net.Listen("tcp", addr)
+		if err != nil {
+			return fmt.Errorf("http.listen %s: %w", addr, err)
+		}
+		srv = &http.Server{Handler: d.handler(), ReadHeaderTimeout: 5 * time.Second}
+		go func() {
+			if err := srv.Serve(ln); err != nil && !errors.Is(err, http.ErrServerClosed) {
+				d.log.Error("http listener stopped", "error", err)
+			}
+		}()
+		d.log.Info("http listening", "address", ln.Addr().String())
+	}
+
+	hup := make(chan os.Signal, 1)
+	signal.Notify(hup, syscall.SIGHUP)
+	defer signal.Stop(hup)
+
+	d.mu.Lock()
+	d.cron = cron.New(cron.WithParser(config.CronParser))
+	d.entry = d.cron.Schedule(plan, cron.FuncJob(func() { d.tick(ctx) }))
+	d.cron.Start()
+	d.mu.Unlock()
+	d.log.Info("daemon started", "pid", os.Getpid(), "config", d.a.configPath, "store", d.e.cfg.StorePath(),
+		"schedule", d.e.cfg.Schedule.Cron, "timezone", d.e.cfg.Schedule.Timezone, "next", plan.Next(time.Now()).UTC().Format(time.RFC3339))
+
+loop:
+	for {
+		select {
+		case <-ctx.Done():
+			break loop
+		case <-hup:
+			d.reload(ctx)
+		}
+	}
+
+	d.log.Info("stopping: no new cycles; a running cycle rolls back its open transaction")
+	stopped := d.cron.Stop()
+	var stuck error
+	select {
+	case <-stopped.Done():
+	case <-time.After(stopTimeout):
+		stuck = fmt.Errorf("the running cycle did not stop within %s", stopTimeout)
+		d.log.Error("stop timed out", "error", stuck)
+	}
+	if srv != nil {
+		shut, cancel := context.WithTimeout(context.WithoutCancel(ctx), 5*time.Second)
+		defer cancel()
+		srv.Shutdown(shut)
+	}
+	return stuck
+}
+
+// tick runs a cycle unless the previous one still runs.
+func (d *daemon) tick(ctx context.Context) {
+	if ctx.Err() != nil {
+		return
+	}
+	if !d.busy.CompareAndSwap(false, true) {
+		d.m.ticksSkipped.Inc()
+		d.log.Warn("tick skipped: the previous cycle is still running")
+		return
+	}
+	defer d.busy.Store(false)
+	d.mu.Lock()
+	e := d.e
+	d.mu.Unlock()
+	c, err := d.a.cycle(ctx, e, d.db, d.log, d.m)
+	if c.ID == 0 {
+		return // not even started; logged
+	}
+	d.mu.Lock()
+	d.last = c
+	if err == nil {
+		d.good = c.FinishedAt
+	}
+	d.mu.Unlock()
+}
+
+// seedHealth takes the latest cycles from the store, so that a restarted
+// daemon is healthy as long as its predecessor's latest cycle is recent.
+func (d *daemon) seedHealth(ctx context.Context) {
+	cycles, err := d.db.Cycles(ctx, 50)
+	if err != nil {
+		d.log.Warn("cycle history unreadable", "error", err)
+		return
+	}
+	for _, c := range cycles {
+		if c.Status == "running" {
+			continue
+		}
+		if d.last.ID == 0 {
+			d.last = c
+		}
+		if c.Status == "ok" {
+			d.good = c.FinishedAt
+			d.m.lastSuccess.Set(float64(c.FinishedAt.Unix()))
+			break
+		}
+	}
+}
+
+// reload reads the config file again. A config that does not load, or one
+// that would move the daemon to another store, currency or calendar, is
+// refused and the running one kept.
+func (d *daemon) reload(ctx context.Context) {
+	keep := func(why string, err error) {
+		d.log.Error("config reload failed; keeping the running config", "file", d.a.configPath, "reason", why, "error", err)
+	}
+	e, err := d.a.loadConfig()
+	if err != nil {
+		keep("the new config does not load", err)
+		return
+	}
+	d.mu.Lock()
+	defer d.mu.Unlock()
+	old := d.e
+	switch {
+	case e.cfg.StorePath() != old.cfg.StorePath():
+		keep("store changed", fmt.Errorf("store %s -> %s needs a restart", old.cfg.StorePath(), e.cfg.StorePath()))
+		return
+	case e.currency.Code != old.currency.Code:
+		keep("currency changed", fmt.Errorf("currency %s -> %s needs a restart", old.currency.Code, e.currency.Code))
+		return
+	}
+	if err := d.db.CheckCalendar(ctx, e.calendar.Kind()); err != nil {
+		keep("calendar does not match the store", err)
+		return
+	}
+	plan, err := e.cfg.Schedule.Plan()
+	if err != nil {
+		keep("schedule", err)
+		return
+	}
+	if e.cfg.Schedule != old.cfg.Schedule {
+		d.cron.Remove(d.entry)
+		d.entry = d.cron.Schedule(plan, cron.FuncJob(func() { d.tick(ctx) }))
+		d.plan = plan
+	}
+	if e.cfg.HTTP != old.cfg.HTTP || e.cfg.Log.Format != old.cfg.Log.Format {
+		d.log.Warn("http and log.format changes take effect at the next start")
+	}
+	d.level.Set(logLevel(e.cfg.Log.Level))
+	d.e = e
+	d.log.Info("config reloaded", "file", d.a.configPath, "schedule", e.cfg.Schedule.Cron, "timezone", e.cfg.Schedule.Timezone,
+		"sources", len(e.cfg.Sources.Ledger)+len(e.cfg.Sources.Activity)+len(e.cfg.Sources.Accounts))
+}

@@ -1,0 +1,381 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"io"
+	"log/slog"
+	"net"
+	"net/http"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"sync"
+	"syscall"
+	"testing"
+	"time"
+
+	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// logBuffer collects a child's log lines while the test reads them.
+type logBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (l *logBuffer) Write(p []byte) (int, error) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.b.Write(p)
+}
+
+func (l *logBuffer) String() string {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.b.String()
+}
+
+// count of lines holding s.
+func (l *logBuffer) count(s string) int { return strings.Count(l.String(), s) }
+
+// daemonConfig rewrites the starter config of setup to tick every second
+// and, with listen set, to serve /healthz and /metrics there.
+func daemonConfig(t *testing.T, cfg, listen string) {
+	t.Helper()
+	text, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := strings.Replace(string(text), `cron: "0 6 * * *"`, `cron: "@every 1s"`, 1)
+	if listen != "" {
+		s = strings.Replace(s, `listen: ""`, fmt.Sprintf("listen: %q", listen), 1)
+	}
+	if s == string(text) {
+		t.Fatal("starter config has no schedule.cron line to rewrite")
+	}
+	writeFile(t, cfg, s)
+}
+
+// freePort is a loopback address nothing listens on at the moment.
+func freePort(t *testing.T) string {
+	t.Helper()
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	addr := ln.Addr().String()
+	ln.Close()
+	return addr
+}
+
+// command runs the test binary as costdrift with args.
+func command(args ...string) *exec.Cmd {
+	cmd := exec.Command(os.Args[0], args...)
+	cmd.Env = append(os.Environ(), "COSTDRIFT_TEST_AS_COMMAND=1")
+	return cmd
+}
+
+// startDaemon starts `costdrift run` and waits for it to say it started.
+func startDaemon(t *testing.T, cfg string) (*exec.Cmd, *logBuffer) {
+	t.Helper()
+	logs := &logBuffer{}
+	cmd := command("--config", cfg, "run")
+	cmd.Stdout, cmd.Stderr = logs, logs
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() {
+		if cmd.ProcessState == nil {
+			cmd.Process.Kill()
+			cmd.Wait()
+		}
+	})
+	waitFor(t, 5*time.Second, "the daemon to start", func() bool { return logs.count("daemon started") == 1 }, logs)
+	return cmd, logs
+}
+
+func waitFor(t *testing.T, limit time.Duration, what string, cond func() bool, logs *logBuffer) {
+	t.Helper()
+	deadline := time.Now().Add(limit)
+	for !cond() {
+		if time.Now().After(deadline) {
+			t.Fatalf("waited %s for %s\nlog:\n%s", limit, what, logs)
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+}
+
+// stop sends SIGTERM and requires exit status 0 within the daemon's bound.
+func stop(t *testing.T, cmd *exec.Cmd, logs *logBuffer) {
+	t.Helper()
+	if err := cmd.Process.Signal(syscall.SIGTERM); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- cmd.Wait() }()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Fatalf("daemon exited with %v after SIGTERM, want status 0\nlog:\n%s", err, logs)
+		}
+	case <-time.After(10 * time.Second):
+		t.Fatalf("daemon still running 10 s after SIGTERM\nlog:\n%s", logs)
+	}
+}
+
+func get(t *testing.T, url string) (int, string) {
+	t.Helper()
+	resp, err := http.Get(url)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer resp.Body.Close()
+	body, err := io.ReadAll(resp.Body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return resp.StatusCode, string(body)
+}
+
+// One daemon ticking every second, watched from outside as an operator
+// would: files dropped into the source folder reach the store within two
+// ticks; a second daemon and a sync are refused with the holder's pid;
+// /healthz and /metrics answer; SIGHUP with a broken config keeps the old
+// one; SIGTERM exits 0.
+func TestDaemon(t *testing.T) {
+	cfg, dir := setup(t, "")
+	addr := freePort(t)
+	daemonConfig(t, cfg, addr)
+	store := filepath.Join(dir, "costdrift.db")
+	d, logs := startDaemon(t, cfg)
+	pid := fmt.Sprint(d.Process.Pid)
+
+	t.Run("healthz before any cycle", func(t *testing.T) {
+		// A fresh store has no cycle yet: unhealthy, and the body says why.
+		code, body := get(t, "http://"+addr+"/healthz")
+		if code != http.StatusServiceUnavailable || !strings.Contains(body, `"reason":"no cycle has finished yet"`) {
+			t.Errorf("GET /healthz before a cycle: %d %s", code, body)
+		}
+	})
+
+	t.Run("dropped files appear within two ticks", func(t *testing.T) {
+		text, _ := killPart(0, 0, 50)
+		writeFile(t, filepath.Join(dir, "data", "gl", "drop-1.csv"), text)
+		dropped := time.Now()
+		waitFor(t, 2*time.Second+500*time.Millisecond, "drop-1.csv in the store", func() bool {
+			return count(t, store, "SELECT COUNT(*) FROM gl_lines WHERE entry_id LIKE 'F0-%'") == 50
+		}, logs)
+		t.Logf("stored %v after the drop", time.Since(dropped).Round(time.Millisecond))
+		if n := count(t, store, "SELECT COUNT(*) FROM source_files WHERE path LIKE '%drop-1.csv'"); n != 1 {
+			t.Errorf("drop-1.csv recorded %d times in source_files, want 1", n)
+		}
+	})
+
+	t.Run("healthz and metrics", func(t *testing.T) {
+		waitFor(t, 3*time.Second, "a successful cycle", func() bool { return logs.count(`msg="cycle finished"`) > 0 }, logs)
+		code, body := get(t, "http://"+addr+"/healthz")
+		var h healthJSON
+		if err := json.Unmarshal([]byte(body), &h); err != nil {
+			t.Fatalf("/healthz body %q: %v", body, err)
+		}
+		// @every 1s: two intervals are 2 s.
+		if code != http.StatusOK || h.Status != "ok" || h.LastStatus != "ok" || h.MaxAge != "2s" {
+			t.Errorf("GET /healthz: %d %+v\nlog:\n%s", code, h, logs)
+		}
+		code, body = get(t, "http://"+addr+"/metrics")
+		if code != http.StatusOK {
+			t.Fatalf("GET /metrics: %d", code)
+		}
+		for _, want := range []string{"costdrift_rows_synced_total ", `costdrift_stage_duration_seconds_count{stage="sync"}`,
+			`costdrift_alerts_open{kind="source_failure"}`, "costdrift_deliveries_failing 0", "go_goroutines ", "process_open_fds "} {
+			if !strings.Contains(body, want) {
+				t.Errorf("/metrics lacks %q", want)
+			}
+		}
+		var synced, okCycles float64
+		for _, line := range strings.Split(body, "\n") {
+			fmt.Sscanf(line, "costdrift_rows_synced_total %g", &synced)
+			fmt.Sscanf(line, `costdrift_cycles_total{status="ok"} %g`, &okCycles)
+		}
+		// The 50 dropped rows and the starter's activity and account rows.
+		if synced < 50 || okCycles < 1 {
+			t.Errorf("/metrics: rows synced %g (want >= 50), ok cycles %g (want >= 1)", synced, okCycles)
+		}
+	})
+
+	t.Run("second daemon refused", func(t *testing.T) {
+		for _, args := range [][]string{{"run"}, {"sync"}, {"run", "--once"}} {
+			out, err := command(append([]string{"--config", cfg}, args...)...).CombinedOutput()
+			want := "is in use by process " + pid + " "
+			if err == nil || !strings.Contains(string(out), want) {
+				t.Errorf("costdrift %s beside the daemon: %v\n%s\nwant a refusal containing %q", strings.Join(args, " "), err, out, want)
+			}
+		}
+	})
+
+	t.Run("SIGHUP with a broken config keeps the old one", func(t *testing.T) {
+		good, err := os.ReadFile(cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		writeFile(t, cfg, strings.Replace(string(good), `cron: "@every 1s"`, `cron: "every second"`, 1))
+		if err := d.Process.Signal(syscall.SIGHUP); err != nil {
+			t.Fatal(err)
+		}
+		waitFor(t, 3*time.Second, "the reload to be refused", func() bool {
+			return logs.count("config reload failed; keeping the running config") == 1
+		}, logs)
+		if !strings.Contains(logs.String(), `schedule.cron: \"every second\" is not a cron expression`) {
+			t.Errorf("the refusal does not say why:\n%s", logs)
+		}
+		// Still ticking on the old schedule: two more cycles within about two seconds.
+		before := logs.count(`msg="cycle finished"`)
+		waitFor(t, 3*time.Second, "two more cycles", func() bool { return logs.count(`msg="cycle finished"`) >= before+2 }, logs)
+		writeFile(t, cfg, string(good))
+	})
+
+	t.Run("SIGTERM exits 0", func(t *testing.T) {
+		stop(t, d, logs)
+		if n := count(t, store, "SELECT COUNT(*) FROM cycles WHERE status = 'running'"); n != 0 {
+			t.Errorf("%d cycles still claim to be running", n)
+		}
+		// The lock went with the daemon: a sync works again.
+		mustRun(t, "--config", cfg, "sync")
+	})
+}
+
+// SIGTERM in the middle of a large sync: the daemon exits 0, every file
+// is stored wholly or not at all, and the cycle and the sync run are
+// recorded as interrupted rather than left running.
+func TestDaemonStopsDuringLargeSync(t *testing.T) {
+	cfg, dir := setup(t, "")
+	daemonConfig(t, cfg, "")
+	store := filepath.Join(dir, "costdrift.db")
+	const files, perFile = 6, 40000
+	sums := map[int]int64{}
+	for f := 0; f < files; f++ {
+		text, sum := killPart(f, 0, perFile)
+		sums[f] = sum
+		writeFile(t, filepath.Join(dir, "data", "gl", fmt.Sprintf("part-%d.csv", f)), text)
+	}
+	d, logs := startDaemon(t, cfg)
+	waitFor(t, 3*time.Second, "the first cycle", func() bool { return logs.count(`msg="cycle started"`) == 1 }, logs)
+	// The sync of 240 000 rows takes most of a second here; stop it a
+	// little way in.
+	time.Sleep(150 * time.Millisecond)
+	stop(t, d, logs)
+
+	stored := 0
+	for f := 0; f < files; f++ {
+		n := count(t, store, fmt.Sprintf("SELECT COUNT(*) FROM gl_lines WHERE entry_id LIKE 'F%d-%%'", f))
+		known := count(t, store, fmt.Sprintf("SELECT COUNT(*) FROM source_files WHERE path LIKE '%%part-%d.csv'", f))
+		if (n != 0 && n != perFile) || (known == 1) != (n == perFile) {
+			t.Fatalf("part-%d.csv has %d of %d rows stored, fingerprint recorded %d times", f, n, perFile, known)
+		}
+		if n == perFile {
+			stored++
+			if sum := int64(count(t, store, fmt.Sprintf("SELECT SUM(amount_minor) FROM gl_lines WHERE entry_id LIKE 'F%d-%%'", f))); sum != sums[f] {
+				t.Errorf("part-%d.csv total %d, want %d", f, sum, sums[f])
+			}
+		}
+	}
+	if stored == files {
+		t.Fatalf("all %d files were stored before SIGTERM: the test proves nothing; stop earlier\nlog:\n%s", files, logs)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM cycles WHERE status = 'failed' AND error LIKE 'interrupted:%'"); n != 1 {
+		t.Errorf("%d cycles recorded as interrupted, want 1\nlog:\n%s", n, logs)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE status = 'running'"); n != 0 {
+		t.Errorf("%d sync runs still claim to be running", n)
+	}
+	t.Logf("%d of %d files stored when SIGTERM arrived", stored, files)
+
+	// The next run completes what was cut short.
+	mustRun(t, "--config", cfg, "run", "--once")
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != files*perFile {
+		t.Errorf("after run --once: %d rows, want %d", n, files*perFile)
+	}
+}
+
+// run --once runs one cycle and reports failure through its exit status.
+func TestRunOnce(t *testing.T) {
+	cfg, dir := setup(t, "entry_id,line,date,account,cost_center,amount,description\nE1,1,2026-01-05,6100,,1200.00,rent\n")
+	out := mustRun(t, "--config", cfg, "run", "--once")
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != 1 {
+		t.Errorf("after run --once: %d ledger lines, want 1\n%s", n, out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM cycles WHERE status = 'ok' AND stages LIKE '%\"sync\"%' AND stages LIKE '%\"analyze\"%'"); n != 1 {
+		t.Errorf("%d ok cycles with both stages timed, want 1", n)
+	}
+	status := mustRun(t, "--config", cfg, "status")
+	if !strings.Contains(status, "#1     ") || !strings.Contains(status, " ok ") || !strings.Contains(status, "gl (ledger, csv): 1 file(s)") {
+		t.Errorf("status:\n%s", status)
+	}
+
+	// A source that fails makes the cycle fail, and the command with it.
+	if err := os.Remove(filepath.Join(dir, "data", "activity.csv")); err != nil {
+		t.Fatal(err)
+	}
+	out, err := run(t, "--config", cfg, "run", "--once")
+	if err == nil || !strings.Contains(err.Error(), "cycle 2 failed: sync: source ops failed: no file matches "+filepath.Join(dir, "data", "activity.csv")) {
+		t.Errorf("run --once with a missing source: %v\n%s", err, out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM cycles WHERE status = 'failed'"); n != 1 {
+		t.Errorf("%d failed cycles recorded, want 1", n)
+	}
+}
+
+// /healthz judges age against two schedule intervals, on an injected clock.
+func TestHealthAge(t *testing.T) {
+	plan, err := config.CronParser.Parse("@every 1m")
+	if err != nil {
+		t.Fatal(err)
+	}
+	t0 := time.Date(2026, 3, 2, 6, 0, 0, 0, time.UTC)
+	ok := costdrift.Cycle{ID: 7, Status: "ok", FinishedAt: t0}
+	tests := []struct {
+		name    string
+		last    costdrift.Cycle
+		good    time.Time
+		now     time.Time
+		healthy bool
+		reason  string
+	}{
+		{"none yet", costdrift.Cycle{}, time.Time{}, t0, false, "no cycle has finished yet"},
+		{"fresh", ok, t0, t0.Add(90 * time.Second), true, "the latest cycle succeeded on time"},
+		{"exactly two intervals", ok, t0, t0.Add(2 * time.Minute), true, "the latest cycle succeeded on time"},
+		{"stale", ok, t0, t0.Add(3 * time.Minute), false,
+			"the latest successful cycle finished 3m0s ago, more than two schedule intervals (2m0s)"},
+		{"failed", costdrift.Cycle{ID: 8, Status: "failed", FinishedAt: t0, Error: "sync: x"}, t0.Add(-time.Minute), t0, false,
+			"the latest cycle failed"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			d := &daemon{plan: plan, last: tc.last, good: tc.good}
+			h, healthy := d.health(tc.now)
+			if healthy != tc.healthy || h.Reason != tc.reason || h.MaxAge != "2m0s" {
+				t.Errorf("health = %v %+v, want %v %q", healthy, h, tc.healthy, tc.reason)
+			}
+		})
+	}
+}
+
+// log.format json writes one JSON object a line; log.level filters.
+func TestLogFormat(t *testing.T) {
+	var buf bytes.Buffer
+	log := newLogger(&buf, config.Log{Format: "json", Level: "warn"}, new(slog.LevelVar))
+	log.Info("not shown")
+	log.Warn("tick skipped: the previous cycle is still running", "cycle", 3)
+	var line map[string]any
+	if err := json.Unmarshal(buf.Bytes(), &line); err != nil {
+		t.Fatalf("%q: %v", buf.String(), err)
+	}
+	if line["msg"] != "tick skipped: the previous cycle is still running" || line["level"] != "WARN" || line["cycle"] != 3.0 {
+		t.Errorf("log line %v", line)
+	}
+}
