@@ -18,6 +18,10 @@ import (
 	"github.com/costdrift/costdrift/internal/money"
 )
 
+// maxConns bounds the store's connections: one writer (SQLite has one at a
+// time) and a few readers.
+const maxConns = 4
+
 // DB is an open store.
 type DB struct {
 	db   *sql.DB
@@ -111,6 +115,11 @@ func Open(ctx context.Context, path string, currency money.Currency) (*DB, error
 	if err != nil {
 		return nil, fmt.Errorf("store %s: %w", path, err)
 	}
+	// A few connections, kept open: every new SQLite connection parses the
+	// schema and grows its own page cache, so a daemon reuses them rather
+	// than opening and closing them as load comes and goes.
+	sqldb.SetMaxOpenConns(maxConns)
+	sqldb.SetMaxIdleConns(maxConns)
 	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency}
 	if err := db.migrate(ctx); err != nil {
 		sqldb.Close()
