@@ -16,32 +16,13 @@ func ReadAccounts(ctx context.Context, path, display string, opt Options, w cost
 	if err := t.bind(opt.Columns, []string{"account"}, []string{"name", "type", "group"}, "expected account, name, type, group"); err != nil {
 		return 0, err
 	}
-	read := 0
-	for {
-		ok, err := t.next()
-		if err != nil {
-			return read, err
-		}
-		if !ok {
-			return read, nil
-		}
-		if blank(t.cells) {
-			continue
-		}
-		read++
-		if err := checkCtx(ctx, read); err != nil {
-			return read, err
-		}
+	return t.each(ctx, func() error {
 		a, reason := accountRow(t, opt)
 		if reason != "" {
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw()})
-		} else {
-			err = w.Account(a)
+			return t.reject(opt, w, reason)
 		}
-		if err != nil {
-			return read, err
-		}
-	}
+		return w.Account(a)
+	})
 }
 
 func accountRow(t *table, opt Options) (costdrift.Account, string) {

@@ -46,40 +46,22 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 		}
 	}
 
-	read := 0
-	for {
-		ok, err := t.next()
-		if err != nil {
-			return read, err
-		}
-		if !ok {
-			return read, nil
-		}
-		if blank(t.cells) {
-			continue
-		}
-		read++
-		if err := checkCtx(ctx, read); err != nil {
-			return read, err
-		}
+	return t.each(ctx, func() error {
 		var values []costdrift.ActivityValue
 		reason := t.overflow()
 		if reason == "" {
 			values, reason = activityRow(t, opt, layout, drivers)
 		}
 		if reason != "" {
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw()})
-			if err != nil {
-				return read, err
-			}
-			continue
+			return t.reject(opt, w, reason)
 		}
 		for _, a := range values {
 			if err := w.Activity(a); err != nil {
-				return read, err
+				return err
 			}
 		}
-	}
+		return nil
+	})
 }
 
 // activityRow reads the values of the current row, all of them or none, so

@@ -39,32 +39,13 @@ func ReadLedger(ctx context.Context, path, display string, opt Options, w costdr
 	// Without a line column, lines are numbered within their entry in sheet
 	// order, which is stable as long as the export is.
 	nextLine := map[string]int{}
-	read := 0
-	for {
-		ok, err := t.next()
-		if err != nil {
-			return read, err
-		}
-		if !ok {
-			return read, nil
-		}
-		if blank(t.cells) {
-			continue
-		}
-		read++
-		if err := checkCtx(ctx, read); err != nil {
-			return read, err
-		}
+	return t.each(ctx, func() error {
 		line, reason := parseLedgerRow(t, opt, layout, signed, nextLine)
 		if reason != "" {
-			err = w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw()})
-		} else {
-			err = w.LedgerLine(line)
+			return t.reject(opt, w, reason)
 		}
-		if err != nil {
-			return read, err
-		}
-	}
+		return w.LedgerLine(line)
+	})
 }
 
 // parseLedgerRow turns the current row into a ledger line, or says why it

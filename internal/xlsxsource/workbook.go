@@ -17,6 +17,7 @@ import (
 
 	"github.com/xuri/excelize/v2"
 
+	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/money"
 )
 
@@ -424,6 +425,34 @@ func (t *table) raw() string {
 
 // blank reports whether a row holds no value: such rows are skipped, as
 // sheets often have them between blocks and at the end.
+// each calls row for every data row of the sheet, in order, with the row in
+// t.cells, and returns how many rows it read; blank rows are skipped and the
+// context is checked now and then.
+func (t *table) each(ctx context.Context, row func() error) (int, error) {
+	read := 0
+	for {
+		ok, err := t.next()
+		if err != nil || !ok {
+			return read, err
+		}
+		if blank(t.cells) {
+			continue
+		}
+		read++
+		if err := checkCtx(ctx, read); err != nil {
+			return read, err
+		}
+		if err := row(); err != nil {
+			return read, err
+		}
+	}
+}
+
+// reject stores the current row as rejected, with its location and values.
+func (t *table) reject(opt Options, w costdrift.SourceWriter, reason string) error {
+	return w.Reject(costdrift.Reject{Source: opt.Source, Location: t.location(), Reason: reason, Raw: t.raw()})
+}
+
 func blank(cells []cell) bool {
 	for _, c := range cells {
 		if strings.TrimSpace(c.text) != "" {
