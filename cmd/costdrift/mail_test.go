@@ -92,6 +92,37 @@ func pitMessages(t *testing.T, api string) (map[string][]pitMessage, []string) {
 	return out, raws
 }
 
+// startMailpit runs mailpit with its SMTP server on smtpPort and returns
+// the base address of its HTTP API and a reader of its log.
+func startMailpit(t *testing.T, bin string, smtpPort int) (string, func() string) {
+	t.Helper()
+	httpPort := loopbackPort(t)
+	cmd := exec.Command(bin, "--smtp", fmt.Sprintf("127.0.0.1:%d", smtpPort), "--listen", fmt.Sprintf("127.0.0.1:%d", httpPort),
+		"--database", filepath.Join(t.TempDir(), "mailpit.db"), "--smtp-disable-rdns", "--disable-version-check", "--quiet",
+		"--smtp-auth-accept-any", "--smtp-auth-allow-insecure")
+	pitLog := &logBuffer{}
+	cmd.Stdout, cmd.Stderr = pitLog, pitLog
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { cmd.Process.Kill(); cmd.Wait() })
+	api := fmt.Sprintf("http://127.0.0.1:%d", httpPort)
+	for deadline := time.Now().Add(15 * time.Second); ; time.Sleep(50 * time.Millisecond) {
+		c, err := net.Dial("tcp", fmt.Sprintf("127.0.0.1:%d", smtpPort))
+		if err == nil {
+			c.Close()
+			if resp, err := http.Get(api + "/api/v1/messages"); err == nil {
+				resp.Body.Close()
+				break
+			}
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("mailpit did not start: %s", pitLog.String())
+		}
+	}
+	return api, pitLog.String
+}
+
 // TestMailCycleServerDownThenBack: the demo's analysis finds the SMTP
 // server down, records the failure per recipient, retries only after the
 // backoff, delivers each digest exactly once when the server is back, and
@@ -99,7 +130,7 @@ func pitMessages(t *testing.T, api string) (map[string][]pitMessage, []string) {
 func TestMailCycleServerDownThenBack(t *testing.T) {
 	bin := mailpitPath(t)
 	dir := t.TempDir()
-	smtpPort, httpPort := loopbackPort(t), loopbackPort(t)
+	smtpPort := loopbackPort(t)
 	cfg := strings.Replace(config.Starter, `    - email: costs@example.test
       cost_centers: ["*"]
       accounts: ["*"]
@@ -147,29 +178,7 @@ func TestMailCycleServerDownThenBack(t *testing.T) {
 		t.Errorf("%d failed deliveries recorded with a 5-minute backoff, want 4", n)
 	}
 
-	cmd := exec.Command(bin, "--smtp", fmt.Sprintf("127.0.0.1:%d", smtpPort), "--listen", fmt.Sprintf("127.0.0.1:%d", httpPort),
-		"--database", filepath.Join(t.TempDir(), "mailpit.db"), "--smtp-disable-rdns", "--disable-version-check", "--quiet",
-		"--smtp-auth-accept-any", "--smtp-auth-allow-insecure")
-	var pitLog bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &pitLog, &pitLog
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { cmd.Process.Kill(); cmd.Wait() })
-	api := fmt.Sprintf("http://127.0.0.1:%d", httpPort)
-	for deadline := time.Now().Add(15 * time.Second); ; time.Sleep(50 * time.Millisecond) {
-		c, err := net.Dial("tcp", fmt.Sprintf("127.0.0.1:%d", smtpPort))
-		if err == nil {
-			c.Close()
-			if resp, err := http.Get(api + "/api/v1/messages"); err == nil {
-				resp.Body.Close()
-				break
-			}
-		}
-		if time.Now().After(deadline) {
-			t.Fatalf("mailpit did not start: %s", pitLog.String())
-		}
-	}
+	api, pitLog := startMailpit(t, bin, smtpPort)
 
 	// Before the backoff has passed nothing is tried.
 	out = runAt(t, t0.Add(time.Minute), "--config", cfgPath, "alerts", "send")
@@ -215,7 +224,7 @@ func TestMailCycleServerDownThenBack(t *testing.T) {
 		t.Errorf("%d deliveries recorded as sent, want 4", n)
 	}
 	dbBytes, _ := os.ReadFile(store)
-	for what, text := range map[string]string{"output": out + outs, "store": string(dbBytes), "messages": strings.Join(raws, "\n"), "server log": pitLog.String()} {
+	for what, text := range map[string]string{"output": out + outs, "store": string(dbBytes), "messages": strings.Join(raws, "\n"), "server log": pitLog()} {
 		if strings.Contains(text, smtpTestPassword) {
 			t.Errorf("the SMTP password appears in the %s", what)
 		}

@@ -19,6 +19,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/demo"
 )
 
 // logBuffer collects a child's log lines while the test reads them.
@@ -378,4 +379,102 @@ func TestLogFormat(t *testing.T) {
 	if line["msg"] != "tick skipped: the previous cycle is still running" || line["level"] != "WARN" || line["cycle"] != 3.0 {
 		t.Errorf("log line %v", line)
 	}
+}
+
+// The daemon's whole cycle against a real SMTP server: the invented
+// company's first two ledger years are in place at the start; its last two
+// are dropped into the source folder while the daemon runs. The two
+// behaviour changes they hold (the lease's fixed cost from 2025-07, the
+// freight rate from 2025-02) must be in mailpit within two ticks of the drop.
+func TestDaemonMailsAlertsFromDroppedFiles(t *testing.T) {
+	bin := mailpitPath(t)
+	cfg, dir := setup(t, "")
+	daemonConfig(t, cfg, "")
+	smtpPort := loopbackPort(t)
+	text, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	smtp := strings.Replace(string(text), `    host: ""                   # empty: messages go to the outbox folder
+    port: 587
+    tls: starttls `, fmt.Sprintf(`    host: 127.0.0.1
+    port: %d
+    tls: none `, smtpPort), 1)
+	if smtp == string(text) {
+		t.Fatal("starter config has no mail.smtp block to rewrite")
+	}
+	writeFile(t, cfg, smtp)
+	api, _ := startMailpit(t, bin, smtpPort)
+
+	books := t.TempDir()
+	files, err := demo.Write(books, demo.DefaultSeed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(files.Ledger) != 4 {
+		t.Fatalf("demo ledger files %v, want four years", files.Ledger)
+	}
+	copyFile := func(from, to string) {
+		t.Helper()
+		if !filepath.IsAbs(from) {
+			from = filepath.Join(books, from)
+		}
+		b, err := os.ReadFile(from)
+		if err != nil {
+			t.Fatal(err)
+		}
+		writeFile(t, to, string(b))
+	}
+	data := filepath.Join(dir, "data")
+	copyFile(files.Activity, filepath.Join(data, "activity.csv"))
+	copyFile(files.Accounts, filepath.Join(data, "accounts.csv"))
+	for _, f := range files.Ledger[:2] {
+		copyFile(f, filepath.Join(data, "gl", filepath.Base(f)))
+	}
+
+	d, logs := startDaemon(t, cfg)
+	waitFor(t, 10*time.Second, "a first cycle", func() bool { return logs.count(`msg="cycle finished"`) > 0 }, logs)
+	// The ledger stops at 2024-12: no drift in it yet.
+	before, _ := pitMessages(t, api)
+	for _, m := range before["costs@example.test"] {
+		if strings.Contains(m.Text, "6110/PAINT") || strings.Contains(m.Text, "6400/ASSY Freight out: rate") {
+			t.Fatalf("a drift alert before its data arrived:\n%s", m.Text)
+		}
+	}
+
+	// Dropped as a mail client or an export job would: written under a name
+	// the glob does not match, then renamed.
+	for _, f := range files.Ledger[2:] {
+		tmp := filepath.Join(data, "gl", "."+filepath.Base(f)+".part")
+		copyFile(f, tmp)
+	}
+	started := logs.count(`msg="cycle started"`)
+	for _, f := range files.Ledger[2:] {
+		name := filepath.Base(f)
+		if err := os.Rename(filepath.Join(data, "gl", "."+name+".part"), filepath.Join(data, "gl", name)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	dropped := time.Now()
+	wants := []string{"6110/PAINT Equipment lease: fixed cost per period rose", "6400/ASSY Freight out: rate per shipment fell from 2025-02"}
+	waitFor(t, 15*time.Second, "both drift alerts in mailpit", func() bool {
+		got, _ := pitMessages(t, api)
+		var all string
+		for _, m := range got["costs@example.test"] {
+			all += m.Text
+		}
+		return strings.Contains(all, wants[0]) && strings.Contains(all, wants[1])
+	}, logs)
+	// The cycle that sent them has finished by the time mailpit shows them,
+	// or is finishing; count the cycles begun since the drop.
+	ticks := logs.count(`msg="cycle started"`) - started
+	t.Logf("both alerts in mailpit %v after the drop, %d cycle(s) started since", time.Since(dropped).Round(time.Millisecond), ticks)
+	if ticks > 2 {
+		t.Errorf("the alerts took %d ticks after the drop, want at most 2\nlog:\n%s", ticks, logs)
+	}
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM deliveries d JOIN alerts a ON a.id = d.alert_id WHERE d.recipient = 'costs@example.test' AND d.status = 'sent' AND a.kind IN ('fixed_shift', 'rate_shift')"); n != 2 {
+		t.Errorf("%d drift alerts recorded as sent to costs@example.test, want 2", n)
+	}
+	stop(t, d, logs)
 }
