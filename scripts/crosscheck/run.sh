@@ -39,10 +39,12 @@ else
   tmp=$(mktemp -d)
   trap 'rm -rf "$tmp"' EXIT
   "$PY" "$here/generate.py" "$tmp/cases.json"
+  "$PY" "$here/intervals.py" "$tmp/intervals.json"
   Rscript "$here/steps.R" "$tmp/steps.json"
   Rscript "$here/drift.R" "$tmp/drift.json"
   status=0
   "$PY" "$here/compare.py" "$golden/cases.json" "$tmp/cases.json" || status=1
+  "$PY" "$here/compare.py" "$golden/intervals.json" "$tmp/intervals.json" || status=1
   "$PY" "$here/compare.py" "$golden/steps.json" "$tmp/steps.json" || status=1
   "$PY" "$here/compare.py" "$golden/drift.json" "$tmp/drift.json" || status=1
   if [ $status -ne 0 ]; then
