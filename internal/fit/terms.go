@@ -25,6 +25,9 @@ type Terms struct {
 	S         float64   `json:"s"`                // residual standard error
 	N         int       `json:"n"`                // observations fitted
 	DF        int       `json:"df"`               // residual degrees of freedom
+	// Levels marks the terms of a step model (StepTerms): the regressors
+	// are one indicator per level, not activity.
+	Levels bool `json:"levels,omitempty"`
 }
 
 // Terms returns the regression's prediction terms. Predict on them gives
@@ -70,7 +73,7 @@ func StepTerms(m StepModel) (Terms, error) {
 	if k == 0 || n <= k {
 		return Terms{}, fmt.Errorf("fit: step terms need more observations (%d) than levels (%d)", n, k)
 	}
-	t := Terms{Coef: make([]float64, k), Cov: make([]float64, k*k), N: n, DF: n - k}
+	t := Terms{Coef: make([]float64, k), Cov: make([]float64, k*k), N: n, DF: n - k, Levels: true}
 	for g, l := range m.Levels {
 		t.Coef[g] = l.Mean
 		t.Cov[g*k+g] = 1 / float64(l.N)
