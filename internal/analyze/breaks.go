@@ -48,8 +48,8 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		Periods: len(res.y) - split,
 	}
 	sides := func(proportional bool) {
-		brk.FixedBefore, brk.RateBefore = sideFormula(res.x, res.y, 0, split, proportional)
-		brk.FixedAfter, brk.RateAfter = sideFormula(res.x, res.y, split, len(res.y), proportional)
+		brk.FixedBefore, brk.RateBefore, brk.PredictionBefore = sideFormula(res.x, res.y, 0, split, proportional)
+		brk.FixedAfter, brk.RateAfter, _ = sideFormula(res.x, res.y, split, len(res.y), proportional)
 	}
 	brk.LevelBefore = meanOf(res.y[:split])
 	if res.x != nil {
@@ -77,16 +77,21 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 	pb.Since = brk.Period
 	pb.N = brk.Periods
 	post := res.y[split:]
+	pb.Prediction = nil
 	switch pb.Class {
 	case costdrift.Variable:
+		pb.Driver2, pb.Unit2, pb.VariableRate2 = "", "", 0 // refitted on its first driver alone
 		if r, err := fit.ThroughOrigin(res.x[split:], post); err == nil {
 			pb.VariableRate = r.Coef[0]
+			pb.Prediction = termsOf(r)
 		}
 	case costdrift.Mixed:
-		pb.FixedPerPeriod, pb.VariableRate = brk.FixedAfter, brk.RateAfter
+		pb.Driver2, pb.Unit2, pb.VariableRate2 = "", "", 0
+		pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = sideFormula(res.x, res.y, split, len(res.y), false)
 	default:
 		pb.MeanCost = meanOf(post)
 		pb.FixedPerPeriod = pb.MeanCost
+		pb.Prediction = constantTerms(post)
 	}
 	pb.Reason = fmt.Sprintf("provisional since %s (break: %s): only %d periods since the break, fewer than %d, so the driver and class from before are kept and refitted on them",
 		brk.Period, breakText(brk, s), brk.Periods, s.MinPeriods)
@@ -263,18 +268,18 @@ func breakText(b *costdrift.Break, s Settings) string {
 
 // sideFormula fits one side of a break: a line on the driver (through the
 // origin for a variable cost), or the mean.
-func sideFormula(x, y []float64, lo, hi int, proportional bool) (fixed, rate float64) {
+func sideFormula(x, y []float64, lo, hi int, proportional bool) (fixed, rate float64, terms *fit.Terms) {
 	if x != nil && proportional {
 		if r, err := fit.ThroughOrigin(x[lo:hi], y[lo:hi]); err == nil {
-			return 0, r.Coef[0]
+			return 0, r.Coef[0], termsOf(r)
 		}
 	}
 	if x != nil {
 		if r, err := fit.Line(x[lo:hi], y[lo:hi]); err == nil {
-			return r.Coef[0], r.Coef[1]
+			return r.Coef[0], r.Coef[1], termsOf(r)
 		}
 	}
-	return meanOf(y[lo:hi]), 0
+	return meanOf(y[lo:hi]), 0, constantTerms(y[lo:hi])
 }
 
 // subPanel is the panel from window position at on, for one object; driver

@@ -53,6 +53,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 			AICc: constantFit.AICc, PRESS: constantFit.PRESS, R2: 0})
 		b.R2 = math.NaN()
 		b.FixedPerPeriod = b.MeanCost
+		b.Prediction = constantTerms(y)
 		res.Fits[0].Chosen = true
 		b.Diagnostics = diag
 		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
@@ -156,6 +157,9 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 			b.Steps = append(b.Steps, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
 		}
 		b.FixedPerPeriod = m.Levels[0].Mean
+		if terms, err := fit.StepTerms(m); err == nil {
+			b.Prediction = &terms
+		}
 		chosen := &res.Fits[best.stepIdx]
 		chosen.Chosen = true
 		diagnose(chosen, lin, [][]float64{best.x}, best.y, best.periods, diag)
@@ -214,12 +218,15 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		b.Class = costdrift.Variable
 		b.VariableRate = slope
 		b.VariableRate2 = slope2
+		b.Prediction = termsOf(chosenReg) // replaced by the proportional fit's below
 		if pair != nil {
 			if r, err := fit.OLS(columns, ys, false); err == nil {
 				b.VariableRate, b.VariableRate2 = r.Coef[0], r.Coef[1]
+				b.Prediction = termsOf(r)
 			}
 		} else if best.origin != nil {
 			b.VariableRate = best.origin.Coef[0]
+			b.Prediction = termsOf(best.origin)
 			chosenIdx = best.linearIdx + 1
 		}
 		why := fmt.Sprintf("fixed part not significant (%s)", pText(interceptP))
@@ -233,6 +240,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		b.Driver2, b.Unit2, b.Lag2 = "", "", 0
 		b.R2 = math.NaN()
 		b.FixedPerPeriod = b.MeanCost
+		b.Prediction = constantTerms(y)
 		b.RangeMin, b.RangeMax = 0, 0
 		b.HighLow = nil
 		res.Fits[0].Chosen = true
@@ -244,6 +252,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	default:
 		b.Class = costdrift.Mixed
 		b.FixedPerPeriod, b.VariableRate, b.VariableRate2 = a, slope, slope2
+		b.Prediction = termsOf(chosenReg)
 		b.Reason = fmt.Sprintf("cost moves with %s (%s) above a significant fixed part (%s), %.0f %% fixed at mean activity%s",
 			label, evidence, pText(interceptP), 100*fixedShare, note)
 	}
@@ -290,4 +299,20 @@ func highLow(c *candidate) *costdrift.HighLow {
 		out.Warning = "the " + ends[0] + " and " + ends[1] + " points are outliers of the regression; the high-low estimate is unreliable"
 	}
 	return out
+}
+
+// termsOf is r's prediction terms.
+func termsOf(r *fit.Regression) *fit.Terms {
+	t := r.Terms()
+	return &t
+}
+
+// constantTerms is the prediction terms of the mean of y, nil when there is
+// no residual degree of freedom.
+func constantTerms(y []float64) *fit.Terms {
+	r, err := fit.Constant(y)
+	if err != nil || r.DF < 1 {
+		return nil
+	}
+	return termsOf(r)
 }

@@ -1,5 +1,7 @@
 package costdrift
 
+import "github.com/costdrift/costdrift/internal/fit"
+
 // Class is the cost-behaviour class of a cost object.
 type Class string
 
@@ -162,6 +164,16 @@ type Behaviour struct {
 	// formula fitted without them.
 	Spending []SpendingCheck
 
+	// Prediction holds what a prediction from the formula needs (the fitted
+	// model's coefficients, (XᵀX)⁻¹, residual standard error and degrees of
+	// freedom), so that a budget at planned activity, with its prediction
+	// interval, comes from the store without refitting. Its model is the
+	// formula's: constant for fixed and unexplained costs (and a
+	// provisional step), through the origin for variable ones, a line for
+	// mixed ones, both drivers with a second driver, one indicator per
+	// level for step costs. Nil when the class is insufficient_data.
+	Prediction *fit.Terms
+
 	// Pending is a change of class, driver or lag seen by one analysis
 	// without a significant break: it takes effect only when the next
 	// analysis sees it too, so that behaviour does not flap.
@@ -214,4 +226,8 @@ type Break struct {
 	// Provisional: fewer than min_periods follow the break, so the
 	// behaviour keeps the driver it had before and is refitted on them.
 	Provisional bool `json:"provisional"`
+	// PredictionBefore are the prediction terms of the formula before the
+	// break (FixedBefore, RateBefore), stored with the closed behaviour
+	// row for the periods before it.
+	PredictionBefore *fit.Terms `json:"-"`
 }

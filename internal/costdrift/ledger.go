@@ -23,6 +23,7 @@ type ActivityValue struct {
 	CostCenter string
 	Value      float64
 	Unit       string // e.g. "machine hour"; "" when unknown
+	Location   string // file:line (or file:sheet!row) it was read from, for messages; not stored
 }
 
 // Account is one entry of the chart of accounts.

@@ -72,6 +72,7 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 			if reason != "" {
 				return reject(reason)
 			}
+			a.Location = t.location()
 			return w.Activity(a)
 		}
 		// Wide form: check the whole row first, so that it is stored whole
@@ -94,6 +95,7 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 			return reject(reason)
 		}
 		for _, a := range values {
+			a.Location = t.location()
 			if err := w.Activity(a); err != nil {
 				return err
 			}

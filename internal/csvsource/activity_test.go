@@ -37,6 +37,12 @@ func act(period, driver, costCenter string, value float64, unit string) costdrif
 	return costdrift.ActivityValue{Source: "ops", Period: period, Driver: driver, CostCenter: costCenter, Value: value, Unit: unit}
 }
 
+// at sets the line an expected value is read from.
+func at(a costdrift.ActivityValue, line int) costdrift.ActivityValue {
+	a.Location = fmt.Sprintf("activity.csv:%d", line)
+	return a
+}
+
 func checkActivity(t *testing.T, got, want []costdrift.ActivityValue) {
 	t.Helper()
 	const tol = 0 // exact: each value is a short decimal read by strconv.ParseFloat
@@ -46,6 +52,14 @@ func checkActivity(t *testing.T, got, want []costdrift.ActivityValue) {
 	}
 	for i := range want {
 		g, w := got[i], want[i]
+		// Every value says where it was read; the tables below give the
+		// locations only where they check them.
+		if name, line, ok := strings.Cut(g.Location, ":"); !ok || !strings.Contains(name, ".") || strings.Trim(line, "0123456789") != "" || line == "" {
+			t.Errorf("value %d read from %q, want FILE:LINE", i, g.Location)
+		}
+		if w.Location == "" {
+			g.Location = ""
+		}
 		gv, wv := g.Value, w.Value
 		g.Value, w.Value = 0, 0
 		if g != w || gv-wv > tol || wv-gv > tol {
@@ -61,7 +75,7 @@ func TestActivityLongForm(t *testing.T) {
 		want    []costdrift.ActivityValue
 	}{
 		{"period, driver, value only", "period,driver,value\n2025-01,machine_hours,1210.5\n2025-01,orders,88\n2025-02,machine_hours,0\n",
-			[]costdrift.ActivityValue{act("2025-01", "machine_hours", "", 1210.5, ""), act("2025-01", "orders", "", 88, ""), act("2025-02", "machine_hours", "", 0, "")}},
+			[]costdrift.ActivityValue{at(act("2025-01", "machine_hours", "", 1210.5, ""), 2), at(act("2025-01", "orders", "", 88, ""), 3), at(act("2025-02", "machine_hours", "", 0, ""), 4)}},
 		{"with cost centre and unit", "Period,Driver,Value,Cost_Center,Unit\n2025-01,machine_hours,410,WELD,machine hour\n2025-01,machine_hours,380.25,,machine hour\n",
 			[]costdrift.ActivityValue{act("2025-01", "machine_hours", "WELD", 410, "machine hour"), act("2025-01", "machine_hours", "", 380.25, "machine hour")}},
 		{"columns in another order, semicolons", "unit;value;cost_center;driver;period\nframe;340;;frames_built;2025-03\n",
@@ -305,7 +319,7 @@ func TestActivityWriterErrorStopsWideRow(t *testing.T) {
 	path := writeFile(t, "activity.csv", "period,a,b,c\n2025-01,1,2,3\n2025-02,4,5,6\n")
 	rec := &recorder{FailOn: 2}
 	n, err := ReadActivity(context.Background(), path, "activity.csv", activityOptions(), rec)
-	if err != errWriter || n != 1 || !reflect.DeepEqual(rec.Values, []costdrift.ActivityValue{act("2025-01", "a", "", 1, "")}) {
+	if err != errWriter || n != 1 || !reflect.DeepEqual(rec.Values, []costdrift.ActivityValue{at(act("2025-01", "a", "", 1, ""), 2)}) {
 		t.Errorf("read %d rows, error %v, stored %+v; want 1 row, %v, only a=1", n, err, rec.Values, errWriter)
 	}
 }

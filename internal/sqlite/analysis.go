@@ -7,9 +7,11 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/fit"
 )
 
 // CostTotals returns the net amount per period, account and cost centre of
@@ -256,7 +258,7 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *
 // behaviourValues are the columns a behaviour row carries, in the order of
 // behaviourColumns.
 const behaviourColumns = `class, driver, unit, lag, fixed_per_period, variable_rate, r2, n, range_min, range_max, since, until, steps, reason,
-	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending`
+	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending, prediction`
 
 func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 	steps, highLow, diagnostics, brk, pending := "", "", "", "", ""
@@ -298,7 +300,26 @@ func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
 		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
 		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics),
-		nullString(brk), nullString(pending), spendingJSON(b.Spending)}, nil
+		nullString(brk), nullString(pending), spendingJSON(b.Spending), predictionJSON(b.Prediction)}, nil
+}
+
+// predictionJSON stores the formula's prediction terms; terms that are not
+// complete, finite numbers are left out (NULL), and a budget then says it
+// has no interval.
+func predictionJSON(t *fit.Terms) any {
+	if t == nil || t.Check() != nil {
+		return nil
+	}
+	j, err := json.Marshal(t)
+	if err != nil {
+		return nil
+	}
+	return string(j)
+}
+
+// placeholders is "?, ?, …" for n values.
+func placeholders(n int) string {
+	return strings.TrimSuffix(strings.Repeat("?, ", n), ", ")
 }
 
 // spendingJSON stores the spending checks, leaving out any that are not
@@ -320,7 +341,7 @@ func insertBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b
 	}
 	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
 		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_from_period)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		VALUES (`+placeholders(len(values)+7)+`)`,
 		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, nullString(from))...)
 	return err
 }
@@ -331,7 +352,7 @@ func updateBehaviour(ctx context.Context, tx *sql.Tx, runID, id int64, b *costdr
 		return err
 	}
 	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET (`+behaviourColumns+`, last_run_id)
-		= (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) WHERE id = ?`, append(values, runID, id)...)
+		= (`+placeholders(len(values)+1)+`) WHERE id = ?`, append(values, runID, id)...)
 	return err
 }
 
@@ -347,6 +368,7 @@ func insertBefore(ctx context.Context, tx *sql.Tx, runID int64, now string, b *c
 	before := *b
 	br := b.Break
 	before.Break, before.Pending, before.Steps, before.HighLow, before.Diagnostics, before.Outliers, before.Spending = nil, nil, nil, nil, nil, nil, nil
+	before.Prediction = br.PredictionBefore
 	before.Driver2, before.Unit2 = "", ""
 	before.FixedPerPeriod, before.VariableRate = br.FixedBefore, br.RateBefore
 	if br.Driver == "" {
@@ -365,19 +387,37 @@ func insertBefore(ctx context.Context, tx *sql.Tx, runID int64, now string, b *c
 	}
 	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
 		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_to_run_at, valid_from_period, valid_to_period)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		VALUES (`+placeholders(len(values)+9)+`)`,
 		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, now, nullString(br.WindowFrom), nullString(br.LastBefore))...)
 	return err
 }
 
 // CurrentBehaviour returns the open behaviour of every object, by object.
 func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, error) {
+	return db.behaviours(ctx, `valid_to_run_at IS NULL`)
+}
+
+// BehaviourIn returns, for every object, the behaviour in force in period:
+// the row whose periods hold it, the newest such row when an object's rows
+// overlap (a change confirmed without a break reaches back over its
+// window), and the open row for a period after its last one.
+func (db *DB) BehaviourIn(ctx context.Context, period string) ([]costdrift.Behaviour, error) {
+	return db.behaviours(ctx, `id IN (
+		SELECT (SELECT h.id FROM behaviour_history h
+		        WHERE h.object = o.object AND COALESCE(h.valid_from_period, h.since, '') <= ?
+		          AND (h.valid_to_run_at IS NULL OR h.valid_to_period >= ?)
+		        ORDER BY h.valid_from_run_at DESC, h.id DESC LIMIT 1)
+		FROM (SELECT DISTINCT object FROM behaviour_history) o)`, period, period)
+}
+
+// behaviours reads the behaviour rows that match where, by object.
+func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]costdrift.Behaviour, error) {
 	rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, '')
-		FROM current_behaviour ORDER BY account, cost_center`)
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, '')
+		FROM behaviour_history WHERE `+where+` ORDER BY account, cost_center`, args...)
 	if err != nil {
 		return nil, err
 	}
@@ -388,13 +428,19 @@ func (db *DB) CurrentBehaviour(ctx context.Context) ([]costdrift.Behaviour, erro
 		var class, steps, highLow string
 		var lag sql.NullInt64
 		var fixed, rate, r2, lo, hi, mean, cv sql.NullFloat64
-		var outliers, diagnostics, brk, pending, spending string
+		var outliers, diagnostics, brk, pending, spending, prediction string
 		var lag2 sql.NullInt64
 		var rate2 sql.NullFloat64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending); err != nil {
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction); err != nil {
 			return nil, err
+		}
+		if prediction != "" {
+			b.Prediction = &fit.Terms{}
+			if err := json.Unmarshal([]byte(prediction), b.Prediction); err != nil {
+				return nil, fmt.Errorf("behaviour %s: prediction: %w", b.Object, err)
+			}
 		}
 		if spending != "" {
 			if err := json.Unmarshal([]byte(spending), &b.Spending); err != nil {

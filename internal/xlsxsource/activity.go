@@ -56,6 +56,7 @@ func ReadActivity(ctx context.Context, path, display string, opt Options, w cost
 			return t.reject(opt, w, reason)
 		}
 		for _, a := range values {
+			a.Location = t.location()
 			if err := w.Activity(a); err != nil {
 				return err
 			}

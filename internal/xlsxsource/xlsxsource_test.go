@@ -537,9 +537,9 @@ func TestReadActivityLong(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := []costdrift.ActivityValue{
-		{Source: "act", Period: "2025-01", Driver: "machine_hours", CostCenter: "WELD", Value: 412.5, Unit: "hour"},
-		{Source: "act", Period: "2025-02", Driver: "machine_hours", CostCenter: "WELD", Value: 398.25, Unit: "hour"},
-		{Source: "act", Period: "2025-03", Driver: "frames_built", Value: 120},
+		{Source: "act", Period: "2025-01", Driver: "machine_hours", CostCenter: "WELD", Value: 412.5, Unit: "hour", Location: "act.xlsx:Sheet1!2"},
+		{Source: "act", Period: "2025-02", Driver: "machine_hours", CostCenter: "WELD", Value: 398.25, Unit: "hour", Location: "act.xlsx:Sheet1!3"},
+		{Source: "act", Period: "2025-03", Driver: "frames_built", Value: 120, Location: "act.xlsx:Sheet1!4"},
 	}
 	if n != 5 || !reflect.DeepEqual(w.Values, want) {
 		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.Values, want)
@@ -569,10 +569,10 @@ func TestReadActivityWide(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := []costdrift.ActivityValue{
-		{Source: "act", Period: "2025-01", Driver: "machine_hours", CostCenter: "WELD", Value: 412.5},
-		{Source: "act", Period: "2025-01", Driver: "frames_built", CostCenter: "WELD", Value: 120},
-		{Source: "act", Period: "2025-03", Driver: "frames_built", Value: 131},
-		{Source: "act", Period: "2025-03", Driver: "shipments", Value: 9},
+		{Source: "act", Period: "2025-01", Driver: "machine_hours", CostCenter: "WELD", Value: 412.5, Location: "act.xlsx:Sheet1!2"},
+		{Source: "act", Period: "2025-01", Driver: "frames_built", CostCenter: "WELD", Value: 120, Location: "act.xlsx:Sheet1!2"},
+		{Source: "act", Period: "2025-03", Driver: "frames_built", Value: 131, Location: "act.xlsx:Sheet1!4"},
+		{Source: "act", Period: "2025-03", Driver: "shipments", Value: 9, Location: "act.xlsx:Sheet1!4"},
 	}
 	if n != 3 || !reflect.DeepEqual(w.Values, want) {
 		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.Values, want)
