@@ -1,0 +1,354 @@
+// Package budget turns the discovered cost formulas into flexible budgets
+// and spending variances. It is pure: the caller reads behaviours, plans and
+// actuals from the store and passes lookups in.
+//
+// A budget for one cost object and period is its formula at the planned
+// activity (common practice: budget = fixed + rate × activity; the level for
+// a step cost; the mean for a cost no driver explains), with the prediction
+// interval of a new period's cost from the stored prediction terms (see
+// fit.Terms). Totals add the objects' budgets and their variances, assuming
+// the objects' deviations from their formulas are independent; the degrees
+// of freedom of a total are Welch–Satterthwaite's,
+//
+//	ν = (Σ se_i²)² / Σ (se_i⁴ / ν_i),
+//
+// and its interval is total ± t(ν)·sqrt(Σ se_i²).
+package budget
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/fit"
+)
+
+// Kind says what a line sums.
+type Kind string
+
+const (
+	KindObject     Kind = "object"      // one cost object
+	KindCostCenter Kind = "cost_center" // the objects of one cost centre
+	KindTotal      Kind = "total"       // every object
+)
+
+// Independence is the assumption behind every total's interval, said in
+// the output.
+const Independence = "totals' intervals assume the objects' deviations from their formulas are independent"
+
+// Estimate is a formula's cost at some activity with its prediction
+// intervals. The intervals and SE are NaN when the formula has no stored
+// prediction terms.
+type Estimate struct {
+	Value          float64
+	SE             float64 // standard error of one new period's cost
+	DF             float64 // degrees of freedom of SE (Welch–Satterthwaite for totals)
+	Low80, High80  float64
+	Low95, High95  float64
+	Warnings       []string
+	rangeWarning   bool
+	noTermsWarning bool
+}
+
+// Lookup returns a driver's activity in a period for a cost centre: the
+// cost centre's own series when there is one, else the company-wide series.
+type Lookup func(period, driver, costCenter string) (float64, bool)
+
+// Evaluate is b's formula at activity x1 (and x2 for a second driver; both
+// ignored when the formula has no driver).
+func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
+	e := Estimate{SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+	var row []float64
+	levels := false
+	switch b.Class {
+	case costdrift.InsufficientData:
+		return e, fmt.Errorf("%s: too few periods for a formula (%s)", b.Object, b.Reason)
+	case costdrift.Fixed:
+		e.Value = b.FixedPerPeriod
+	case costdrift.Unexplained:
+		e.Value = b.FixedPerPeriod
+		e.Warnings = append(e.Warnings, "no driver explains this cost: budgeted at its mean")
+	case costdrift.Variable, costdrift.Mixed:
+		e.Value = b.VariableRate * x1
+		if b.Class == costdrift.Mixed {
+			e.Value += b.FixedPerPeriod
+		}
+		row = []float64{x1}
+		if b.Driver2 != "" {
+			e.Value += b.VariableRate2 * x2
+			row = append(row, x2)
+		}
+	case costdrift.Step:
+		if b.Prediction != nil && b.Prediction.Levels && len(b.Steps) == len(b.Prediction.Coef) {
+			g := stepLevel(b.Steps, x1)
+			e.Value = b.Steps[g].Level
+			row = fit.StepRow(g, len(b.Steps))
+			levels = true
+		} else {
+			e.Value = b.FixedPerPeriod // provisional after a break: the mean since
+		}
+	default:
+		return e, fmt.Errorf("%s: unknown class %q", b.Object, b.Class)
+	}
+	if b.Driver != "" && b.Class != costdrift.Fixed && b.Class != costdrift.Unexplained {
+		lo, hi := b.RangeMin, b.RangeMax
+		if b.Class == costdrift.Step && len(b.Steps) > 0 {
+			lo, hi = b.Steps[0].From, b.Steps[len(b.Steps)-1].To
+		}
+		if x1 < lo || x1 > hi {
+			e.rangeWarning = true
+			e.Warnings = append(e.Warnings, fmt.Sprintf("%s %s is outside the relevant range %s to %s: the formula was not observed there",
+				b.Driver, num(x1), num(lo), num(hi)))
+		}
+	}
+	if b.Break != nil && b.Break.Provisional {
+		e.Warnings = append(e.Warnings, fmt.Sprintf("provisional formula: only %d periods since the break at %s", b.Break.Periods, b.Break.Period))
+	}
+	if b.Pending != nil {
+		e.Warnings = append(e.Warnings, fmt.Sprintf("a change to %s awaits confirmation by the next analysis", pendingText(b.Pending)))
+	}
+
+	t := b.Prediction
+	switch {
+	case t == nil || t.Check() != nil:
+		e.noTermsWarning = true
+		e.Warnings = append(e.Warnings, "no prediction interval: the formula was stored without its prediction terms; run `costdrift analyze --all`")
+		return e, nil
+	case t.Levels != levels || t.Regressors() != len(row):
+		e.noTermsWarning = true
+		e.Warnings = append(e.Warnings, "no prediction interval: the stored prediction terms do not match the formula; run `costdrift analyze --all`")
+		return e, nil
+	}
+	_, se := t.Predict(row)
+	e.SE, e.DF = se, float64(t.DF)
+	e.interval()
+	return e, nil
+}
+
+// interval sets the 80 and 95 % intervals from Value, SE and DF.
+func (e *Estimate) interval() {
+	if math.IsNaN(e.SE) || !(e.DF > 0) {
+		return
+	}
+	t80, t95 := tQuantile(0.20, e.DF), tQuantile(0.05, e.DF)
+	e.Low80, e.High80 = e.Value-t80*e.SE, e.Value+t80*e.SE
+	e.Low95, e.High95 = e.Value-t95*e.SE, e.Value+t95*e.SE
+}
+
+// tQuantile is the two-sided critical value of Student's t with df degrees
+// of freedom (not necessarily whole): Pr(|T| > t) = p.
+func tQuantile(p, df float64) float64 {
+	return math.Abs(distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Quantile(p / 2))
+}
+
+// stepLevel is the level whose activity range holds x; between two levels'
+// ranges the nearer; below the first or above the last, that end's.
+func stepLevel(steps []costdrift.StepLevel, x float64) int {
+	for g, s := range steps {
+		if x <= s.To {
+			if g > 0 && x < s.From && x-steps[g-1].To < s.From-x {
+				return g - 1
+			}
+			return g
+		}
+	}
+	return len(steps) - 1
+}
+
+func pendingText(p *costdrift.Pending) string {
+	s := string(p.Class)
+	if p.Driver != "" {
+		s += " on " + p.Driver
+	}
+	return s
+}
+
+// num writes an activity figure briefly.
+func num(v float64) string {
+	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
+		return fmt.Sprintf("%.0f", v)
+	}
+	return fmt.Sprintf("%.2f", v)
+}
+
+// Line is one line of a budget: one object's, one cost centre's or the
+// total's budget for one period.
+type Line struct {
+	Kind      Kind
+	Object    costdrift.CostObject // totals: the cost centre only, or nothing
+	Period    string
+	Class     costdrift.Class // objects only
+	Driver    string
+	Activity  float64 // planned activity of Driver; NaN without a driver
+	Driver2   string
+	Activity2 float64
+	Objects   int // objects in the sum (1 for an object's line)
+	Estimate
+	Warning string // every warning, joined with "; "
+}
+
+// Flexible budgets every behaviour for every period at the planned
+// activity. A driver's activity at a lag reaches before the period: plan
+// first, then actual supplies it (plan then actual, as the lookup
+// decides). shift(p, n) is the period n after p.
+func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Lookup, shift func(string, int) string) []Line {
+	var out []Line
+	for _, period := range periods {
+		for i := range behaviours {
+			b := &behaviours[i]
+			l := Line{Kind: KindObject, Object: b.Object, Period: period, Class: b.Class, Objects: 1,
+				Activity: math.NaN(), Activity2: math.NaN()}
+			l.Estimate = Estimate{Value: math.NaN(), SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+			var missing []string
+			if needsDriver(b) {
+				l.Driver = b.Driver
+				at := shift(period, -b.Lag)
+				if v, ok := activity(at, b.Driver, b.Object.CostCenter); ok {
+					l.Activity = v
+				} else {
+					missing = append(missing, activityNeed(b.Driver, at, b.Lag))
+				}
+				if b.Driver2 != "" {
+					l.Driver2 = b.Driver2
+					at2 := shift(period, -b.Lag2)
+					if v, ok := activity(at2, b.Driver2, b.Object.CostCenter); ok {
+						l.Activity2 = v
+					} else {
+						missing = append(missing, activityNeed(b.Driver2, at2, b.Lag2))
+					}
+				}
+			}
+			switch {
+			case len(missing) > 0:
+				l.Warnings = []string{"no budget: no planned or actual activity for " + strings.Join(missing, " and ")}
+			default:
+				e, err := Evaluate(b, l.Activity, l.Activity2)
+				if err != nil {
+					l.Warnings = []string{"no budget: " + strings.TrimPrefix(err.Error(), b.Object.String()+": ")}
+				} else {
+					l.Estimate = e
+				}
+			}
+			l.Warning = strings.Join(l.Warnings, "; ")
+			out = append(out, l)
+		}
+	}
+	return out
+}
+
+func needsDriver(b *costdrift.Behaviour) bool {
+	switch b.Class {
+	case costdrift.Variable, costdrift.Mixed, costdrift.Step:
+		return b.Driver != ""
+	}
+	return false
+}
+
+func activityNeed(driver, period string, lag int) string {
+	if lag == 0 {
+		return fmt.Sprintf("%s in %s", driver, period)
+	}
+	return fmt.Sprintf("%s in %s (lag %d)", driver, period, lag)
+}
+
+// sum is a running total of estimates.
+type sum struct {
+	value, variance, dfDenominator float64
+	objects, skipped, noTerms      int
+	outOfRange                     int
+}
+
+func (s *sum) add(e Estimate) {
+	if math.IsNaN(e.Value) {
+		s.skipped++
+		return
+	}
+	s.objects++
+	s.value += e.Value
+	if e.rangeWarning {
+		s.outOfRange++
+	}
+	if math.IsNaN(e.SE) || !(e.DF > 0) {
+		s.noTerms++
+		return
+	}
+	v := e.SE * e.SE
+	s.variance += v
+	s.dfDenominator += v * v / e.DF
+}
+
+// estimate is the total with its intervals and warnings.
+func (s *sum) estimate() Estimate {
+	e := Estimate{Value: s.value, SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+	if s.objects == 0 {
+		e.Value = math.NaN()
+	}
+	switch {
+	case s.noTerms > 0:
+		e.Warnings = append(e.Warnings, fmt.Sprintf("no interval: %d of the objects have no prediction terms", s.noTerms))
+	case s.variance == 0 && s.objects > 0:
+		e.SE, e.DF = 0, math.Inf(1)
+		e.Low80, e.High80, e.Low95, e.High95 = e.Value, e.Value, e.Value, e.Value
+	case s.objects > 0:
+		e.SE = math.Sqrt(s.variance)
+		e.DF = s.variance * s.variance / s.dfDenominator
+		e.interval()
+		e.Warnings = append(e.Warnings, fmt.Sprintf("%s (Welch–Satterthwaite df %.1f)", Independence, e.DF))
+	}
+	if s.skipped > 0 {
+		e.Warnings = append(e.Warnings, fmt.Sprintf("%d object(s) without a budget left out", s.skipped))
+	}
+	if s.outOfRange > 0 {
+		e.Warnings = append(e.Warnings, fmt.Sprintf("%d object(s) planned outside their relevant range", s.outOfRange))
+	}
+	return e
+}
+
+// Totals sums the object lines per period and cost centre and per period,
+// in the order: for each period, each cost centre's total (by name), then
+// the period's total.
+func Totals(lines []Line) []Line {
+	type key struct{ period, cc string }
+	byCC := map[key]*sum{}
+	byPeriod := map[string]*sum{}
+	var periods []string
+	ccs := map[string][]string{}
+	for _, l := range lines {
+		if l.Kind != KindObject {
+			continue
+		}
+		if byPeriod[l.Period] == nil {
+			byPeriod[l.Period] = &sum{}
+			periods = append(periods, l.Period)
+		}
+		k := key{l.Period, l.Object.CostCenter}
+		if byCC[k] == nil {
+			byCC[k] = &sum{}
+			ccs[l.Period] = append(ccs[l.Period], l.Object.CostCenter)
+		}
+		byCC[k].add(l.Estimate)
+		byPeriod[l.Period].add(l.Estimate)
+	}
+	var out []Line
+	for _, p := range periods {
+		names := ccs[p]
+		sort.Strings(names)
+		for _, cc := range names {
+			s := byCC[key{p, cc}]
+			out = append(out, totalLine(KindCostCenter, costdrift.CostObject{CostCenter: cc}, p, s))
+		}
+		out = append(out, totalLine(KindTotal, costdrift.CostObject{}, p, byPeriod[p]))
+	}
+	return out
+}
+
+func totalLine(kind Kind, o costdrift.CostObject, period string, s *sum) Line {
+	l := Line{Kind: kind, Object: o, Period: period, Objects: s.objects + s.skipped, Activity: math.NaN(), Activity2: math.NaN()}
+	l.Estimate = s.estimate()
+	l.Warning = strings.Join(l.Warnings, "; ")
+	return l
+}
