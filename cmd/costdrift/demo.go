@@ -37,7 +37,8 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if err := os.MkdirAll(dir, 0o700); err != nil {
 		return fmt.Errorf("demo folder %s: %w", dir, err)
 	}
-	if _, err := demo.Write(dir, demo.DefaultSeed); err != nil {
+	files, err := demo.Write(dir, demo.DefaultSeed)
+	if err != nil {
 		return fmt.Errorf("demo data: %w", err)
 	}
 	a.configPath = filepath.Join(dir, "costdrift.yaml")
@@ -70,7 +71,8 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if _, err := syncAll(ctx, e, db, a.out); err != nil {
 		return err
 	}
-	if _, err := a.analyzeAll(ctx, e, db, a.out, false); err != nil {
+	run, err := a.analyzeAll(ctx, e, db, a.out, false)
+	if err != nil {
 		return err
 	}
 	fmt.Fprintln(a.out)
@@ -106,6 +108,16 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if err := a.listAlerts(ctx, db); err != nil {
 		return err
 	}
+
+	next, closed := filepath.Join(dir, files.PlanNext), filepath.Join(dir, files.PlanClosed)
+	fmt.Fprintf(a.out, "\nThe company's plan for the next quarter, budgeted with the formulas (costdrift budget --plan %s):\n\n", next)
+	if err := a.budget(ctx, e, db, next, outputFlags{format: "table"}); err != nil {
+		return err
+	}
+	fmt.Fprintf(a.out, "\n%s against its flexible budget and the quarter's plan (costdrift variance --period %s --plan %s):\n\n", run.WindowTo, run.WindowTo, closed)
+	if err := a.variance(ctx, e, db, run.WindowTo, closed, outputFlags{format: "table"}); err != nil {
+		return err
+	}
 	if e.cfg.Mail.SMTP.Host == "" {
 		fmt.Fprintf(a.out, "\nAlert mail goes to the folder %s while mail.smtp.host is empty: open its .eml files in a mail client.\n",
 			e.cfg.Path(e.cfg.Mail.Outbox))
@@ -114,6 +126,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_series WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
+	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, cost_center, round(budget) AS budget, round(low95) AS low95, round(high95) AS high95 FROM flexible_budget WHERE line <> 'object'\"\n", db.Path())
 	return nil
 }
 

@@ -750,3 +750,36 @@ func ExampleExpectations() {
 	// 6500/WELD  Maintenance      mixed       900.00 + 1.10 × machine_hours (lag 1)
 	// 6600/ASSY  Marketing        unexplained 2500.00
 }
+
+// The plans follow the demo company's planning rule: the same month a year
+// before plus 5 %, frames and shipments to tens, machine hours to hours;
+// the closed quarter is the data's last, the next one follows it.
+func TestPlans(t *testing.T) {
+	dir, files, p := writeAndRead(t, DefaultSeed)
+	if files.PlanClosed != filepath.Join("plans", "plan-2026-q2.csv") || files.PlanNext != filepath.Join("plans", "plan-2026-q3.csv") {
+		t.Fatalf("plans %q and %q", files.PlanClosed, files.PlanNext)
+	}
+	for _, c := range []struct {
+		file    string
+		periods []string
+	}{{files.PlanClosed, []string{"2026-04", "2026-05", "2026-06"}}, {files.PlanNext, []string{"2026-07", "2026-08", "2026-09"}}} {
+		rows := readCSV(t, filepath.Join(dir, c.file))
+		if strings.Join(rows[0], ",") != "period,driver,value,cost_center" || len(rows) != 1+3*4 {
+			t.Fatalf("%s: header %v, %d rows (want 12: frames, shipments, machine hours of WELD and PAINT, 3 months)", c.file, rows[0], len(rows)-1)
+		}
+		for _, r := range rows[1:] {
+			if !slices.Contains(c.periods, r[0]) {
+				t.Errorf("%s: period %s", c.file, r[0])
+			}
+			at, _ := time.Parse("2006-01", r[0])
+			before := p.activity[[3]string{at.AddDate(-1, 0, 0).Format("2006-01"), r[1], r[3]}]
+			want := math.Round(before*PlanGrowth/10) * 10
+			if r[1] == "machine_hours" {
+				want = math.Round(before * PlanGrowth)
+			}
+			if got, _ := strconv.ParseFloat(r[2], 64); got != want || before == 0 {
+				t.Errorf("%s: %v planned %s, want %v (a year before %v × 1.05)", c.file, r[:2], r[2], want, before)
+			}
+		}
+	}
+}

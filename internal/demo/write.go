@@ -18,6 +18,10 @@ type Files struct {
 	Ledger   []string // one general-ledger file per calendar year, oldest first
 	Activity string
 	Accounts string
+	// Plans: the planned activity of the quarter the data end with (to
+	// compare with its actuals) and of the quarter after (to budget).
+	PlanClosed string
+	PlanNext   string
 }
 
 // Header rows of the three file kinds.
@@ -38,6 +42,8 @@ const (
 //	dir/data/gl/gl-2023.csv … gl-2026.csv  general ledger, one file per calendar year
 //	dir/data/activity.csv                   driver values, long form
 //	dir/data/accounts.csv                   chart of accounts
+//	dir/plans/plan-2026-q2.csv              planned activity of the last quarter of the data
+//	dir/plans/plan-2026-q3.csv              planned activity of the quarter after it
 //
 // Folders it creates get mode 0700 and files 0600. Each file is written to a
 // temporary name and renamed, so a reader never sees half a file and an
@@ -71,7 +77,52 @@ func Write(dir string, seed uint64) (Files, error) {
 	if err := writeFile(filepath.Join(dir, files.Accounts), accountsCSV()); err != nil {
 		return Files{}, err
 	}
+	if err := os.MkdirAll(filepath.Join(dir, "plans"), folderMode); err != nil {
+		return Files{}, fmt.Errorf("demo: write: %w", err)
+	}
+	for _, plan := range []struct {
+		path  *string
+		first int
+	}{{&files.PlanClosed, periodCount - 2}, {&files.PlanNext, periodCount + 1}} {
+		start := monthStart(plan.first)
+		*plan.path = filepath.Join("plans", fmt.Sprintf("plan-%d-q%d.csv", start.Year(), (int(start.Month())+2)/3))
+		if err := writeFile(filepath.Join(dir, *plan.path), ds.planCSV(plan.first)); err != nil {
+			return Files{}, err
+		}
+	}
 	return files, nil
+}
+
+// PlanGrowth is the demo company's planning rule: each quarter's activity
+// is planned at the same months of the year before plus 5 %, frames and
+// shipments rounded to tens, machine hours to whole hours.
+const PlanGrowth = 1.05
+
+// planCSV is the planned activity of the three months from period index
+// first (which may lie after the data), long form with cost centres, for
+// the drivers the demo's formulas use.
+func (ds *dataset) planCSV(first int) []byte {
+	rows := [][]string{{"period", "driver", "value", "cost_center"}}
+	for i := first; i < first+3; i++ {
+		for _, s := range ds.activity.series {
+			if s.driver != driverFrames && s.driver != driverShipments && s.driver != driverMachineHours {
+				continue
+			}
+			v := s.values[i-12] * PlanGrowth
+			if s.driver == driverMachineHours {
+				v = math.Round(v)
+			} else {
+				v = 10 * math.Round(v/10)
+			}
+			rows = append(rows, []string{monthStart(i).Format("2006-01"), s.driver, strconv.FormatFloat(v, 'f', 0, 64), s.costCenter})
+		}
+	}
+	return encode(rows)
+}
+
+// monthStart is the first day of period index i, also past the data.
+func monthStart(i int) time.Time {
+	return time.Date(firstYear, firstMonth+time.Month(i-1), 1, 0, 0, 0, 0, time.UTC)
 }
 
 // writeFile writes data to path through a temporary file in the same folder

@@ -95,6 +95,14 @@ func (db *DB) SaveAnalysis(ctx context.Context, run *costdrift.AnalysisRun, fits
 			}
 		}
 		for object, hash := range run.Inputs {
+			// The fits of the object's previous analysis go: fits holds
+			// each object's latest candidates, behaviour_history the
+			// formulas over time, so that a daemon's store does not grow
+			// with every analysis.
+			if _, err := tx.ExecContext(ctx, `DELETE FROM fits WHERE object = ? AND analysis_run_id <> ?
+				AND analysis_run_id = (SELECT analysis_run_id FROM object_inputs WHERE object = ?)`, object, run.ID, object); err != nil {
+				return fmt.Errorf("drop the earlier fits of %s: %w", object, err)
+			}
 			if _, err := tx.ExecContext(ctx, `INSERT INTO object_inputs (object, input_hash, analysis_run_id) VALUES (?, ?, ?)
 				ON CONFLICT (object) DO UPDATE SET input_hash = excluded.input_hash, analysis_run_id = excluded.analysis_run_id`,
 				object, hash, run.ID); err != nil {

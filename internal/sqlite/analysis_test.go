@@ -2,6 +2,7 @@ package sqlite
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"reflect"
 	"strconv"
@@ -10,6 +11,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/fit"
 )
 
 var weld = costdrift.CostObject{Account: "6200", CostCenter: "WELD"}
@@ -28,6 +30,8 @@ func mixed() costdrift.Behaviour {
 		HighLow: &costdrift.HighLow{HighPeriod: "2025-11", LowPeriod: "2024-08", HighActivity: 1490, LowActivity: 512.5,
 			HighCost: 7000.25, LowCost: 5180.75, Fixed: 4218.1, Rate: 1.86, Warning: "the low end (2024-08) is an outlier"},
 		CV: 0.125, MeanCost: 6100.25,
+		Prediction: &fit.Terms{Intercept: true, Centre: []float64{900.5}, Coef: []float64{6100.25, 1.875}, Cov: []float64{1.0 / 35, 0, 0, 1.25e-6},
+			S: 80.5, N: 35, DF: 33},
 	}
 }
 
@@ -303,5 +307,70 @@ func TestSaveAnalysisIsAtomic(t *testing.T) {
 	}
 	if after := dump(t, db, `SELECT * FROM behaviour_history`); after != before {
 		t.Errorf("behaviour_history changed:\n%s\nwas\n%s", after, before)
+	}
+}
+
+// fits keeps each object's latest analysis: a new analysis of an object
+// drops the fits of its previous one; an object not analysed again keeps
+// its fits.
+func TestFitsKeepEachObjectsLatestAnalysis(t *testing.T) {
+	db, c := mustOpen(t)
+	assy := costdrift.CostObject{Account: "6300", CostCenter: "ASSY"}
+	fitsOf := func(objects ...costdrift.CostObject) []costdrift.Fit {
+		var out []costdrift.Fit
+		for _, o := range objects {
+			out = append(out, costdrift.Fit{Object: o, Model: costdrift.ModelConstant, N: 36, Intercept: 100, RangeMin: math.NaN(), RangeMax: math.NaN()},
+				costdrift.Fit{Object: o, Driver: "orders", Model: costdrift.ModelLinear, N: 36, Intercept: 50, Slope: 2})
+		}
+		return out
+	}
+	for i, objects := range [][]costdrift.CostObject{{weld, assy}, {weld}, {weld}} {
+		run := analysisRun(c)
+		run.Inputs = map[string]string{}
+		for _, o := range objects {
+			run.Inputs[o.String()] = fmt.Sprintf("hash %d", i)
+		}
+		if err := db.SaveAnalysis(context.Background(), run, fitsOf(objects...), nil); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want := `"6200/WELD"|int64:3|int64:2` + "\n" + `"6300/ASSY"|int64:1|int64:2` + "\n"
+	if got := dump(t, db, `SELECT object, analysis_run_id, COUNT(*) FROM fits GROUP BY object, analysis_run_id ORDER BY object`); got != want {
+		t.Errorf("fits by object and run:\n%s\nwant\n%s", got, want)
+	}
+	if got := dump(t, db, `SELECT COUNT(*) FROM latest_fits`); got != "int64:4\n" {
+		t.Errorf("latest_fits holds %s, want the same 4 rows", got)
+	}
+}
+
+// BehaviourIn gives the formula in force in a period: before a break the
+// old one, with its prediction terms; from the break on, and after the
+// last analysed period, the new one.
+func TestBehaviourIn(t *testing.T) {
+	db, c := mustOpen(t)
+	ctx := context.Background()
+	save(t, db, c, nil, mixed())
+	after := mixed()
+	after.FixedPerPeriod, after.Since = 3900, "2025-02"
+	before := &fit.Terms{Intercept: true, Centre: []float64{880}, Coef: []float64{5900, 1.9}, Cov: []float64{1.0 / 19, 0, 0, 2e-6}, S: 70, N: 19, DF: 17}
+	after.Break = &costdrift.Break{Period: "2025-02", LastBefore: "2025-01", WindowFrom: "2023-07", Test: "sup-F", Statistic: 30, P: 0.001,
+		Driver: "machine_hours", Lag: 1, FixedBefore: 4210.5, RateBefore: 1.875, FixedAfter: 3900, RateAfter: 1.875, Periods: 17,
+		PredictionBefore: before}
+	save(t, db, c, nil, after)
+	for _, tc := range []struct {
+		period string
+		fixed  float64
+	}{{"2023-07", 4210.5}, {"2024-06", 4210.5}, {"2025-01", 4210.5}, {"2025-02", 3900}, {"2026-06", 3900}, {"2027-01", 3900}} {
+		bs, err := db.BehaviourIn(ctx, tc.period)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(bs) != 1 || bs[0].FixedPerPeriod != tc.fixed || bs[0].Prediction == nil {
+			t.Fatalf("%s: %+v, want one behaviour with fixed %v and prediction terms", tc.period, bs, tc.fixed)
+		}
+	}
+	bs, _ := db.BehaviourIn(ctx, "2023-06")
+	if len(bs) != 0 {
+		t.Errorf("2023-06, before any behaviour: %d behaviours", len(bs))
 	}
 }

@@ -65,58 +65,21 @@ func (db *DB) ObjectAnalysis(ctx context.Context, object string) (ObjectAnalysis
 	return out, nil
 }
 
-// objectBehaviour reads one row of current_behaviour and the run that last
-// confirmed it.
+// objectBehaviour reads one object's open behaviour row and the run that
+// last confirmed it.
 func (db *DB) objectBehaviour(ctx context.Context, object string) (costdrift.Behaviour, int64, error) {
-	var b costdrift.Behaviour
-	var runID int64
-	var class, steps, highLow, outliers, diagnostics string
-	var lag, lag2 sql.NullInt64
-	var fixed, rate, rate2, r2, lo, hi, mean, cv sql.NullFloat64
-	err := db.db.QueryRowContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
-		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
-		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
-		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		analysis_run_id
-		FROM current_behaviour WHERE object = ?`, object).Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit,
-		&lag, &fixed, &rate, &r2, &b.N, &lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-		&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &runID)
-	if errors.Is(err, sql.ErrNoRows) {
-		return b, 0, ErrNotAnalysed
-	}
+	bs, err := db.behaviours(ctx, `valid_to_run_at IS NULL AND object = ?`, object)
 	if err != nil {
-		return b, 0, err
+		return costdrift.Behaviour{}, 0, err
 	}
-	b.Class = costdrift.Class(class)
-	b.Lag, b.Lag2, b.VariableRate2 = int(lag.Int64), int(lag2.Int64), rate2.Float64
-	b.FixedPerPeriod, b.VariableRate, b.R2 = orNaN(fixed), orNaN(rate), orNaN(r2)
-	b.RangeMin, b.RangeMax, b.MeanCost, b.CV = orNaN(lo), orNaN(hi), orNaN(mean), orNaN(cv)
-	if steps != "" {
-		if err := json.Unmarshal([]byte(steps), &b.Steps); err != nil {
-			return b, 0, fmt.Errorf("behaviour %s: steps: %w", object, err)
-		}
+	if len(bs) == 0 {
+		return costdrift.Behaviour{}, 0, ErrNotAnalysed
 	}
-	if highLow != "" {
-		var h highLowJSON
-		if err := json.Unmarshal([]byte(highLow), &h); err != nil {
-			return b, 0, fmt.Errorf("behaviour %s: high_low: %w", object, err)
-		}
-		hl := costdrift.HighLow(h)
-		b.HighLow = &hl
+	var runID int64
+	if err := db.db.QueryRowContext(ctx, `SELECT last_run_id FROM behaviour_history WHERE valid_to_run_at IS NULL AND object = ?`, object).Scan(&runID); err != nil {
+		return costdrift.Behaviour{}, 0, err
 	}
-	if outliers != "" {
-		if err := json.Unmarshal([]byte(outliers), &b.Outliers); err != nil {
-			return b, 0, fmt.Errorf("behaviour %s: outliers: %w", object, err)
-		}
-	}
-	if diagnostics != "" {
-		var d diagnosticsJSON
-		if err := json.Unmarshal([]byte(diagnostics), &d); err != nil {
-			return b, 0, fmt.Errorf("behaviour %s: diagnostics: %w", object, err)
-		}
-		b.Diagnostics = d.domain()
-	}
-	return b, runID, nil
+	return bs[0], runID, nil
 }
 
 // analysisRun reads one row of analysis_runs.
