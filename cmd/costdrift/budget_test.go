@@ -19,19 +19,30 @@ import (
 
 // demoStore runs the demo once per test binary into a shared folder; the
 // budget tests read it (budget and variance write only their own tables).
-var demoStore = sync.OnceValues(func() (string, error) {
-	dir, err := os.MkdirTemp("", "costdrift-budget-demo-")
-	if err != nil {
-		return "", err
+var (
+	demoStoreDir string
+	demoStore    = sync.OnceValues(func() (string, error) {
+		dir, err := os.MkdirTemp("", "costdrift-budget-demo-")
+		if err != nil {
+			return "", err
+		}
+		demoStoreDir = dir
+		var out strings.Builder
+		root := newRoot(&out, &out, today)
+		root.SetArgs([]string{"demo", "--dir", dir})
+		if err := root.Execute(); err != nil {
+			return "", err
+		}
+		return dir, nil
+	})
+)
+
+// removeDemoStore removes the shared demo folder after the tests.
+func removeDemoStore() {
+	if demoStoreDir != "" {
+		os.RemoveAll(demoStoreDir)
 	}
-	var out strings.Builder
-	root := newRoot(&out, &out, today)
-	root.SetArgs([]string{"demo", "--dir", dir})
-	if err := root.Execute(); err != nil {
-		return "", err
-	}
-	return dir, nil
-})
+}
 
 func demoDir(t *testing.T) string {
 	t.Helper()

@@ -18,7 +18,9 @@ func TestMain(m *testing.M) {
 		main()
 		os.Exit(0)
 	}
-	os.Exit(m.Run())
+	code := m.Run()
+	removeDemoStore()
+	os.Exit(code)
 }
 
 // killPart is the text of ledger file f in its given version, and the sum
