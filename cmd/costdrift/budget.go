@@ -87,16 +87,9 @@ view flexible_budget); budget writes nothing else, so it runs beside a daemon.`,
 			if err := out.check(); err != nil {
 				return err
 			}
-			e, err := a.loadConfig()
-			if err != nil {
-				return err
-			}
-			db, err := a.openStore(cmd.Context(), e, true)
-			if err != nil {
-				return err
-			}
-			defer db.Close()
-			return a.budget(cmd.Context(), e, db, planPath, out)
+			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+				return a.budget(cmd.Context(), e, db, planPath, out)
+			})
 		},
 	}
 	cmd.Flags().StringVar(&planPath, "plan", "", "planned activity, CSV or XLSX")
@@ -184,16 +177,9 @@ spending_variances); variance writes nothing else, so it runs beside a daemon.`,
 			if err := out.check(); err != nil {
 				return err
 			}
-			e, err := a.loadConfig()
-			if err != nil {
-				return err
-			}
-			db, err := a.openStore(cmd.Context(), e, true)
-			if err != nil {
-				return err
-			}
-			defer db.Close()
-			return a.variance(cmd.Context(), e, db, period, planPath, out)
+			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+				return a.variance(cmd.Context(), e, db, period, planPath, out)
+			})
 		},
 	}
 	cmd.Flags().StringVar(&period, "period", "", "the closed period to report on")

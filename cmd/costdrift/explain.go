@@ -41,16 +41,9 @@ the chosen driver, as PNG or SVG by the file's extension.`,
 					return fmt.Errorf("--chart %s: the file must end in .png or .svg", chartPath)
 				}
 			}
-			e, err := a.loadConfig()
-			if err != nil {
-				return err
-			}
-			db, err := a.openStore(cmd.Context(), e, true)
-			if err != nil {
-				return err
-			}
-			defer db.Close()
-			return a.explain(cmd.Context(), e, db, args[0], format, chartPath)
+			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+				return a.explain(cmd.Context(), e, db, args[0], format, chartPath)
+			})
 		},
 	}
 	cmd.Flags().StringVar(&format, "format", "text", "text or json")

@@ -21,16 +21,9 @@ func (a *app) reportCommand() *cobra.Command {
 			if format != "table" && format != "json" {
 				return fmt.Errorf("--format must be table or json, not %q", format)
 			}
-			e, err := a.loadConfig()
-			if err != nil {
-				return err
-			}
-			db, err := a.openStore(cmd.Context(), e, true)
-			if err != nil {
-				return err
-			}
-			defer db.Close()
-			return writeReport(cmd.Context(), db, format, e.currency.Code, a.out)
+			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+				return writeReport(cmd.Context(), db, format, e.currency.Code, a.out)
+			})
 		},
 	}
 	cmd.Flags().StringVar(&format, "format", "table", "table or json")

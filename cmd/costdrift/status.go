@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
 func (a *app) statusCommand() *cobra.Command {
@@ -22,26 +23,19 @@ func (a *app) statusCommand() *cobra.Command {
 			if limit < 1 {
 				return fmt.Errorf("--limit must be at least 1, not %d", limit)
 			}
-			e, err := a.loadConfig()
-			if err != nil {
-				return err
-			}
 			// Reading only: no lock, so status works beside a running daemon.
-			db, err := a.openStore(cmd.Context(), e, true)
-			if err != nil {
-				return err
-			}
-			defer db.Close()
-			cycles, err := db.Cycles(cmd.Context(), limit)
-			if err != nil {
-				return fmt.Errorf("status: %w", err)
-			}
-			runs, err := db.SyncRuns(cmd.Context(), limit)
-			if err != nil {
-				return fmt.Errorf("status: %w", err)
-			}
-			writeStatus(a.out, cycles, runs)
-			return nil
+			return a.readStore(cmd.Context(), func(_ *env, db *sqlite.DB) error {
+				cycles, err := db.Cycles(cmd.Context(), limit)
+				if err != nil {
+					return fmt.Errorf("status: %w", err)
+				}
+				runs, err := db.SyncRuns(cmd.Context(), limit)
+				if err != nil {
+					return fmt.Errorf("status: %w", err)
+				}
+				writeStatus(a.out, cycles, runs)
+				return nil
+			})
 		},
 	}
 	cmd.Flags().IntVar(&limit, "limit", 10, "how many cycles and sync runs to show")

@@ -54,6 +54,12 @@ type Estimate struct {
 	noTermsWarning bool
 }
 
+// unknown is an estimate with no figure yet.
+func unknown() Estimate {
+	nan := math.NaN()
+	return Estimate{Value: nan, SE: nan, DF: nan, Low80: nan, High80: nan, Low95: nan, High95: nan}
+}
+
 // Lookup returns a driver's activity in a period for a cost centre: the
 // cost centre's own series when there is one, else the company-wide series.
 type Lookup func(period, driver, costCenter string) (float64, bool)
@@ -61,7 +67,7 @@ type Lookup func(period, driver, costCenter string) (float64, bool)
 // Evaluate is b's formula at activity x1 (and x2 for a second driver; both
 // ignored when the formula has no driver).
 func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
-	e := Estimate{SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+	e := unknown()
 	var row []float64
 	levels := false
 	switch b.Class {
@@ -202,7 +208,7 @@ func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Looku
 			b := &behaviours[i]
 			l := Line{Kind: KindObject, Object: b.Object, Period: period, Class: b.Class, Objects: 1,
 				Activity: math.NaN(), Activity2: math.NaN()}
-			l.Estimate = Estimate{Value: math.NaN(), SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+			l.Estimate = unknown()
 			var missing []string
 			if needsDriver(b) {
 				l.Driver = b.Driver
@@ -283,7 +289,8 @@ func (s *sum) add(e Estimate) {
 
 // estimate is the total with its intervals and warnings.
 func (s *sum) estimate() Estimate {
-	e := Estimate{Value: s.value, SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+	e := unknown()
+	e.Value = s.value
 	if s.objects == 0 {
 		e.Value = math.NaN()
 	}

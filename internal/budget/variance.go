@@ -144,7 +144,7 @@ func VarianceTotals(lines []VarianceLine) []VarianceLine {
 	for _, g := range append(groups, all) {
 		l := g.l
 		l.Static, l.SpendingVariance, l.ActivityVariance = math.NaN(), math.NaN(), math.NaN()
-		l.Flexible = Estimate{Value: math.NaN(), SE: math.NaN(), DF: math.NaN(), Low80: math.NaN(), High80: math.NaN(), Low95: math.NaN(), High95: math.NaN()}
+		l.Flexible = unknown()
 		var warnings []string
 		if len(g.flex) > 0 {
 			tot := Totals(g.flex)

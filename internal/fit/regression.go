@@ -794,44 +794,11 @@ func (r *Regression) finish(tss float64) {
 //
 // where x0 carries a leading 1 when the model has an intercept. A prediction
 // interval is yhat ± TQuantile(α, DF)·se. Predict evaluates both in the centred
-// parametrisation the fit was computed in. It panics when len(x0) is not the
-// number of regressors or r was not produced by this package.
+// parametrisation the fit was computed in, through r's Terms. It panics when
+// len(x0) is not the number of regressors or r was not produced by this
+// package.
 func (r *Regression) Predict(x0 []float64) (yhat, se float64) {
-	k := len(r.Coef)
-	if k == 0 || len(r.gamma) != k || len(r.factor) != k*k {
-		panic("fit: Predict on a Regression not produced by this package")
-	}
-	first := 0
-	if r.Intercept {
-		first = 1
-	}
-	if len(x0) != k-first {
-		panic(fmt.Sprintf("fit: Predict got %d regressor values, the model has %d", len(x0), k-first))
-	}
-	var buf [8]float64
-	row := buf[:0]
-	if k > len(buf) {
-		row = make([]float64, 0, k)
-	}
-	if r.Intercept {
-		row = append(row, 1)
-	}
-	for j, v := range x0 {
-		if r.centre != nil {
-			v -= r.centre[j]
-		}
-		row = append(row, v)
-	}
-	var q float64
-	for col := 0; col < k; col++ {
-		yhat += r.gamma[col] * row[col]
-		var u float64
-		for i := 0; i <= col; i++ {
-			u += row[i] * r.factor[i*k+col]
-		}
-		q += u * u
-	}
-	return yhat, r.ResidualSE * math.Sqrt(1+q)
+	return r.Terms().Predict(x0)
 }
 
 // PredictionInterval returns the two-sided prediction interval for a new

@@ -130,7 +130,7 @@ func (t Terms) Regressors() int {
 func (t Terms) Predict(x0 []float64) (yhat, se float64) {
 	k := len(t.Coef)
 	if len(x0) != t.Regressors() || len(t.Cov) != k*k {
-		panic(fmt.Sprintf("fit: Terms.Predict got %d regressor values, the terms have %d", len(x0), t.Regressors()))
+		panic(fmt.Sprintf("fit: Predict got %d regressor values, the model has %d", len(x0), t.Regressors()))
 	}
 	var buf [8]float64
 	row := buf[:0]

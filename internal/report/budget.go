@@ -2,7 +2,6 @@ package report
 
 import (
 	"encoding/csv"
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -66,11 +65,7 @@ func money(v float64) *float64 {
 }
 
 // BudgetJSON writes the rows as a JSON array.
-func BudgetJSON(w io.Writer, rows []BudgetRow) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(rows)
-}
+func BudgetJSON(w io.Writer, rows []BudgetRow) error { return writeJSON(w, rows) }
 
 // budgetHeader names the columns of the CSV and XLSX outputs.
 var budgetHeader = []string{"line", "period", "object", "account", "account_name", "cost_center", "class", "driver", "activity",
@@ -193,11 +188,7 @@ func VarianceRows(lines []budget.VarianceLine, names map[string]string) []Varian
 }
 
 // VarianceJSON writes the rows as a JSON array.
-func VarianceJSON(w io.Writer, rows []VarianceRow) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(rows)
-}
+func VarianceJSON(w io.Writer, rows []VarianceRow) error { return writeJSON(w, rows) }
 
 var varianceHeader = []string{"line", "period", "object", "account", "account_name", "cost_center", "class", "driver",
 	"actual_activity", "planned_activity", "actual", "flexible_budget", "low95", "high95", "spending_variance", "spending_mark",

@@ -92,10 +92,13 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 }
 
 // JSON writes the rows as an indented JSON array.
-func JSON(w io.Writer, rows []Row) error {
+func JSON(w io.Writer, rows []Row) error { return writeJSON(w, rows) }
+
+// writeJSON writes v as indented JSON.
+func writeJSON(w io.Writer, v any) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
-	return enc.Encode(rows)
+	return enc.Encode(v)
 }
 
 // Table writes the rows as an aligned table followed by each object's
