@@ -37,6 +37,8 @@ evaluation, and resolves itself when the condition clears.`,
 }
 
 // withStore opens the existing store for one command and closes it after.
+// It takes no lock: the commands that only read, and budget and variance,
+// which write only their own tables, work beside a running daemon.
 func (a *app) withStore(ctx context.Context, fn func(*env, *sqlite.DB) error) error {
 	e, err := a.loadConfig()
 	if err != nil {

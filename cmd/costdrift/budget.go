@@ -87,7 +87,7 @@ view flexible_budget); budget writes nothing else, so it runs beside a daemon.`,
 			if err := out.check(); err != nil {
 				return err
 			}
-			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				return a.budget(cmd.Context(), e, db, planPath, out)
 			})
 		},
@@ -177,7 +177,7 @@ spending_variances); variance writes nothing else, so it runs beside a daemon.`,
 			if err := out.check(); err != nil {
 				return err
 			}
-			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				return a.variance(cmd.Context(), e, db, period, planPath, out)
 			})
 		},

@@ -41,7 +41,7 @@ the chosen driver, as PNG or SVG by the file's extension.`,
 					return fmt.Errorf("--chart %s: the file must end in .png or .svg", chartPath)
 				}
 			}
-			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				return a.explain(cmd.Context(), e, db, args[0], format, chartPath)
 			})
 		},

@@ -21,7 +21,7 @@ func (a *app) reportCommand() *cobra.Command {
 			if format != "table" && format != "json" {
 				return fmt.Errorf("--format must be table or json, not %q", format)
 			}
-			return a.readStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				return writeReport(cmd.Context(), db, format, e.currency.Code, a.out)
 			})
 		},

@@ -24,7 +24,7 @@ func (a *app) statusCommand() *cobra.Command {
 				return fmt.Errorf("--limit must be at least 1, not %d", limit)
 			}
 			// Reading only: no lock, so status works beside a running daemon.
-			return a.readStore(cmd.Context(), func(_ *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(_ *env, db *sqlite.DB) error {
 				cycles, err := db.Cycles(cmd.Context(), limit)
 				if err != nil {
 					return fmt.Errorf("status: %w", err)

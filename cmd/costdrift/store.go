@@ -55,22 +55,6 @@ func (a *app) openStore(ctx context.Context, e *env, mustExist bool) (*sqlite.DB
 	return db, nil
 }
 
-// readStore loads the config, opens the existing store without its lock
-// (the commands that read, and budget and variance, which write only their
-// own tables, work beside a running daemon) and runs fn.
-func (a *app) readStore(ctx context.Context, fn func(e *env, db *sqlite.DB) error) error {
-	e, err := a.loadConfig()
-	if err != nil {
-		return err
-	}
-	db, err := a.openStore(ctx, e, true)
-	if err != nil {
-		return err
-	}
-	defer db.Close()
-	return fn(e, db)
-}
-
 // openStoreToWrite takes the store's lock, then opens it; closing the
 // returned function closes the store and gives the lock up. Commands that
 // write (sync, analyze, alert changes, the daemon) use it, so that none of
