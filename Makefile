@@ -33,8 +33,9 @@ bench-sync: ## sync of a 1,000,000-line ledger against the sqlite3 shell's .impo
 bench-analyze: ## analysis of 10,000 objects x 30 drivers x 2 lags against a statsmodels loop and a numpy floor
 	bash scripts/bench-analyze/run.sh
 
-soak: build ## run the daemon 10 minutes with files arriving; sample goroutines, open files, RSS and Go heap (not in CI)
-	bash scripts/soak.sh 600 30
+SOAK_ROTATE ?= 20
+soak: build ## run the daemon 10 minutes with a file arriving every 3 s; sample goroutines, open files, RSS, Go heap, store (not in CI)
+	ROTATE=$(SOAK_ROTATE) bash scripts/soak.sh 600 30
 
 ci: ## what CI runs: lint, test, demo
 	bash .ci/run

@@ -4,13 +4,20 @@
 # every few seconds; every INTERVAL seconds (default 30) it samples the
 # daemon's goroutines (go_goroutines on /metrics), open files (/proc/PID/fd),
 # resident memory (VmRSS in /proc/PID/status) and, to tell Go's memory from
-# SQLite's, the Go heap in use (go_memstats_heap_inuse_bytes); then prints the table and
-# the growth from the first sample to the last. Needs bin/costdrift (make build)
-# and curl.
+# SQLite's, the Go heap in use (go_memstats_heap_inuse_bytes) and the
+# store's size on disk; then prints the table and the growth from the first
+# sample to the last. With ROTATE=N the arriving files take N names in turn,
+# so that each replaces (restates) an earlier one and the store's volume of
+# postings stays level: memory must then stay level too (`make soak` runs
+# it so, ROTATE=20). With ROTATE=0 every file is new and the store grows by
+# 200 lines every 3 s; SQLite's page cache, and so the resident memory,
+# grows with it up to the cache's bound (64 MiB a connection). BIN names
+# another binary to soak. Needs bin/costdrift (make build) and curl.
 set -euo pipefail
 duration=${1:-600}
+rotate=${ROTATE:-0}
 interval=${2:-30}
-bin=$(cd "$(dirname "$0")/.." && pwd)/bin/costdrift
+bin=${BIN:-$(cd "$(dirname "$0")/.." && pwd)/bin/costdrift}
 [ -x "$bin" ] || { echo "soak: $bin missing; run make build" >&2; exit 1; }
 
 dir=$(mktemp -d)
@@ -48,19 +55,20 @@ sleep 2
 	n=0
 	while sleep 3; do
 		n=$((n + 1))
-		ledger "$n"
+		if [ "$rotate" -gt 0 ]; then ledger $((n % rotate)); else ledger "$n"; fi
 	done
 ) &
 writer=$!
 
 sample() {
-	local g fd rss heap m
+	local g fd rss heap m db
 	m=$(curl -fsS "http://127.0.0.1:$port/metrics")
 	g=$(awk '$1 == "go_goroutines" {print $2}' <<<"$m")
 	heap=$(awk '$1 == "go_memstats_heap_inuse_bytes" {printf "%d", $2 / 1024}' <<<"$m")
 	fd=$(ls "/proc/$daemon/fd" | wc -l)
 	rss=$(awk '/^VmRSS:/ {print $2}' "/proc/$daemon/status")
-	echo "$1 $g $fd $rss $heap"
+	db=$(du -ck costdrift.db* | tail -1 | cut -f1) # with the write-ahead log
+	echo "$1 $g $fd $rss $heap $db"
 }
 
 samples=()
@@ -81,12 +89,12 @@ cycles=$(grep -c 'msg="cycle finished"' daemon.log || true)
 failed=$(grep 'msg="cycle finished"' daemon.log | grep -c 'status=failed' || true)
 skipped=$(grep -c 'tick skipped' daemon.log || true)
 files=$(ls data/gl | wc -l)
-printf '%8s %11s %11s %10s %10s\n' seconds goroutines open_files rss_kib heap_kib
-for s in "${samples[@]}"; do printf '%8s %11s %11s %10s %10s\n' $s; done
+printf '%8s %11s %11s %10s %10s %10s\n' seconds goroutines open_files rss_kib heap_kib store_kib
+for s in "${samples[@]}"; do printf '%8s %11s %11s %10s %10s %10s\n' $s; done
 first=(${samples[0]}); last=(${samples[-1]})
-printf 'growth, first to last sample: goroutines %+d, open files %+d, RSS %+d KiB, Go heap %+d KiB\n' \
-	$((last[1] - first[1])) $((last[2] - first[2])) $((last[3] - first[3])) $((last[4] - first[4]))
-echo "store: $(du -k costdrift.db | cut -f1) KiB, $(ls data/gl | wc -l) ledger files"
+printf 'growth, first to last sample: goroutines %+d, open files %+d, RSS %+d KiB, Go heap %+d KiB, store %+d KiB\n' \
+	$((last[1] - first[1])) $((last[2] - first[2])) $((last[3] - first[3])) $((last[4] - first[4])) $((last[5] - first[5]))
+echo "store: $(du -ck costdrift.db* | tail -1 | cut -f1) KiB with its write-ahead log, $(ls data/gl | wc -l) ledger files"
 echo "cycles: $cycles finished ($failed failed), $skipped ticks skipped; $files ledger files arrived; exit status after SIGTERM: $status"
 grep 'level=ERROR' daemon.log | head -5 || true
 [ "$status" -eq 0 ]

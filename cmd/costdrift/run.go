@@ -10,6 +10,7 @@ import (
 	"net/http"
 	"os"
 	"os/signal"
+	"runtime/debug"
 	"strings"
 	"sync"
 	"sync/atomic"
@@ -337,6 +338,12 @@ func (d *daemon) tick(ctx context.Context) {
 		d.good = c.FinishedAt
 	}
 	d.mu.Unlock()
+	// Between cycles the daemon holds as little as it can: SQLite's page
+	// caches, and the Go memory the cycle freed, go back to the system.
+	if err := d.db.ReleaseMemory(ctx); err != nil && ctx.Err() == nil {
+		d.log.Warn("store memory not released", "error", err)
+	}
+	debug.FreeOSMemory()
 }
 
 // seedHealth takes the latest cycles from the store, so that a restarted

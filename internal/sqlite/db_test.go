@@ -260,3 +260,37 @@ func TestOpenPathWithURICharacters(t *testing.T) {
 		})
 	}
 }
+
+// ReleaseMemory visits every idle connection once, keeps them open and
+// leaves the store working.
+func TestReleaseMemory(t *testing.T) {
+	db, c := mustOpen(t)
+	ctx := context.Background()
+	save(t, db, c, nil, mixed(), step())
+	// Three connections in use at once, then idle.
+	var held []*sql.Conn
+	for range 3 {
+		conn, err := db.SQL().Conn(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := conn.ExecContext(ctx, `SELECT COUNT(*) FROM behaviour_history`); err != nil {
+			t.Fatal(err)
+		}
+		held = append(held, conn)
+	}
+	for _, conn := range held {
+		conn.Close()
+	}
+	before := db.SQL().Stats()
+	if err := db.ReleaseMemory(ctx); err != nil {
+		t.Fatal(err)
+	}
+	after := db.SQL().Stats()
+	if before.Idle != 3 || after.Idle != 3 || after.OpenConnections != before.OpenConnections {
+		t.Errorf("idle connections %d before, %d after (open %d, %d): want all 3 kept", before.Idle, after.Idle, before.OpenConnections, after.OpenConnections)
+	}
+	if got := current(t, db); len(got) != 2 {
+		t.Errorf("after ReleaseMemory the store returns %d behaviours, want 2", len(got))
+	}
+}
