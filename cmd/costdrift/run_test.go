@@ -218,6 +218,21 @@ func TestDaemon(t *testing.T) {
 		}
 	})
 
+	t.Run("budget and status beside the daemon", func(t *testing.T) {
+		// They take no lock: budget writes only its own tables.
+		plan := filepath.Join(dir, "plan.csv")
+		writeFile(t, plan, "period,driver,value\n2026-02,frames_built,120\n")
+		for _, args := range [][]string{{"budget", "--plan", plan, "--format", "json"}, {"status"}} {
+			out, err := command(append([]string{"--config", cfg}, args...)...).CombinedOutput()
+			if err != nil {
+				t.Errorf("costdrift %s beside the daemon: %v\n%s", strings.Join(args, " "), err, out)
+			}
+		}
+		if n := count(t, store, "SELECT COUNT(*) FROM plans WHERE plan = 'plan'"); n != 1 {
+			t.Errorf("the plan read beside the daemon is stored %d times, want once", n)
+		}
+	})
+
 	t.Run("SIGHUP with a broken config keeps the old one", func(t *testing.T) {
 		good, err := os.ReadFile(cfg)
 		if err != nil {
