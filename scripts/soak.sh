@@ -12,7 +12,7 @@
 # it so, ROTATE=20). With ROTATE=0 every file is new and the store grows by
 # 200 lines every 3 s; SQLite's page cache, and so the resident memory,
 # grows with it up to the cache's bound (64 MiB a connection). BIN names
-# another binary to soak. Needs bin/costdrift (make build) and curl.
+# another binary to soak, SCHEDULE another schedule than @every 1s. Needs bin/costdrift (make build) and curl.
 set -euo pipefail
 duration=${1:-600}
 rotate=${ROTATE:-0}
@@ -25,7 +25,7 @@ trap 'kill "$writer" 2>/dev/null || true; kill "$daemon" 2>/dev/null || true; rm
 cd "$dir"
 "$bin" --config costdrift.yaml init >/dev/null
 port=$(python3 -c 'import socket; s=socket.socket(); s.bind(("127.0.0.1",0)); print(s.getsockname()[1])')
-sed -i 's/cron: "0 6 \* \* \*"/cron: "@every 1s"/; s/listen: ""/listen: "127.0.0.1:'"$port"'"/' costdrift.yaml
+sed -i 's/cron: "0 6 \* \* \*"/cron: "'"${SCHEDULE:-@every 1s}"'"/; s/listen: ""/listen: "127.0.0.1:'"$port"'"/' costdrift.yaml
 printf 'account,name\n6100,Rent\n6200,Energy\n6300,Maintenance\n' > data/accounts.csv
 {
 	echo "period,driver,value"
