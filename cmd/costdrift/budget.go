@@ -117,7 +117,7 @@ func (a *app) budget(ctx context.Context, e *env, db *sqlite.DB, planPath string
 	if len(bs) == 0 {
 		return errors.New("budget: no cost behaviour stored yet: run `costdrift analyze` first")
 	}
-	lines := budget.Flexible(bs, plan.periods(), firstOf(plan.lookup, actual.lookup), e.calendar.Shift)
+	lines := budget.Flexible(bs, plan.periods(), activityLookup(actual, plan.activityIndex, actual), e.calendar.Shift)
 	lines = append(lines, budget.Totals(lines)...)
 	lines = orderBudget(lines)
 	if err := db.SaveBudget(ctx, plan.name, plan.values, lines, a.now()); err != nil {
@@ -208,7 +208,7 @@ func (a *app) variance(ctx context.Context, e *env, db *sqlite.DB, period, planP
 			return err
 		}
 		plan = &p
-		planLookup = firstOf(plan.lookup, actualActivity.lookup)
+		planLookup = activityLookup(actualActivity, plan.activityIndex, actualActivity)
 	}
 	costs, posted, err := periodCosts(ctx, e, db, period)
 	if err != nil {
@@ -228,8 +228,8 @@ func (a *app) variance(ctx context.Context, e *env, db *sqlite.DB, period, planP
 	if len(bs) == 0 {
 		return fmt.Errorf("variance: no cost behaviour covers %s: run `costdrift analyze` first", period)
 	}
-	lines := budget.Variances(bs, period, costs, actualActivity.lookup, planLookup, e.calendar.Shift)
-	for i := range lines {
+	lines := budget.Variances(bs, period, costs, activityLookup(actualActivity, actualActivity), planLookup, e.calendar.Shift)
+	for i := range lines { // one line per behaviour, in order
 		if b := bs[i]; b.Since <= period && period <= b.Until {
 			note := "the formula was fitted on data that include this period"
 			if lines[i].Warning != "" {
@@ -314,26 +314,29 @@ type activityIndex struct {
 	// perCenter sums a driver's cost-centre values per period, for a
 	// company-wide question about a driver kept only per cost centre.
 	perCenter map[[2]string]float64
+	// own marks the drivers a cost centre has a series of its own for.
+	own map[[2]string]bool
 }
 
 func newActivityIndex() *activityIndex {
-	return &activityIndex{values: map[[3]string]float64{}, perCenter: map[[2]string]float64{}}
+	return &activityIndex{values: map[[3]string]float64{}, perCenter: map[[2]string]float64{}, own: map[[2]string]bool{}}
 }
 
 func (x *activityIndex) add(v costdrift.ActivityValue) {
 	x.values[[3]string{v.Period, v.Driver, v.CostCenter}] += v.Value
 	if v.CostCenter != "" {
 		x.perCenter[[2]string{v.Period, v.Driver}] += v.Value
+		x.own[[2]string{v.Driver, v.CostCenter}] = true
 	}
 }
 
-// lookup: the cost centre's own value, else the company-wide one, else (for
-// a company-wide question) the sum over cost centres.
-func (x *activityIndex) lookup(period, driver, costCenter string) (float64, bool) {
-	if costCenter != "" {
-		if v, ok := x.values[[3]string{period, driver, costCenter}]; ok {
-			return v, true
-		}
+// get is the value of the series a formula uses: the cost centre's own
+// when own, else the company-wide one, which for a company-wide question
+// about a driver kept only per cost centre is their sum.
+func (x *activityIndex) get(period, driver, costCenter string, own bool) (float64, bool) {
+	if own {
+		v, ok := x.values[[3]string{period, driver, costCenter}]
+		return v, ok
 	}
 	if v, ok := x.values[[3]string{period, driver, ""}]; ok {
 		return v, true
@@ -345,11 +348,16 @@ func (x *activityIndex) lookup(period, driver, costCenter string) (float64, bool
 	return 0, false
 }
 
-// firstOf asks each lookup in turn.
-func firstOf(lookups ...budget.Lookup) budget.Lookup {
+// activityLookup finds a driver's value as the analysis saw it: a cost
+// centre with a series of its own in the store was fitted on that series,
+// so only the same cost centre's figure stands for it (a company-wide plan
+// figure is another quantity); other objects take the company-wide series.
+// Each source is asked in turn: the plan, then the actual activity.
+func activityLookup(actual *activityIndex, sources ...*activityIndex) budget.Lookup {
 	return func(period, driver, costCenter string) (float64, bool) {
-		for _, l := range lookups {
-			if v, ok := l(period, driver, costCenter); ok {
+		own := costCenter != "" && actual.own[[2]string{driver, costCenter}]
+		for _, x := range sources {
+			if v, ok := x.get(period, driver, costCenter, own); ok {
 				return v, true
 			}
 		}

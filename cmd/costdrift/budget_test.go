@@ -345,3 +345,32 @@ func TestBadPlans(t *testing.T) {
 		})
 	}
 }
+
+// A cost centre fitted on its own machine hours is budgeted only on its own
+// planned hours: a company-wide plan figure is another quantity, so the
+// line says what is missing; objects on company-wide drivers are budgeted.
+func TestPlanFigureMustMatchTheFittedSeries(t *testing.T) {
+	dir := demoDir(t)
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	plan := filepath.Join(t.TempDir(), "company-hours.csv")
+	writeFile(t, plan, "period,driver,value\n2026-07,frames_built,1500\n2026-07,machine_hours,2400\n")
+	var rows []report.BudgetRow
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "budget", "--plan", plan, "--format", "json")), &rows); err != nil {
+		t.Fatal(err)
+	}
+	got := map[string]report.BudgetRow{}
+	for _, r := range rows {
+		got[r.Object] = r
+	}
+	power := got["6200/WELD"]
+	if power.Budget != nil || power.Warning != "no budget: no planned or actual activity for machine_hours in 2026-07" {
+		t.Errorf("6200/WELD on a company-wide hours figure: budget %v, warning %q", power.Budget, power.Warning)
+	}
+	// Maintenance follows WELD's hours of the month before: June's actual.
+	if m := got["6500/WELD"]; m.Budget == nil || m.Activity == nil || *m.Activity != 1378.9 {
+		t.Errorf("6500/WELD: budget %v on activity %v, want one on June's actual WELD hours 1378.9", m.Budget, m.Activity)
+	}
+	if tubing := got["5100/WELD"]; tubing.Budget == nil || *tubing.Activity != 1500 {
+		t.Errorf("5100/WELD on company-wide frames: %+v", tubing)
+	}
+}

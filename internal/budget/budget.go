@@ -197,10 +197,11 @@ type Line struct {
 	Warning string // every warning, joined with "; "
 }
 
-// Flexible budgets every behaviour for every period at the planned
-// activity. A driver's activity at a lag reaches before the period: plan
-// first, then actual supplies it (plan then actual, as the lookup
-// decides). shift(p, n) is the period n after p.
+// Flexible budgets every behaviour for every period at the activity the
+// lookup gives, one line per behaviour and period in that order. A driver
+// with a lag is looked up in the period before; the caller's lookup asks
+// the plan first and the actual activity after it, so that the period
+// before the plan's first is found. shift(p, n) is the period n after p.
 func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Lookup, shift func(string, int) string) []Line {
 	var out []Line
 	for _, period := range periods {
