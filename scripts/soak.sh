@@ -46,7 +46,8 @@ ledger() {
 }
 ledger 0
 
-"$bin" --config costdrift.yaml run 2> daemon.log &
+# As config/costdrift.service runs it.
+MALLOC_ARENA_MAX=${MALLOC_ARENA_MAX:-2} "$bin" --config costdrift.yaml run 2> daemon.log &
 daemon=$!
 sleep 2
 
