@@ -402,7 +402,7 @@ func TestLogFormat(t *testing.T) {
 // behaviour changes they hold (the lease's fixed cost from 2025-07, the
 // freight rate from 2025-02) must be in mailpit within two ticks of the drop.
 func TestDaemonMailsAlertsFromDroppedFiles(t *testing.T) {
-	bin := mailpitPath(t)
+	mailpitPath(t) // skip or fail at once when mailpit is missing
 	cfg, dir := setup(t, "")
 	daemonConfig(t, cfg, "")
 	smtpPort := loopbackPort(t)
@@ -419,7 +419,7 @@ func TestDaemonMailsAlertsFromDroppedFiles(t *testing.T) {
 		t.Fatal("starter config has no mail.smtp block to rewrite")
 	}
 	writeFile(t, cfg, smtp)
-	api, _ := startMailpit(t, bin, smtpPort)
+	api, _ := startMailpit(t, smtpPort)
 
 	books := t.TempDir()
 	files, err := demo.Write(books, demo.DefaultSeed)

@@ -1,7 +1,6 @@
 package mail
 
 import (
-	"bytes"
 	"crypto/ecdsa"
 	"crypto/elliptic"
 	"crypto/rand"
@@ -10,13 +9,11 @@ import (
 	"crypto/x509/pkix"
 	"encoding/json"
 	"encoding/pem"
-	"fmt"
 	"io"
 	"math/big"
 	"net"
 	"net/http"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -30,80 +27,19 @@ import (
 // The tests below talk to a real SMTP server: mailpit, started on free
 // loopback ports and read back through its HTTP API.
 
-// mailpitBinary finds mailpit (costdrifttest.Mailpit).
-func mailpitBinary(t *testing.T) string { return costdrifttest.Mailpit(t) }
-
-func freePort(t *testing.T) int {
-	t.Helper()
-	l, err := net.Listen("tcp", "127.0.0.1:0")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer l.Close()
-	return l.Addr().(*net.TCPAddr).Port
-}
+func freePort(t *testing.T) int { return costdrifttest.FreePort(t) }
 
 // mailpit is one running server.
 type mailpit struct {
-	t        *testing.T
-	smtpPort int
-	api      string
-	cmd      *exec.Cmd
-	log      *bytes.Buffer
+	t *testing.T
+	*costdrifttest.MailpitServer
 }
 
 // startMailpit runs mailpit on smtpPort (0: a free one) with extra flags,
-// and waits until its API answers.
+// and waits until it answers.
 func startMailpit(t *testing.T, smtpPort int, flags ...string) *mailpit {
 	t.Helper()
-	bin := mailpitBinary(t)
-	if smtpPort == 0 {
-		smtpPort = freePort(t)
-	}
-	httpPort := freePort(t)
-	args := append([]string{"--smtp", fmt.Sprintf("127.0.0.1:%d", smtpPort), "--listen", fmt.Sprintf("127.0.0.1:%d", httpPort),
-		"--database", filepath.Join(t.TempDir(), "mailpit.db"), "--smtp-disable-rdns", "--disable-version-check", "--quiet"}, flags...)
-	m := &mailpit{t: t, smtpPort: smtpPort, api: fmt.Sprintf("http://127.0.0.1:%d", httpPort), log: &bytes.Buffer{}}
-	m.cmd = exec.Command(bin, args...)
-	m.cmd.Stdout, m.cmd.Stderr = m.log, m.log
-	if err := m.cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(m.stop)
-	deadline := time.Now().Add(15 * time.Second)
-	for {
-		resp, err := http.Get(m.api + "/api/v1/messages")
-		if err == nil {
-			resp.Body.Close()
-			if resp.StatusCode == 200 {
-				break
-			}
-		}
-		if time.Now().After(deadline) {
-			t.Fatalf("mailpit did not answer on %s: %v\n%s", m.api, err, m.log)
-		}
-		time.Sleep(50 * time.Millisecond)
-	}
-	// The SMTP side may open a moment after the API.
-	for {
-		c, err := net.Dial("tcp", fmt.Sprintf("127.0.0.1:%d", smtpPort))
-		if err == nil {
-			c.Close()
-			break
-		}
-		if time.Now().After(deadline) {
-			t.Fatalf("mailpit SMTP port %d not open: %v\n%s", smtpPort, err, m.log)
-		}
-		time.Sleep(50 * time.Millisecond)
-	}
-	return m
-}
-
-func (m *mailpit) stop() {
-	if m.cmd.Process != nil && m.cmd.ProcessState == nil {
-		m.cmd.Process.Kill()
-		m.cmd.Wait()
-	}
+	return &mailpit{t: t, MailpitServer: costdrifttest.StartMailpit(t, smtpPort, flags...)}
 }
 
 type apiAddress struct{ Name, Address string }
@@ -125,7 +61,7 @@ type apiMessage struct {
 
 func (m *mailpit) get(path string, v any) []byte {
 	m.t.Helper()
-	resp, err := http.Get(m.api + path)
+	resp, err := http.Get(m.API + path)
 	if err != nil {
 		m.t.Fatal(err)
 	}
@@ -204,7 +140,7 @@ func TestSendSTARTTLSWithAuthThroughMailpit(t *testing.T) {
 	os.WriteFile(authFile, []byte("costdrift:"+testPassword+"\n"), 0o600)
 	mp := startMailpit(t, 0, "--smtp-tls-cert", certFile, "--smtp-tls-key", keyFile, "--smtp-require-starttls",
 		"--smtp-auth-file", authFile)
-	server := Server{Host: "127.0.0.1", Port: mp.smtpPort, TLS: "starttls", Username: "costdrift", Password: testPassword,
+	server := Server{Host: "127.0.0.1", Port: mp.SMTPPort, TLS: "starttls", Username: "costdrift", Password: testPassword,
 		ConnectTimeout: 5 * time.Second, SendTimeout: 20 * time.Second, TLSConfig: &tls.Config{RootCAs: pool}}
 
 	paint := hostileDigest()
@@ -221,7 +157,7 @@ func TestSendSTARTTLSWithAuthThroughMailpit(t *testing.T) {
 	}
 	for i, r := range server.Send(t.Context(), msgs) {
 		if r.Err != nil {
-			t.Fatalf("message %d: %v\n%s", i, r.Err, mp.log)
+			t.Fatalf("message %d: %v\n%s", i, r.Err, mp.Log())
 		}
 		if !strings.HasPrefix(r.Answer, "250") {
 			t.Errorf("message %d: server answer %q, want a 250 reply", i, r.Answer)
@@ -258,7 +194,7 @@ func TestSendSTARTTLSWithAuthThroughMailpit(t *testing.T) {
 			t.Errorf("raw message %s: password present %v, or no PNG part", m.ID, strings.Contains(raw, testPassword))
 		}
 	}
-	if strings.Contains(mp.log.String(), testPassword) {
+	if strings.Contains(mp.Log(), testPassword) {
 		t.Errorf("the password appears in the server's log")
 	}
 }
@@ -272,7 +208,7 @@ func TestSendRefusesWithoutTLSOrWithWrongPassword(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res := Server{Host: "127.0.0.1", Port: plain.smtpPort, TLS: "starttls", ConnectTimeout: 5 * time.Second}.Send(t.Context(), []*gomail.Msg{m})
+	res := Server{Host: "127.0.0.1", Port: plain.SMTPPort, TLS: "starttls", ConnectTimeout: 5 * time.Second}.Send(t.Context(), []*gomail.Msg{m})
 	if res[0].Err == nil {
 		t.Error("starttls: sent to a server that offers no STARTTLS")
 	}
@@ -280,7 +216,7 @@ func TestSendRefusesWithoutTLSOrWithWrongPassword(t *testing.T) {
 		t.Errorf("%d messages reached the plain server under starttls", n)
 	}
 	// Plain text is allowed to loopback.
-	res = Server{Host: "127.0.0.1", Port: plain.smtpPort, TLS: "none", ConnectTimeout: 5 * time.Second}.Send(t.Context(), []*gomail.Msg{m})
+	res = Server{Host: "127.0.0.1", Port: plain.SMTPPort, TLS: "none", ConnectTimeout: 5 * time.Second}.Send(t.Context(), []*gomail.Msg{m})
 	if res[0].Err != nil || len(plain.messages()) != 1 {
 		t.Errorf("tls none to loopback: %v, %d messages", res[0].Err, len(plain.messages()))
 	}
@@ -289,13 +225,13 @@ func TestSendRefusesWithoutTLSOrWithWrongPassword(t *testing.T) {
 	authFile := filepath.Join(t.TempDir(), "auth")
 	os.WriteFile(authFile, []byte("costdrift:"+testPassword+"\n"), 0o600)
 	secure := startMailpit(t, 0, "--smtp-tls-cert", certFile, "--smtp-tls-key", keyFile, "--smtp-require-starttls", "--smtp-auth-file", authFile)
-	untrusted := Server{Host: "127.0.0.1", Port: secure.smtpPort, TLS: "starttls", Username: "costdrift", Password: testPassword,
+	untrusted := Server{Host: "127.0.0.1", Port: secure.SMTPPort, TLS: "starttls", Username: "costdrift", Password: testPassword,
 		ConnectTimeout: 5 * time.Second}.Send(t.Context(), []*gomail.Msg{m})
 	if untrusted[0].Err == nil {
 		t.Error("sent over a certificate no authority vouches for")
 	}
 	wrong := "Wrong-" + testPassword
-	res = Server{Host: "127.0.0.1", Port: secure.smtpPort, TLS: "starttls", Username: "costdrift", Password: wrong,
+	res = Server{Host: "127.0.0.1", Port: secure.SMTPPort, TLS: "starttls", Username: "costdrift", Password: wrong,
 		ConnectTimeout: 5 * time.Second, TLSConfig: &tls.Config{RootCAs: pool}}.Send(t.Context(), []*gomail.Msg{m})
 	if res[0].Err == nil {
 		t.Error("sent with a wrong password")
