@@ -11,6 +11,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"sync"
 	"syscall"
@@ -177,7 +178,10 @@ func TestDaemon(t *testing.T) {
 	})
 
 	t.Run("healthz and metrics", func(t *testing.T) {
-		waitFor(t, 3*time.Second, "a successful cycle", func() bool { return logs.count(`msg="cycle finished"`) > 0 }, logs)
+		// The first cycle may have run before the file was dropped and
+		// failed for want of a ledger: wait for one that succeeded.
+		okCycle := regexp.MustCompile(`msg="cycle finished" cycle=\d+ status=ok`)
+		waitFor(t, 3*time.Second, "a successful cycle", func() bool { return okCycle.MatchString(logs.String()) }, logs)
 		code, body := get(t, "http://"+addr+"/healthz")
 		var h healthJSON
 		if err := json.Unmarshal([]byte(body), &h); err != nil {
