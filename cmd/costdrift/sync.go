@@ -255,8 +255,18 @@ func syncSource(ctx context.Context, e *env, db *sqlite.DB, role costdrift.Role,
 		run.Files++
 	}
 	var notes []string
+	// Counted again: this sync's loads may have taken rows over from the
+	// files that are gone.
+	if known, err = db.SourceFiles(context.WithoutCancel(ctx), src.Name); err != nil {
+		failed = append(failed, err.Error())
+	}
 	for _, f := range known {
-		if !seen[f.Path] {
+		switch {
+		case seen[f.Path]:
+		case f.Rows == 0:
+			notes = append(notes, fmt.Sprintf("%s is gone; other files hold all its rows now (costdrift sync --forget %s drops its record)",
+				f.Path, f.Path))
+		default:
 			notes = append(notes, fmt.Sprintf("%s is gone; its %d rows are kept (costdrift sync --forget %s drops them)",
 				f.Path, f.Rows, f.Path))
 		}
@@ -367,11 +377,18 @@ func forgetFiles(ctx context.Context, e *env, db *sqlite.DB, files []string, out
 		done := false
 		for _, s := range sources {
 			for _, c := range candidates {
-				n, err := db.ForgetFile(ctx, s, c)
-				if err != nil {
+				removed, givenBack, err := db.ForgetFile(ctx, s, c)
+				if errors.Is(err, sqlite.ErrUnknownFile) {
 					continue
 				}
-				fmt.Fprintf(out, "forgot %s (source %s): %s rows removed\n", c, s, report.Number(float64(n), 0))
+				if err != nil {
+					return fmt.Errorf("forget %s: %w", c, err)
+				}
+				fmt.Fprintf(out, "forgot %s (source %s): %s rows removed", c, s, report.Number(float64(removed), 0))
+				if givenBack > 0 {
+					fmt.Fprintf(out, ", %s given back to the files that still hold them", report.Number(float64(givenBack), 0))
+				}
+				fmt.Fprintln(out)
 				done = true
 				break
 			}

@@ -163,3 +163,97 @@ func TestCalendarChangeRefused(t *testing.T) {
 		t.Fatalf("got %v", err)
 	}
 }
+
+// A file that took a key over from another and is then forgotten gives the
+// key back to the file that still holds it: the older statement is stored
+// again, in the same transaction, and the older file stays "unchanged".
+func TestForgetGivesKeyBack(t *testing.T) {
+	cfg, dir := setup(t, "")
+	gl := filepath.Join(dir, "data", "gl")
+	store := filepath.Join(dir, "costdrift.db")
+	writeFile(t, filepath.Join(gl, "a.csv"), header+"E1,1,2026-01-05,6100,WELD,4200.00\nE2,1,2026-01-06,6100,WELD,100.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	writeFile(t, filepath.Join(gl, "b.csv"), header+"E1,1,2026-01-05,6100,WELD,9999.00\n")
+	out := mustRun(t, "--config", cfg, "sync")
+	// The restatement overwrote a stored row: it is stored and it replaced one.
+	if !strings.Contains(out, "files: 1 read, 1 unchanged | rows: 1 read, 1 stored, 1 replaced, 0 rejected") {
+		t.Fatalf("restating sync:\n%s", out)
+	}
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'E1'"); n != 999900 {
+		t.Fatalf("E1 = %d after the restatement, want 999900", n)
+	}
+	if n := count(t, store, "SELECT rows FROM source_files WHERE path LIKE '%a.csv'"); n != 1 {
+		t.Errorf("a.csv holds %d rows in source_files, want 1 (E1 went to b.csv)", n)
+	}
+
+	os.Remove(filepath.Join(gl, "b.csv"))
+	out = mustRun(t, "--config", cfg, "sync", "--forget", filepath.Join(gl, "b.csv"))
+	if !strings.Contains(out, "1 rows removed") || !strings.Contains(out, "1 given back to the files that still hold them") {
+		t.Fatalf("forget:\n%s", out)
+	}
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'E1'"); n != 420000 {
+		t.Errorf("E1 = %d after forgetting b.csv, want a.csv's 420000", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines g JOIN source_files f ON f.id = g.source_file_id WHERE f.path LIKE '%a.csv'"); n != 2 {
+		t.Errorf("a.csv owns %d lines, want 2", n)
+	}
+	if n := count(t, store, "SELECT rows FROM source_files WHERE path LIKE '%a.csv'"); n != 2 {
+		t.Errorf("a.csv holds %d rows in source_files, want 2", n)
+	}
+	out = mustRun(t, "--config", cfg, "sync")
+	if !strings.Contains(out, "files: 0 read, 1 unchanged") {
+		t.Fatalf("sync after forget:\n%s", out)
+	}
+	if n := count(t, store, "SELECT SUM(amount_minor) FROM gl_lines"); n != 430000 {
+		t.Errorf("ledger total = %d, want 430000", n)
+	}
+}
+
+// A file restated again that no longer carries a key it took over gives
+// the key back as well; one that still carries it keeps it.
+func TestChangedFileGivesKeyBack(t *testing.T) {
+	cfg, dir := setup(t, "")
+	gl := filepath.Join(dir, "data", "gl")
+	store := filepath.Join(dir, "costdrift.db")
+	writeFile(t, filepath.Join(gl, "a.csv"), header+"E1,1,2026-01-05,6100,WELD,4200.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	writeFile(t, filepath.Join(gl, "b.csv"), header+"E1,1,2026-01-05,6100,WELD,9999.00\nE9,1,2026-01-07,6100,WELD,1.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	writeFile(t, filepath.Join(gl, "b.csv"), header+"E1,1,2026-01-05,6100,WELD,8888.00\nE9,1,2026-01-07,6100,WELD,1.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'E1'"); n != 888800 {
+		t.Errorf("E1 = %d while b.csv still restates it, want 888800", n)
+	}
+	writeFile(t, filepath.Join(gl, "b.csv"), header+"E9,1,2026-01-07,6100,WELD,2.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	if n := count(t, store, "SELECT amount_minor FROM gl_lines WHERE entry_id = 'E1'"); n != 420000 {
+		t.Errorf("E1 = %d after b.csv dropped it, want a.csv's 420000", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != 2 {
+		t.Errorf("gl_lines = %d, want 2", n)
+	}
+}
+
+// A renamed file: the new name takes every row over, and the note on the
+// old name says nothing of it remains instead of claiming its rows are kept.
+func TestRenamedFileNote(t *testing.T) {
+	cfg, dir := setup(t, "")
+	gl := filepath.Join(dir, "data", "gl")
+	text := header + "E1,1,2026-01-05,6100,WELD,4200.00\nE2,1,2026-01-06,6100,WELD,100.00\n"
+	writeFile(t, filepath.Join(gl, "a.csv"), text)
+	mustRun(t, "--config", cfg, "sync")
+	os.Remove(filepath.Join(gl, "a.csv"))
+	writeFile(t, filepath.Join(gl, "renamed.csv"), text)
+	out := mustRun(t, "--config", cfg, "sync")
+	if strings.Contains(out, "its 2 rows are kept") || !strings.Contains(out, "a.csv is gone; other files hold all its rows now") {
+		t.Fatalf("sync after a rename:\n%s", out)
+	}
+	// Forgetting the old name removes nothing the new one holds.
+	out = mustRun(t, "--config", cfg, "sync", "--forget", filepath.Join(gl, "a.csv"))
+	if !strings.Contains(out, "0 rows removed") {
+		t.Fatalf("forget:\n%s", out)
+	}
+	if n := count(t, filepath.Join(dir, "costdrift.db"), "SELECT COUNT(*) FROM gl_lines"); n != 2 {
+		t.Errorf("gl_lines = %d after forgetting the old name, want 2", n)
+	}
+}

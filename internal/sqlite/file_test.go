@@ -2,6 +2,7 @@ package sqlite
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"testing"
 
@@ -113,5 +114,86 @@ func TestLoadFileQuotedSourceName(t *testing.T) {
 	db.SQL().QueryRow(`SELECT COUNT(*) FROM gl_lines WHERE source = ?`, "o'brien ledger").Scan(&n)
 	if n != 150 {
 		t.Errorf("%d lines stored under the quoted source name, want 150", n)
+	}
+}
+
+// Restatements stack: each file's version of a key waits behind the file
+// that took it over, and comes back, in order, as the newer files are
+// forgotten, whichever is forgotten first.
+func TestRestatementsStack(t *testing.T) {
+	ctx := context.Background()
+	amount := func(db *DB) int64 {
+		t.Helper()
+		var v int64
+		if err := db.SQL().QueryRow(`SELECT amount_minor FROM gl_lines WHERE entry_id = 'E1'`).Scan(&v); err != nil {
+			t.Fatal(err)
+		}
+		return v
+	}
+	rows := func(db *DB, path string) int {
+		t.Helper()
+		return count(t, db, "gl_lines g JOIN source_files f ON f.id = g.source_file_id WHERE f.path = ?", path)
+	}
+	for _, order := range [][]string{{"/d/t2.csv", "/d/t1.csv"}, {"/d/t1.csv", "/d/t2.csv"}} {
+		db, _ := mustOpen(t)
+		loadFile(t, db, "/d/f.csv", []costdrift.LedgerLine{line("E1", 1, 100), line("E2", 1, 7)})
+		loadFile(t, db, "/d/t1.csv", []costdrift.LedgerLine{line("E1", 1, 200)})
+		loadFile(t, db, "/d/t2.csv", []costdrift.LedgerLine{line("E1", 1, 300)})
+		if got := amount(db); got != 300 {
+			t.Fatalf("E1 = %d with three statements, want the newest 300", got)
+		}
+		if n := count(t, db, "displaced_gl_lines"); n != 2 {
+			t.Errorf("displaced versions = %d, want 2 (f's and t1's)", n)
+		}
+		if _, _, err := db.ForgetFile(ctx, "gl", order[0]); err != nil {
+			t.Fatal(err)
+		}
+		want := map[string]int64{"/d/t2.csv": 200, "/d/t1.csv": 300}[order[0]]
+		if got := amount(db); got != want {
+			t.Errorf("forgetting %s first: E1 = %d, want %d", order[0], got, want)
+		}
+		removed, back, err := db.ForgetFile(ctx, "gl", order[1])
+		if err != nil {
+			t.Fatal(err)
+		}
+		if removed != 1 || back != 1 {
+			t.Errorf("forgetting %s second: %d removed, %d given back; want 1 and 1", order[1], removed, back)
+		}
+		if got := amount(db); got != 100 {
+			t.Errorf("both restatements forgotten: E1 = %d, want f's 100", got)
+		}
+		if n := rows(db, "/d/f.csv"); n != 2 {
+			t.Errorf("f.csv owns %d lines, want 2", n)
+		}
+		if n := count(t, db, "source_files WHERE path = '/d/f.csv' AND rows = 2"); n != 1 {
+			t.Errorf("f.csv's row count is not 2")
+		}
+		if n := count(t, db, "displaced_gl_lines"); n != 0 {
+			t.Errorf("displaced versions = %d after both forgets, want 0", n)
+		}
+		if _, _, err := db.ForgetFile(ctx, "gl", "/d/none.csv"); !errors.Is(err, ErrUnknownFile) {
+			t.Errorf("forgetting an unknown file: %v, want ErrUnknownFile", err)
+		}
+	}
+}
+
+// Forgetting the older file drops its waiting version: the newer one stays
+// and nothing comes back later.
+func TestForgetOlderDropsItsVersion(t *testing.T) {
+	db, _ := mustOpen(t)
+	loadFile(t, db, "/d/a.csv", []costdrift.LedgerLine{line("E1", 1, 100)})
+	loadFile(t, db, "/d/b.csv", []costdrift.LedgerLine{line("E1", 1, 200)})
+	removed, back, err := db.ForgetFile(context.Background(), "gl", "/d/a.csv")
+	if err != nil || removed != 0 || back != 0 {
+		t.Fatalf("forget a.csv: %d removed, %d back, %v; want 0, 0, nil", removed, back, err)
+	}
+	if n := count(t, db, "displaced_gl_lines"); n != 0 {
+		t.Errorf("a.csv's displaced version survived its forget")
+	}
+	if _, _, err := db.ForgetFile(context.Background(), "gl", "/d/b.csv"); err != nil {
+		t.Fatal(err)
+	}
+	if n := count(t, db, "gl_lines"); n != 0 {
+		t.Errorf("gl_lines = %d, want 0: no file holds E1 any more", n)
 	}
 }

@@ -182,6 +182,9 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 				n, _ := res.RowsAffected()
 				run.RowsReplaced += int(n)
 			}
+			if err := dropDisplacedVersions(ctx, tx, id); err != nil {
+				return err
+			}
 		}
 		loadedBefore := run.RowsLoaded
 		w, err := newWriter(ctx, tx, run, modeFile, id)
@@ -195,6 +198,11 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 			return err
 		}
 		if err := p.finish(); err != nil {
+			return err
+		}
+		// Keys this file restated before and no longer carries go back to
+		// the files that still hold them.
+		if _, err := giveBack(ctx, tx, id); err != nil {
 			return err
 		}
 		// Every row stored by this load, new or taken over from another
@@ -272,14 +280,15 @@ func keepReadCount(run *costdrift.SyncRun, before costdrift.SyncRun) {
 }
 
 // ForgetFile removes the rows a file loaded and the record of the file, for
-// a file that is gone for good. It returns how many rows were removed.
-func (db *DB) ForgetFile(ctx context.Context, source, path string) (int, error) {
-	removed := 0
-	err := db.inTx(ctx, func(tx *sql.Tx) error {
+// a file that is gone for good. Keys it had taken over from other files of
+// the source go back to those files, in the same transaction. It returns
+// how many rows were removed and how many were given back.
+func (db *DB) ForgetFile(ctx context.Context, source, path string) (removed, givenBack int, err error) {
+	err = db.inTx(ctx, func(tx *sql.Tx) error {
 		var id int64
 		if err := tx.QueryRowContext(ctx, `SELECT id FROM source_files WHERE source = ? AND path = ?`, source, path).Scan(&id); err != nil {
 			if errors.Is(err, sql.ErrNoRows) {
-				return fmt.Errorf("source %s has loaded no file %s", source, path)
+				return fmt.Errorf("source %s has loaded no file %s: %w", source, path, ErrUnknownFile)
 			}
 			return err
 		}
@@ -291,11 +300,25 @@ func (db *DB) ForgetFile(ctx context.Context, source, path string) (int, error) 
 			n, _ := res.RowsAffected()
 			removed += int(n)
 		}
-		_, err := tx.ExecContext(ctx, `DELETE FROM source_files WHERE id = ?`, id)
+		if err := dropDisplacedVersions(ctx, tx, id); err != nil {
+			return err
+		}
+		n, err := giveBack(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		givenBack = n
+		_, err = tx.ExecContext(ctx, `DELETE FROM source_files WHERE id = ?`, id)
 		return err
 	})
-	return removed, err
+	if err != nil {
+		return 0, 0, err
+	}
+	return removed, givenBack, nil
 }
+
+// ErrUnknownFile is returned by ForgetFile for a file the source never loaded.
+var ErrUnknownFile = errors.New("unknown file")
 
 // writeMode says how a writer treats a key that is already stored.
 type writeMode int
@@ -456,11 +479,20 @@ func (w *writer) store(table string, key, values []any, location string) error {
 		location = location + " (key " + keyText(key) + ")"
 		return w.Reject(costdrift.Reject{Source: w.run.Source, Location: location, Reason: reason, Raw: rawText(key, values)})
 	}
+	if owner, ok := stored[0].(int64); ok {
+		if err := w.displace(table, key, owner); err != nil {
+			return err
+		}
+	}
 	args := append(append(append([]any{}, values...), w.run.ID, w.fileID, w.run.Source), key...)
 	if _, err := w.exec(q.takeOver, args...); err != nil {
 		return err
 	}
 	w.run.RowsLoaded++
+	if !sameValues(stored[1:], values) {
+		// Another file's row was overwritten: a restatement.
+		w.run.RowsReplaced++
+	}
 	return nil
 }
 
