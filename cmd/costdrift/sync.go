@@ -129,6 +129,7 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 	}
 	var runs []costdrift.SyncRun
 	var failed []string
+	synced := 0
 	for _, j := range jobs {
 		run := costdrift.SyncRun{Source: j.src.Name, Role: j.role, Kind: j.src.Kind}
 		if err := db.BeginSync(ctx, &run); err != nil {
@@ -142,23 +143,36 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 		}
 		runs = append(runs, run)
 		printRun(out, db, &run, notes, err)
-		if err != nil {
-			failed = append(failed, fmt.Sprintf("source %s failed: %v", j.src.Name, err))
-			if ctx.Err() != nil {
-				break
-			}
+		if err == nil {
+			synced++
+			continue
 		}
+		if ctx.Err() != nil {
+			// Stopped by a signal: say what was done, and that the
+			// source in hand stored only whole files.
+			return runs, fmt.Errorf("sync interrupted: %d of %d sources synced; %s stopped part way (each file is stored whole or not at all); sync again to complete it: %w",
+				synced, len(jobs), j.src.Name, ctx.Err())
+		}
+		failed = append(failed, fmt.Sprintf("source %s failed: %v", j.src.Name, err))
 	}
+	var alertErr error
 	if err := raiseSourceAlerts(ctx, e, db); err != nil {
-		failed = append(failed, "alerts: "+err.Error())
+		alertErr = fmt.Errorf("raising source alerts: %w", err)
 	}
+	var err error
 	switch {
 	case len(failed) == 1:
-		return runs, errors.New(failed[0])
+		err = errors.New(failed[0])
 	case len(failed) > 1:
-		return runs, fmt.Errorf("%d of %d sources failed: %s", len(failed), len(jobs), strings.Join(failed, "; "))
+		err = fmt.Errorf("%d of %d sources failed: %s", len(failed), len(jobs), strings.Join(failed, "; "))
 	}
-	return runs, nil
+	switch {
+	case err != nil && alertErr != nil:
+		return runs, fmt.Errorf("%w; %w", err, alertErr)
+	case alertErr != nil:
+		return runs, alertErr
+	}
+	return runs, err
 }
 
 // raiseSourceAlerts raises source_failure for every source whose latest sync

@@ -1,10 +1,14 @@
 package main
 
 import (
+	"database/sql"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
 )
 
 const header = "entry_id,line,date,account,cost_center,amount\n"
@@ -256,4 +260,58 @@ func TestRenamedFileNote(t *testing.T) {
 	if n := count(t, filepath.Join(dir, "costdrift.db"), "SELECT COUNT(*) FROM gl_lines"); n != 2 {
 		t.Errorf("gl_lines = %d after forgetting the old name, want 2", n)
 	}
+}
+
+// SIGTERM during the ledger's load: the message says which sources synced
+// and which was interrupted, and counts nothing else as a failed source.
+func TestSyncStoppedBySignalSaysWhatSynced(t *testing.T) {
+	cfg, dir := setup(t, "")
+	store := filepath.Join(dir, "costdrift.db")
+	for f := 0; f < 6; f++ {
+		text, _ := killPart(f, 0, 40000)
+		writeFile(t, filepath.Join(dir, "data", "gl", fmt.Sprintf("part-%d.csv", f)), text)
+	}
+	logs := &logBuffer{}
+	cmd := command("--config", cfg, "sync")
+	cmd.Stdout, cmd.Stderr = logs, logs
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	// The accounts and activity sources come first and take milliseconds;
+	// the 240,000 ledger rows take most of a second.
+	waitFor(t, 10*time.Second, "the activity source to finish", func() bool {
+		return tryCount(store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'ops' AND status = 'ok'") == 1
+	}, logs)
+	if err := cmd.Process.Signal(syscall.SIGTERM); err != nil {
+		t.Fatal(err)
+	}
+	err := cmd.Wait()
+	if err == nil {
+		t.Fatalf("sync exited 0 after SIGTERM\n%s", logs)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND status = 'ok'"); n != 0 {
+		t.Fatalf("the ledger finished before SIGTERM arrived: the test proves nothing; stop earlier\n%s", logs)
+	}
+	out := logs.String()
+	if strings.Contains(out, "sources failed") || !strings.Contains(out, "sync interrupted: 2 of 3 sources synced; gl stopped part way") {
+		t.Errorf("output after SIGTERM:\n%s", out)
+	}
+}
+
+// tryCount is count for a store that may not exist or be migrated yet: -1
+// until it answers.
+func tryCount(store, query string) int {
+	if _, err := os.Stat(store); err != nil {
+		return -1
+	}
+	db, err := sql.Open("sqlite3", "file:"+store+"?mode=ro")
+	if err != nil {
+		return -1
+	}
+	defer db.Close()
+	var n int
+	if err := db.QueryRow(query).Scan(&n); err != nil {
+		return -1
+	}
+	return n
 }
