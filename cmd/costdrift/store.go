@@ -36,14 +36,20 @@ func (a *app) loadConfig() (*env, error) {
 	return &env{cfg: cfg, currency: cur, calendar: cal}, nil
 }
 
-// openStore opens the store; mustExist refuses to create an empty one for
-// commands that only read it.
+// openStore opens the store for a command that reads it (budget and
+// variance write their own tables too, where the store can be written);
+// mustExist refuses to create an empty one. A store this user cannot
+// write opens read-only.
 func (a *app) openStore(ctx context.Context, e *env, mustExist bool) (*sqlite.DB, error) {
+	return a.open(ctx, e, mustExist, sqlite.OpenToRead)
+}
+
+func (a *app) open(ctx context.Context, e *env, mustExist bool, open func(context.Context, string, money.Currency) (*sqlite.DB, error)) (*sqlite.DB, error) {
 	path := e.cfg.StorePath()
 	if mustExist && !sqlite.Exists(path) {
 		return nil, fmt.Errorf("store %s does not exist yet: run `costdrift sync` first", path)
 	}
-	db, err := sqlite.Open(ctx, path, e.currency)
+	db, err := open(ctx, path, e.currency)
 	if err != nil {
 		return nil, err
 	}
@@ -68,7 +74,7 @@ func (a *app) openStoreToWrite(ctx context.Context, e *env, mustExist bool) (*sq
 	if err != nil {
 		return nil, nil, err
 	}
-	db, err := a.openStore(ctx, e, mustExist)
+	db, err := a.open(ctx, e, mustExist, sqlite.Open)
 	if err != nil {
 		lock.release()
 		return nil, nil, err

@@ -288,3 +288,23 @@ func TestPasswordFromEnvOrFile(t *testing.T) {
 		t.Errorf("missing file: %v", err)
 	}
 }
+
+// A password file others can read is refused, as a dsn_file is: it holds a
+// secret. The message names the key, the mode and the fix, not the secret.
+func TestPasswordFileMustBeOwnerOnly(t *testing.T) {
+	for _, mode := range []os.FileMode{0o644, 0o666, 0o640, 0o604} {
+		f := filepath.Join(t.TempDir(), "pw")
+		os.WriteFile(f, []byte("s3cret-pass\n"), 0o600)
+		os.Chmod(f, mode)
+		_, err := Password("", f)
+		if err == nil || !strings.Contains(err.Error(), "mail.smtp.password_file") || !strings.Contains(err.Error(), "chmod 600") ||
+			strings.Contains(err.Error(), "s3cret") {
+			t.Errorf("mode %04o: %v", mode, err)
+		}
+	}
+	f := filepath.Join(t.TempDir(), "pw")
+	os.WriteFile(f, []byte("s3cret-pass\n"), 0o400)
+	if pw, err := Password("", f); err != nil || pw != "s3cret-pass" {
+		t.Errorf("mode 0400: %q, %v", pw, err)
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"crypto/tls"
 	"errors"
 	"fmt"
+	"io"
 	"net"
 	"os"
 	"path/filepath"
@@ -239,10 +240,24 @@ func (r *replyLog) Errorf(l maillog.Log) { r.add(l) }
 
 // Password reads the SMTP password from the environment variable envName
 // or, when file is set, from that file (its first line; the file should be
-// owner-only). Neither set, or the variable empty, is "": no AUTH.
+// owner-only: one that others can read or change is refused). Neither
+// set, or the variable empty, is "": no AUTH.
 func Password(envName, file string) (string, error) {
 	if file != "" {
-		b, err := os.ReadFile(file)
+		f, err := os.Open(file)
+		if err != nil {
+			return "", fmt.Errorf("mail.smtp.password_file: %w", err)
+		}
+		defer f.Close()
+		// The mode is checked on the open file, so that it is the file read.
+		st, err := f.Stat()
+		if err != nil {
+			return "", fmt.Errorf("mail.smtp.password_file: %w", err)
+		}
+		if perm := st.Mode().Perm(); perm&0o077 != 0 {
+			return "", fmt.Errorf("mail.smtp.password_file %s has mode %04o: people other than its owner can read or change it, and it holds a password; run chmod 600 %s", file, perm, file)
+		}
+		b, err := io.ReadAll(io.LimitReader(f, 64<<10))
 		if err != nil {
 			return "", fmt.Errorf("mail.smtp.password_file: %w", err)
 		}

@@ -5,12 +5,14 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"net/url"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
+	"syscall"
 	"time"
 
 	_ "github.com/mattn/go-sqlite3" // registers the "sqlite3" driver
@@ -30,6 +32,8 @@ type DB struct {
 	Now func() time.Time
 	// Currency is the functional currency the store was created with.
 	Currency money.Currency
+	// readOnly is set when the store was opened read-only.
+	readOnly bool
 	// dry, when set, is the one transaction a dry run works in; it is
 	// rolled back at the end, so nothing is written.
 	dry *sql.Tx
@@ -69,6 +73,9 @@ func (db *DB) CheckCalendar(ctx context.Context, kind string) error {
 	var stored string
 	err := db.q().QueryRowContext(ctx, `SELECT value FROM store_meta WHERE key = 'calendar'`).Scan(&stored)
 	if errors.Is(err, sql.ErrNoRows) {
+		if db.readOnly {
+			return nil // nothing was synced into it yet
+		}
 		_, err = db.q().ExecContext(ctx, `INSERT INTO store_meta (key, value) VALUES ('calendar', ?)`, kind)
 		return err
 	}
@@ -81,32 +88,51 @@ func (db *DB) CheckCalendar(ctx context.Context, kind string) error {
 	return nil
 }
 
-// Open opens the store at path, creating it owner-only (mode 0600) when it
-// does not exist, and applies pending migrations. The store remembers its
-// currency: opening it with another one is refused, since its minor units
-// would be misread.
+// Open opens the store at path to write, creating it owner-only (mode
+// 0600) when it does not exist, and applies pending migrations. An existing
+// store is made owner-only too, with its -wal and -shm files; a file that
+// is not a costdrift store, or one that fails SQLite's quick check, is
+// refused untouched. The store remembers its currency: opening it with
+// another one is refused, since its minor units would be misread.
 func Open(ctx context.Context, path string, currency money.Currency) (*DB, error) {
+	return open(ctx, path, currency, true)
+}
+
+// OpenToRead opens an existing store for a command that reads. A store this
+// user cannot write (a copy on a read-only medium, a file owned by the
+// daemon's account) opens read-only, as long as it needs no migration.
+func OpenToRead(ctx context.Context, path string, currency money.Currency) (*DB, error) {
+	return open(ctx, path, currency, false)
+}
+
+func open(ctx context.Context, path string, currency money.Currency, toWrite bool) (*DB, error) {
 	dir := filepath.Dir(path)
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return nil, fmt.Errorf("store %s: folder %s does not exist; create it or change `store` in the config", path, dir)
 	}
-	// Create the file ourselves so that it never exists with wider
-	// permissions; SQLite gives its -wal and -shm files the same mode.
-	f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE, 0o600)
+	readOnly, err := prepareFile(path, toWrite)
 	if err != nil {
-		return nil, fmt.Errorf("store %s: %w", path, err)
+		return nil, err
 	}
-	f.Close()
 
 	q := url.Values{}
-	q.Set("_journal_mode", "WAL")
 	q.Set("_foreign_keys", "on")
 	q.Set("_busy_timeout", "10000")
-	q.Set("_synchronous", "NORMAL")
 	// 64 MiB of page cache (a negative size is in KiB) keeps the indexes of a
 	// large ledger in memory while a file loads; memory stays bounded.
 	q.Set("_cache_size", "-65536")
-	q.Set("_txlock", "immediate")
+	if readOnly {
+		q.Set("mode", "ro")
+		// No writer has the store open (the last one to close removes the
+		// -wal and -shm files), and a reader that may not create them can
+		// only read the file as it is.
+		if !Exists(path+"-shm") && !Exists(path+"-wal") {
+			q.Set("immutable", "1")
+		}
+	} else {
+		q.Set("_synchronous", "NORMAL")
+		q.Set("_txlock", "immediate")
+	}
 	// In a file: URI SQLite ends the path at '?' or '#' and decodes '%XX';
 	// unescaped, such a name would open another file, with default
 	// permissions, beside the owner-only one created above.
@@ -120,17 +146,170 @@ func Open(ctx context.Context, path string, currency money.Currency) (*DB, error
 	// than opening and closing them as load comes and goes.
 	sqldb.SetMaxOpenConns(maxConns)
 	sqldb.SetMaxIdleConns(maxConns)
-	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency}
-	if err := db.migrate(ctx); err != nil {
+	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency, readOnly: readOnly}
+	fail := func(err error) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("store %s: %w", path, err)
 	}
+	if err := db.checkOurs(ctx); err != nil {
+		return fail(err)
+	}
+	if toWrite {
+		if err := db.Check(ctx); err != nil {
+			return fail(err)
+		}
+	}
+	if !readOnly {
+		// Set once the file is known to be ours: the journal mode is
+		// written into the file, and stays for every later connection.
+		if _, err := sqldb.ExecContext(ctx, `PRAGMA journal_mode = WAL`); err != nil {
+			return fail(err)
+		}
+	}
+	if err := db.migrate(ctx); err != nil {
+		return fail(err)
+	}
 	if err := db.checkCurrency(ctx); err != nil {
-		sqldb.Close()
-		return nil, fmt.Errorf("store %s: %w", path, err)
+		return fail(err)
 	}
 	return db, nil
 }
+
+// prepareFile creates the store file owner-only, or makes an existing one
+// owner-only when it is opened to write. It reports whether the store can
+// only be read: an existing file this user may not write, opened to read.
+func prepareFile(path string, toWrite bool) (readOnly bool, err error) {
+	// Create the file ourselves so that it never exists with wider
+	// permissions; SQLite gives its -wal and -shm files the same mode.
+	f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE, 0o600)
+	if err != nil {
+		cannotWrite := Exists(path) && (errors.Is(err, fs.ErrPermission) || errors.Is(err, syscall.EROFS))
+		switch {
+		case cannotWrite && !toWrite:
+			return true, nil
+		case cannotWrite:
+			return false, fmt.Errorf("store %s cannot be written by this user (%v): run the command as the store's owner, or copy the store to change it", path, unwrapPathError(err))
+		}
+		return false, fmt.Errorf("store %s: %w", path, err)
+	}
+	defer f.Close()
+	if !toWrite {
+		return false, nil
+	}
+	// Ledger data can be personal (payroll by cost centre): a store that
+	// was copied in with a looser mode is made owner-only before anything
+	// is written into it, and so are its -wal and -shm files.
+	for _, p := range []string{path, path + "-wal", path + "-shm"} {
+		st, err := os.Stat(p)
+		if errors.Is(err, fs.ErrNotExist) && p != path {
+			continue
+		}
+		if err != nil {
+			return false, fmt.Errorf("store %s: %w", path, err)
+		}
+		if perm := st.Mode().Perm(); perm&0o077 != 0 {
+			if err := os.Chmod(p, perm&0o700|0o600); err != nil {
+				return false, fmt.Errorf("store %s has mode %04o, readable by others, and cannot be made owner-only (%v): run chmod 600 %s as its owner", p, perm, unwrapPathError(err), p)
+			}
+		}
+	}
+	return false, nil
+}
+
+func unwrapPathError(err error) error {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	return err
+}
+
+// sqliteHeader starts every SQLite database file.
+const sqliteHeader = "SQLite format 3\x00"
+
+// checkOurs refuses a file that is not a costdrift store: another
+// program's SQLite database, or no database at all. An empty file is a
+// new store. Nothing is written before this check, so a refused file is
+// left as it was.
+func (db *DB) checkOurs(ctx context.Context) error {
+	f, err := os.Open(db.path)
+	if err != nil {
+		return err
+	}
+	head := make([]byte, len(sqliteHeader))
+	n, _ := io.ReadFull(f, head)
+	f.Close()
+	switch {
+	case n == 0:
+		return nil
+	case string(head[:n]) != sqliteHeader:
+		return errors.New("it is not a costdrift store: the file is not an SQLite database; name a new file in `store` in the config")
+	}
+	rows, err := db.db.QueryContext(ctx, `SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%' ORDER BY name`)
+	if err != nil {
+		return fmt.Errorf("it cannot be read as an SQLite database: %w", err)
+	}
+	defer rows.Close()
+	var tables []string
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			return err
+		}
+		if name == "schema_migrations" {
+			return nil
+		}
+		tables = append(tables, name)
+	}
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	if len(tables) == 0 {
+		return nil
+	}
+	if len(tables) > 5 {
+		tables = append(tables[:5], "…")
+	}
+	return fmt.Errorf("it is not a costdrift store: it is an SQLite database of something else (tables %s); costdrift will not write into it; name a new file in `store` in the config",
+		strings.Join(tables, ", "))
+}
+
+// ErrCorrupt is returned when the store fails SQLite's quick check.
+var ErrCorrupt = errors.New("the store is damaged")
+
+// Check runs SQLite's quick check (PRAGMA quick_check: every page and
+// b-tree well formed, every record readable; index contents are not
+// compared with their tables) and returns ErrCorrupt, with what it found,
+// when the store is damaged. Writing into a damaged store can spread the
+// damage, so the commands that write run it first.
+func (db *DB) Check(ctx context.Context) error {
+	rows, err := db.db.QueryContext(ctx, `PRAGMA quick_check(5)`)
+	if err != nil {
+		return fmt.Errorf("%w: PRAGMA quick_check failed: %v; restore the store from a backup", ErrCorrupt, err)
+	}
+	defer rows.Close()
+	var found []string
+	for rows.Next() {
+		var line string
+		if err := rows.Scan(&line); err != nil {
+			return err
+		}
+		if line != "ok" {
+			found = append(found, line)
+		}
+	}
+	if err := rows.Err(); err != nil {
+		return fmt.Errorf("%w: PRAGMA quick_check failed: %v; restore the store from a backup", ErrCorrupt, err)
+	}
+	if len(found) > 0 {
+		return fmt.Errorf("%w: PRAGMA quick_check found %s; nothing was written: restore the store from a backup (or recover it with the sqlite3 shell's .recover)",
+			ErrCorrupt, strings.Join(found, "; "))
+	}
+	return nil
+}
+
+// ReadOnly reports whether the store was opened read-only.
+func (db *DB) ReadOnly() bool { return db.readOnly }
 
 // Close closes the store.
 func (db *DB) Close() error { return db.db.Close() }
@@ -174,6 +353,9 @@ func (db *DB) now() string { return db.Now().UTC().Format(time.RFC3339) }
 func (db *DB) checkCurrency(ctx context.Context) error {
 	var code string
 	err := db.db.QueryRowContext(ctx, `SELECT value FROM store_meta WHERE key = 'currency'`).Scan(&code)
+	if errors.Is(err, sql.ErrNoRows) && db.readOnly {
+		return nil
+	}
 	if errors.Is(err, sql.ErrNoRows) {
 		_, err = db.db.ExecContext(ctx, `INSERT INTO store_meta (key, value) VALUES ('currency', ?), ('minor_per_unit', ?)`,
 			db.Currency.Code, strconv.FormatInt(pow10(db.Currency.Exponent), 10))

@@ -67,6 +67,9 @@ func (db *DB) migrate(ctx context.Context) error {
 // one transaction with its record, and refuses a store written by a newer
 // version of costdrift.
 func (db *DB) applyMigrations(ctx context.Context, ms []migration) error {
+	if db.readOnly {
+		return db.checkNoneMissing(ctx, ms)
+	}
 	if _, err := db.db.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
 		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
 		return fmt.Errorf("migrations: %w", err)
@@ -110,6 +113,38 @@ func (db *DB) applyMigrations(ctx context.Context, ms []migration) error {
 		})
 		if err != nil {
 			return fmt.Errorf("migration %s: %w", m.name, err)
+		}
+	}
+	return nil
+}
+
+// checkNoneMissing is the check of a store opened read-only: it cannot be
+// migrated, so it must need no migration.
+func (db *DB) checkNoneMissing(ctx context.Context, ms []migration) error {
+	applied := map[int]bool{}
+	rows, err := db.db.QueryContext(ctx, `SELECT version FROM schema_migrations`)
+	if err != nil {
+		return fmt.Errorf("it cannot be written, and it has no schema yet: run `costdrift sync` as its owner first (%v)", err)
+	}
+	defer rows.Close()
+	newest := 0
+	for rows.Next() {
+		var v int
+		if err := rows.Scan(&v); err != nil {
+			return err
+		}
+		applied[v] = true
+		newest = max(newest, v)
+	}
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	if known := ms[len(ms)-1].version; newest > known {
+		return fmt.Errorf("it was written by a newer costdrift (schema %d; this build knows up to %d): upgrade costdrift", newest, known)
+	}
+	for _, m := range ms {
+		if !applied[m.version] {
+			return fmt.Errorf("it cannot be written and needs migration %s first: run a command that writes (costdrift sync) as its owner", m.name)
 		}
 	}
 	return nil
