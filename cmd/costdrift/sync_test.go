@@ -315,3 +315,88 @@ func tryCount(store, query string) int {
 	}
 	return n
 }
+
+// Another program's SQLite database named as the store is refused, by
+// every command, and left as it was.
+func TestForeignDatabaseRefusedAsStore(t *testing.T) {
+	cfg, dir := setup(t, header+"E1,1,2026-01-05,6100,WELD,4200.00\n")
+	store := filepath.Join(dir, "costdrift.db")
+	other, err := sql.Open("sqlite3", "file:"+store)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := other.Exec(`CREATE TABLE invoices (id INTEGER PRIMARY KEY, total INTEGER)`); err != nil {
+		t.Fatal(err)
+	}
+	other.Close()
+	before, _ := os.ReadFile(store)
+	for _, args := range [][]string{{"sync"}, {"analyze"}, {"report"}} {
+		_, err := run(t, append([]string{"--config", cfg}, args...)...)
+		if err == nil || !strings.Contains(err.Error(), "is not a costdrift store") || !strings.Contains(err.Error(), "invoices") {
+			t.Errorf("costdrift %s on a foreign database: %v", args[0], err)
+		}
+	}
+	if after, _ := os.ReadFile(store); string(after) != string(before) {
+		t.Errorf("the foreign database changed")
+	}
+}
+
+// report, explain and alerts list read a store this user may not write.
+// Root writes any file, so as root the commands run as the user nobody.
+func TestReadOnlyStoreStillReports(t *testing.T) {
+	cfg, dir := setup(t, header+"E1,1,2026-01-05,6100,WELD,4200.00\n")
+	mustRun(t, "--config", cfg, "sync")
+	mustRun(t, "--config", cfg, "analyze")
+	store := filepath.Join(dir, "costdrift.db")
+	for _, p := range []string{store, cfg, filepath.Join(dir, "data"), filepath.Join(dir, "data", "gl")} {
+		os.Chmod(p, 0o555)
+	}
+	os.Chmod(store, 0o444)
+	os.Chmod(cfg, 0o444)
+	os.Chmod(dir, 0o555)
+	t.Cleanup(func() { os.Chmod(dir, 0o755) })
+	for _, args := range [][]string{{"report", "--format", "json"}, {"alerts", "list"}, {"status"}} {
+		cmd := command(append([]string{"--config", cfg}, args...)...)
+		if os.Geteuid() == 0 {
+			bin := copyForNobody(t)
+			cmd.Path, cmd.Args[0] = bin, bin
+			cmd.SysProcAttr = &syscall.SysProcAttr{Credential: &syscall.Credential{Uid: 65534, Gid: 65534}}
+		}
+		out, err := cmd.CombinedOutput()
+		if err != nil {
+			t.Errorf("costdrift %s on a read-only store: %v\n%s", args[0], err, out)
+		}
+		if args[0] == "report" && !strings.Contains(string(out), `"object": "6100/WELD"`) {
+			t.Errorf("report on a read-only store lacks 6100/WELD:\n%s", out)
+		}
+	}
+	_, err := run(t, "--config", cfg, "sync")
+	if os.Geteuid() != 0 && (err == nil || !strings.Contains(err.Error(), "cannot be written")) {
+		t.Errorf("sync into a read-only store: %v", err)
+	}
+}
+
+// copyForNobody copies this test binary where the user nobody can run it,
+// and opens the way to the test's folders.
+func copyForNobody(t *testing.T) string {
+	t.Helper()
+	dir, err := os.MkdirTemp("", "costdrift-nobody-")
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { os.RemoveAll(dir) })
+	self, err := os.ReadFile(os.Args[0])
+	if err != nil {
+		t.Fatal(err)
+	}
+	bin := filepath.Join(dir, "costdrift")
+	if err := os.WriteFile(bin, self, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	os.Chmod(dir, 0o755)
+	// t.TempDir's parents are owner-only; nobody must pass through them.
+	for d := filepath.Dir(t.TempDir()); d != os.TempDir() && d != "/"; d = filepath.Dir(d) {
+		os.Chmod(d, 0o755)
+	}
+	return bin
+}
