@@ -12,6 +12,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -98,7 +99,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		if x.Lag > 0 {
 			designed += fmt.Sprintf(" (lag %d)", x.Lag)
 		}
-		line := fmt.Sprintf("  %-10s %-24s designed %-32s found %s", obj, x.AccountName, designed, found[obj])
+		line := fmt.Sprintf("  %-10s %-24s designed %-32s found %s", obj, x.AccountName, designed, report.TerminalText(found[obj]))
 		if x.Drift != "" {
 			line += "   [drift: " + x.Drift + "]"
 		}
