@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -12,12 +11,12 @@ import (
 	"strings"
 	"text/tabwriter"
 	"time"
-	"unicode"
 	"unicode/utf8"
 
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -178,7 +177,7 @@ escalates.`,
 				if err != nil {
 					return err
 				}
-				what := fmt.Sprintf("alert %d (%s on %s)", id, alert.Kind, terminalText(alert.Object))
+				what := fmt.Sprintf("alert %d (%s on %s)", id, alert.Kind, report.TerminalText(alert.Object))
 				if until == "" {
 					_, err = fmt.Fprintf(a.out, "%s acknowledged until its condition changes: it opens again if it escalates, or clears and comes back\n", what)
 				} else {
@@ -271,12 +270,9 @@ func writeAlertsJSON(w io.Writer, alerts []costdrift.Alert) error {
 
 // encodeJSON writes v indented. The encoder's HTML escaping stays on: text
 // from the ledger in a message (`<script>`) comes out as \u003c…, safe to
-// paste into a web page as well as to parse.
-func encodeJSON(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
-}
+// paste into a web page as well as to parse; control characters come out
+// escaped, safe to print on a terminal.
+func encodeJSON(w io.Writer, v any) error { return report.EncodeJSON(w, v) }
 
 func writeAlertsTable(w io.Writer, alerts []costdrift.Alert, status string) error {
 	if len(alerts) == 0 {
@@ -288,8 +284,8 @@ func writeAlertsTable(w io.Writer, alerts []costdrift.Alert, status string) erro
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "ID\tSEVERITY\tKIND\tOBJECT\tPERIOD\tSTATUS\tMESSAGE")
 	for _, a := range alerts {
-		fmt.Fprintf(tw, "%d\t%s\t%s\t%s\t%s\t%s\t%s\n", a.ID, a.Severity, a.Kind, terminalText(a.Object), terminalText(a.Period),
-			statusText(a), terminalText(a.Message))
+		fmt.Fprintf(tw, "%d\t%s\t%s\t%s\t%s\t%s\t%s\n", a.ID, a.Severity, a.Kind, report.TerminalText(a.Object), report.TerminalText(a.Period),
+			statusText(a), report.TerminalText(a.Message))
 	}
 	if err := tw.Flush(); err != nil {
 		return err
@@ -300,7 +296,7 @@ func writeAlertsTable(w io.Writer, alerts []costdrift.Alert, status string) erro
 
 func statusText(a costdrift.Alert) string {
 	if a.Status == costdrift.AlertAcknowledged && a.AckUntil != "" {
-		return "acknowledged until " + terminalText(a.AckUntil)
+		return "acknowledged until " + report.TerminalText(a.AckUntil)
 	}
 	return a.Status
 }
@@ -308,13 +304,13 @@ func statusText(a costdrift.Alert) string {
 // writeAlertDetail lays one alert out as label and value, then its
 // evidence, one key a line, nested values indented under their key.
 func writeAlertDetail(w io.Writer, a costdrift.Alert) error {
-	fmt.Fprintf(w, "Alert %d: %s on %s\n\n", a.ID, a.Kind, terminalText(a.Object))
+	fmt.Fprintf(w, "Alert %d: %s on %s\n\n", a.ID, a.Kind, report.TerminalText(a.Object))
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	row := func(label, value string) { fmt.Fprintf(tw, "  %s\t%s\n", label, value) }
 	row("severity", string(a.Severity))
 	row("status", statusText(a))
-	row("period", terminalText(a.Period))
-	row("message", terminalText(a.Message))
+	row("period", report.TerminalText(a.Period))
+	row("message", report.TerminalText(a.Message))
 	row("first raised", clockTime(a.CreatedAt))
 	row("last changed", clockTime(a.UpdatedAt))
 	if !a.ResolvedAt.IsZero() {
@@ -359,7 +355,7 @@ type evidenceRow struct {
 // on the lines below its key, indented.
 func evidenceRows(rows *[]evidenceRow, indent string, m map[string]any) {
 	for _, k := range slices.Sorted(maps.Keys(m)) {
-		label := indent + terminalText(k)
+		label := indent + report.TerminalText(k)
 		switch v := m[k].(type) {
 		case map[string]any:
 			*rows = append(*rows, evidenceRow{label: label, heading: true})
@@ -395,7 +391,7 @@ func evidenceValue(v any) string {
 	case float64:
 		return strconv.FormatFloat(v, 'g', -1, 64)
 	case string:
-		return terminalText(v)
+		return report.TerminalText(v)
 	case bool:
 		return strconv.FormatBool(v)
 	case []any:
@@ -405,32 +401,7 @@ func evidenceValue(v any) string {
 		}
 		return strings.Join(parts, ", ")
 	}
-	return terminalText(fmt.Sprint(v))
+	return report.TerminalText(fmt.Sprint(v))
 }
 
 func clockTime(t time.Time) string { return t.UTC().Format("2006-01-02 15:04 UTC") }
-
-// terminalText shows text from the ledger or a rule as text: control
-// characters (escape sequences that could recolour or rewrite the
-// terminal, line breaks and tabs that would break the table) and the
-// bidirectional overrides that reorder what is shown are written as Go
-// escapes (\x1b, \n, \u202e). Everything else, '<' included, is shown as it is.
-func terminalText(s string) string {
-	if !strings.ContainsFunc(s, hiddenRune) {
-		return s
-	}
-	var b strings.Builder
-	for _, r := range s {
-		if hiddenRune(r) {
-			q := strconv.QuoteRune(r)
-			b.WriteString(q[1 : len(q)-1])
-			continue
-		}
-		b.WriteRune(r)
-	}
-	return b.String()
-}
-
-func hiddenRune(r rune) bool {
-	return unicode.IsControl(r) || (r >= 0x202a && r <= 0x202e) || (r >= 0x2066 && r <= 0x2069) || r == 0x200e || r == 0x200f
-}

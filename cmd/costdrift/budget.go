@@ -1,12 +1,10 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -14,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 	"github.com/xuri/excelize/v2"
 
+	"github.com/costdrift/costdrift/internal/atomicfile"
 	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/csvsource"
@@ -46,20 +45,17 @@ func (o *outputFlags) check() error {
 	return fmt.Errorf("--format must be table, csv, json or xlsx, not %q", o.format)
 }
 
-// write sends what render writes to --output (owner-only: budgets come
-// from confidential ledger data) or to out.
+// write sends what render writes to --output or to out. The file is
+// written whole or not at all, so that a failed export (a full disk)
+// leaves an earlier one as it was, and owner-only, also over an earlier
+// file readable by others: budgets come from confidential ledger data.
 func (o *outputFlags) write(out io.Writer, render func(io.Writer) error) error {
 	if o.output == "" {
 		return render(out)
 	}
-	var buf bytes.Buffer
-	if err := render(&buf); err != nil {
-		return err
-	}
-	if err := os.WriteFile(o.output, buf.Bytes(), 0o600); err != nil {
-		return fmt.Errorf("--output: %w", err)
-	}
-	return nil
+	// render's own errors come back as they are; the file system's name
+	// the file: "write out/budget.csv: no space left on device".
+	return atomicfile.Write(o.output, 0o600, render)
 }
 
 func (a *app) budgetCommand() *cobra.Command {

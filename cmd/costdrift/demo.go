@@ -4,14 +4,17 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
 
 	"github.com/spf13/cobra"
 
+	"github.com/costdrift/costdrift/internal/atomicfile"
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -42,20 +45,17 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		return fmt.Errorf("demo data: %w", err)
 	}
 	a.configPath = filepath.Join(dir, "costdrift.yaml")
-	f, err := os.OpenFile(a.configPath, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)
+	// Whole or not at all: a half-written config would be kept by the
+	// next demo as "the existing" one.
+	err = atomicfile.WriteNew(a.configPath, 0o600, func(w io.Writer) error {
+		_, err := io.WriteString(w, config.Starter)
+		return err
+	})
 	switch {
 	case errors.Is(err, fs.ErrExist):
 		fmt.Fprintf(a.out, "keeping the existing %s\n", a.configPath)
 	case err != nil:
 		return err
-	default:
-		_, werr := f.WriteString(config.Starter)
-		if cerr := f.Close(); werr == nil {
-			werr = cerr
-		}
-		if werr != nil {
-			return werr
-		}
 	}
 	fmt.Fprintf(a.out, "%s (an invented company): 36 months of ledger and activity written to %s\n\n", demo.Company, filepath.Join(dir, "data"))
 
@@ -98,7 +98,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		if x.Lag > 0 {
 			designed += fmt.Sprintf(" (lag %d)", x.Lag)
 		}
-		line := fmt.Sprintf("  %-10s %-24s designed %-32s found %s", obj, x.AccountName, designed, found[obj])
+		line := fmt.Sprintf("  %-10s %-24s designed %-32s found %s", obj, x.AccountName, designed, report.TerminalText(found[obj]))
 		if x.Drift != "" {
 			line += "   [drift: " + x.Drift + "]"
 		}

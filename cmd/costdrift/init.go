@@ -3,12 +3,14 @@ package main
 import (
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
 
 	"github.com/spf13/cobra"
 
+	"github.com/costdrift/costdrift/internal/atomicfile"
 	"github.com/costdrift/costdrift/internal/config"
 )
 
@@ -32,22 +34,20 @@ func (a *app) init(force bool) error {
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return fmt.Errorf("folder %s does not exist; create it first or pass another --config", dir)
 	}
-	flags := os.O_WRONLY | os.O_CREATE | os.O_EXCL
+	// Whole or not at all, owner-only: a failed --force keeps the earlier
+	// config, and a config can name where secrets are kept.
+	write := atomicfile.WriteNew
 	if force {
-		flags = os.O_WRONLY | os.O_CREATE | os.O_TRUNC
+		write = atomicfile.Write
 	}
-	f, err := os.OpenFile(path, flags, 0o600)
+	err := write(path, 0o600, func(w io.Writer) error {
+		_, err := io.WriteString(w, config.Starter)
+		return err
+	})
 	if errors.Is(err, fs.ErrExist) {
 		return fmt.Errorf("%s already exists; edit it, or pass --force to overwrite it", path)
 	}
 	if err != nil {
-		return err
-	}
-	if _, err := f.WriteString(config.Starter); err != nil {
-		f.Close()
-		return err
-	}
-	if err := f.Close(); err != nil {
 		return err
 	}
 	for _, d := range []string{"data/gl", "outbox"} {

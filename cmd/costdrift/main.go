@@ -14,6 +14,8 @@ import (
 	"time"
 
 	"github.com/spf13/cobra"
+
+	"github.com/costdrift/costdrift/internal/report"
 )
 
 // version is set at build time with -ldflags "-X main.version=...".
@@ -23,10 +25,15 @@ func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	if err := newRoot(os.Stdout, os.Stderr, time.Now).ExecuteContext(ctx); err != nil {
-		fmt.Fprintln(os.Stderr, "costdrift: "+err.Error())
+		fmt.Fprintln(os.Stderr, errorLine(err))
 		os.Exit(1)
 	}
 }
+
+// errorLine is how main shows a failed command's error: one line, with
+// what the error quotes from the ledger, the store or a file name shown as
+// visible escapes rather than obeyed by the terminal.
+func errorLine(err error) string { return "costdrift: " + report.TerminalText(err.Error()) }
 
 // app carries what every command shares.
 type app struct {

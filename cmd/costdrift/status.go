@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -63,7 +64,7 @@ func writeStatus(w io.Writer, cycles []costdrift.Cycle, runs []costdrift.SyncRun
 		}
 		fmt.Fprintf(w, "  #%-5d %s  %-7s %-8s %s\n", c.ID, clockTime(c.StartedAt), c.Status, took, strings.Join(stages, ", "))
 		if c.Error != "" {
-			fmt.Fprintf(w, "         %s\n", terminalText(c.Error))
+			fmt.Fprintf(w, "         %s\n", report.TerminalText(c.Error))
 		}
 	}
 	fmt.Fprintln(w)
@@ -73,10 +74,10 @@ func writeStatus(w io.Writer, cycles []costdrift.Cycle, runs []costdrift.SyncRun
 	}
 	for _, r := range runs {
 		fmt.Fprintf(w, "  #%-5d %s  %-7s %s (%s, %s): %d file(s), %d unchanged; rows %d read, %d loaded, %d rejected\n",
-			r.ID, clockTime(r.StartedAt), r.Status, terminalText(r.Source), r.Role, r.Kind, r.Files, r.FilesSkipped,
+			r.ID, clockTime(r.StartedAt), r.Status, report.TerminalText(r.Source), r.Role, r.Kind, r.Files, r.FilesSkipped,
 			r.RowsRead, r.RowsLoaded, r.RowsRejected)
 		if r.Error != "" {
-			fmt.Fprintf(w, "         %s\n", terminalText(r.Error))
+			fmt.Fprintf(w, "         %s\n", report.TerminalText(r.Error))
 		}
 	}
 }

@@ -102,7 +102,7 @@ func syncAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) ([]costd
 	defer debug.SetGCPercent(debug.SetGCPercent(syncGCPercent))
 	if isTerminal(out) {
 		e.progress = func(display string, done, total int64) {
-			fmt.Fprintf(out, "\r  %s  %3.0f %%  (%s of %s MB)\033[K", display, 100*float64(done)/float64(total),
+			fmt.Fprintf(out, "\r  %s  %3.0f %%  (%s of %s MB)\033[K", report.TerminalText(display), 100*float64(done)/float64(total),
 				report.Number(float64(done)/1e6, 0), report.Number(float64(total)/1e6, 0))
 			if done >= total {
 				fmt.Fprint(out, "\r\033[K")
@@ -202,7 +202,7 @@ func printRun(out io.Writer, db *sqlite.DB, run *costdrift.SyncRun, notes []stri
 	fmt.Fprintf(out, "%-10s %-8s %srows: %s read, %s stored%s, %s replaced, %s rejected%s\n", run.Source, run.Role, files,
 		n(run.RowsRead), n(run.RowsLoaded), unchanged, n(run.RowsReplaced), n(run.RowsRejected), status)
 	for _, w := range append(run.Warnings, notes...) {
-		fmt.Fprintf(out, "%-10s note: %s\n", "", w)
+		fmt.Fprintf(out, "%-10s note: %s\n", "", report.TerminalText(w))
 	}
 	if run.RowsRejected > 0 {
 		fmt.Fprintf(out, "%-10s see why: sqlite3 %s \"SELECT location, reason FROM rejects WHERE sync_run_id = %d\"\n", "", db.Path(), run.ID)
@@ -398,7 +398,7 @@ func forgetFiles(ctx context.Context, e *env, db *sqlite.DB, files []string, out
 				if err != nil {
 					return fmt.Errorf("forget %s: %w", c, err)
 				}
-				fmt.Fprintf(out, "forgot %s (source %s): %s rows removed", c, s, report.Number(float64(removed), 0))
+				fmt.Fprintf(out, "forgot %s (source %s): %s rows removed", report.TerminalText(c), s, report.Number(float64(removed), 0))
 				if givenBack > 0 {
 					fmt.Fprintf(out, ", %s given back to the files that still hold them", report.Number(float64(givenBack), 0))
 				}

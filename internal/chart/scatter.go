@@ -8,7 +8,6 @@ import (
 	"image/png"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -19,6 +18,8 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/costdrift/costdrift/internal/atomicfile"
 )
 
 // Default sizes. 720×480 px is what an alert email inlines; the SVG default is
@@ -261,9 +262,9 @@ func (s Scatter) WriteSVG(w io.Writer, widthPt, heightPt float64) error {
 }
 
 // WriteFile draws s into path at the default size, as PNG or SVG by the
-// extension (.png or .svg, any case). The file is written under a temporary
-// name and renamed, with mode 0600, because the chart shows ledger figures; an
-// existing file at path is replaced.
+// extension (.png or .svg, any case). The file is written whole or not at all
+// and owner-only (mode 0600), because the chart shows ledger figures: an
+// existing file at path is replaced, and left as it was when the write fails.
 func WriteFile(path string, s Scatter) error {
 	var buf bytes.Buffer
 	var err error
@@ -278,19 +279,11 @@ func WriteFile(path string, s Scatter) error {
 	if err != nil {
 		return fmt.Errorf("%w (%s)", err, path)
 	}
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+	err = atomicfile.Write(path, 0o600, func(w io.Writer) error {
+		_, err := w.Write(buf.Bytes())
+		return err
+	})
 	if err != nil {
-		return fmt.Errorf("chart: %w", err)
-	}
-	tmp := f.Name()
-	_, werr := f.Write(buf.Bytes())
-	cerr := f.Close()
-	if err := errors.Join(werr, cerr, os.Chmod(tmp, 0o600)); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("chart: write %s: %w", path, err)
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
 		return fmt.Errorf("chart: %w", err)
 	}
 	return nil

@@ -5,12 +5,15 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"slices"
 	"strconv"
 	"time"
+
+	"github.com/costdrift/costdrift/internal/atomicfile"
 )
 
 // Files are the paths Write created, relative to dir.
@@ -125,32 +128,14 @@ func monthStart(i int) time.Time {
 	return time.Date(firstYear, firstMonth+time.Month(i-1), 1, 0, 0, 0, 0, time.UTC)
 }
 
-// writeFile writes data to path through a temporary file in the same folder
-// (created 0600 by os.CreateTemp) and a rename.
+// writeFile writes data to path whole or not at all, owner-only.
 func writeFile(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), ".demo-*.tmp")
+	err := atomicfile.Write(path, fileMode, func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	})
 	if err != nil {
-		return fmt.Errorf("demo: write %s: %w", path, err)
-	}
-	tmp := f.Name()
-	fail := func(err error) error {
-		f.Close()
-		os.Remove(tmp)
-		return fmt.Errorf("demo: write %s: %w", path, err)
-	}
-	if _, err := f.Write(data); err != nil {
-		return fail(err)
-	}
-	if err := f.Chmod(fileMode); err != nil {
-		return fail(err)
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("demo: write %s: %w", path, err)
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("demo: write %s: %w", path, err)
+		return fmt.Errorf("demo: %w", err)
 	}
 	return nil
 }

@@ -16,6 +16,8 @@ import (
 
 	gomail "github.com/wneessen/go-mail"
 	maillog "github.com/wneessen/go-mail/log"
+
+	"github.com/costdrift/costdrift/internal/atomicfile"
 )
 
 // Message builds the MIME message of a digest: multipart/alternative with
@@ -270,9 +272,9 @@ func Password(envName, file string) (string, error) {
 	return os.Getenv(envName), nil
 }
 
-// WriteOutbox writes m as an .eml file (mode 0600) into dir, creating the
-// folder owner-only (0700), and returns the file's path. name is part of
-// the file name; the time keeps files in order.
+// WriteOutbox writes m as a new .eml file (mode 0600, whole or not at all)
+// into dir, creating the folder owner-only (0700), and returns the file's
+// path. name is part of the file name; the time keeps files in order.
 func WriteOutbox(dir string, m *gomail.Msg, when time.Time, name string) (string, error) {
 	if err := os.MkdirAll(dir, 0o700); err != nil {
 		return "", fmt.Errorf("mail: outbox: %w", err)
@@ -289,21 +291,17 @@ func WriteOutbox(dir string, m *gomail.Msg, when time.Time, name string) (string
 		if i > 0 {
 			p = filepath.Join(dir, fmt.Sprintf("%s-%d.eml", base, i))
 		}
-		f, err := os.OpenFile(p, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)
+		// A new name each time, written whole or not at all: a mail client
+		// or a pickup script never reads half a message.
+		err := atomicfile.WriteNew(p, 0o600, func(w io.Writer) error {
+			_, err := m.WriteTo(w)
+			return err
+		})
 		if errors.Is(err, os.ErrExist) {
 			continue
 		}
 		if err != nil {
 			return "", fmt.Errorf("mail: outbox: %w", err)
-		}
-		if _, err := m.WriteTo(f); err != nil {
-			f.Close()
-			os.Remove(p)
-			return "", fmt.Errorf("mail: outbox: %s: %w", p, err)
-		}
-		if err := f.Close(); err != nil {
-			os.Remove(p)
-			return "", fmt.Errorf("mail: outbox: %s: %w", p, err)
 		}
 		return p, nil
 	}

@@ -65,7 +65,7 @@ func money(v float64) *float64 {
 }
 
 // BudgetJSON writes the rows as a JSON array.
-func BudgetJSON(w io.Writer, rows []BudgetRow) error { return writeJSON(w, rows) }
+func BudgetJSON(w io.Writer, rows []BudgetRow) error { return EncodeJSON(w, rows) }
 
 // budgetHeader names the columns of the CSV and XLSX outputs.
 var budgetHeader = []string{"line", "period", "object", "account", "account_name", "cost_center", "class", "driver", "activity",
@@ -88,9 +88,10 @@ func BudgetCSV(w io.Writer, rows []BudgetRow) error { return writeCSV(w, BudgetC
 
 // BudgetTable writes the budget per period: the objects, then each cost
 // centre's total, then the overall total; the warnings as numbered notes;
-// the assumption behind the totals and the cautions.
+// the assumption behind the totals and the cautions. Text from the store
+// and the plan's name are shown through TerminalText.
 func BudgetTable(w io.Writer, rows []BudgetRow, currency, plan string) error {
-	fmt.Fprintf(w, "Flexible budget from plan %s (%s per period)\n", plan, currency)
+	fmt.Fprintf(w, "Flexible budget from plan %s (%s per period)\n", TerminalText(plan), currency)
 	notes := &noteList{}
 	period := ""
 	var tw *tabwriter.Writer
@@ -106,24 +107,18 @@ func BudgetTable(w io.Writer, rows []BudgetRow, currency, plan string) error {
 				return err
 			}
 			period = r.Period
-			fmt.Fprintf(w, "\n%s\n", period)
+			fmt.Fprintf(w, "\n%s\n", TerminalText(period))
 			tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 			fmt.Fprintln(tw, "OBJECT\tACCOUNT\tCLASS\tACTIVITY\tBUDGET\t80 % INTERVAL\t95 % INTERVAL\tNOTE\t")
 		}
-		name, what, act := r.Object, clip(r.AccountName, 22), "-"
-		switch r.Line {
-		case budget.KindCostCenter:
-			name, what = "total "+r.CostCenter, fmt.Sprintf("%d objects", r.Objects)
-		case budget.KindTotal:
-			name, what = "TOTAL", fmt.Sprintf("%d objects", r.Objects)
-		}
+		name, what, act := lineNames(r.Line, r.Object, r.AccountName, r.CostCenter, r.Objects)
 		if r.Activity != nil {
-			act = Activity(*r.Activity) + " " + words(r.Driver)
+			act = Activity(*r.Activity) + " " + TerminalText(words(r.Driver))
 			if r.Activity2 != nil {
-				act += " + " + Activity(*r.Activity2) + " " + words(r.Driver2)
+				act += " + " + Activity(*r.Activity2) + " " + TerminalText(words(r.Driver2))
 			}
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", name, what, r.Class, act, moneyText(r.Budget),
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", name, what, TerminalText(r.Class), act, moneyText(r.Budget),
 			interval(r.Low80, r.High80), interval(r.Low95, r.High95), notes.add(withoutIndependence(r.Warning)))
 	}
 	if err := flush(); err != nil {
@@ -188,7 +183,7 @@ func VarianceRows(lines []budget.VarianceLine, names map[string]string) []Varian
 }
 
 // VarianceJSON writes the rows as a JSON array.
-func VarianceJSON(w io.Writer, rows []VarianceRow) error { return writeJSON(w, rows) }
+func VarianceJSON(w io.Writer, rows []VarianceRow) error { return EncodeJSON(w, rows) }
 
 var varianceHeader = []string{"line", "period", "object", "account", "account_name", "cost_center", "class", "driver",
 	"actual_activity", "planned_activity", "actual", "flexible_budget", "low95", "high95", "spending_variance", "spending_mark",
@@ -215,11 +210,12 @@ func VarianceCSV(w io.Writer, rows []VarianceRow) error { return writeCSV(w, Var
 // VarianceTable writes the period's variances: actual against the flexible
 // budget (spending variance) and, with a plan, the flexible against the
 // static budget (activity variance), F or U; an actual outside the 95 %
-// interval is starred.
+// interval is starred. Text from the store and the plan's name are shown
+// through TerminalText.
 func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan string) error {
-	title := fmt.Sprintf("Variances for %s (%s)", period, currency)
+	title := fmt.Sprintf("Variances for %s (%s)", TerminalText(period), currency)
 	if plan != "" {
-		title += ", static budget from plan " + plan
+		title += ", static budget from plan " + TerminalText(plan)
 	}
 	fmt.Fprintln(w, title)
 	fmt.Fprintln(w)
@@ -232,15 +228,9 @@ func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan strin
 	fmt.Fprintln(tw, head+"NOTE\t")
 	starred := 0
 	for _, r := range rows {
-		name, what, act := r.Object, clip(r.AccountName, 22), "-"
-		switch r.Line {
-		case budget.KindCostCenter:
-			name, what = "total "+r.CostCenter, fmt.Sprintf("%d objects", r.Objects)
-		case budget.KindTotal:
-			name, what = "TOTAL", fmt.Sprintf("%d objects", r.Objects)
-		}
+		name, what, act := lineNames(r.Line, r.Object, r.AccountName, r.CostCenter, r.Objects)
 		if r.ActualActivity != nil {
-			act = Activity(*r.ActualActivity) + " " + words(r.Driver)
+			act = Activity(*r.ActualActivity) + " " + TerminalText(words(r.Driver))
 		}
 		actual := moneyText(r.Actual)
 		if r.Outside95 {
@@ -270,6 +260,19 @@ func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan strin
 	fmt.Fprintln(w)
 	_, err := fmt.Fprintln(w, Caution)
 	return err
+}
+
+// lineNames is a budget or variance line's first two cells and an empty
+// activity: the object and its account name, or the total and how many
+// objects it adds.
+func lineNames(kind budget.Kind, object, accountName, costCenter string, objects int) (name, what, activity string) {
+	switch kind {
+	case budget.KindCostCenter:
+		return "total " + TerminalText(costCenter), fmt.Sprintf("%d objects", objects), "-"
+	case budget.KindTotal:
+		return "TOTAL", fmt.Sprintf("%d objects", objects), "-"
+	}
+	return TerminalText(object), clip(TerminalText(accountName), 22), "-"
 }
 
 // sentence starts s with a capital letter.
@@ -345,7 +348,7 @@ func (n *noteList) write(w io.Writer) {
 	}
 	fmt.Fprintln(w, "\nNotes:")
 	for i, t := range n.texts {
-		fmt.Fprintf(w, "  [%d] %s\n", i+1, t)
+		fmt.Fprintf(w, "  [%d] %s\n", i+1, TerminalText(t))
 	}
 }
 

@@ -1,7 +1,6 @@
 package report
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -393,53 +392,52 @@ func DurbinWatsonReading(d float64) string {
 
 // ExplainJSON writes the explanation as one indented JSON object.
 func ExplainJSON(w io.Writer, e Explanation) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	enc.SetEscapeHTML(false) // reasons say "p < 0.001"; nothing here is embedded in HTML
-	return enc.Encode(e)
+	return encodeJSON(w, e, false) // reasons say "p < 0.001"; nothing here is embedded in HTML
 }
 
 // ExplainText writes the explanation as plain aligned text: the behaviour,
 // the drivers tried, the model comparison, high-low beside least squares,
-// the diagnostics and the cautions.
+// the diagnostics and the cautions. Text from the store, and the chart's
+// path, are shown through TerminalText.
 func ExplainText(w io.Writer, e Explanation, currency string) error {
 	var s strings.Builder
-	title := e.Object
+	title := TerminalText(e.Object)
 	if e.AccountName != "" {
-		title += " — " + e.AccountName
+		title += " — " + TerminalText(e.AccountName)
 	}
 	s.WriteString(title + "   (amounts in " + currency + " per period)\n")
 	driver := "none"
 	if e.Driver != nil {
-		driver = DriverLabel(*e.Driver, *e.Lag)
+		driver = TerminalText(DriverLabel(*e.Driver, *e.Lag))
 		if e.Driver2 != nil {
-			driver += " and " + DriverLabel(*e.Driver2, *e.Lag2)
+			driver += " and " + TerminalText(DriverLabel(*e.Driver2, *e.Lag2))
 		}
 	}
-	fitted := fmt.Sprintf("%d periods, %s to %s", e.N, e.Since, e.Until)
+	fitted := fmt.Sprintf("%d periods, %s to %s", e.N, TerminalText(e.Since), TerminalText(e.Until))
 	if e.R2 != nil {
 		fitted += ", R² " + fmt.Sprintf("%.3f", *e.R2)
 	}
 	if e.RangeMin != nil && e.RangeMax != nil {
 		fitted += ", relevant range " + Activity(*e.RangeMin) + " – " + Activity(*e.RangeMax)
 		if e.Unit != "" {
-			fitted += " (" + e.Unit + ")"
+			fitted += " (" + TerminalText(e.Unit) + ")"
 		}
 	}
 	analysis := fmt.Sprintf("run %d", e.Analysis.RunID)
 	if e.Analysis.FinishedAt != "" {
 		analysis += " of " + strings.Replace(strings.TrimSuffix(e.Analysis.FinishedAt, "Z"), "T", " ", 1) + " UTC"
 	}
-	analysis += fmt.Sprintf(", window %s to %s, %d driver-lag candidates", e.Analysis.WindowFrom, e.Analysis.WindowTo, e.Analysis.Candidates)
+	analysis += fmt.Sprintf(", window %s to %s, %d driver-lag candidates", TerminalText(e.Analysis.WindowFrom), TerminalText(e.Analysis.WindowTo),
+		e.Analysis.Candidates)
 	if e.Analysis.Alpha > 0 {
 		analysis += fmt.Sprintf(", Holm-corrected at %g", e.Analysis.Alpha)
 	}
 	keyValues(&s, [][2]string{
-		{"class", string(e.Class)},
-		{"formula", e.Formula},
+		{"class", TerminalText(string(e.Class))},
+		{"formula", TerminalText(e.Formula)},
 		{"driver", driver},
 		{"fitted on", fitted},
-		{"reason", e.Reason},
+		{"reason", TerminalText(e.Reason)},
 		{"analysis", analysis},
 	})
 
@@ -464,7 +462,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 			case !d.Significant:
 				note = "not significant"
 			}
-			t.add(rank, d.Driver, fmt.Sprint(d.Lag), num(d.Rate, 4), pValue(d.P), pValue(d.HolmP), num(d.R2, 3), press(d.PRESSPerPeriod), fmt.Sprint(d.N), note)
+			t.add(rank, TerminalText(d.Driver), fmt.Sprint(d.Lag), num(d.Rate, 4), pValue(d.P), pValue(d.HolmP), num(d.R2, 3), press(d.PRESSPerPeriod), fmt.Sprint(d.N), note)
 		}
 		t.write(&s, "  ")
 		fmt.Fprintf(&s, "  PRESS/N: mean squared error (%s²) of predicting each period from the others; lower is better.\n", currency)
@@ -476,7 +474,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 	if len(e.Models) > 0 {
 		on := "without a driver"
 		if e.ModelDriver != "" {
-			on = "on " + e.ModelDriver + ", lag " + fmt.Sprint(e.ModelLag)
+			on = "on " + TerminalText(e.ModelDriver) + ", lag " + fmt.Sprint(e.ModelLag)
 		}
 		fmt.Fprintf(&s, "\nModels %s: lower AICc is better; 4 or more above the best is considerably less support\n", on)
 		t := table{header: []string{"MODEL", "DRIVER", "N", "R²", "AICc", "ΔAICc", "PRESS/N", ""}, right: "llrrrrrl"}
@@ -499,9 +497,9 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 			}
 			drv := "-"
 			if m.Driver != "" {
-				drv = m.Driver + ", lag " + fmt.Sprint(m.Lag)
+				drv = TerminalText(m.Driver) + ", lag " + fmt.Sprint(m.Lag)
 			}
-			t.add(strings.ReplaceAll(string(m.Model), "_", "-"), drv, fmt.Sprint(m.N), r2, num(m.AICc, 1), num(m.DeltaAICc, 1), press(m.PRESSPerPeriod), strings.Join(notes, ", "))
+			t.add(TerminalText(strings.ReplaceAll(string(m.Model), "_", "-")), drv, fmt.Sprint(m.N), r2, num(m.AICc, 1), num(m.DeltaAICc, 1), press(m.PRESSPerPeriod), strings.Join(notes, ", "))
 		}
 		t.write(&s, "  ")
 		if uncentred {
@@ -511,7 +509,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 
 	if c := e.Comparison; c != nil {
 		// High-low is on the first driver alone, also when the formula has two.
-		fmt.Fprintf(&s, "\nHigh-low beside least squares, on %s\n", DriverLabel(*e.Driver, *e.Lag))
+		fmt.Fprintf(&s, "\nHigh-low beside least squares, on %s\n", TerminalText(DriverLabel(*e.Driver, *e.Lag)))
 		lagged := c.High.ActivityPeriod != c.High.Period || c.Low.ActivityPeriod != c.Low.Period
 		t := table{header: []string{"", "PERIOD", "ACTIVITY", "COST"}, right: "llrr"}
 		if lagged {
@@ -522,9 +520,9 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 			e    HighLowEnd
 		}{{"highest activity", c.High}, {"lowest activity", c.Low}} {
 			if lagged {
-				t.add(end.name, end.e.Period, end.e.ActivityPeriod, Activity(end.e.Activity), Number(end.e.Cost, 2))
+				t.add(end.name, TerminalText(end.e.Period), TerminalText(end.e.ActivityPeriod), Activity(end.e.Activity), Number(end.e.Cost, 2))
 			} else {
-				t.add(end.name, end.e.Period, Activity(end.e.Activity), Number(end.e.Cost, 2))
+				t.add(end.name, TerminalText(end.e.Period), Activity(end.e.Activity), Number(end.e.Cost, 2))
 			}
 		}
 		t.write(&s, "  ")
@@ -535,7 +533,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 			t.add("least squares", num(c.LeastSquares.Fixed, 2), num(c.LeastSquares.Rate, 4), fmt.Sprint(c.N))
 		}
 		t.write(&s, "  ")
-		wrap(&s, c.Explanation, "  ", textWidth)
+		wrap(&s, TerminalText(c.Explanation), "  ", textWidth)
 	}
 
 	s.WriteString("\nDiagnostics\n")
@@ -546,7 +544,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 		wrap(&s, "Durbin–Watson: "+d.DurbinWatsonReading+".", "  ", textWidth)
 	}
 	if d.Basis != "" {
-		wrap(&s, "The robust fit and the outliers below are of "+d.Basis+".", "  ", textWidth)
+		wrap(&s, "The robust fit and the outliers below are of "+TerminalText(d.Basis)+".", "  ", textWidth)
 	}
 	if d.Robust != nil {
 		t := table{header: []string{"", "FIXED", "RATE"}, right: "lrr"}
@@ -556,7 +554,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 		}
 		t.write(&s, "  ")
 		if d.RobustNote != "" {
-			wrap(&s, "Note: "+d.RobustNote+".", "  ", textWidth)
+			wrap(&s, "Note: "+TerminalText(d.RobustNote)+".", "  ", textWidth)
 		} else {
 			s.WriteString("  The robust rate is within two standard errors of least squares: no small group of periods sways it.\n")
 		}
@@ -569,7 +567,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 			fmt.Fprintf(&s, "  Outliers: periods with a Cook's distance above 4/n = %s\n", limit)
 			t := table{header: []string{"PERIOD", "COOK'S D", "STUDENTISED RESIDUAL"}, right: "lrr"}
 			for _, o := range d.Outliers {
-				t.add(o.Period, fmt.Sprintf("%.3f", o.CooksD), fmt.Sprintf("%.2f", o.Studentised))
+				t.add(TerminalText(o.Period), fmt.Sprintf("%.3f", o.CooksD), fmt.Sprintf("%.2f", o.Studentised))
 			}
 			t.write(&s, "    ")
 		}
@@ -579,11 +577,11 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 		s.WriteString("\n")
 	}
 	for _, n := range e.Notes {
-		wrap(&s, "Note: "+n, "", textWidth)
+		wrap(&s, "Note: "+TerminalText(n), "", textWidth)
 	}
 	if e.Chart != "" {
 		// The path is written whole: wrapping would fold its spaces.
-		s.WriteString("Chart written to " + e.Chart + "\n")
+		s.WriteString("Chart written to " + TerminalText(e.Chart) + "\n")
 		if e.Class == costdrift.Step && len(d.Outliers) > 0 {
 			s.WriteString("The straight line's outliers are not marked on the step levels.\n")
 		}

@@ -1,7 +1,6 @@
 package report
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -92,17 +91,11 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 }
 
 // JSON writes the rows as an indented JSON array.
-func JSON(w io.Writer, rows []Row) error { return writeJSON(w, rows) }
-
-// writeJSON writes v as indented JSON.
-func writeJSON(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
-}
+func JSON(w io.Writer, rows []Row) error { return EncodeJSON(w, rows) }
 
 // Table writes the rows as an aligned table followed by each object's
-// reason and the cautions.
+// reason and the cautions. Text from the store is shown through
+// TerminalText.
 func Table(w io.Writer, rows []Row, currency string) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintf(tw, "OBJECT\tACCOUNT\tCLASS\tFORMULA (%s per period)\tR²\tN\tRELEVANT RANGE\tSINCE\n", currency)
@@ -114,7 +107,8 @@ func Table(w io.Writer, rows []Row, currency string) error {
 		if r.RangeMin != nil {
 			rng = Number(*r.RangeMin, 0) + " – " + Number(*r.RangeMax, 0)
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%s\n", r.Object, clip(r.AccountName, 24), r.Class, r.Formula, r2, r.N, rng, r.Since)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%s\n", TerminalText(r.Object), clip(TerminalText(r.AccountName), 24),
+			TerminalText(string(r.Class)), TerminalText(r.Formula), r2, r.N, rng, TerminalText(r.Since))
 	}
 	if err := tw.Flush(); err != nil {
 		return err
@@ -122,12 +116,13 @@ func Table(w io.Writer, rows []Row, currency string) error {
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "Why:")
 	for _, r := range rows {
-		fmt.Fprintf(w, "  %-12s %s\n", r.Object, r.Reason)
+		fmt.Fprintf(w, "  %-12s %s\n", TerminalText(r.Object), TerminalText(r.Reason))
 		if r.HighLow != nil {
 			hl := r.HighLow
-			fmt.Fprintf(w, "  %-12s high-low: cost = %s + %s (high %s, low %s)\n", "", Number(hl.Fixed, 2), Number(hl.Rate, rateDecimals(hl.Rate)), hl.HighPeriod, hl.LowPeriod)
+			fmt.Fprintf(w, "  %-12s high-low: cost = %s + %s (high %s, low %s)\n", "", Number(hl.Fixed, 2), Number(hl.Rate, rateDecimals(hl.Rate)),
+				TerminalText(hl.HighPeriod), TerminalText(hl.LowPeriod))
 			if hl.Warning != "" {
-				fmt.Fprintf(w, "  %-12s warning: %s\n", "", hl.Warning)
+				fmt.Fprintf(w, "  %-12s warning: %s\n", "", TerminalText(hl.Warning))
 			}
 		}
 	}

@@ -2,6 +2,8 @@
 // through costdrift.SourceWriter; not for production code.
 //
 // It owns the Recorder, a writer that keeps what a reader hands it so a test
-// can compare it with the rows it expects. It must not be imported by
-// anything but _test.go files, and it holds no I/O, database or fixtures.
+// can compare it with the rows it expects; Mailpit, which finds the SMTP
+// server the mail tests run against; and WithFileSizeLimit (Linux), which
+// makes file writes fail as on a full disk. It must not be imported by
+// anything but _test.go files, and it holds no database or fixtures.
 package costdrifttest
