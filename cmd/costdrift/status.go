@@ -78,5 +78,8 @@ func writeStatus(w io.Writer, cycles []costdrift.Cycle, runs []costdrift.SyncRun
 		if r.Error != "" {
 			fmt.Fprintf(w, "         %s\n", terminalText(r.Error))
 		}
+		for _, warning := range r.Warnings {
+			fmt.Fprintf(w, "         warning: %s\n", terminalText(warning))
+		}
 	}
 }
