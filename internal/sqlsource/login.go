@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"fmt"
 	"strings"
+	"unicode"
 )
 
 // The query guard and the read-only transaction are a first line only: a
@@ -151,7 +152,15 @@ func loginFindings(ctx context.Context, conn *sql.Conn, query string) ([]string,
 			return nil, err
 		}
 		if f.Valid && f.String != "" {
-			out = append(out, f.String)
+			// Names come from the database: a control character in one must
+			// not reach a terminal, nor split the warning where the store
+			// keeps one per line.
+			out = append(out, strings.Map(func(r rune) rune {
+				if unicode.IsControl(r) {
+					return '?'
+				}
+				return r
+			}, f.String))
 		}
 	}
 	return out, rows.Err()

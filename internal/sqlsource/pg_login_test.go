@@ -59,6 +59,11 @@ func TestPostgresLoginRights(t *testing.T) {
 		`CREATE ROLE keeper LOGIN PASSWORD '`+keeperPW+`'`,
 		`GRANT SELECT ON chart TO keeper`,
 		`GRANT UPDATE ON t1, t2, t3, t4, t5 TO keeper`,
+		// A table name with a line break and a terminal escape in it.
+		`CREATE ROLE odd LOGIN PASSWORD 'Odd-pw-7'`,
+		`GRANT SELECT ON chart TO odd`,
+		"CREATE TABLE \"x\ny\x1b[2J\" (a int)",
+		"GRANT DELETE ON \"x\ny\x1b[2J\" TO odd",
 	)
 	dsn := func(user, pw string) string {
 		return fmt.Sprintf("postgres://%s:%s@127.0.0.1:%d/postgres?sslmode=disable", user, pw, s.port)
@@ -96,6 +101,7 @@ func TestPostgresLoginRights(t *testing.T) {
 			{"table privilege", dsn("clerk", clerkPW), "DELETE on public.victim"},
 			{"privilege through a role", dsn("member", memberPW), "INSERT on public.victim"},
 			{"create in a schema", dsn("builder", builderPW), "CREATE on schema scratch"},
+			{"a name with control characters", dsn("odd", "Odd-pw-7"), `DELETE on public."x?y?[2J"`},
 			{"many tables", dsn("keeper", keeperPW), "(UPDATE on public.t1; UPDATE on public.t2; UPDATE on public.t3; UPDATE on public.t4; and 1 more)"},
 		} {
 			t.Run(tc.name, func(t *testing.T) {
