@@ -75,6 +75,10 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 	if err != nil {
 		return fmt.Errorf("mail: %w", err)
 	}
+	objects, err := alertObjects(ctx, db, open)
+	if err != nil {
+		return fmt.Errorf("mail: %w", err)
+	}
 	now := a.now()
 	charts := map[int64][]byte{}
 	var batch []outgoing
@@ -83,7 +87,8 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 			MinSeverity: costdrift.Severity(r.MinSeverity)}
 		var items []mail.Item
 		for _, al := range open {
-			if !mail.Routes(rcpt, al) {
+			o := objects[al.Object]
+			if !mail.RoutesObject(rcpt, al, o) {
 				continue
 			}
 			var prev *mail.State
@@ -96,8 +101,8 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 			}
 			it := mail.Item{Alert: al}
 			if !mail.SourceKind(al.Kind) {
-				account, _, _ := strings.Cut(al.Object, "/")
-				it.AccountName = names[account]
+				it.Object = o
+				it.AccountName = names[o.Account]
 				if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
 					it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
 				}
@@ -177,6 +182,36 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 		fmt.Fprintf(out, "mail: %d alert(s) to %s not sent, retried on a later cycle: %s\n", len(o.items), o.to, msg)
 	}
 	return nil
+}
+
+// alertObjects maps the Object of each object alert to its account and
+// cost centre as the analysis stored them: "6100/01/PLANT/2" is account
+// 6100/01 in cost centre PLANT/2, which no split at a "/" can tell. An
+// object the store has no behaviour for is split at its first "/".
+func alertObjects(ctx context.Context, db *sqlite.DB, open []costdrift.Alert) (map[string]costdrift.CostObject, error) {
+	out := make(map[string]costdrift.CostObject, len(open))
+	if len(open) == 0 {
+		return out, nil
+	}
+	current, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		return nil, err
+	}
+	known := make(map[string]costdrift.CostObject, len(current))
+	for _, b := range current {
+		known[b.Object.String()] = b.Object
+	}
+	for _, al := range open {
+		if mail.SourceKind(al.Kind) {
+			continue
+		}
+		o, ok := known[al.Object]
+		if !ok {
+			o = mail.SplitObject(al.Object)
+		}
+		out[al.Object] = o
+	}
+	return out, nil
 }
 
 func oneLineError(err error) string {

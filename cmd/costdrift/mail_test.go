@@ -254,3 +254,109 @@ func TestMailOutboxAndRefusals(t *testing.T) {
 		t.Errorf("tls none to a network host: %v", err)
 	}
 }
+
+// TestMailRoutesCodesWithSlash: the demo's freight account booked as
+// 6400/01 in cost centre PLANT/2 (codes with a "/") is synced, analysed and
+// its alert mailed to the recipients whose patterns match the codes as a
+// whole: "*", "PLANT/*" and "6400/*" with "PLANT/2", not "OTHER*".
+func TestMailRoutesCodesWithSlash(t *testing.T) {
+	dir := t.TempDir()
+	mustRun(t, "demo", "--dir", dir)
+	for _, name := range []string{"costdrift.db", "outbox"} {
+		if err := os.RemoveAll(filepath.Join(dir, name)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	files, _ := filepath.Glob(filepath.Join(dir, "data", "gl", "*.csv"))
+	renamed := 0
+	for _, f := range files {
+		b, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lines := strings.Split(string(b), "\n")
+		for i, l := range lines {
+			// entry_id,line,date,account,cost_center,amount,description
+			fields := strings.SplitN(l, ",", 6)
+			if len(fields) == 6 && fields[3] == "6400" && fields[4] == "ASSY" {
+				fields[3], fields[4] = "6400/01", "PLANT/2"
+				lines[i] = strings.Join(fields, ",")
+				renamed++
+			}
+		}
+		if err := os.WriteFile(f, []byte(strings.Join(lines, "\n")), 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if renamed < 36 {
+		t.Fatalf("renamed %d ledger lines of 6400/ASSY; the demo changed: update this test", renamed)
+	}
+	chart := filepath.Join(dir, "data", "accounts.csv")
+	b, err := os.ReadFile(chart)
+	if err != nil || !strings.Contains(string(b), "\n6400,Freight out,") {
+		t.Fatalf("the demo's chart of accounts changed: update this test (%v)", err)
+	}
+	if err := os.WriteFile(chart, []byte(strings.Replace(string(b), "\n6400,", "\n6400/01,", 1)), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	cfgPath := filepath.Join(dir, "costdrift.yaml")
+	b, err = os.ReadFile(cfgPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := strings.Replace(string(b), `accounts: ["5000-6999"]`, `accounts: ["5000-6999", "6400/*"]`, 1)
+	cfg = strings.Replace(cfg, `    - email: costs@example.test
+      cost_centers: ["*"]
+      accounts: ["*"]
+      min_severity: warning    # info | warning | critical`, `    - email: star@example.test
+      cost_centers: ["*"]
+      min_severity: warning
+    - email: plant@example.test
+      cost_centers: ["PLANT/*"]
+      min_severity: warning
+    - email: freight@example.test
+      accounts: ["6400/*"]
+      cost_centers: ["PLANT/2"]
+      min_severity: warning
+    - email: other@example.test
+      cost_centers: ["OTHER*"]
+      min_severity: warning`, 1)
+	if !strings.Contains(cfg, "6400/*") || !strings.Contains(cfg, "other@example.test") {
+		t.Fatal("the demo's config changed: update this test's replacements")
+	}
+	if err := os.WriteFile(cfgPath, []byte(cfg), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	mustRun(t, "--config", cfgPath, "sync")
+	out := mustRun(t, "--config", cfgPath, "analyze")
+
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE object = '6400/01/PLANT/2' AND kind = 'rate_shift' AND status = 'open'"); n != 1 {
+		t.Fatalf("%d open rate_shift alerts on 6400/01/PLANT/2, want 1; analyze said:\n%s", n, out)
+	}
+	for _, rcpt := range []string{"star@example.test", "plant@example.test", "freight@example.test", "other@example.test"} {
+		want := 1
+		if rcpt == "other@example.test" {
+			want = 0
+		}
+		q := "SELECT COUNT(*) FROM deliveries d JOIN alerts a ON a.id = d.alert_id WHERE a.object = '6400/01/PLANT/2' AND d.status = 'sent' AND d.recipient = '" + rcpt + "'"
+		if n := count(t, store, q); n != want {
+			t.Errorf("%s: the alert on 6400/01/PLANT/2 delivered %d time(s), want %d; analyze said:\n%s", rcpt, n, want, out)
+		}
+	}
+	// The digest names the account from the chart of accounts: the
+	// account is 6400/01, not 6400.
+	eml, _ := filepath.Glob(filepath.Join(dir, "outbox", "*plant_example.test.eml"))
+	if len(eml) != 1 {
+		t.Fatalf("outbox files for plant@example.test: %v", eml)
+	}
+	msg, err := os.ReadFile(eml[0])
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"\r\nSubject: costdrift: 1 change in cost behaviour (PLANT/2)\r\n", "-- WARNING  rate shifted  6400/01/PLANT/2 Freight out\r\n"} {
+		if !strings.Contains(string(msg), want) {
+			t.Errorf("the digest lacks %q:\n%s", want, msg)
+		}
+	}
+}

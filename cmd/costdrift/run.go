@@ -134,6 +134,9 @@ func (a *app) cycle(ctx context.Context, e *env, db *sqlite.DB, log *slog.Logger
 		log.Log(ctx, lvl, "source synced", "cycle", c.ID, "source", r.Source, "role", string(r.Role), "kind", r.Kind,
 			"status", r.Status, "files", r.Files, "files_skipped", r.FilesSkipped, "rows_read", r.RowsRead,
 			"rows_loaded", r.RowsLoaded, "rows_rejected", r.RowsRejected, "error", r.Error)
+		for _, w := range r.Warnings {
+			log.Warn("source warning", "cycle", c.ID, "source", r.Source, "warning", w)
+		}
 	}
 	if m != nil {
 		m.rowsSynced.Add(float64(loaded))

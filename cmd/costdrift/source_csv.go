@@ -20,9 +20,10 @@ var fileKinds = map[string]fileReader{}
 
 // queryReader reads a source that is not a file (a database query) into w.
 // watermark is the newest value a watermark-mode source read last time ("" the
-// first time, or in full-refresh mode); it returns the rows read and the new
-// watermark.
-type queryReader func(ctx context.Context, e *env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (read int, newWatermark string, err error)
+// first time, or in full-refresh mode); it returns the rows read, the new
+// watermark and warnings for the operator (such as a login that can write),
+// which come back with an error too.
+type queryReader func(ctx context.Context, e *env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (read int, newWatermark string, warnings []string, err error)
 
 // queryKinds maps a source kind to its reader, registered like fileKinds.
 var queryKinds = map[string]queryReader{}

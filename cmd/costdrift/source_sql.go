@@ -17,9 +17,11 @@ func init() { queryKinds["sql"] = readSQL }
 // readSQL runs a sql source's query into w. In watermark mode, watermark is
 // the value the store kept from the last successful read ("" the first
 // time), and the new one is returned for the store to keep with the batch.
-func readSQL(ctx context.Context, e *env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (int, string, error) {
+// The reader's warnings (a login that can write) are returned for the sync
+// to print and record.
+func readSQL(ctx context.Context, e *env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (int, string, []string, error) {
 	if src.Aggregated && role != costdrift.RoleLedger {
-		return 0, "", fmt.Errorf("aggregated: true applies to a ledger source only, not to %s", role)
+		return 0, "", nil, fmt.Errorf("aggregated: true applies to a ledger source only, not to %s", role)
 	}
 	dsnFile := ""
 	if src.DSNFile != "" {
@@ -27,7 +29,7 @@ func readSQL(ctx context.Context, e *env, role costdrift.Role, src config.Source
 	}
 	dsn, origin, err := sqlsource.LoadDSN(src.DSNEnv, dsnFile, os.Getenv)
 	if err != nil {
-		return 0, "", err
+		return 0, "", nil, err
 	}
 	opt := sqlsource.Options{
 		Source:     src.Name,
@@ -61,10 +63,10 @@ func readSQL(ctx context.Context, e *env, role costdrift.Role, src config.Source
 		res, err = sqlsource.ReadLedger(ctx, opt, w)
 	}
 	if err != nil {
-		return res.Rows, "", err
+		return res.Rows, "", res.Warnings, err
 	}
 	if src.Refresh != "watermark" {
-		return res.Rows, "", nil
+		return res.Rows, "", res.Warnings, nil
 	}
-	return res.Rows, res.Watermark, nil
+	return res.Rows, res.Watermark, res.Warnings, nil
 }

@@ -139,3 +139,57 @@ sources:
 		t.Errorf("%d sync runs keep the password in their error", n)
 	}
 }
+
+// TestSyncShowsSourceWarnings: a warning the reader raises about its
+// source (here: a SQLite connection string that asks to open the file for
+// writing, which costdrift overrides) is printed by sync under the source,
+// kept in sync_runs and shown by status; the sync itself succeeds.
+func TestSyncShowsSourceWarnings(t *testing.T) {
+	dir := t.TempDir()
+	books := filepath.Join(dir, "books.db")
+	src, err := sql.Open("sqlite3", books)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range []string{`CREATE TABLE konten (konto TEXT, bezeichnung TEXT)`, `INSERT INTO konten VALUES ('6100', 'Energie')`} {
+		if _, err := src.Exec(s); err != nil {
+			t.Fatalf("%s: %v", s, err)
+		}
+	}
+	src.Close()
+	before, _ := os.ReadFile(books)
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	yaml := `store: costdrift.db
+currency: EUR
+sources:
+  accounts:
+    - name: coa
+      kind: sql
+      driver: sqlite
+      dsn_env: COSTDRIFT_TEST_BOOKS_DSN
+      query: SELECT konto AS account, bezeichnung AS name FROM konten
+`
+	if err := os.WriteFile(cfg, []byte(yaml), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	t.Setenv("COSTDRIFT_TEST_BOOKS_DSN", "file:"+books+"?mode=rwc")
+	store := filepath.Join(dir, "costdrift.db")
+	const warning = "source coa: its connection string asks for mode=rwc; it is opened read-only (mode=ro), as every SQLite source is"
+	out := mustRun(t, "--config", cfg, "sync")
+	if !strings.Contains(out, "warning: "+warning) {
+		t.Errorf("sync does not print the warning:\n%s", out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM accounts WHERE source = 'coa' AND account = '6100'"); n != 1 {
+		t.Errorf("%d accounts stored, want 1:\n%s", n, out)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'coa' AND status = 'ok' AND warnings = '"+warning+"'"); n != 1 {
+		t.Errorf("%d ok sync runs of coa record the warning, want 1", n)
+	}
+	status := mustRun(t, "--config", cfg, "status")
+	if !strings.Contains(status, "warning: "+warning) {
+		t.Errorf("status does not show the warning:\n%s", status)
+	}
+	if after, _ := os.ReadFile(books); string(after) != string(before) {
+		t.Errorf("the sync changed the source database")
+	}
+}

@@ -79,5 +79,8 @@ func writeStatus(w io.Writer, cycles []costdrift.Cycle, runs []costdrift.SyncRun
 		if r.Error != "" {
 			fmt.Fprintf(w, "         %s\n", report.TerminalText(r.Error))
 		}
+		for _, warning := range r.Warnings {
+			fmt.Fprintf(w, "         warning: %s\n", report.TerminalText(warning))
+		}
 	}
 }

@@ -201,8 +201,11 @@ func printRun(out io.Writer, db *sqlite.DB, run *costdrift.SyncRun, notes []stri
 	}
 	fmt.Fprintf(out, "%-10s %-8s %srows: %s read, %s stored%s, %s replaced, %s rejected%s\n", run.Source, run.Role, files,
 		n(run.RowsRead), n(run.RowsLoaded), unchanged, n(run.RowsReplaced), n(run.RowsRejected), status)
-	for _, w := range append(run.Warnings, notes...) {
-		fmt.Fprintf(out, "%-10s note: %s\n", "", report.TerminalText(w))
+	for _, w := range run.Warnings {
+		fmt.Fprintf(out, "%-10s warning: %s\n", "", report.TerminalText(w))
+	}
+	for _, n := range notes {
+		fmt.Fprintf(out, "%-10s note: %s\n", "", report.TerminalText(n))
 	}
 	if run.RowsRejected > 0 {
 		fmt.Fprintf(out, "%-10s see why: sqlite3 %s \"SELECT location, reason FROM rejects WHERE sync_run_id = %d\"\n", "", db.Path(), run.ID)
@@ -304,11 +307,17 @@ func syncQuery(ctx context.Context, e *env, db *sqlite.DB, role costdrift.Role, 
 			return err
 		}
 	}
-	return db.LoadQuery(ctx, run, src.Refresh != "watermark", func(w costdrift.SourceWriter) (string, error) {
-		n, mark, err := read(ctx, e, role, src, watermark, w)
+	var warnings []string
+	err := db.LoadQuery(ctx, run, src.Refresh != "watermark", func(w costdrift.SourceWriter) (string, error) {
+		n, mark, warns, err := read(ctx, e, role, src, watermark, w)
 		run.RowsRead += n
+		warnings = warns
 		return mark, err
 	})
+	// After the load: a failed batch resets the run's counts, but a login
+	// that can write is worth knowing about either way.
+	run.Warnings = append(run.Warnings, warnings...)
+	return err
 }
 
 // syncGCPercent is the garbage collector's target during a sync (Go's

@@ -101,6 +101,10 @@ func TestLoadErrors(t *testing.T) {
 		{"bad log level", "log:\n  level: loud\n", `log.level: must be debug, info, warn or error, not "loud" (FILE)`},
 		{"lag twice", "analysis:\n  lags: [0, 0]\n", "analysis.lags: lag 0 is listed twice (FILE)"},
 		{"bad calendar period", "calendar:\n  period: quarter\n", `calendar.period: must be month, week, 4-4-5, 4-5-4 or 5-4-4, not "quarter" (FILE)`},
+		{"bad cost centre glob", "alerts:\n  recipients:\n    - {email: a@example.test}\n    - {email: b@example.test, cost_centers: [\"PLANT/*\", \"X[1\"]}\n",
+			`alerts.recipients[1].cost_centers: "X[1" is not a valid glob: the class opened by [ at byte 1 is not closed (FILE)`},
+		{"bad account glob", "alerts:\n  recipients:\n    - {email: a@example.test, accounts: [\"61\\\\\"]}\n",
+			`alerts.recipients[0].accounts: "61\\" is not a valid glob: it ends in a lone \ (write \\ for a backslash) (FILE)`},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

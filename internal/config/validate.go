@@ -157,6 +157,18 @@ func (c *Config) validate() *Error {
 		default:
 			return bad(key+".min_severity", "must be info, warning or critical, not %q", r.MinSeverity)
 		}
+		// A pattern that is not a glob would match nothing, and the alerts
+		// it was meant for would never be mailed.
+		for _, list := range []struct {
+			name     string
+			patterns []string
+		}{{"cost_centers", r.CostCenters}, {"accounts", r.Accounts}} {
+			for _, p := range list.patterns {
+				if _, err := costdrift.ParseGlob(p); err != nil {
+					return bad(key+"."+list.name, "%q is not a valid glob: %v", p, err)
+				}
+			}
+		}
 	}
 
 	switch c.Mail.SMTP.TLS {

@@ -2,20 +2,20 @@ package costdrift
 
 import (
 	"fmt"
-	"path"
 	"strconv"
 	"strings"
 )
 
 // AccountScope selects accounts by patterns: a range "5000-6999" (numeric
 // when both ends are numbers, else by text order, both ends included) or a
-// glob such as "61*" or "5???". An empty scope selects every account.
+// Glob such as "61*" or "5???", which matches the whole code ("61*" takes
+// "6100/01" too). An empty scope selects every account.
 type AccountScope struct {
 	patterns []scopePattern
 }
 
 type scopePattern struct {
-	glob     string
+	glob     *Glob
 	low, hi  string
 	numeric  bool
 	lowN, hN int64
@@ -48,10 +48,11 @@ func ParseAccountScope(patterns []string) (AccountScope, error) {
 			s.patterns = append(s.patterns, sp)
 			continue
 		}
-		if _, err := path.Match(p, ""); err != nil {
-			return AccountScope{}, fmt.Errorf("account pattern %q is not a valid glob", p)
+		g, err := ParseGlob(p)
+		if err != nil {
+			return AccountScope{}, fmt.Errorf("account pattern %q is not a valid glob: %v", p, err)
 		}
-		s.patterns = append(s.patterns, scopePattern{glob: p})
+		s.patterns = append(s.patterns, scopePattern{glob: &g})
 	}
 	return s, nil
 }
@@ -63,8 +64,8 @@ func (s AccountScope) Contains(account string) bool {
 	}
 	for _, p := range s.patterns {
 		switch {
-		case p.glob != "":
-			if ok, _ := path.Match(p.glob, account); ok {
+		case p.glob != nil:
+			if p.glob.Match(account) {
 				return true
 			}
 		case p.numeric:

@@ -31,11 +31,12 @@ func TestRoutes(t *testing.T) {
 	rent := alert(2, costdrift.AlertDataGap, "6500", costdrift.SeverityWarning)
 	info := alert(3, costdrift.AlertSpendingOutlier, "6400/PAINT", costdrift.SeverityInfo)
 	source := alert(4, costdrift.AlertSourceFailure, "gl", costdrift.SeverityCritical)
+	plant := alert(5, costdrift.AlertRateShift, "6100/PLANT/2", costdrift.SeverityWarning)
 	for _, tc := range []struct {
 		name string
 		r    Recipient
 		a    costdrift.Alert
-		want bool // common practice: glob routing as path.Match defines it
+		want bool // glob routing on whole codes as the README defines it (Mail): * and ? match "/" too
 	}{
 		{"everything", Recipient{}, weld, true},
 		{"cost centre glob", Recipient{CostCenters: []string{"WE*"}}, weld, true},
@@ -51,12 +52,51 @@ func TestRoutes(t *testing.T) {
 		{"source to everything", Recipient{}, source, true},
 		{"source not to a narrow list", Recipient{CostCenters: []string{"WELD"}}, source, false},
 		{"source below min severity", Recipient{MinSeverity: costdrift.SeverityCritical}, source, true},
+		{"cost centre with a slash, star", Recipient{CostCenters: []string{"*"}}, plant, true},
+		{"cost centre with a slash, prefix", Recipient{CostCenters: []string{"PLANT/*"}}, plant, true},
+		{"cost centre with a slash, ?", Recipient{CostCenters: []string{"PLANT?2"}}, plant, true},
+		{"cost centre with a slash, other", Recipient{CostCenters: []string{"OTHER*"}}, plant, false},
+		{"cost centre with a slash, both lists", Recipient{Accounts: []string{"61*"}, CostCenters: []string{"*"}}, plant, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			if got := Routes(tc.r, tc.a); got != tc.want {
 				t.Errorf("Routes(%+v, %s) = %v, want %v", tc.r, tc.a.Object, got, tc.want)
 			}
 		})
+	}
+}
+
+// TestRoutesObject: an account code with a "/" (6100/01) in a cost centre
+// with one (PLANT/2) makes the Object "6100/01/PLANT/2", which no split at
+// a "/" can read back; the caller passes the object as the store holds it.
+func TestRoutesObject(t *testing.T) {
+	a := alert(1, costdrift.AlertRateShift, "6100/01/PLANT/2", costdrift.SeverityWarning)
+	o := costdrift.CostObject{Account: "6100/01", CostCenter: "PLANT/2"}
+	for _, tc := range []struct {
+		name string
+		r    Recipient
+		want bool // glob routing on whole codes, as the README defines it (Mail)
+	}{
+		{"everything", Recipient{}, true},
+		{"star", Recipient{CostCenters: []string{"*"}, Accounts: []string{"*"}}, true},
+		{"cost centre prefix", Recipient{CostCenters: []string{"PLANT/*"}}, true},
+		{"whole cost centre", Recipient{CostCenters: []string{"PLANT/2"}}, true},
+		{"other cost centre", Recipient{CostCenters: []string{"OTHER*"}}, false},
+		{"cost centre is not the account's tail", Recipient{CostCenters: []string{"01/*"}}, false},
+		{"account prefix", Recipient{Accounts: []string{"6100/*"}}, true},
+		{"whole account", Recipient{Accounts: []string{"6100/01"}, CostCenters: []string{"PLANT/?"}}, true},
+		{"account is not the object's head", Recipient{Accounts: []string{"6100"}}, false},
+		{"other account", Recipient{Accounts: []string{"62*"}}, false},
+	} {
+		if got := RoutesObject(tc.r, a, o); got != tc.want {
+			t.Errorf("%s: RoutesObject(%+v) = %v, want %v", tc.name, tc.r, got, tc.want)
+		}
+	}
+	// An account without a cost centre still reaches only an empty list or "*".
+	gap := alert(2, costdrift.AlertDataGap, "6100/01", costdrift.SeverityWarning)
+	account := costdrift.CostObject{Account: "6100/01"}
+	if !RoutesObject(Recipient{CostCenters: []string{"*"}}, gap, account) || RoutesObject(Recipient{CostCenters: []string{"01"}}, gap, account) {
+		t.Errorf("account 6100/01 without a cost centre: routed to 01, or not to *")
 	}
 }
 
@@ -158,6 +198,21 @@ func TestSubject(t *testing.T) {
 	}
 	many = append(many, Item{Alert: rent})
 	if got, want := Subject(many), "costdrift: 6 changes in cost behaviour (A, B, C, +3 more)"; got != want {
+		t.Errorf("Subject = %q, want %q", got, want)
+	}
+}
+
+// TestSubjectCodesWithSlash: the subject names the cost centre the store
+// holds (PLANT/2), or the account when there is none (6100/01), not what a
+// split of "6100/01/PLANT/2" at its first "/" would give.
+func TestSubjectCodesWithSlash(t *testing.T) {
+	items := []Item{
+		{Alert: alert(1, costdrift.AlertRateShift, "6100/01/PLANT/2", costdrift.SeverityWarning),
+			Object: costdrift.CostObject{Account: "6100/01", CostCenter: "PLANT/2"}},
+		{Alert: alert(2, costdrift.AlertDataGap, "6100/01", costdrift.SeverityWarning),
+			Object: costdrift.CostObject{Account: "6100/01"}},
+	}
+	if got, want := Subject(items), "costdrift: 2 changes in cost behaviour (PLANT/2, 6100/01)"; got != want {
 		t.Errorf("Subject = %q, want %q", got, want)
 	}
 }

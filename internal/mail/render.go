@@ -17,7 +17,10 @@ import (
 // Item is one alert in a digest, with its scatter chart as PNG bytes when
 // the store has the data to draw one (nil otherwise).
 type Item struct {
-	Alert       costdrift.Alert
+	Alert costdrift.Alert
+	// Object is the alert's account and cost centre as the store holds
+	// them; when zero, they are read from Alert.Object (SplitObject).
+	Object      costdrift.CostObject
 	AccountName string // the account's name from the chart of accounts, "" if unknown
 	// Class and Driver are the object's current class and driver from the
 	// store; the evidence's class_before/after and driver_before/after,
@@ -55,10 +58,13 @@ func Subject(items []Item) string {
 		}
 		p := it.Alert.Object
 		if !SourceKind(it.Alert.Kind) {
-			account, center, _ := strings.Cut(p, "/")
-			p = account
-			if center != "" {
-				p = center
+			o := it.Object
+			if o == (costdrift.CostObject{}) {
+				o = SplitObject(p)
+			}
+			p = o.Account
+			if o.CostCenter != "" {
+				p = o.CostCenter
 			}
 		} else {
 			p = "source " + p

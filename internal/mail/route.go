@@ -1,7 +1,6 @@
 package mail
 
 import (
-	"path"
 	"strings"
 	"time"
 
@@ -9,8 +8,11 @@ import (
 )
 
 // Recipient is one address and the alerts it wants: cost centres and
-// accounts as glob patterns (path.Match syntax: *, ?, [a-z]; an empty list
-// means every one) and the least severity worth a message ("" = info).
+// accounts as glob patterns over the whole code (costdrift.Glob: "*" takes
+// any run of characters, "/" among them, "?" one, "[a-z]" one of a class;
+// an empty list means every one) and the least severity worth a message
+// ("" = info). A pattern that is not a valid glob matches nothing; the
+// config refuses one before it gets here.
 type Recipient struct {
 	Email       string
 	CostCenters []string
@@ -24,22 +26,37 @@ func SourceKind(k costdrift.AlertKind) bool {
 	return k == costdrift.AlertStaleSource || k == costdrift.AlertSourceFailure
 }
 
-// Routes reports whether r receives alert a. The severity must reach
-// r.MinSeverity. A source alert has no account or cost centre, so it goes
-// to the recipients who asked for everything: a "*" among their cost
-// centres or accounts, or both lists empty. An object alert, on "ACCOUNT"
-// or "ACCOUNT/COSTCENTRE", needs its account to match one of r.Accounts
-// and its cost centre one of r.CostCenters (an object without a cost centre
-// matches only an empty list or "*").
+// Routes reports whether r receives alert a, reading an object alert's
+// Object "ACCOUNT/COSTCENTRE" as split at its first "/" (SplitObject).
+// Where account codes may hold a "/", that split can be wrong: the caller
+// that knows the object's codes calls RoutesObject.
 func Routes(r Recipient, a costdrift.Alert) bool {
+	return RoutesObject(r, a, SplitObject(a.Object))
+}
+
+// RoutesObject reports whether r receives alert a, on the cost object o
+// for an object alert. The severity must reach r.MinSeverity. A source
+// alert has no account or cost centre, so it goes to the recipients who
+// asked for everything: a "*" among their cost centres or accounts, or both
+// lists empty. An object alert needs its account to match one of
+// r.Accounts and its cost centre one of r.CostCenters, each code as a whole
+// (an object without a cost centre matches only an empty list or "*").
+func RoutesObject(r Recipient, a costdrift.Alert, o costdrift.CostObject) bool {
 	if a.Severity.Rank() < minSeverity(r).Rank() {
 		return false
 	}
 	if SourceKind(a.Kind) {
 		return (len(r.CostCenters) == 0 && len(r.Accounts) == 0) || hasStar(r.CostCenters) || hasStar(r.Accounts)
 	}
-	account, center, _ := strings.Cut(a.Object, "/")
-	return matchAny(r.Accounts, account, false) && matchAny(r.CostCenters, center, center == "")
+	return matchAny(r.Accounts, o.Account, false) && matchAny(r.CostCenters, o.CostCenter, o.CostCenter == "")
+}
+
+// SplitObject reads an object alert's Object as "ACCOUNT/COSTCENTRE" split
+// at its first "/", or "ACCOUNT" alone: right unless the account code holds
+// a "/" itself, when only the store's behaviours know the split.
+func SplitObject(object string) costdrift.CostObject {
+	account, center, _ := strings.Cut(object, "/")
+	return costdrift.CostObject{Account: account, CostCenter: center}
 }
 
 func minSeverity(r Recipient) costdrift.Severity {
@@ -68,7 +85,7 @@ func matchAny(patterns []string, value string, starOnly bool) bool {
 		return hasStar(patterns)
 	}
 	for _, p := range patterns {
-		if ok, err := path.Match(p, value); err == nil && ok {
+		if g, err := costdrift.ParseGlob(p); err == nil && g.Match(value) {
 			return true
 		}
 	}

@@ -11,14 +11,24 @@
 //     none of the words that begin or embed a write (INSERT, UPDATE, DELETE,
 //     MERGE, INTO, CREATE, DROP, EXEC, ...). That last rule is what refuses a
 //     PostgreSQL data-modifying WITH (WITH x AS (DELETE ... RETURNING ...))
-//     and a SQL Server batch that appends a statement without a ';'.
+//     and a SQL Server batch that appends a statement without a ';'. It
+//     also refuses, by name, functions known to write or reach beyond the
+//     query (dblink_exec, pg_read_file, lo_import, LOAD_FILE,
+//     load_extension, ...; sideEffectFunctions), a list that cannot be
+//     complete.
 //   - The read-only transaction. The query runs inside
 //     sql.TxOptions{ReadOnly: true} (PostgreSQL: BEGIN READ ONLY, so the
 //     server refuses a write the guard could not see, such as nextval() or a
 //     function that deletes; MySQL: START TRANSACTION READ ONLY; SQLite:
-//     PRAGMA query_only on the connection). SQL Server's driver has no
-//     read-only transactions, so there the guard and the login's rights are
-//     the protection. Every transaction is rolled back, never committed.
+//     PRAGMA query_only on the connection, on a file opened with mode=ro).
+//     SQL Server's driver has no read-only transactions. Every transaction
+//     is rolled back, never committed. Neither reaches a write made in
+//     another session, as dblink_exec makes one.
+//   - The login check. Guard and transaction are a first line; a login
+//     that can only read is what stops every write. After connecting, a
+//     query of the server's privileges (loginChecks) lists what the login
+//     could write, and Result.Warnings says so, naming the source; the read
+//     goes on.
 //   - The timeout: one context deadline over connecting, querying and
 //     streaming (Options.Timeout, 5 minutes by default).
 //   - The connection string. It is read from an environment variable or an

@@ -53,6 +53,37 @@ var writeWords = map[string]bool{
 	"OPENQUERY": true, "OPENROWSET": true, "OPENDATASOURCE": true,
 }
 
+// sideEffectFunctions, per driver, are functions a SELECT can call that
+// write, or reach beyond the query, where neither the words above nor the
+// read-only transaction see it: PostgreSQL's dblink runs its command (a
+// string to the guard) in a session of its own, outside the source's READ
+// ONLY transaction; others read or write the server's files, or run its
+// programs. They are refused by name, anywhere outside literals and
+// comments, and inside quoted names too ("dblink_exec", [writefile]). The
+// list cannot be complete: a function of the database's own that calls one
+// of them shows the guard only its own name. Only a login that can do no
+// more than read closes that (README, SQL databases; checkLogin).
+var sideEffectFunctions = map[string]map[string]bool{
+	"postgres": set("dblink", "dblink_exec", "dblink_connect", "dblink_connect_u", "dblink_open", "dblink_fetch",
+		"dblink_send_query", "dblink_get_result",
+		"pg_read_file", "pg_read_binary_file", "pg_ls_dir", "pg_stat_file",
+		"pg_file_write", "pg_file_rename", "pg_file_unlink", "pg_file_sync",
+		"lo_import", "lo_export", "lo_from_bytea", "lo_put", "lo_create", "lo_creat", "lo_unlink", "lo_open",
+		"pg_terminate_backend", "pg_cancel_backend", "pg_reload_conf", "pg_rotate_logfile", "pg_promote",
+		"pg_switch_wal", "pg_create_restore_point", "pg_logical_emit_message"),
+	"mysql":     set("load_file", "sys_exec", "sys_eval"),
+	"sqlserver": set("xp_cmdshell", "sp_oacreate", "sp_oamethod"),
+	"sqlite":    set("load_extension", "writefile", "readfile", "edit", "fts3_tokenizer"),
+}
+
+func set(names ...string) map[string]bool {
+	m := make(map[string]bool, len(names))
+	for _, n := range names {
+		m[n] = true
+	}
+	return m
+}
+
 // watermarkName is the placeholder a watermark query compares against.
 const watermarkName = ":watermark"
 
@@ -71,7 +102,7 @@ func check(driver, query string) (string, error) {
 	if !ok {
 		return "", fmt.Errorf("driver %q is not one of postgres, mysql, sqlserver, sqlite", driver)
 	}
-	masked, err := mask(query, d)
+	masked, names, err := maskNames(query, d)
 	if err != nil {
 		return "", fmt.Errorf("query refused: %v", err)
 	}
@@ -94,6 +125,15 @@ func check(driver, query string) (string, error) {
 	for _, w := range words(body) {
 		if u := strings.ToUpper(w.text); writeWords[u] {
 			return "", fmt.Errorf("query refused: it contains %s, which writes or can write; a source only reads (quote a column of that name)", u)
+		}
+	}
+	refused := sideEffectFunctions[driver]
+	for _, w := range words(body) {
+		names = append(names, w.text)
+	}
+	for _, n := range names {
+		if l := strings.ToLower(n); refused[l] {
+			return "", fmt.Errorf("query refused: it calls %s, which can write or reach beyond the query (through a session of its own, the server's files or its programs); a source only reads", l)
 		}
 	}
 	return masked, nil
@@ -142,6 +182,19 @@ func isDigit(c byte) bool    { return c >= '0' && c <= '9' }
 // mask blanks out comments, string literals and quoted names, keeping the
 // length so that positions in the result are positions in the query.
 func mask(q string, d dialect) (string, error) {
+	m, _, err := maskNames(q, d)
+	return m, err
+}
+
+// maskNames is mask that also returns what each quoted name holds, its
+// doubled quotes undone: "dblink_exec" names the function as the bare word
+// does. A "..." that is a string in MySQL counts as a name here too.
+func maskNames(q string, d dialect) (string, []string, error) {
+	var names []string
+	name := func(from, to int, quote byte) {
+		inner := q[from+1 : to-1]
+		names = append(names, strings.ReplaceAll(inner, string([]byte{quote, quote}), string(quote)))
+	}
 	b := []byte(q)
 	blank := func(from, to int) {
 		for k := from; k < to; k++ {
@@ -167,11 +220,11 @@ func mask(q string, d dialect) (string, error) {
 			i = end
 		case c == '/' && i+1 < len(q) && q[i+1] == '*':
 			if d.execComments && i+2 < len(q) && q[i+2] == '!' {
-				return "", errors.New("MySQL runs the text of a /*! ... */ comment; remove it")
+				return "", nil, errors.New("MySQL runs the text of a /*! ... */ comment; remove it")
 			}
 			end, err := commentEnd(q, i, d.nestedComments)
 			if err != nil {
-				return "", err
+				return "", nil, err
 			}
 			blank(i, end)
 			i = end
@@ -181,30 +234,33 @@ func mask(q string, d dialect) (string, error) {
 			// read the same way, refusing the ambiguous \'.
 			end, err := literalEnd(q, i, '\'', d.backslash, "string literal")
 			if err != nil {
-				return "", err
+				return "", nil, err
 			}
 			blank(i, end)
 			i = end
 		case c == '"':
 			end, err := literalEnd(q, i, '"', d.backslash, "quoted name or string")
 			if err != nil {
-				return "", err
+				return "", nil, err
 			}
 			blank(i, end)
+			name(i, end, '"')
 			i = end
 		case c == '`' && d.backticks:
 			end, err := literalEnd(q, i, '`', false, "quoted name")
 			if err != nil {
-				return "", err
+				return "", nil, err
 			}
 			blank(i, end)
+			name(i, end, '`')
 			i = end
 		case c == '[' && d.brackets:
 			end, err := literalEnd(q, i, ']', false, "bracketed name")
 			if err != nil {
-				return "", err
+				return "", nil, err
 			}
 			blank(i, end)
+			name(i, end, ']')
 			i = end
 		case c == '$' && d.dollarQuotes && (i == 0 || !isWordChar(q[i-1])):
 			tag, ok := dollarTag(q, i)
@@ -214,7 +270,7 @@ func mask(q string, d dialect) (string, error) {
 			}
 			close := strings.Index(q[i+len(tag):], tag)
 			if close < 0 {
-				return "", fmt.Errorf("the dollar-quoted string opened by %s at byte %d is not closed", tag, i)
+				return "", nil, fmt.Errorf("the dollar-quoted string opened by %s at byte %d is not closed", tag, i)
 			}
 			end := i + len(tag) + close + len(tag)
 			blank(i, end)
@@ -231,7 +287,7 @@ func mask(q string, d dialect) (string, error) {
 			i++
 		}
 	}
-	return string(b), nil
+	return string(b), names, nil
 }
 
 func lineEnd(q string, i int) int {

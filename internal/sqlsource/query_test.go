@@ -40,6 +40,8 @@ func TestCheckQuery(t *testing.T) {
 		{"words that contain write words", "postgres", "SELECT updated_at, deleted, inserted_by, intos FROM gl", ""},
 		{"escaped backslash before quote", "mysql", `SELECT 'C:\\' AS path`, ""},
 		{"watermark placeholder", "postgres", "SELECT * FROM gl WHERE updated_at > :watermark", ""},
+		{"names that contain a refused function's name", "postgres", "SELECT dblink_count, my_pg_read_file, lo_importer FROM gl", ""},
+		{"a string that names a refused function", "postgres", "SELECT 'dblink_exec' AS account", ""},
 
 		// refused
 		{"second statement", "postgres", "SELECT 1; DROP TABLE x", "more than one statement"},
@@ -71,6 +73,24 @@ func TestCheckQuery(t *testing.T) {
 		{"backslash before quote, mysql", "mysql", `SELECT '\' ; DROP TABLE gl; -- ' AS x`, "backslash before a quote"},
 		{"backslash before quote, postgres E string", "postgres", `SELECT E'\' ; DROP TABLE gl; -- ' AS x`, "backslash before a quote"},
 		{"unknown driver", "oracle", "SELECT 1 FROM dual", `driver "oracle"`},
+
+		// refused by name: functions that write or reach beyond the
+		// query, through a session of their own (dblink_exec's DELETE is a
+		// string to the guard, and dblink runs it outside the read-only
+		// transaction), the server's files or its programs.
+		{"dblink_exec", "postgres", "SELECT dblink_exec('dbname=books', 'DELETE FROM victim') AS account", "calls dblink_exec"},
+		{"dblink_exec in upper case", "postgres", "SELECT DBLINK_EXEC('dbname=books', 'DELETE FROM victim') AS account", "calls dblink_exec"},
+		{"dblink_exec qualified", "postgres", "SELECT public.dblink_exec('dbname=books', 'DELETE FROM victim') AS account", "calls dblink_exec"},
+		{"dblink_exec quoted", "postgres", `SELECT "dblink_exec"('dbname=books', 'DELETE FROM victim') AS account`, "calls dblink_exec"},
+		{"dblink as a table", "postgres", "SELECT * FROM dblink('dbname=books', 'SELECT purge()') AS t(account text)", "calls dblink"},
+		{"pg_read_file", "postgres", "SELECT pg_read_file('/etc/passwd') AS account", "calls pg_read_file"},
+		{"lo_import", "postgres", "SELECT lo_import('/etc/passwd')::text AS account", "calls lo_import"},
+		{"lo_export", "postgres", "SELECT lo_export(1, '/tmp/x') AS account", "calls lo_export"},
+		{"LOAD_FILE", "mysql", "SELECT LOAD_FILE('/etc/passwd') AS account", "calls load_file"},
+		{"sys_exec", "mysql", "SELECT sys_exec('rm -rf /srv') AS account", "calls sys_exec"},
+		{"load_extension", "sqlite", "SELECT load_extension('/tmp/evil.so') AS account", "calls load_extension"},
+		{"writefile", "sqlite", "SELECT writefile('/tmp/x', 'y') AS account", "calls writefile"},
+		{"writefile bracketed", "sqlite", "SELECT [writefile]('/tmp/x', 'y') AS account", "calls writefile"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -67,6 +67,9 @@ type Result struct {
 	// Watermark passed in when no row had one. The caller stores it with the
 	// batch, in the same transaction, and passes it to the next read.
 	Watermark string
+	// Warnings are for the operator, each naming the source: above all, a
+	// login that can write (checkLogin). They come back with an error too.
+	Warnings []string
 }
 
 // rowFunc handles one result row: n is its 1-based number.
@@ -142,7 +145,15 @@ func run(ctx context.Context, opt Options, bind binder) (Result, error) {
 		return errors.New(what + ": " + joinLines(hide.clean(err.Error())))
 	}
 
-	db, err := sql.Open(name, opt.DSN)
+	dsn := opt.DSN
+	if opt.Driver == "sqlite" {
+		var asked string
+		if dsn, asked = sqliteReadOnly(dsn); asked != "" {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("source %s: its connection string asks for mode=%s; it is opened read-only (mode=ro), as every SQLite source is",
+				opt.Source, hide.clean(asked)))
+		}
+	}
+	db, err := sql.Open(name, dsn)
 	if err != nil {
 		return res, fail("cannot open the "+opt.Driver+" database of "+opt.DSNOrigin, err)
 	}
@@ -160,6 +171,7 @@ func run(ctx context.Context, opt Options, bind binder) (Result, error) {
 			return res, fail("cannot make the sqlite connection read-only", err)
 		}
 	}
+	res.Warnings = append(res.Warnings, checkLogin(qctx, conn, opt, hide)...)
 	// SQL Server's driver refuses ReadOnly ("read-only transactions are not
 	// supported"); there the query guard and the login's rights protect.
 	tx, err := conn.BeginTx(qctx, &sql.TxOptions{ReadOnly: opt.Driver != "sqlserver"})

@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"strings"
 	"testing"
 	"time"
 
@@ -252,5 +253,77 @@ func TestSQLiteTimeoutAndMissingFile(t *testing.T) {
 	wantError(t, err, "the sqlite database named in dsn_file books.dsn does not exist")
 	if _, err := os.Stat(missing); !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("the reader created %s", missing)
+	}
+}
+
+// TestSQLiteOpenedReadOnly: a SQLite source is opened read-only (mode=ro),
+// so not even the file's own housekeeping writes to it. A database in WAL
+// mode whose log holds a transaction not yet copied into the main file is
+// the case that shows it: the last read-write connection to close copies
+// the log into the main file (a checkpoint, SQLite's documented behaviour
+// on close, https://sqlite.org/wal.html), a read-only one leaves both files
+// as they were.
+func TestSQLiteOpenedReadOnly(t *testing.T) {
+	dir := t.TempDir()
+	live := filepath.Join(dir, "live.db")
+	w, err := sql.Open("sqlite3", live)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer w.Close()
+	w.SetMaxOpenConns(1)
+	for _, st := range []string{
+		`PRAGMA journal_mode = WAL`,
+		`PRAGMA wal_autocheckpoint = 0`,
+		`CREATE TABLE chart (account TEXT, name TEXT)`,
+		`INSERT INTO chart VALUES ('6100', 'Energy'), ('6200', 'Paint')`,
+	} {
+		if _, err := w.Exec(st); err != nil {
+			t.Fatalf("%s: %v", st, err)
+		}
+	}
+	// A copy of the files while the writer is open: the rows are in the
+	// log only.
+	copyDir := filepath.Join(dir, "copy")
+	if err := os.Mkdir(copyDir, 0o700); err != nil {
+		t.Fatal(err)
+	}
+	for _, suffix := range []string{"", "-wal"} {
+		b, err := os.ReadFile(live + suffix)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(copyDir, "books.db"+suffix), b, 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	// A name with characters a file: URI gives a meaning to.
+	path := filepath.Join(copyDir, "books #2 100%.db")
+	for _, suffix := range []string{"", "-wal"} {
+		if err := os.Rename(filepath.Join(copyDir, "books.db"+suffix), path+suffix); err != nil {
+			t.Fatal(err)
+		}
+	}
+	before, _ := os.ReadFile(path)
+	for _, dsn := range []string{path, "file:" + strings.NewReplacer("%", "%25", "#", "%23", " ", "%20").Replace(path) + "?mode=rw"} {
+		rec := &recorder{}
+		res, err := ReadAccounts(context.Background(), sqliteOptions(dsn, `SELECT account, name FROM chart ORDER BY account`), rec)
+		if err != nil {
+			t.Fatalf("%s: %v", dsn, err)
+		}
+		wantWarnings := 0
+		if strings.HasSuffix(dsn, "mode=rw") {
+			wantWarnings = 1 // it asked for mode=rw
+		}
+		if len(rec.Accounts) != 2 || len(res.Warnings) != wantWarnings {
+			t.Errorf("%s: read %+v with warnings %q; want both accounts and %d warning(s)", dsn, rec.Accounts, res.Warnings, wantWarnings)
+		}
+		after, _ := os.ReadFile(path)
+		if !reflect.DeepEqual(before, after) {
+			t.Errorf("%s: reading changed the database file (%d bytes before, %d after)", dsn, len(before), len(after))
+		}
+		if _, err := os.Stat(path + "-wal"); err != nil {
+			t.Errorf("%s: the log is gone after the read: %v", dsn, err)
+		}
 	}
 }
