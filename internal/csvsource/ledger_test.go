@@ -192,7 +192,7 @@ func TestLedgerEuropeanNotation(t *testing.T) {
 		"E3;01.01.2025;6200;0,05\n"+ // 5
 		"E4;15.06.2025;6200;1234\n"+ // 123400
 		"E5;2025-06-15;6200;1,00\n"+ // ISO date under a DD.MM.YYYY layout: rejected
-		"E6;15.06.2025;6200;1.5\n") // "." is a thousands separator here: 15 EUR, not 1.50
+		"E6;15.06.2025;6200;1.5\n") // "." separates thousands here, and one digit after it is no group: rejected, neither 15 nor 1.50 EUR
 	rec, _ := readLedger(t, path, opt)
 	type got struct {
 		posted, period string
@@ -203,12 +203,14 @@ func TestLedgerEuropeanNotation(t *testing.T) {
 		lines = append(lines, got{l.PostedOn, l.Period, l.AmountMinor})
 	}
 	want := []got{{"2025-03-05", "2025-03", 123456}, {"2024-12-31", "2024-12", -1234567890}, {"2025-01-01", "2025-01", 5},
-		{"2025-06-15", "2025-06", 123400}, {"2025-06-15", "2025-06", 1500}}
+		{"2025-06-15", "2025-06", 123400}}
 	if !reflect.DeepEqual(lines, want) {
 		t.Errorf("lines %+v, want %+v", lines, want)
 	}
 	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		{Source: "gl", Location: "gl.csv:6", Reason: `bad date "2025-06-15": want DD.MM.YYYY`, Raw: "E5;2025-06-15;6200;1,00"},
+		{Source: "gl", Location: "gl.csv:7", Reason: `bad amount: amount "1.5": digits are not grouped in threes by the thousands separator "." (as in 1.234.567)`,
+			Raw: "E6;15.06.2025;6200;1.5"},
 	})
 }
 

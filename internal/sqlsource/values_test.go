@@ -32,7 +32,7 @@ func TestAmount(t *testing.T) {
 		{"double sum with stray digits", doubleSum(0.1, 0.2), money.Notation{}, 0,
 			`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
 		{"text with three decimals", "12.345", money.Notation{}, 0, `bad amount: amount "12.345": more decimals than the currency's minor unit (EUR has 2)`},
-		{"double out of range", 1e21, money.Notation{}, 0, `bad amount: amount "1000000000000000000000" is out of range (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
+		{"double out of range", 1e21, money.Notation{}, 0, `bad amount: amount "1000000000000000000000" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
 		{"NaN", math.NaN(), money.Notation{}, 0, "bad amount: NaN is not a number"},
 		{"NUMERIC NaN as text", "NaN", money.Notation{}, 0, `bad amount: amount "NaN" is not a number`},
 		{"NULL", nil, money.Notation{}, 0, "missing amount"},
