@@ -134,6 +134,16 @@ func TestQuantityAndLine(t *testing.T) {
 			t.Errorf("quantity(%#v) = %v, %q; want %v, %q", tc.v, got, reason, tc.want, tc.reason)
 		}
 	}
+	// Text follows the notation as amounts do: 1,234.5 is 1234.5 (by hand);
+	// 1,23 was read as 123 before the grouping was checked.
+	grouped := money.Notation{ThousandsSeparator: ","}
+	if got, reason := quantity("1,234.5", grouped); got != 1234.5 || reason != "" {
+		t.Errorf(`quantity("1,234.5") = %v, %q; want 1234.5`, got, reason)
+	}
+	want := `bad value "1,23": digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	if got, reason := quantity("1,23", grouped); reason != want {
+		t.Errorf(`quantity("1,23") = %v, %q; want %q`, got, reason, want)
+	}
 	for _, tc := range []struct {
 		v      any
 		want   int
