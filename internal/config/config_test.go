@@ -101,6 +101,9 @@ func TestLoadErrors(t *testing.T) {
 		{"bad log level", "log:\n  level: loud\n", `log.level: must be debug, info, warn or error, not "loud" (FILE)`},
 		{"lag twice", "analysis:\n  lags: [0, 0]\n", "analysis.lags: lag 0 is listed twice (FILE)"},
 		{"bad calendar period", "calendar:\n  period: quarter\n", `calendar.period: must be month, week, 4-4-5, 4-5-4 or 5-4-4, not "quarter" (FILE)`},
+		// With "-" as the separator, "1-234" could be 1234 or -1 and 234.
+		{"thousands separator a sign", "sources:\n  ledger:\n    - {name: gl, kind: csv, path: a.csv, thousands_separator: \"-\"}\n",
+			`sources.ledger[0].thousands_separator: thousands separator "-" cannot be told apart from the digits, signs, brackets, exponent or decimal mark "." of an amount (FILE)`},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
