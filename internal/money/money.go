@@ -133,15 +133,18 @@ scan:
 //
 // The store adds amounts up per cost object and period in int64 minor
 // units, which hold 2^63 - 1 = 9,223,372,036,854,775,807. At the bound, 922
-// lines of one object in one period still add up exactly; below a
+// lines of one object in one period still add up exactly; amounts of a
 // thousandth of it (10^13 minor units, a hundred billion in a two-decimal
-// currency, far beyond any single posting) it takes 922,337 lines. The bound
-// lies far above any real amount (a hundred trillion euros is about a year
-// of the whole world's output, from memory) and still leaves room in
-// currencies of small unit value, where real amounts have many digits. A
-// total that leaves int64 all the same (from lines stored before amounts
-// were bounded) is found where it is added up, and only its cost object is
-// skipped.
+// currency, beyond any single posting) take 922,337 lines to overflow. The
+// bound lies far above any real amount (a hundred trillion euros is about a
+// year of the whole world's output, from memory). A lower one, such as
+// 10^15, would allow ten times as many lines at the bound but leave less
+// room in currencies of small unit value, whose amounts have four to six
+// digits more than the same amount in euros (the Iranian rial, the
+// Vietnamese dong; from memory). It need only make an overflowing total
+// absurd, not impossible: a total that leaves int64 all the same (from
+// lines stored before amounts were bounded) is found where it is added up,
+// and only its cost object is skipped.
 const MaxMinor int64 = 9_999_999_999_999_999
 
 // ErrOutOfRange is returned for an amount beyond MaxMinor.
