@@ -117,10 +117,15 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 	failed := map[string]bool{}
 	for _, r := range results {
 		if r.Err != nil {
-			// A defect in one object's analysis skips that object; its
-			// previous behaviour stays and it is tried again next run.
+			// An object that cannot be analysed (its costs cannot be
+			// added up, or a defect panicked in its analysis) is skipped;
+			// its previous behaviour stays and it is tried again next run.
 			failed[r.Behaviour.Object.String()] = true
-			slog.Error("cost object skipped", "object", r.Behaviour.Object.String(), "error", r.Err, "stack", r.Stack)
+			attrs := []any{"object", r.Behaviour.Object.String(), "error", r.Err}
+			if r.Stack != "" {
+				attrs = append(attrs, "stack", r.Stack)
+			}
+			slog.Error("cost object skipped", attrs...)
 			fmt.Fprintf(out, "analyze: %s skipped: %v\n", r.Behaviour.Object, r.Err)
 			continue
 		}

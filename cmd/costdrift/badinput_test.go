@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -14,14 +15,7 @@ func TestBadInputCorpus(t *testing.T) {
 	const h = "entry_id,line,date,account,cost_center,amount,description\n"
 	const good = "G1,1,2026-01-05,6100,WELD,10.00,ok\n"
 	huge := strings.Repeat("x", 10<<20)
-	tests := []struct {
-		name     string
-		content  string
-		stored   int    // rows expected in gl_lines
-		rejected int    // rows expected in rejects
-		reason   string // a reject reason (substring) or, with fails, the error
-		fails    bool
-	}{
+	tests := []corpusCase{
 		{"truncated last row", h + good + "T1,1,2026-01-0", 1, 1, "has 3 fields", false},
 		{"extra field", h + good + "X1,1,2026-01-05,6100,WELD,1.00,a,b\n", 1, 1, "has 8 fields, the header has 7", false},
 		{"missing field", h + good + "M1,1,2026-01-05,6100,1.00,a\n", 1, 1, "has 6 fields", false},
@@ -60,36 +54,114 @@ func TestBadInputCorpus(t *testing.T) {
 		{"binary garbage", "\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", 0, 0, "", true},
 	}
 	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			cfg, dir := setup(t, tc.content)
-			if tc.content == "" {
-				if err := os.WriteFile(filepath.Join(dir, "data", "gl", "gl.csv"), nil, 0o600); err != nil {
-					t.Fatal(err)
-				}
-			}
-			out, err := run(t, "--config", cfg, "sync")
-			if tc.fails {
-				if err == nil || !strings.Contains(err.Error(), tc.reason) || strings.Contains(err.Error(), "\n") {
-					t.Fatalf("want one-line error containing %q, got %v\n%s", tc.reason, err, out)
-				}
-			} else if err != nil {
-				t.Fatalf("sync: %v\n%s", err, out)
-			}
-			store := filepath.Join(dir, "costdrift.db")
-			if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != tc.stored {
-				t.Errorf("stored %d rows, want %d", n, tc.stored)
-			}
-			if n := count(t, store, "SELECT COUNT(*) FROM rejects r JOIN sync_runs s ON s.id = r.sync_run_id WHERE s.source = 'gl'"); n != tc.rejected {
-				t.Errorf("rejected %d rows, want %d\n%s", n, tc.rejected, out)
-			}
-			if tc.rejected > 0 && !tc.fails {
-				if n := count(t, store, "SELECT COUNT(*) FROM rejects WHERE instr(reason, '"+tc.reason+"') > 0"); n != 1 {
-					t.Errorf("no reject with reason %q", tc.reason)
-				}
-			}
-			if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND rows_read <> rows_loaded + rows_rejected"); n != 0 && !tc.fails {
-				t.Errorf("rows read do not equal stored plus rejected")
-			}
-		})
+		t.Run(tc.name, func(t *testing.T) { checkCorpusCase(t, tc, "") })
+	}
+}
+
+// corpusCase is a ledger file and what a sync makes of it.
+type corpusCase struct {
+	name     string
+	content  string
+	stored   int    // rows expected in gl_lines
+	rejected int    // rows expected in rejects
+	reason   string // a reject reason (substring) or, with fails, the error
+	fails    bool
+}
+
+// checkCorpusCase syncs the case's file as the ledger source gl, with
+// sourceKeys (YAML lines of that source's keys) added to its config.
+func checkCorpusCase(t *testing.T, tc corpusCase, sourceKeys string) {
+	t.Helper()
+	cfg, dir := setup(t, tc.content)
+	if sourceKeys != "" {
+		text, err := os.ReadFile(cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		const gl = "      path: data/gl/*.csv\n"
+		if !strings.Contains(string(text), gl) {
+			t.Fatalf("the starter config has no %q", gl)
+		}
+		writeFile(t, cfg, strings.Replace(string(text), gl, gl+sourceKeys, 1))
+	}
+	if tc.content == "" {
+		if err := os.WriteFile(filepath.Join(dir, "data", "gl", "gl.csv"), nil, 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	out, err := run(t, "--config", cfg, "sync")
+	if tc.fails {
+		if err == nil || !strings.Contains(err.Error(), tc.reason) || strings.Contains(err.Error(), "\n") {
+			t.Fatalf("want one-line error containing %q, got %v\n%s", tc.reason, err, out)
+		}
+	} else if err != nil {
+		t.Fatalf("sync: %v\n%s", err, out)
+	}
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines"); n != tc.stored {
+		t.Errorf("stored %d rows, want %d", n, tc.stored)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM rejects r JOIN sync_runs s ON s.id = r.sync_run_id WHERE s.source = 'gl'"); n != tc.rejected {
+		t.Errorf("rejected %d rows, want %d\n%s", n, tc.rejected, out)
+	}
+	if tc.rejected > 0 && !tc.fails {
+		if n := count(t, store, "SELECT COUNT(*) FROM rejects WHERE instr(reason, '"+tc.reason+"') > 0"); n != tc.rejected {
+			t.Errorf("%d rejects with reason %q, want %d", n, tc.reason, tc.rejected)
+		}
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND rows_read <> rows_loaded + rows_rejected"); n != 0 && !tc.fails {
+		t.Errorf("rows read do not equal stored plus rejected")
+	}
+}
+
+// Amounts whose thousands separators do not group digits in threes, and
+// amounts beyond the bound (money.MaxMinor), are rejected with a reason
+// that quotes them as the file writes them; every row read is stored or
+// rejected.
+func TestBadInputCorpusAmounts(t *testing.T) {
+	const h = "entry_id,line,date,account,cost_center,amount,description\n"
+	const good = "G1,1,2026-01-05,6100,WELD,10.00,ok\n"
+	// A semicolon file in decimal-comma notation, for the "." thousands cases.
+	hs := strings.ReplaceAll(h, ",", ";")
+	const goodComma = "G1;1;2026-01-05;6100;WELD;10,00;ok\n"
+	const thousandsComma = "      thousands_separator: \",\"\n"
+	const thousandsDot = "      decimal_comma: true\n      thousands_separator: \".\"\n"
+	const grouping = `digits are not grouped in threes by the thousands separator`
+	const bound = `is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero`
+	var tenHuge strings.Builder
+	for i := range 10 {
+		fmt.Fprintf(&tenHuge, "O%d,1,2026-01-05,6100,WELD,9999999999999999.99,x\n", i)
+	}
+	tests := []struct {
+		keys string // the gl source's notation keys
+		corpusCase
+	}{
+		// Each of these was stored as another amount before the grouping
+		// was checked: 1,23 as 123.00, 12,3456 and 1,234,56 as 123456.00,
+		// 1234.56 under "." thousands as 123456.00.
+		{thousandsComma, corpusCase{"group of two digits", h + good + "T1,1,2026-01-05,6100,WELD,\"1,23\",x\n", 1, 1,
+			`bad amount: amount "1,23": ` + grouping + ` ","`, false}},
+		{thousandsComma, corpusCase{"group of four digits", h + good + "T2,1,2026-01-05,6100,WELD,\"12,3456\",x\n", 1, 1,
+			`bad amount: amount "12,3456": ` + grouping, false}},
+		{thousandsComma, corpusCase{"short last group", h + good + "T3,1,2026-01-05,6100,WELD,\"1,234,56\",x\n", 1, 1,
+			`bad amount: amount "1,234,56": ` + grouping, false}},
+		{thousandsComma, corpusCase{"grouped in threes", h + good + "T4,1,2026-01-05,6100,WELD,\"1,234,567.89\",x\n", 2, 0, "", false}},
+		{thousandsDot, corpusCase{"decimal point under a decimal comma", hs + goodComma + "T5;1;2026-01-05;6100;WELD;1234.56;x\n", 1, 1,
+			`bad amount: amount "1234.56": ` + grouping + ` "."`, false}},
+		// Quoted as written, not as the "1.2,3" the comma made of it.
+		{thousandsDot, corpusCase{"two decimal commas", hs + goodComma + "T6;1;2026-01-05;6100;WELD;1,2,3;x\n", 1, 1,
+			`bad amount: amount "1,2,3" is not a number`, false}},
+		// Ten lines of this amount in one period overflowed the period's
+		// total and stopped the analysis of every object.
+		{"", corpusCase{"amount beyond the bound", h + good + "O1,1,2026-01-05,6100,WELD,9999999999999999.99,x\n", 1, 1,
+			`bad amount: amount "9999999999999999.99" ` + bound, false}},
+		{"", corpusCase{"ten amounts beyond the bound", h + good + tenHuge.String(), 1, 10,
+			`bad amount: amount "9999999999999999.99" ` + bound, false}},
+		{thousandsComma, corpusCase{"grouped amount beyond the bound", h + good + "O2,1,2026-01-05,6100,WELD,\"(100,000,000,000,000.00)\",x\n", 1, 1,
+			`bad amount: amount "(100,000,000,000,000.00)" is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`, false}},
+		{"", corpusCase{"the largest amount", h + good + "O3,1,2026-01-05,6100,WELD,-99999999999999.99,x\n", 2, 0, "", false}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) { checkCorpusCase(t, tc.corpusCase, tc.keys) })
 	}
 }

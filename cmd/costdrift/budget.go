@@ -206,7 +206,7 @@ func (a *app) variance(ctx context.Context, e *env, db *sqlite.DB, period, planP
 		plan = &p
 		planLookup = activityLookup(actualActivity, plan.activityIndex, actualActivity)
 	}
-	costs, posted, err := periodCosts(ctx, e, db, period)
+	costs, unknown, posted, err := periodCosts(ctx, e, db, period)
 	if err != nil {
 		return err
 	}
@@ -221,6 +221,16 @@ func (a *app) variance(ctx context.Context, e *env, db *sqlite.DB, period, planP
 	if err != nil {
 		return err
 	}
+	countable := bs[:0]
+	for _, b := range bs {
+		if unknown[b.Object.String()] {
+			fmt.Fprintf(a.errw, "variance: %s left out: its lines in %s add up to more than an int64 of minor units holds; "+
+				"they include amounts beyond the bound sync enforces\n", b.Object, period)
+			continue
+		}
+		countable = append(countable, b)
+	}
+	bs = countable
 	if len(bs) == 0 {
 		return fmt.Errorf("variance: no cost behaviour covers %s: run `costdrift analyze` first", period)
 	}
@@ -277,18 +287,19 @@ func inScope(e *env, bs []costdrift.Behaviour) ([]costdrift.Behaviour, error) {
 }
 
 // periodCosts is each object's actual cost in period, in currency units,
-// at the configured grain, and whether the ledger has any posting then.
-func periodCosts(ctx context.Context, e *env, db *sqlite.DB, period string) (map[string]float64, bool, error) {
+// at the configured grain, and whether the ledger has any posting then. An
+// object whose lines add up to more than the store can total has no actual
+// cost but is listed in unknown, rather than given a wrong one.
+func periodCosts(ctx context.Context, e *env, db *sqlite.DB, period string) (costs map[string]float64, unknown map[string]bool, posted bool, err error) {
 	totals, err := db.CostTotals(ctx)
 	if err != nil {
-		return nil, false, fmt.Errorf("variance: read ledger totals: %w", err)
+		return nil, nil, false, fmt.Errorf("variance: read ledger totals: %w", err)
 	}
 	minor := 1.0
 	for range e.currency.Exponent {
 		minor *= 10
 	}
-	out := map[string]float64{}
-	posted := false
+	costs, unknown = map[string]float64{}, map[string]bool{}
 	for _, c := range totals {
 		if c.Period != period {
 			continue
@@ -298,9 +309,13 @@ func periodCosts(ctx context.Context, e *env, db *sqlite.DB, period string) (map
 		if costdrift.Grain(e.cfg.Analysis.Grain) == costdrift.GrainAccountCostCenter {
 			o.CostCenter = c.CostCenter
 		}
-		out[o.String()] += float64(c.AmountMinor) / minor
+		if c.Overflow {
+			unknown[o.String()] = true
+			continue
+		}
+		costs[o.String()] += float64(c.AmountMinor) / minor
 	}
-	return out, posted, nil
+	return costs, unknown, posted, nil
 }
 
 // activityIndex holds driver values by period, driver and cost centre ("" for

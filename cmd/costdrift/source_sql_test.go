@@ -93,7 +93,7 @@ sources:
 	}{
 		{"SELECT COUNT(*) FROM gl_lines WHERE source = 'gl' AND entry_id = 'B1' AND line = 1 AND posted_on = '2026-01-05' AND cost_center = 'WELD' AND amount_minor = 123450", 1},
 		{"SELECT COUNT(*) FROM gl_lines WHERE source = 'gl' AND entry_id = 'B1' AND line = 2 AND cost_center = '' AND amount_minor = -123450", 1},
-		{"SELECT COUNT(*) FROM rejects WHERE location = 'gl row 3 (entry B2, line 1)' AND reason LIKE 'bad amount: amount \"0.125\": more decimals%'", 1},
+		{"SELECT COUNT(*) FROM rejects WHERE location = 'gl row 3 (entry B2, line 1)' AND reason LIKE 'bad amount: amount \"0,125\": more decimals%'", 1},
 		{"SELECT COUNT(*) FROM activity WHERE source = 'ops' AND period = '2026-01' AND driver = 'machine_hours' AND value = 412.5", 1},
 		{"SELECT COUNT(*) FROM accounts WHERE source = 'coa' AND account = '6100' AND name = 'Energie'", 1},
 		{"SELECT COUNT(*) FROM source_watermarks WHERE source = 'gl' AND value = '3'", 1},

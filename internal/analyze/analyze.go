@@ -1,6 +1,7 @@
 package analyze
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -49,9 +50,10 @@ type Result struct {
 	Fits      []costdrift.Fit
 	Behaviour costdrift.Behaviour
 
-	// Err is set, by Panel, when the object's analysis panicked; Fits and
+	// Err is set when the object cannot be analysed: the panel marks it
+	// Unusable (Err is then the reason), or its analysis panicked (set by
+	// Panel, with Stack where the panic happened, for the log). Fits and
 	// Behaviour are then empty but for the object, which the caller skips.
-	// Stack is where the panic happened, for the log.
 	Err   error
 	Stack string
 
@@ -86,6 +88,9 @@ type candidate struct {
 // window, then a test for a break in it; with a significant break, the
 // behaviour is fitted again from the break on (see breaks.go).
 func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result {
+	if obj.Unusable != "" {
+		return Result{Behaviour: costdrift.Behaviour{Object: obj.Object}, Err: errors.New(obj.Unusable)}
+	}
 	res := objectOn(p, obj, s)
 	if s.BreakAlpha > 0 {
 		res = withBreak(p, obj, res, s)

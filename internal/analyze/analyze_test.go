@@ -264,3 +264,32 @@ func TestPanicInOneObjectIsContained(t *testing.T) {
 		t.Errorf("the broken object's result: %+v", results[1].Behaviour)
 	}
 }
+
+// An object the panel marks unusable (its cost in a period is beyond what
+// the store can add up) comes back as that object's error with the reason,
+// and the other objects are still analysed.
+func TestUnusableObjectIsSkippedWithItsReason(t *testing.T) {
+	const n = 24
+	r := rand.New(rand.NewPCG(5, 6))
+	cost := make([]float64, n)
+	for i := range cost {
+		cost[i] = noisy(r, 4200, 0.02)
+	}
+	p := panelOf(n, cost)
+	unusable := costdrift.CostObject{Account: "6300", CostCenter: "PAINT"}
+	const reason = "its lines in 2025-03 add up to more than an int64 of minor units holds"
+	p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: unusable, Cost: cost, Unusable: reason})
+	results := Panel(p, defaults)
+	if len(results) != 2 {
+		t.Fatalf("%d results, want 2", len(results))
+	}
+	if results[0].Err != nil || results[0].Behaviour.Class != costdrift.Fixed {
+		t.Errorf("the sound object: err %v, class %q, want fixed", results[0].Err, results[0].Behaviour.Class)
+	}
+	if err := results[1].Err; err == nil || err.Error() != reason {
+		t.Errorf("the unusable object: err %v, want %q", err, reason)
+	}
+	if results[1].Behaviour.Object != unusable || results[1].Behaviour.Class != "" || len(results[1].Fits) != 0 || results[1].Stack != "" {
+		t.Errorf("the unusable object's result: %+v, stack %q", results[1].Behaviour, results[1].Stack)
+	}
+}

@@ -105,6 +105,9 @@ func TestLoadErrors(t *testing.T) {
 			`alerts.recipients[1].cost_centers: "X[1" is not a valid glob: the class opened by [ at byte 1 is not closed (FILE)`},
 		{"bad account glob", "alerts:\n  recipients:\n    - {email: a@example.test, accounts: [\"61\\\\\"]}\n",
 			`alerts.recipients[0].accounts: "61\\" is not a valid glob: it ends in a lone \ (write \\ for a backslash) (FILE)`},
+		// With "-" as the separator, "1-234" could be 1234 or -1 and 234.
+		{"thousands separator a sign", "sources:\n  ledger:\n    - {name: gl, kind: csv, path: a.csv, thousands_separator: \"-\"}\n",
+			`sources.ledger[0].thousands_separator: thousands separator "-" cannot be told apart from the digits, signs, brackets, exponent or decimal mark "." of an amount (FILE)`},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -103,6 +103,9 @@ func (c *Config) validate() *Error {
 			if !s.DecimalComma && s.ThousandsSeparator == "." {
 				return bad(key+".thousands_separator", "cannot be \".\" unless decimal_comma is true")
 			}
+			if err := (money.Notation{DecimalComma: s.DecimalComma, ThousandsSeparator: s.ThousandsSeparator}).Validate(); err != nil {
+				return bad(key+".thousands_separator", "%v", err)
+			}
 			switch s.Layout {
 			case "", "long", "wide":
 			default:

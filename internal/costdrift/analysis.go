@@ -9,6 +9,10 @@ type CostTotal struct {
 	Account     string
 	CostCenter  string
 	AmountMinor int64
+	// Overflow marks a total beyond what int64 minor units hold, from lines
+	// stored before sync bounded amounts; AmountMinor is then 0 and means
+	// nothing.
+	Overflow bool
 }
 
 // AnalysisRun is the record of one analysis.

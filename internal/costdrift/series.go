@@ -13,10 +13,13 @@ type Panel struct {
 }
 
 // ObjectSeries is one cost object's cost per window period in currency
-// units; NaN where the period is unknown (the whole ledger is silent then).
+// units; NaN where the period is unknown (the whole ledger is silent then,
+// or the object's lines add up to more than the store can total).
 type ObjectSeries struct {
 	Object CostObject
 	Cost   []float64
+	// Unusable says why the object cannot be analysed, "" when it can.
+	Unusable string
 }
 
 // DriverSeries is one activity series. Values[i] belongs to period

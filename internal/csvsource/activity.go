@@ -132,12 +132,9 @@ func parseValue(text string, opt Options) (float64, string) {
 	if text == "" {
 		return 0, "missing value"
 	}
-	s := text
-	if opt.Notation.ThousandsSeparator != "" {
-		s = strings.ReplaceAll(s, opt.Notation.ThousandsSeparator, "")
-	}
-	if opt.Notation.DecimalComma {
-		s = strings.Replace(s, ",", ".", 1)
+	s, err := opt.Notation.Plain(text)
+	if err != nil {
+		return 0, fmt.Sprintf("bad value %q: %v", text, err)
 	}
 	v, err := strconv.ParseFloat(s, 64)
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {

@@ -323,3 +323,21 @@ func TestActivityWriterErrorStopsWideRow(t *testing.T) {
 		t.Errorf("read %d rows, error %v, stored %+v; want 1 row, %v, only a=1", n, err, rec.Values, errWriter)
 	}
 }
+
+func TestActivityGrouping(t *testing.T) {
+	// "," thousands: 1,234.5 is 1234.5 (by hand); 1,23 was read as 123 and
+	// 12,3456 as 123456 before the grouping was checked.
+	opt := activityOptions()
+	opt.Notation = money.Notation{ThousandsSeparator: ","}
+	path := writeFile(t, "activity.csv", "period;driver;value\n"+
+		"2025-01;machine_hours;1,234.5\n"+
+		"2025-02;machine_hours;1,23\n"+
+		"2025-03;machine_hours;12,3456\n")
+	rec, _ := readActivity(t, path, opt)
+	checkActivity(t, rec.Values, []costdrift.ActivityValue{act("2025-01", "machine_hours", "", 1234.5, "")})
+	const grouping = `digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
+		rej("ops", "activity.csv:3", `bad value "1,23": `+grouping, "2025-02;machine_hours;1,23"),
+		rej("ops", "activity.csv:4", `bad value "12,3456": `+grouping, "2025-03;machine_hours;12,3456"),
+	})
+}

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/money"
 )
 
 // Ledger columns. Either amount, or debit and credit, must be present.
@@ -108,7 +109,11 @@ func parseLedgerRow(t *table, rec []string, opt Options, layout string, signed b
 				return l, "bad credit: " + err.Error()
 			}
 		}
+		// Each side is within the bound; their difference may not be.
 		l.AmountMinor = debit - credit
+		if !money.InRange(l.AmountMinor) {
+			return l, "bad amount: " + opt.Currency.OutOfRange(fmt.Sprintf("debit %q minus credit %q", debitText, creditText), opt.Notation).Error()
+		}
 	}
 
 	if lineText := t.field(rec, "line"); t.has("line") && lineText != "" {

@@ -192,7 +192,7 @@ func TestLedgerEuropeanNotation(t *testing.T) {
 		"E3;01.01.2025;6200;0,05\n"+ // 5
 		"E4;15.06.2025;6200;1234\n"+ // 123400
 		"E5;2025-06-15;6200;1,00\n"+ // ISO date under a DD.MM.YYYY layout: rejected
-		"E6;15.06.2025;6200;1.5\n") // "." is a thousands separator here: 15 EUR, not 1.50
+		"E6;15.06.2025;6200;1.5\n") // "." separates thousands here, and one digit after it is no group: rejected, neither 15 nor 1.50 EUR
 	rec, _ := readLedger(t, path, opt)
 	type got struct {
 		posted, period string
@@ -203,12 +203,14 @@ func TestLedgerEuropeanNotation(t *testing.T) {
 		lines = append(lines, got{l.PostedOn, l.Period, l.AmountMinor})
 	}
 	want := []got{{"2025-03-05", "2025-03", 123456}, {"2024-12-31", "2024-12", -1234567890}, {"2025-01-01", "2025-01", 5},
-		{"2025-06-15", "2025-06", 123400}, {"2025-06-15", "2025-06", 1500}}
+		{"2025-06-15", "2025-06", 123400}}
 	if !reflect.DeepEqual(lines, want) {
 		t.Errorf("lines %+v, want %+v", lines, want)
 	}
 	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		{Source: "gl", Location: "gl.csv:6", Reason: `bad date "2025-06-15": want DD.MM.YYYY`, Raw: "E5;2025-06-15;6200;1,00"},
+		{Source: "gl", Location: "gl.csv:7", Reason: `bad amount: amount "1.5": digits are not grouped in threes by the thousands separator "." (as in 1.234.567)`,
+			Raw: "E6;15.06.2025;6200;1.5"},
 	})
 }
 
@@ -541,4 +543,78 @@ func TestLedgerFolderIsNotAFile(t *testing.T) {
 	if n != 0 || !rec.Empty() {
 		t.Errorf("read %d rows, wrote %+v", n, rec)
 	}
+}
+
+func TestLedgerGroupingAndBound(t *testing.T) {
+	// "," thousands: only digits grouped in threes are amounts. Each bad
+	// one below was stored as another amount before the grouping was
+	// checked (1,23 as 123.00; 12,3456 and 1,234,56 as 123456.00), and the
+	// reject quotes it as the file writes it. Minor units by hand (EUR, two
+	// decimals, ISO 4217).
+	opt := options()
+	opt.Notation = money.Notation{ThousandsSeparator: ","}
+	path := writeFile(t, "gl.csv", "entry_id;date;account;amount\n"+
+		"G1;2025-01-31;6200;1,234.56\n"+ // 2: 123456
+		"B1;2025-01-31;6200;1,23\n"+ // 3
+		"B2;2025-01-31;6200;12,3456\n"+ // 4
+		"B3;2025-01-31;6200;1,234,56\n"+ // 5
+		"B4;2025-01-31;6200;9,999,999,999,999,999.99\n"+ // 6: ten such lines overflowed a period's total
+		"G2;2025-01-31;6200;-99,999,999,999,999.99\n"+ // 7: the bound itself, -9999999999999999
+		"B5;2025-01-31;6200;(100,000,000,000,000.00)\n") // 8: one cent beyond it
+	rec, n := readLedger(t, path, opt)
+	if n != 7 {
+		t.Errorf("read %d rows, want 7", n)
+	}
+	if len(rec.Lines) != 2 || rec.Lines[0].AmountMinor != 123456 || rec.Lines[1].AmountMinor != -9999999999999999 {
+		t.Errorf("stored %+v, want G1 at 123456 and G2 at -9999999999999999", rec.Lines)
+	}
+	const grouping = `digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	const bound = `is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
+		rej("gl", "gl.csv:3", `bad amount: amount "1,23": `+grouping, "B1;2025-01-31;6200;1,23"),
+		rej("gl", "gl.csv:4", `bad amount: amount "12,3456": `+grouping, "B2;2025-01-31;6200;12,3456"),
+		rej("gl", "gl.csv:5", `bad amount: amount "1,234,56": `+grouping, "B3;2025-01-31;6200;1,234,56"),
+		rej("gl", "gl.csv:6", `bad amount: amount "9,999,999,999,999,999.99" `+bound, "B4;2025-01-31;6200;9,999,999,999,999,999.99"),
+		rej("gl", "gl.csv:8", `bad amount: amount "(100,000,000,000,000.00)" `+bound, "B5;2025-01-31;6200;(100,000,000,000,000.00)"),
+	})
+}
+
+func TestLedgerGroupingEuropean(t *testing.T) {
+	// Decimal comma, "." thousands: "1234.56" is no amount here (it was
+	// stored as 123456.00), and "1,2,3" is quoted as written, not as the
+	// "1.2,3" the comma made of it.
+	opt := options()
+	opt.Notation = money.Notation{DecimalComma: true, ThousandsSeparator: "."}
+	path := writeFile(t, "gl.csv", "entry_id;date;account;amount\n"+
+		"G1;2025-01-31;6200;1.234,56\n"+ // 2: 123456
+		"B1;2025-01-31;6200;1234.56\n"+ // 3
+		"B2;2025-01-31;6200;1,2,3\n"+ // 4
+		"B3;2025-01-31;6200;100.000.000.000.000,00\n") // 5: one cent beyond the bound
+	rec, _ := readLedger(t, path, opt)
+	if len(rec.Lines) != 1 || rec.Lines[0].AmountMinor != 123456 {
+		t.Errorf("stored %+v, want G1 at 123456", rec.Lines)
+	}
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
+		rej("gl", "gl.csv:3", `bad amount: amount "1234.56": digits are not grouped in threes by the thousands separator "." (as in 1.234.567)`,
+			"B1;2025-01-31;6200;1234.56"),
+		rej("gl", "gl.csv:4", `bad amount: amount "1,2,3" is not a number`, "B2;2025-01-31;6200;1,2,3"),
+		rej("gl", "gl.csv:5", `bad amount: amount "100.000.000.000.000,00" is out of range: costdrift stores at most 99.999.999.999.999,99 EUR either side of zero`,
+			"B3;2025-01-31;6200;100.000.000.000.000,00"),
+	})
+}
+
+func TestLedgerDebitMinusCreditBound(t *testing.T) {
+	// Debit and credit each within the bound, but debit - credit beyond it:
+	// 60,000,000,000,000.00 - (-60,000,000,000,000.00) = 120,000,000,000,000.00.
+	path := writeFile(t, "gl.csv", "entry_id;date;account;debit;credit\n"+
+		"B1;2025-01-31;6200;60000000000000.00;-60000000000000.00\n"+
+		"G1;2025-01-31;6200;60000000000000.00;10000000000000.00\n") // 5,000,000,000,000,000 minor units
+	rec, _ := readLedger(t, path, options())
+	if len(rec.Lines) != 1 || rec.Lines[0].AmountMinor != 5000000000000000 {
+		t.Errorf("stored %+v, want G1 at 5000000000000000", rec.Lines)
+	}
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
+		rej("gl", "gl.csv:2", `bad amount: debit "60000000000000.00" minus credit "-60000000000000.00" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero`,
+			"B1;2025-01-31;6200;60000000000000.00;-60000000000000.00"),
+	})
 }

@@ -559,7 +559,7 @@ func (r *ledger) convert(j *journal, tx *transaction, l *lineXML, debit, credit 
 	}
 	amount, isDebit := debit, true
 	if len(l.Credit) > 0 {
-		amount, isDebit = -credit, false // credit <= MaxInt64/4 in size: no overflow
+		amount, isDebit = -credit, false // credit <= money.MaxMinor in size: no overflow
 	}
 	return r.allocate(l.Analysis, amount, isDebit)
 }
@@ -612,8 +612,8 @@ func (r *ledger) allocate(entries []analysisXML, amount int64, isDebit bool) ([]
 				formatMinor(p.amount, cur), formatMinor(amount, cur))
 		}
 	}
-	// The parts have the line's sign and amount is at most MaxInt64/4 in
-	// size (money.Currency.Parse), so amount - sum cannot overflow.
+	// The parts have the line's sign and amount is at most money.MaxMinor
+	// in size (money.Currency.Parse), so amount - sum cannot overflow.
 	rest := amount - sum
 	if rest != 0 && sign(rest) != sign(amount) {
 		return nil, fmt.Sprintf("Analysis amounts of type %s add up to %s, more than the line's %s",

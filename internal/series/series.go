@@ -2,8 +2,11 @@ package series
 
 import (
 	"errors"
+	"fmt"
 	"math"
+	"slices"
 	"sort"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/calendar"
@@ -30,7 +33,9 @@ var ErrNoClosedPeriod = errors.New("the ledger has no postings in a closed perio
 // Within it, a period in which an object has no postings counts as zero cost
 // only when the ledger as a whole has postings in that period; otherwise it
 // is unknown (NaN). Objects are the accounts in scope (with the cost centre
-// at account_cost_center grain) that posted anything in the window.
+// at account_cost_center grain) that posted anything in the window. A total
+// beyond int64 (CostTotal.Overflow) is unknown too, and makes its object
+// Unusable, naming the periods; the other objects are built as usual.
 func Build(costs []costdrift.CostTotal, activity []costdrift.ActivityValue, s Settings) (costdrift.Panel, error) {
 	ledgerPeriods := map[string]bool{}
 	end := ""
@@ -54,6 +59,7 @@ func Build(costs []costdrift.CostTotal, activity []costdrift.ActivityValue, s Se
 	}
 
 	series := map[costdrift.CostObject][]float64{}
+	overflow := map[costdrift.CostObject][]string{}
 	for _, c := range costs {
 		i, ok := index[c.Period]
 		if !ok || !s.Scope.Contains(c.Account) {
@@ -68,6 +74,11 @@ func Build(costs []costdrift.CostTotal, activity []costdrift.ActivityValue, s Se
 			v = make([]float64, len(periods))
 			series[o] = v
 		}
+		if c.Overflow {
+			v[i] = math.NaN() // and stays NaN whatever else the object adds
+			overflow[o] = append(overflow[o], c.Period)
+			continue
+		}
 		v[i] += float64(c.AmountMinor) / float64(s.Minor)
 	}
 	objects := make([]costdrift.ObjectSeries, 0, len(series))
@@ -77,7 +88,14 @@ func Build(costs []costdrift.CostTotal, activity []costdrift.ActivityValue, s Se
 				v[i] = math.NaN()
 			}
 		}
-		objects = append(objects, costdrift.ObjectSeries{Object: o, Cost: v})
+		object := costdrift.ObjectSeries{Object: o, Cost: v}
+		if ps := overflow[o]; len(ps) > 0 {
+			// At account grain, several cost centres may overflow in one period.
+			slices.Sort(ps)
+			object.Unusable = fmt.Sprintf("its lines in %s add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces",
+				strings.Join(slices.Compact(ps), ", "))
+		}
+		objects = append(objects, object)
 	}
 	sort.Slice(objects, func(i, j int) bool {
 		a, b := objects[i].Object, objects[j].Object

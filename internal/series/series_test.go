@@ -115,3 +115,69 @@ func TestDriversLeadTheWindow(t *testing.T) {
 		t.Errorf("account grain object = %+v, want no cost centre", p.Objects[0].Object)
 	}
 }
+
+// A total beyond int64 (lines stored before sync bounded amounts) makes the
+// object unusable, naming the periods; its cost there is unknown, and every
+// other object is built as usual. At account grain the account's other cost
+// centres do not hide it.
+func TestTotalBeyondInt64MakesOnlyItsObjectUnusable(t *testing.T) {
+	costs := []costdrift.CostTotal{
+		{Period: "2026-08", Account: "6100", CostCenter: "WELD", AmountMinor: 420000},
+		{Period: "2026-09", Account: "6100", CostCenter: "WELD", Overflow: true},
+		{Period: "2026-10", Account: "6100", CostCenter: "WELD", Overflow: true},
+		{Period: "2026-08", Account: "6100", CostCenter: "PAINT", AmountMinor: 100},
+		{Period: "2026-09", Account: "6100", CostCenter: "PAINT", AmountMinor: 200},
+		{Period: "2026-10", Account: "6100", CostCenter: "PAINT", AmountMinor: 300},
+		{Period: "2026-07", Account: "6200", CostCenter: "WELD", Overflow: true}, // before the window
+		{Period: "2026-10", Account: "6200", CostCenter: "WELD", AmountMinor: 500},
+	}
+	p, err := Build(costs, nil, settings("2026-12-01", 3))
+	if err != nil {
+		t.Fatal(err)
+	}
+	const reason = "its lines in 2026-09, 2026-10 add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces"
+	// Objects in account, cost centre order; costs in currency units (minor
+	// units / 100, by hand).
+	want := []struct {
+		object   string
+		cost     []float64
+		unusable string
+	}{
+		{"6100/PAINT", []float64{1, 2, 3}, ""},
+		{"6100/WELD", []float64{4200, math.NaN(), math.NaN()}, reason},
+		{"6200/WELD", []float64{0, 0, 5}, ""}, // its overflow lies before the window
+	}
+	if len(p.Objects) != len(want) {
+		t.Fatalf("%d objects, want %d: %+v", len(p.Objects), len(want), p.Objects)
+	}
+	for i, w := range want {
+		o := p.Objects[i]
+		if o.Object.String() != w.object || o.Unusable != w.unusable || !sameFloats(o.Cost, w.cost) {
+			t.Errorf("object %d: %s %v %q, want %s %v %q", i, o.Object, o.Cost, o.Unusable, w.object, w.cost, w.unusable)
+		}
+	}
+
+	s := settings("2026-12-01", 3)
+	s.Grain = costdrift.GrainAccount
+	p, err = Build(costs, nil, s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(p.Objects) != 2 || p.Objects[0].Unusable != reason || !sameFloats(p.Objects[0].Cost, []float64{4201, math.NaN(), math.NaN()}) ||
+		p.Objects[1].Unusable != "" {
+		t.Errorf("account grain: %+v", p.Objects)
+	}
+}
+
+// sameFloats compares exactly, NaN equal to NaN.
+func sameFloats(a, b []float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] && !(math.IsNaN(a[i]) && math.IsNaN(b[i])) {
+			return false
+		}
+	}
+	return true
+}

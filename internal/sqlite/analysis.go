@@ -15,9 +15,10 @@ import (
 )
 
 // CostTotals returns the net amount per period, account and cost centre of
-// every ledger line.
+// every ledger line. A total beyond int64 is marked Overflow rather than
+// failing the whole read (sumParts).
 func (db *DB) CostTotals(ctx context.Context) ([]costdrift.CostTotal, error) {
-	rows, err := db.db.QueryContext(ctx, `SELECT period, account, cost_center, SUM(amount_minor)
+	rows, err := db.db.QueryContext(ctx, `SELECT period, account, cost_center, `+sumParts+`
 		FROM gl_lines GROUP BY period, account, cost_center ORDER BY account, cost_center, period`)
 	if err != nil {
 		return nil, err
@@ -26,9 +27,13 @@ func (db *DB) CostTotals(ctx context.Context) ([]costdrift.CostTotal, error) {
 	var out []costdrift.CostTotal
 	for rows.Next() {
 		var c costdrift.CostTotal
-		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &c.AmountMinor); err != nil {
+		var billions, rest int64
+		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
 			return nil, err
 		}
+		var ok bool
+		c.AmountMinor, ok = joinParts(billions, rest)
+		c.Overflow = !ok
 		out = append(out, c)
 	}
 	return out, rows.Err()

@@ -374,3 +374,124 @@ func TestBehaviourIn(t *testing.T) {
 		t.Errorf("2023-06, before any behaviour: %d behaviours", len(bs))
 	}
 }
+
+func TestTotalsBeyondInt64(t *testing.T) {
+	// Lines stored before sync bounded amounts can add up to more than int64
+	// holds (2^63 - 1 = 9,223,372,036,854,775,807): ten lines of
+	// 999,999,999,999,999,999 minor units (9,999,999,999,999,999.99 EUR)
+	// make 9,999,999,999,999,999,990. The store says so for that total,
+	// still sums every other one exactly, and never fails the whole query.
+	db, _ := mustOpen(t)
+	const big = 999_999_999_999_999_999
+	var lines []costdrift.LedgerLine
+	for i := 1; i <= 10; i++ {
+		lines = append(lines, ledgerLine("gl", "BIG", i, "2025-01-31", "6200", "WELD", big, ""))
+	}
+	lines = append(lines,
+		ledgerLine("gl", "E1", 1, "2025-01-31", "6200", "PAINT", 50000, ""),
+		// A running int64 sum overflows after two lines, yet the total,
+		// 2^63 - 1, fits.
+		ledgerLine("gl", "C", 1, "2025-01-31", "6300", "", math.MaxInt64, ""),
+		ledgerLine("gl", "C", 2, "2025-01-31", "6300", "", math.MaxInt64, ""),
+		ledgerLine("gl", "C", 3, "2025-01-31", "6300", "", -math.MaxInt64, ""),
+		ledgerLine("gl", "M", 1, "2025-01-31", "6400", "", math.MinInt64, ""),
+		// 2 x (2^63 - 1) + 2 = 2^64, which a wrapping int64 sum makes 0.
+		ledgerLine("gl", "W", 1, "2025-01-31", "6500", "", math.MaxInt64, ""),
+		ledgerLine("gl", "W", 2, "2025-01-31", "6500", "", math.MaxInt64, ""),
+		ledgerLine("gl", "W", 3, "2025-01-31", "6500", "", 2, ""),
+	)
+	lines = append(lines, balancedAcrossTheLimit()...)
+	run := loadFile(t, db, "/gl.csv", lines)
+	// Every entry but Z is one-sided: BIG, E1, C, M and W, W's 2^64
+	// included.
+	if len(run.Warnings) != 1 || !strings.Contains(run.Warnings[0], ": 5 entries do not balance") {
+		t.Errorf("warnings %q, want 5 entries that do not balance", run.Warnings)
+	}
+
+	totals, err := db.CostTotals(context.Background())
+	if err != nil {
+		t.Fatalf("CostTotals: %v", err)
+	}
+	want := []costdrift.CostTotal{
+		{Period: "2025-01", Account: "6200", CostCenter: "PAINT", AmountMinor: 50000},
+		{Period: "2025-01", Account: "6200", CostCenter: "WELD", Overflow: true},
+		{Period: "2025-01", Account: "6300", AmountMinor: math.MaxInt64},
+		{Period: "2025-01", Account: "6400", AmountMinor: math.MinInt64},
+		{Period: "2025-01", Account: "6500", Overflow: true},
+	}
+	want = append(want, costdrift.CostTotal{Period: "2025-01", Account: "6600"}) // Z: zero
+	if !reflect.DeepEqual(totals, want) {
+		t.Errorf("CostTotals:\n got  %+v\n want %+v", totals, want)
+	}
+
+	// The view answers: amount_minor is NULL where no integer holds the
+	// total, amount (currency units, a float) is there for every row.
+	if got := dump(t, db, `SELECT account, cost_center, amount_minor FROM cost_series ORDER BY account, cost_center`); got !=
+		`"6200"|"PAINT"|int64:50000`+"\n"+`"6200"|"WELD"|NULL`+"\n"+`"6300"|""|int64:9223372036854775807`+"\n"+
+			`"6400"|""|int64:-9223372036854775808`+"\n"+`"6500"|""|NULL`+"\n"+`"6600"|""|int64:0`+"\n" {
+		t.Errorf("cost_series amount_minor:\n%s", got)
+	}
+	rows, err := db.SQL().Query(`SELECT amount FROM cost_series ORDER BY account, cost_center`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	// Minor units / 100 (EUR); the float totals carry a double's 16 digits,
+	// so the tolerance is relative.
+	wantAmount := []float64{500, 10 * big / 100.0, math.MaxInt64 / 100.0, math.MinInt64 / 100.0, 2 * (1 << 63) / 100.0, 0}
+	const relTol = 1e-15
+	for i := 0; rows.Next(); i++ {
+		var a float64
+		if err := rows.Scan(&a); err != nil {
+			t.Fatal(err)
+		}
+		if i >= len(wantAmount) || math.Abs(a-wantAmount[i]) > relTol*math.Abs(wantAmount[i]) {
+			t.Errorf("cost_series row %d: amount %v, want %v", i, a, wantAmount[min(i, len(wantAmount)-1)])
+		}
+	}
+	if err := rows.Err(); err != nil {
+		t.Fatal(err)
+	}
+
+	// One object's costs for explain: exact where the total fits, an error
+	// naming the period where it does not.
+	costs, _, err := db.CostPerPeriod(context.Background(), costdrift.CostObject{Account: "6300"}, false, "2025-01", "2025-01")
+	if err != nil || costs["2025-01"] != math.MaxInt64 {
+		t.Errorf("CostPerPeriod 6300: %v, %v; want 2025-01 at %d", costs, err, int64(math.MaxInt64))
+	}
+	_, _, err = db.CostPerPeriod(context.Background(), weld, false, "2025-01", "2025-01")
+	if err == nil || !strings.Contains(err.Error(), "2025-01") || !strings.Contains(err.Error(), "int64") {
+		t.Errorf("CostPerPeriod 6200/WELD: %v; want an error naming 2025-01 and int64", err)
+	}
+}
+
+// balancedAcrossTheLimit is entry Z: 2^63 - 1 twice, then taken back twice.
+// Its running sum leaves int64, yet the entry balances.
+func balancedAcrossTheLimit() []costdrift.LedgerLine {
+	return []costdrift.LedgerLine{
+		ledgerLine("gl", "Z", 1, "2025-01-31", "6600", "", math.MaxInt64, ""),
+		ledgerLine("gl", "Z", 2, "2025-01-31", "6600", "", math.MaxInt64, ""),
+		ledgerLine("gl", "Z", 3, "2025-01-31", "6600", "", -math.MaxInt64, ""),
+		ledgerLine("gl", "Z", 4, "2025-01-31", "6600", "", -math.MaxInt64, ""),
+	}
+}
+
+func TestBalanceCheckOfManyEntriesBeyondInt64(t *testing.T) {
+	// More unbalanced entries than the check follows one by one
+	// (maxSuspects): the whole file is checked in one query, which must
+	// neither fail on an entry beyond int64 nor count one that balances.
+	db, _ := mustOpen(t)
+	var lines []costdrift.LedgerLine
+	for i := 1; i <= 10; i++ {
+		lines = append(lines, ledgerLine("gl", "BIG", i, "2025-01-31", "6200", "WELD", 999_999_999_999_999_999, ""))
+	}
+	for i := range maxSuspects {
+		lines = append(lines, ledgerLine("gl", fmt.Sprintf("E%d", i), 1, "2025-01-31", "6200", "PAINT", 100, ""))
+	}
+	lines = append(lines, balancedAcrossTheLimit()...)
+	run := loadFile(t, db, "/gl.csv", lines)
+	// BIG and the 10,000 one-line entries; not Z.
+	if len(run.Warnings) != 1 || !strings.Contains(run.Warnings[0], ": 10001 entries do not balance") {
+		t.Errorf("warnings %q, want 10001 entries that do not balance", run.Warnings)
+	}
+}

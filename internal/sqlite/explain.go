@@ -180,9 +180,10 @@ func (db *DB) HasLedgerLines(ctx context.Context, o costdrift.CostObject, allCos
 // minor units the cost object posted in each period it posted in, and the set
 // of periods in which the ledger as a whole has postings (the analysis counts
 // an object's silent period as zero cost only in those). With allCostCenters
-// (account grain) the object is the account in every cost centre.
+// (account grain) the object is the account in every cost centre. A period
+// whose lines add up to more than int64 holds is an error naming it.
 func (db *DB) CostPerPeriod(ctx context.Context, o costdrift.CostObject, allCostCenters bool, first, last string) (map[string]int64, map[string]bool, error) {
-	rows, err := db.db.QueryContext(ctx, `SELECT period, SUM(amount_minor) FROM gl_lines
+	rows, err := db.db.QueryContext(ctx, `SELECT period, `+sumParts+` FROM gl_lines
 		WHERE account = ? AND (? OR cost_center = ?) AND period BETWEEN ? AND ? GROUP BY period`,
 		o.Account, allCostCenters, o.CostCenter, first, last)
 	if err != nil {
@@ -192,9 +193,13 @@ func (db *DB) CostPerPeriod(ctx context.Context, o costdrift.CostObject, allCost
 	costs := map[string]int64{}
 	for rows.Next() {
 		var p string
-		var v int64
-		if err := rows.Scan(&p, &v); err != nil {
+		var billions, rest int64
+		if err := rows.Scan(&p, &billions, &rest); err != nil {
 			return nil, nil, err
+		}
+		v, ok := joinParts(billions, rest)
+		if !ok {
+			return nil, nil, fmt.Errorf("the lines of %s in %s add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces", o, p)
 		}
 		costs[p] = v
 	}

@@ -230,23 +230,27 @@ func unbalanced(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID 
 	off := 0
 	switch {
 	case b.overflow:
-		err := tx.QueryRowContext(ctx, `SELECT COALESCE(SUM(total <> 0), 0) FROM
-			(SELECT SUM(amount_minor) AS total FROM gl_lines WHERE source_file_id = ? GROUP BY entry_id)`, fileID).Scan(&off)
+		// The total is zero exactly when both parts are, once the rest's
+		// whole billions are carried (joinParts).
+		err := tx.QueryRowContext(ctx, `SELECT COALESCE(SUM(billions + rest / 1000000000 <> 0 OR rest % 1000000000 <> 0), 0) FROM
+			(SELECT SUM(amount_minor / 1000000000) AS billions, SUM(amount_minor % 1000000000) AS rest
+			 FROM gl_lines WHERE source_file_id = ? GROUP BY entry_id)`, fileID).Scan(&off)
 		if err != nil {
 			return err
 		}
 	case len(b.suspects) > 0:
-		stmt, err := tx.PrepareContext(ctx, `SELECT SUM(amount_minor) FROM gl_lines WHERE source = ? AND entry_id = ?`)
+		stmt, err := tx.PrepareContext(ctx, `SELECT `+sumParts+` FROM gl_lines WHERE source = ? AND entry_id = ?`)
 		if err != nil {
 			return err
 		}
 		defer stmt.Close()
 		for entry := range b.suspects {
-			var total int64
-			if err := stmt.QueryRowContext(ctx, run.Source, entry).Scan(&total); err != nil {
+			var billions, rest int64
+			if err := stmt.QueryRowContext(ctx, run.Source, entry).Scan(&billions, &rest); err != nil {
 				return err
 			}
-			if total != 0 {
+			// A total beyond int64 is not zero either.
+			if total, ok := joinParts(billions, rest); !ok || total != 0 {
 				off++
 			}
 		}
@@ -577,6 +581,7 @@ func quoteSQL(s string) string {
 type balance struct {
 	entry    string
 	sum      int64
+	wrapped  bool // sum left int64 on the way: only the store can tell the total
 	started  bool
 	suspects map[string]struct{}
 	overflow bool // too many suspects to check one by one
@@ -587,15 +592,20 @@ const maxSuspects = 10000
 
 func (b *balance) add(l costdrift.LedgerLine) {
 	if b.started && l.EntryID == b.entry {
-		b.sum += l.AmountMinor
+		sum := b.sum + l.AmountMinor
+		// Signed overflow: two addends of one sign, a sum of the other.
+		if (l.AmountMinor > 0 && sum < b.sum) || (l.AmountMinor < 0 && sum > b.sum) {
+			b.wrapped = true
+		}
+		b.sum = sum
 		return
 	}
 	b.close()
-	b.entry, b.sum, b.started = l.EntryID, l.AmountMinor, true
+	b.entry, b.sum, b.wrapped, b.started = l.EntryID, l.AmountMinor, false, true
 }
 
 func (b *balance) close() {
-	if !b.started || b.sum == 0 {
+	if !b.started || b.sum == 0 && !b.wrapped {
 		return
 	}
 	if b.suspects == nil {

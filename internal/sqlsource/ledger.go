@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/money"
 )
 
 // Ledger columns. Either amount, or debit and credit, must be present. line
@@ -121,7 +122,12 @@ func ledgerLine(r row, opt Options, signed bool) (costdrift.LedgerLine, string) 
 			return l, "credit: " + reason
 		}
 	}
+	// Each side is within the bound; their difference may not be.
 	l.AmountMinor = debit - credit
+	if !money.InRange(l.AmountMinor) {
+		what := fmt.Sprintf("debit %q minus credit %q", text(dv), text(cv))
+		return l, "bad amount: " + opt.Currency.OutOfRange(what, opt.Notation).Error()
+	}
 	return l, ""
 }
 

@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/money"
 )
 
 // The SQLite tests need no server: a database file in a temporary folder,
@@ -326,4 +327,40 @@ func TestSQLiteOpenedReadOnly(t *testing.T) {
 			t.Errorf("%s: the log is gone after the read: %v", dsn, err)
 		}
 	}
+func TestSQLiteLedgerGroupingAndBound(t *testing.T) {
+	// Text amounts follow the source's notation ("," thousands): digits not
+	// grouped in threes are rejected, quoted as the query returns them, and
+	// so is an amount beyond the bound, whatever the column's type.
+	path := sqliteDB(t)
+	opt := sqliteOptions(path, `SELECT * FROM (VALUES
+		('G1', 1, '2025-01-31', '6100', '1,234.56', NULL),
+		('B1', 1, '2025-01-31', '6100', '1,23', NULL),
+		('B2', 1, '2025-01-31', '6100', NULL, '12,3456'),
+		('B3', 1, '2025-01-31', '6100', '9,999,999,999,999,999.99', NULL),
+		('B4', 1, '2025-01-31', '6100', 60000000000000, -60000000000000),
+		('B5', 1, '2025-01-31', '6100', 1e16, NULL))`)
+	opt.Columns = map[string]string{"entry_id": "column1", "line": "column2", "date": "column3", "account": "column4",
+		"debit": "column5", "credit": "column6"}
+	opt.Notation = money.Notation{ThousandsSeparator: ","}
+	rec := &recorder{}
+	if _, err := ReadLedger(context.Background(), opt, rec); err != nil {
+		t.Fatal(err)
+	}
+	// 1,234.56 EUR is 123456 cents (by hand).
+	checkLines(t, rec.Lines, []costdrift.LedgerLine{line("books", "G1", 1, "2025-01-31", "6100", "", 123456, "")})
+	const grouping = `digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	const bound = `is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`
+	checkRejects(t, rec.Rejects, []costdrift.Reject{
+		rej("books", "books row 2 (entry B1, line 1)", `debit: bad amount: amount "1,23": `+grouping,
+			`column1="B1", column2=1, column3="2025-01-31", column4="6100", column5="1,23", column6=NULL`),
+		rej("books", "books row 3 (entry B2, line 1)", `credit: bad amount: amount "12,3456": `+grouping,
+			`column1="B2", column2=1, column3="2025-01-31", column4="6100", column5=NULL, column6="12,3456"`),
+		rej("books", "books row 4 (entry B3, line 1)", `debit: bad amount: amount "9,999,999,999,999,999.99" `+bound,
+			`column1="B3", column2=1, column3="2025-01-31", column4="6100", column5="9,999,999,999,999,999.99", column6=NULL`),
+		rej("books", "books row 5 (entry B4, line 1)", `bad amount: debit "60000000000000" minus credit "-60000000000000" `+bound,
+			`column1="B4", column2=1, column3="2025-01-31", column4="6100", column5=60000000000000, column6=-60000000000000`),
+		rej("books", "books row 6 (entry B5, line 1)",
+			`debit: bad amount: amount "10000000000000000" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
+			`column1="B5", column2=1, column3="2025-01-31", column4="6100", column5=10000000000000000, column6=NULL`),
+	})
 }

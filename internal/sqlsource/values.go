@@ -196,14 +196,10 @@ func quantity(v any, n money.Notation) (float64, string) {
 		if s == "" {
 			return 0, "missing value"
 		}
-		t := s
-		if n.ThousandsSeparator != "" {
-			t = strings.ReplaceAll(t, n.ThousandsSeparator, "")
+		t, err := n.Plain(s)
+		if err != nil {
+			return 0, fmt.Sprintf("bad value %q: %v", s, err)
 		}
-		if n.DecimalComma {
-			t = strings.Replace(t, ",", ".", 1)
-		}
-		var err error
 		if f, err = strconv.ParseFloat(t, 64); err != nil {
 			return 0, fmt.Sprintf("bad value %q: not a number", s)
 		}

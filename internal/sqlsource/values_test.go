@@ -32,7 +32,7 @@ func TestAmount(t *testing.T) {
 		{"double sum with stray digits", doubleSum(0.1, 0.2), money.Notation{}, 0,
 			`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
 		{"text with three decimals", "12.345", money.Notation{}, 0, `bad amount: amount "12.345": more decimals than the currency's minor unit (EUR has 2)`},
-		{"double out of range", 1e21, money.Notation{}, 0, `bad amount: amount "1000000000000000000000" is out of range (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
+		{"double out of range", 1e21, money.Notation{}, 0, `bad amount: amount "1000000000000000000000" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
 		{"NaN", math.NaN(), money.Notation{}, 0, "bad amount: NaN is not a number"},
 		{"NUMERIC NaN as text", "NaN", money.Notation{}, 0, `bad amount: amount "NaN" is not a number`},
 		{"NULL", nil, money.Notation{}, 0, "missing amount"},
@@ -133,6 +133,16 @@ func TestQuantityAndLine(t *testing.T) {
 		if math.Abs(got-tc.want) > tol || reason != tc.reason {
 			t.Errorf("quantity(%#v) = %v, %q; want %v, %q", tc.v, got, reason, tc.want, tc.reason)
 		}
+	}
+	// Text follows the notation as amounts do: 1,234.5 is 1234.5 (by hand);
+	// 1,23 was read as 123 before the grouping was checked.
+	grouped := money.Notation{ThousandsSeparator: ","}
+	if got, reason := quantity("1,234.5", grouped); got != 1234.5 || reason != "" {
+		t.Errorf(`quantity("1,234.5") = %v, %q; want 1234.5`, got, reason)
+	}
+	want := `bad value "1,23": digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	if got, reason := quantity("1,23", grouped); reason != want {
+		t.Errorf(`quantity("1,23") = %v, %q; want %q`, got, reason, want)
 	}
 	for _, tc := range []struct {
 		v      any

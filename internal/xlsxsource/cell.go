@@ -180,8 +180,8 @@ func numberMinor(text string, cur money.Currency) (int64, error) {
 	if off.Abs(off).Cmp(tolerance) > 0 {
 		return 0, fmt.Errorf("number %s: %w (%s has %d)", text, money.ErrTooPrecise, cur.Code, cur.Exponent)
 	}
-	if !q.IsInt64() || q.Int64() > math.MaxInt64/4 || q.Int64() < -math.MaxInt64/4 {
-		return 0, fmt.Errorf("number %s is out of range", text)
+	if !q.IsInt64() || !money.InRange(q.Int64()) {
+		return 0, cur.OutOfRange("number "+text, money.Notation{})
 	}
 	return q.Int64(), nil
 }
@@ -250,12 +250,9 @@ func parseValue(text string, n money.Notation) (float64, string) {
 	if text == "" {
 		return 0, "missing value"
 	}
-	s := text
-	if n.ThousandsSeparator != "" {
-		s = strings.ReplaceAll(s, n.ThousandsSeparator, "")
-	}
-	if n.DecimalComma {
-		s = strings.Replace(s, ",", ".", 1)
+	s, err := n.Plain(text)
+	if err != nil {
+		return 0, fmt.Sprintf("bad value %q: %v", text, err)
 	}
 	v, err := strconv.ParseFloat(s, 64)
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {

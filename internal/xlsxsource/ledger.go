@@ -6,6 +6,7 @@ import (
 	"strconv"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/money"
 )
 
 // Ledger columns, as in the CSV source. Either amount, or debit and credit,
@@ -98,7 +99,12 @@ func parseLedgerRow(t *table, opt Options, layout string, signed bool, nextLine 
 				return l, "bad credit: " + err.Error()
 			}
 		}
+		// Each side is within the bound; their difference may not be.
 		l.AmountMinor = debit - credit
+		if !money.InRange(l.AmountMinor) {
+			what := fmt.Sprintf("debit %q minus credit %q", debitCell.text, creditCell.text)
+			return l, "bad amount: " + opt.Currency.OutOfRange(what, opt.Notation).Error()
+		}
 	}
 
 	lineText, why := t.text("line")

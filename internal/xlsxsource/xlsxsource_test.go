@@ -230,7 +230,12 @@ func TestNumberMinor(t *testing.T) {
 		{"yen with decimals", "1234.5", jpy, 0, "number 1234.5: more decimals than the currency's minor unit (JPY has 0)"},
 		{"fraction is not a number", "1/3", eur, 0, `number "1/3": not a decimal number`},
 		{"hexadecimal is not a number", "0x10", eur, 0, `number "0x10": not a decimal number`},
-		{"out of range", "1E+30", eur, 0, "number 1E+30 is out of range"},
+		{"out of range", "1E+30", eur, 0, "number 1E+30 is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero"},
+		// The bound is 10^16 - 1 minor units (money.MaxMinor).
+		{"the bound", "99999999999999.99", eur, 9999999999999999, ""},
+		{"the bound, yen", "-9999999999999999", jpy, -9999999999999999, ""},
+		{"one cent beyond the bound", "100000000000000", eur, 0, "number 100000000000000 is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero"},
+		{"ten quadrillion", "9999999999999999.99", eur, 0, "number 9999999999999999.99 is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -867,5 +872,58 @@ func TestReadLedgerStreamsLargeSheet(t *testing.T) {
 	}
 	if above > 2<<20 {
 		t.Errorf("live heap while reading is %d bytes above the start", above)
+	}
+}
+
+func TestReadLedgerGroupingAndBound(t *testing.T) {
+	// Text cells follow the source's notation ("," thousands): digits not
+	// grouped in threes are rejected, quoted as the cell writes them, and
+	// so is an amount beyond the bound, as text or as a number cell.
+	path := book(t, [][]any{
+		{"entry_id", "date", "account", "debit", "credit"},
+		{"G1", day(2025, 1, 2), "6100", "1,234.50", nil},                               // 2: 123450 (by hand)
+		{"B1", day(2025, 1, 2), "6100", "1,23", nil},                                   // 3
+		{"B2", day(2025, 1, 2), "6100", nil, "12,3456"},                                // 4
+		{"B3", day(2025, 1, 2), "6100", "9,999,999,999,999,999.99", nil},               // 5
+		{"B4", day(2025, 1, 2), "6100", num("100000000000000"), nil},                   // 6
+		{"B5", day(2025, 1, 2), "6100", num("60000000000000"), num("-60000000000000")}, // 7: the sides fit, the line does not
+	})
+	opt := options()
+	opt.Notation = money.Notation{ThousandsSeparator: ","}
+	var w recorder
+	if _, err := ReadLedger(context.Background(), path, "gl.xlsx", opt, &w); err != nil {
+		t.Fatal(err)
+	}
+	if len(w.Lines) != 1 || w.Lines[0].AmountMinor != 123450 {
+		t.Errorf("lines %+v, want G1 at 123450", w.Lines)
+	}
+	const grouping = `digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	want := []struct{ location, reason string }{
+		{"gl.xlsx:Sheet1!3", `bad debit: amount "1,23": ` + grouping},
+		{"gl.xlsx:Sheet1!4", `bad credit: amount "12,3456": ` + grouping},
+		{"gl.xlsx:Sheet1!5", `bad debit: amount "9,999,999,999,999,999.99" is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`},
+		{"gl.xlsx:Sheet1!6", `bad debit: number 100000000000000 is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero`},
+		{"gl.xlsx:Sheet1!7", `bad amount: debit "60000000000000" minus credit "-60000000000000" is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`},
+	}
+	if len(w.Rejects) != len(want) {
+		t.Fatalf("got %d rejects, want %d: %+v", len(w.Rejects), len(want), w.Rejects)
+	}
+	for i, r := range w.Rejects {
+		if r.Location != want[i].location || r.Reason != want[i].reason {
+			t.Errorf("reject %d: got %s %q, want %s %q", i, r.Location, r.Reason, want[i].location, want[i].reason)
+		}
+	}
+}
+
+func TestParseValueGrouping(t *testing.T) {
+	// Activity written as text follows the notation as amounts do: 1,234.5
+	// is 1234.5 (by hand); 1,23 was read as 123 before grouping was checked.
+	n := money.Notation{ThousandsSeparator: ","}
+	if v, why := parseValue("1,234.5", n); v != 1234.5 || why != "" {
+		t.Errorf("1,234.5: got %v, %q", v, why)
+	}
+	want := `bad value "1,23": digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
+	if v, why := parseValue("1,23", n); why != want {
+		t.Errorf("1,23: got %v, %q; want %q", v, why, want)
 	}
 }
