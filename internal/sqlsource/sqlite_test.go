@@ -327,6 +327,8 @@ func TestSQLiteOpenedReadOnly(t *testing.T) {
 			t.Errorf("%s: the log is gone after the read: %v", dsn, err)
 		}
 	}
+}
+
 func TestSQLiteLedgerGroupingAndBound(t *testing.T) {
 	// Text amounts follow the source's notation ("," thousands): digits not
 	// grouped in threes are rejected, quoted as the query returns them, and
