@@ -1,0 +1,76 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+var update = flag.Bool("update", false, "rewrite the golden files in testdata/golden")
+
+// The text outputs an accountant reads, on the demo store (invented data),
+// compared character for character with golden files, so that a change of
+// layout or of a figure shows up in review. `go test ./cmd/costdrift/ -run
+// TestGoldenOutputs -update` rewrites them after an intended change.
+func TestGoldenOutputs(t *testing.T) {
+	dir := demoDir(t)
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	cases := []struct {
+		name string
+		args []string
+	}{
+		{"report", []string{"report"}},
+		{"explain-6300-ASSY", []string{"explain", "6300/ASSY"}},
+		{"explain-6500-WELD", []string{"explain", "6500/WELD"}},
+		{"explain-6100-PAINT", []string{"explain", "6100/PAINT"}},
+		{"budget-2026-q3", []string{"budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv")}},
+		{"variance-2026-06", []string{"variance", "--period", "2026-06", "--plan", filepath.Join(dir, "plans", "plan-2026-q2.csv")}},
+		{"alerts-list", []string{"alerts", "list", "--status", "all"}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			out := mustRun(t, append([]string{"--config", cfg}, tc.args...)...)
+			// The demo folder is a new temporary one each run.
+			out = strings.ReplaceAll(out, dir, "DEMO")
+			path := filepath.Join("testdata", "golden", tc.name+".txt")
+			if *update {
+				if err := os.WriteFile(path, []byte(out), 0o644); err != nil {
+					t.Fatal(err)
+				}
+				return
+			}
+			want, err := os.ReadFile(path)
+			if err != nil {
+				t.Fatalf("%v (-update writes it)", err)
+			}
+			if out != string(want) {
+				t.Errorf("costdrift %s differs from %s (-update rewrites it after an intended change):\n%s",
+					strings.Join(tc.args, " "), path, diffLines(string(want), out))
+			}
+		})
+	}
+}
+
+// diffLines shows the first lines where two texts differ, with line numbers.
+func diffLines(want, got string) string {
+	w, g := strings.Split(want, "\n"), strings.Split(got, "\n")
+	var b strings.Builder
+	shown := 0
+	for i := 0; i < max(len(w), len(g)) && shown < 12; i++ {
+		var wl, gl string
+		if i < len(w) {
+			wl = w[i]
+		}
+		if i < len(g) {
+			gl = g[i]
+		}
+		if wl != gl {
+			fmt.Fprintf(&b, "line %d\n  want: %s\n  got:  %s\n", i+1, wl, gl)
+			shown++
+		}
+	}
+	return b.String()
+}
