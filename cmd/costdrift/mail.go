@@ -51,33 +51,75 @@ type outgoing struct {
 	buildE error
 }
 
-// deliverAlerts is the delivery step of a cycle: for each recipient, the
-// open alerts routed to it that are due (never sent, escalated above what
-// was sent, or failed and past their backoff) go into one digest, sent
-// through the configured server or written to the outbox; the store
-// records each outcome per alert and recipient. A failure to send is
-// recorded and retried on a later cycle, not returned; only the store's
-// errors are.
+// deliveryTally is what one delivery step did: the digests it tried, how
+// many went out, and each one that did not.
+type deliveryTally struct {
+	started  bool // the step ran (the analysis before it had committed)
+	digests  int
+	sent     int
+	failures []deliveryFailure
+}
+
+// deliveryFailure is one digest not delivered: its recipient, how many
+// alerts it carried, and the error on one line (the server's errors never
+// hold the password).
+type deliveryFailure struct {
+	recipient string
+	alerts    int
+	err       string
+}
+
+type tallyKey struct{}
+
+// withDeliveryTally gives ctx a tally that the delivery step run under it
+// fills in: a daemon's cycle reaches the step through the analysis, which
+// returns nothing about the mail.
+func withDeliveryTally(ctx context.Context) (context.Context, *deliveryTally) {
+	t := &deliveryTally{}
+	return context.WithValue(ctx, tallyKey{}, t), t
+}
+
+// deliverAlerts is the delivery step of a cycle (sendDue). A failure to
+// send is recorded and retried on a later cycle, not returned, so that a
+// mail server that is down does not fail the analysis; the tally of ctx
+// (withDeliveryTally), when it has one, says what happened.
 func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) error {
+	t, err := a.sendDue(ctx, e, db, out)
+	if into, ok := ctx.Value(tallyKey{}).(*deliveryTally); ok {
+		*into = t
+	}
+	return err
+}
+
+// sendDue sends the due digests: for each recipient, the open alerts
+// routed to it that are due (never sent, escalated above what was sent, or
+// failed and past their backoff) go into one digest, sent through the
+// configured server or written to the outbox; the store records each
+// outcome per alert and recipient, and a failed one is retried after the
+// backoff. Only the store's errors, and an interruption, are returned. A
+// digest cut off because ctx ended is not recorded as failed: it is due
+// again at the next cycle.
+func (a *app) sendDue(ctx context.Context, e *env, db *sqlite.DB, out io.Writer) (deliveryTally, error) {
+	t := deliveryTally{started: true}
 	recipients := e.cfg.Alerts.Recipients
 	if len(recipients) == 0 {
-		return nil
+		return t, nil
 	}
 	open, err := db.Alerts(ctx, sqlite.AlertFilter{Status: costdrift.AlertOpen})
 	if err != nil {
-		return fmt.Errorf("mail: %w", err)
+		return t, fmt.Errorf("mail: %w", err)
 	}
 	past, err := db.Deliveries(ctx, "")
 	if err != nil {
-		return fmt.Errorf("mail: %w", err)
+		return t, fmt.Errorf("mail: %w", err)
 	}
 	names, err := db.AccountNames(ctx)
 	if err != nil {
-		return fmt.Errorf("mail: %w", err)
+		return t, fmt.Errorf("mail: %w", err)
 	}
 	objects, err := alertObjects(ctx, db, open)
 	if err != nil {
-		return fmt.Errorf("mail: %w", err)
+		return t, fmt.Errorf("mail: %w", err)
 	}
 	now := a.now()
 	charts := map[int64][]byte{}
@@ -122,8 +164,9 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 		batch = append(batch, outgoing{to: r.Email, items: items, msg: msg, buildE: err})
 	}
 	if len(batch) == 0 {
-		return nil
+		return t, nil
 	}
+	t.digests = len(batch)
 
 	results := make([]mail.Result, len(batch))
 	if e.cfg.Mail.SMTP.Host == "" {
@@ -158,6 +201,11 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 		}
 	}
 
+	// What reached the server is recorded even when ctx ended meanwhile, so
+	// that it is not sent twice.
+	record, cancel := context.WithTimeout(context.WithoutCancel(ctx), 10*time.Second)
+	defer cancel()
+	interrupted, cut := ctx.Err(), 0
 	for i, o := range batch {
 		res := results[i]
 		if res.Err == nil {
@@ -165,10 +213,16 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 			for _, it := range o.items {
 				sent[it.Alert.ID] = it.Alert.Severity
 			}
-			if err := db.RecordDeliverySent(ctx, o.to, sent, now); err != nil {
-				return fmt.Errorf("mail: %w", err)
+			if err := db.RecordDeliverySent(record, o.to, sent, now); err != nil {
+				return t, fmt.Errorf("mail: %w", err)
 			}
+			t.sent++
 			fmt.Fprintf(out, "mail: %d alert(s) to %s: %s\n", len(o.items), o.to, res.Answer)
+			continue
+		}
+		if interrupted != nil {
+			cut++
+			fmt.Fprintf(out, "mail: %d alert(s) to %s not sent: interrupted; due again at the next cycle\n", len(o.items), o.to)
 			continue
 		}
 		ids := make([]int64, len(o.items))
@@ -176,12 +230,16 @@ func (a *app) deliverAlerts(ctx context.Context, e *env, db *sqlite.DB, out io.W
 			ids[j] = it.Alert.ID
 		}
 		msg := oneLineError(res.Err)
-		if err := db.RecordDeliveryFailed(ctx, o.to, ids, msg, now, mail.Backoff); err != nil {
-			return fmt.Errorf("mail: %w", err)
+		if err := db.RecordDeliveryFailed(record, o.to, ids, msg, now, mail.Backoff); err != nil {
+			return t, fmt.Errorf("mail: %w", err)
 		}
+		t.failures = append(t.failures, deliveryFailure{recipient: o.to, alerts: len(o.items), err: msg})
 		fmt.Fprintf(out, "mail: %d alert(s) to %s not sent, retried on a later cycle: %s\n", len(o.items), o.to, msg)
 	}
-	return nil
+	if cut > 0 {
+		return t, fmt.Errorf("mail: %d digest(s) not sent: %w", cut, interrupted)
+	}
+	return t, nil
 }
 
 // alertObjects maps the Object of each object alert to its account and
@@ -275,14 +333,24 @@ func (a *app) alertsSendCommand() *cobra.Command {
 		Long: `send runs the delivery step of a cycle: each recipient of alerts.recipients gets
 one message with the open alerts routed to it that it has not had yet, that
 escalated since, or whose delivery failed and is due for a retry. With no
-mail.smtp.host the messages are written to the mail.outbox folder.`,
+mail.smtp.host the messages are written to the mail.outbox folder.
+
+A digest the server did not take stays queued and is retried after the
+backoff; send then exits with status 1, saying how many were not sent.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return a.withStoreToWrite(cmd.Context(), func(e *env, db *sqlite.DB) error {
 				if len(e.cfg.Alerts.Recipients) == 0 {
 					return fmt.Errorf("alerts.recipients is empty in %s: nobody to send to", e.cfg.File)
 				}
-				return a.deliverAlerts(cmd.Context(), e, db, a.out)
+				t, err := a.sendDue(cmd.Context(), e, db, a.out)
+				if err != nil {
+					return err
+				}
+				if len(t.failures) > 0 {
+					return fmt.Errorf("%d of %d digest(s) could not be sent; they stay queued and are retried after the backoff", len(t.failures), t.digests)
+				}
+				return nil
 			})
 		},
 	}

@@ -360,3 +360,48 @@ func TestMailRoutesCodesWithSlash(t *testing.T) {
 		}
 	}
 }
+
+// alerts send exits non-zero when a digest could not be sent, saying how
+// many of how many, and that they stay queued; with nothing due it exits 0.
+func TestAlertsSendFailsWhenDigestsAreNotSent(t *testing.T) {
+	dir := t.TempDir()
+	smtpPort := loopbackPort(t) // nothing listens there: the mail server is down
+	cfg := strings.Replace(config.Starter, `    host: ""                   # empty: messages go to the outbox folder
+    port: 587
+    tls: starttls `, fmt.Sprintf(`    host: 127.0.0.1
+    port: %d
+    tls: none `, smtpPort), 1)
+	if !strings.Contains(cfg, "tls: none") {
+		t.Fatal("the starter config changed: update this test's replacement")
+	}
+	cfgPath := filepath.Join(dir, "costdrift.yaml")
+	if err := os.WriteFile(cfgPath, []byte(cfg), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	// The demo's analysis tries once and records the failure; mail being
+	// down does not fail the analysis.
+	t0 := today()
+	if out := runAt(t, t0, "demo", "--dir", dir); !strings.Contains(out, "mail: 2 alert(s) to costs@example.test not sent, retried on a later cycle") {
+		t.Fatalf("demo output does not report the failed digest:\n%s", out)
+	}
+	send := func(at time.Time) (string, error) {
+		var out bytes.Buffer
+		root := newRoot(&out, &out, func() time.Time { return at })
+		root.SetArgs([]string{"--config", cfgPath, "alerts", "send"})
+		err := root.Execute()
+		return out.String(), err
+	}
+	// Within the backoff nothing is due: nothing to fail.
+	if out, err := send(t0.Add(time.Minute)); err != nil || out != "" {
+		t.Errorf("alerts send with nothing due: %v %q", err, out)
+	}
+	// Past it, the server still down: the retry fails, and the command says so.
+	out, err := send(t0.Add(6 * time.Minute))
+	want := "1 of 1 digest(s) could not be sent; they stay queued and are retried after the backoff"
+	if err == nil || err.Error() != want || !strings.Contains(out, "mail: 2 alert(s) to costs@example.test not sent, retried on a later cycle") {
+		t.Errorf("alerts send with the server down: error %v, want %q; output %q", err, want, out)
+	}
+	if n := count(t, filepath.Join(dir, "costdrift.db"), "SELECT COUNT(*) FROM deliveries WHERE status = 'failed' AND attempts = 2"); n != 2 {
+		t.Errorf("%d deliveries recorded as failed twice, want 2", n)
+	}
+}

@@ -16,6 +16,7 @@ type metrics struct {
 	rowsRejected    prometheus.Counter
 	alertsOpen      *prometheus.GaugeVec
 	deliveryFailing prometheus.Gauge
+	mailFailures    prometheus.Counter
 	lastSuccess     prometheus.Gauge
 }
 
@@ -37,11 +38,13 @@ func newMetrics() *metrics {
 			Help: "Open alerts after the latest cycle, by kind."}, []string{"kind"}),
 		deliveryFailing: prometheus.NewGauge(prometheus.GaugeOpts{Name: "costdrift_deliveries_failing",
 			Help: "Alert deliveries (alert and recipient) whose latest attempt failed, after the latest cycle."}),
+		mailFailures: prometheus.NewCounter(prometheus.CounterOpts{Name: "costdrift_mail_delivery_failures_total",
+			Help: "Alert digests the daemon could not deliver: one per recipient and failed attempt."}),
 		lastSuccess: prometheus.NewGauge(prometheus.GaugeOpts{Name: "costdrift_last_success_timestamp_seconds",
 			Help: "Unix time the latest successful cycle finished; 0 before the first."}),
 	}
 	m.reg.MustRegister(m.cycles, m.ticksSkipped, m.stageSeconds, m.rowsSynced, m.rowsRejected, m.alertsOpen,
-		m.deliveryFailing, m.lastSuccess,
+		m.deliveryFailing, m.mailFailures, m.lastSuccess,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
 	// Both outcomes show from the start, so that a rate over them is defined.
 	m.cycles.WithLabelValues("ok")

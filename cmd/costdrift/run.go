@@ -22,6 +22,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/mail"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -40,13 +41,15 @@ runs one cycle, the same steps as ` + "`costdrift sync`" + ` then ` + "`costdrif
 raises alerts and mails them). It holds the store's lock while it runs, so no
 other writing command or second daemon works on the same store.
 
-SIGINT or SIGTERM: no new cycles; the running one rolls its open transaction
-back; the daemon exits 0. SIGHUP: the config file is read again; a config
-that does not load is logged and the running one is kept.
+SIGINT or SIGTERM: no new cycles; the running one stops, keeping what it
+had committed and rolling back what it had not; the daemon exits 0. SIGHUP:
+the config file is read again; a config that does not load is logged and the
+running one is kept.
 
 With http.listen set, /healthz answers 200 while the latest cycle succeeded
-within two schedule intervals (503 otherwise) and /metrics gives Prometheus
-metrics.`,
+within two schedule intervals (503 otherwise), with status "degraded" while
+alert mail is failing, and /metrics gives Prometheus metrics. Each digest
+that could not be mailed is logged as a WARN line.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			e, err := a.loadConfig()
@@ -117,6 +120,7 @@ func (a *app) cycle(ctx context.Context, e *env, db *sqlite.DB, log *slog.Logger
 	start := time.Now()
 	log.Info("cycle started", "cycle", c.ID)
 	var failed []string
+	stage := "sync" // the stage under way, for a stop's message
 
 	t := time.Now()
 	runs, err := syncAll(ctx, e, db, io.Discard)
@@ -143,21 +147,39 @@ func (a *app) cycle(ctx context.Context, e *env, db *sqlite.DB, log *slog.Logger
 		m.rowsRejected.Add(float64(rejected))
 		m.stageSeconds.WithLabelValues("sync").Observe(c.Stages["sync"].Seconds())
 	}
-	syncStatus := "ok"
+	syncStatus, syncFailure := "ok", ""
 	if err != nil {
-		syncStatus = "failed"
-		failed = append(failed, "sync: "+oneLineError(err))
+		syncStatus, syncFailure = "failed", "sync: "+oneLineError(err)
+		failed = append(failed, syncFailure)
+	}
+	stored := 0
+	for _, r := range runs {
+		if r.Status == "ok" {
+			stored++
+		}
 	}
 	log.Info("stage finished", "cycle", c.ID, "stage", "sync", "status", syncStatus, "sources", len(runs),
 		"files", files, "rows_read", read, "rows_loaded", loaded, "rows_rejected", rejected,
 		"duration", c.Stages["sync"].Round(time.Millisecond))
 
+	analysed := false
+	mailed := &deliveryTally{}
 	if ctx.Err() == nil {
+		stage = "analyze"
 		t = time.Now()
-		run, err := a.analyzeAll(ctx, e, db, io.Discard, false)
+		var actx context.Context
+		actx, mailed = withDeliveryTally(ctx)
+		run, err := a.analyzeAll(actx, e, db, io.Discard, false)
+		analysed = err == nil
 		c.Stages["analyze"] = time.Since(t)
+		// One line per digest not delivered, so that a mail server that is
+		// down shows in the log and not only in the store.
+		for _, f := range mailed.failures {
+			log.Warn("mail delivery failed", "cycle", c.ID, "recipient", f.recipient, "alerts", f.alerts, "error", f.err)
+		}
 		if m != nil {
 			m.stageSeconds.WithLabelValues("analyze").Observe(c.Stages["analyze"].Seconds())
+			m.mailFailures.Add(float64(len(mailed.failures)))
 		}
 		attrs := []any{"cycle", c.ID, "stage", "analyze", "status", "ok", "duration", c.Stages["analyze"].Round(time.Millisecond)}
 		if err != nil {
@@ -175,8 +197,23 @@ func (a *app) cycle(ctx context.Context, e *env, db *sqlite.DB, log *slog.Logger
 
 	var cause error
 	switch {
-	case ctx.Err() != nil:
-		cause = errors.New("interrupted: the daemon was stopped; the open transaction was rolled back")
+	case ctx.Err() != nil && !analysed:
+		// Each source batch and the analysis commit on their own: say what
+		// the cycle had stored when the stop came, not more or less.
+		var why string
+		switch {
+		case stage == "sync":
+			why = fmt.Sprintf("interrupted: the daemon was stopped during the sync; %d of %d source(s) were synced, what the sync had not committed was rolled back and is synced at the next cycle, and no analysis ran",
+				stored, len(e.cfg.Sources.Accounts)+len(e.cfg.Sources.Activity)+len(e.cfg.Sources.Ledger))
+		case mailed.started:
+			why = "interrupted: the daemon was stopped while the alerts were mailed; the cycle's sync, analysis and alerts are stored, and the digests not sent go out at the next cycle"
+		default:
+			why = "interrupted: the daemon was stopped during the analysis; the cycle's sync is stored, and what the analysis had not committed was rolled back and is redone at the next cycle"
+		}
+		if stage != "sync" && syncFailure != "" {
+			why += "; " + syncFailure
+		}
+		cause = errors.New(why)
 	case len(failed) > 0:
 		cause = errors.New(strings.Join(failed, "; "))
 	}
@@ -195,11 +232,13 @@ func (a *app) cycle(ctx context.Context, e *env, db *sqlite.DB, log *slog.Logger
 			m.lastSuccess.Set(float64(time.Now().Unix()))
 		}
 	}
+	summary := []any{"cycle", c.ID, "status", c.Status, "duration", total.Round(time.Millisecond),
+		"mail_sent", mailed.sent, "mail_failed", len(mailed.failures)}
 	if cause != nil {
-		log.Error("cycle finished", "cycle", c.ID, "status", c.Status, "duration", total.Round(time.Millisecond), "error", cause.Error())
+		log.Error("cycle finished", append(summary, "error", cause.Error())...)
 		return c, fmt.Errorf("cycle %d failed: %w", c.ID, cause)
 	}
-	log.Info("cycle finished", "cycle", c.ID, "status", c.Status, "duration", total.Round(time.Millisecond))
+	log.Info("cycle finished", summary...)
 	return c, nil
 }
 
@@ -250,11 +289,18 @@ type daemon struct {
 	plan  cron.Schedule
 	last  costdrift.Cycle // the latest finished cycle
 	good  time.Time       // when the latest successful cycle finished
+
+	// Alert mail, from the store after each cycle (watchMail): deliveries
+	// of open alerts whose latest attempt failed, since when they have
+	// been failing, and the latest error.
+	mailFailing int
+	mailSince   time.Time
+	mailError   string
 }
 
 // run schedules cycles until ctx ends, then stops in order: no new ticks,
-// the running cycle rolled back, the listener shut; the caller closes the
-// store.
+// the running cycle stopped (what it had not committed rolled back), the
+// listener shut; the caller closes the store.
 func (d *daemon) run(ctx context.Context) error {
 	plan, err := d.e.cfg.Schedule.Plan()
 	if err != nil {
@@ -300,7 +346,11 @@ loop:
 		}
 	}
 
-	d.log.Info("stopping: no new cycles; a running cycle rolls back its open transaction")
+	if d.busy.Load() {
+		d.log.Info("stopping: no new cycles; the running cycle stops at once, keeping what it has committed")
+	} else {
+		d.log.Info("stopping: no new cycles")
+	}
 	stopped := d.cron.Stop()
 	var stuck error
 	select {
@@ -341,6 +391,7 @@ func (d *daemon) tick(ctx context.Context) {
 		d.good = c.FinishedAt
 	}
 	d.mu.Unlock()
+	d.watchMail(ctx)
 	// Between cycles the daemon holds as little as it can: SQLite's page
 	// caches, and the Go memory the cycle freed, go back to the system.
 	if err := d.db.ReleaseMemory(ctx); err != nil && ctx.Err() == nil {
@@ -350,8 +401,11 @@ func (d *daemon) tick(ctx context.Context) {
 }
 
 // seedHealth takes the latest cycles from the store, so that a restarted
-// daemon is healthy as long as its predecessor's latest cycle is recent.
+// daemon is healthy as long as its predecessor's latest cycle is recent,
+// and the state of the alert mail, so that it is degraded while the mail
+// its predecessor could not send waits for a retry.
 func (d *daemon) seedHealth(ctx context.Context) {
+	d.watchMail(ctx)
 	cycles, err := d.db.Cycles(ctx, 50)
 	if err != nil {
 		d.log.Warn("cycle history unreadable", "error", err)
@@ -370,6 +424,57 @@ func (d *daemon) seedHealth(ctx context.Context) {
 			break
 		}
 	}
+}
+
+// watchMail reads from the store whether alert mail is failing: a delivery
+// (alert and recipient) of an open alert whose latest attempt failed. The
+// store, not the latest cycle, decides, because a failed delivery waits
+// for its backoff through cycles that try nothing, and is over only when a
+// retry succeeds or its alert is resolved. Failing since is the earliest
+// failed attempt on record when the failures begin (each attempt's time is
+// its next attempt less its backoff), and stays until they end.
+func (d *daemon) watchMail(ctx context.Context) {
+	open, err := d.db.Alerts(ctx, sqlite.AlertFilter{Status: costdrift.AlertOpen})
+	var past map[int64]map[string]sqlite.Delivery
+	if err == nil {
+		past, err = d.db.Deliveries(ctx, "")
+	}
+	if err != nil {
+		if ctx.Err() == nil {
+			d.log.Warn("mail delivery state unreadable", "error", err)
+		}
+		return
+	}
+	failing := 0
+	var earliest, latest time.Time
+	var latestError string
+	for _, al := range open {
+		for _, dl := range past[al.ID] {
+			if dl.Status != sqlite.DeliveryFailed {
+				continue
+			}
+			failing++
+			at := dl.NextAttempt.Add(-mail.Backoff(dl.Attempts))
+			if earliest.IsZero() || at.Before(earliest) {
+				earliest = at
+			}
+			if !at.Before(latest) {
+				latest, latestError = at, dl.LastError
+			}
+		}
+	}
+	d.mu.Lock()
+	defer d.mu.Unlock()
+	if failing == 0 && d.mailFailing > 0 {
+		d.log.Info("mail delivery working again", "failing_since", d.mailSince.UTC().Format(time.RFC3339))
+	}
+	switch {
+	case failing == 0:
+		d.mailSince = time.Time{}
+	case d.mailSince.IsZero():
+		d.mailSince = earliest
+	}
+	d.mailFailing, d.mailError = failing, latestError
 }
 
 // reload reads the config file again. A config that does not load, or one

@@ -1,7 +1,9 @@
 package main
 
 import (
+	"bufio"
 	"bytes"
+	"database/sql"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -496,4 +498,233 @@ func TestDaemonMailsAlertsFromDroppedFiles(t *testing.T) {
 		t.Errorf("%d drift alerts recorded as sent to costs@example.test, want 2", n)
 	}
 	stop(t, d, logs)
+}
+
+// smtpAt points the mail.smtp block of setup's starter config at a server
+// on 127.0.0.1:port without TLS (allowed to a loopback host only).
+func smtpAt(t *testing.T, cfg string, port int) {
+	t.Helper()
+	text, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := strings.Replace(string(text), `    host: ""                   # empty: messages go to the outbox folder
+    port: 587
+    tls: starttls `, fmt.Sprintf(`    host: 127.0.0.1
+    port: %d
+    tls: none `, port), 1)
+	if s == string(text) {
+		t.Fatal("starter config has no mail.smtp block to rewrite")
+	}
+	writeFile(t, cfg, s)
+}
+
+// demoBooks puts the invented company's whole ledger, activity and chart
+// of accounts into setup's data folder: the first analysis raises its two
+// designed drift alerts, mailed to the starter's one recipient.
+func demoBooks(t *testing.T, dir string) {
+	t.Helper()
+	books := t.TempDir()
+	files, err := demo.Write(books, demo.DefaultSeed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data := filepath.Join(dir, "data")
+	copies := map[string]string{files.Activity: filepath.Join(data, "activity.csv"), files.Accounts: filepath.Join(data, "accounts.csv")}
+	for _, f := range files.Ledger {
+		copies[f] = filepath.Join(data, "gl", filepath.Base(f))
+	}
+	for from, to := range copies {
+		if !filepath.IsAbs(from) {
+			from = filepath.Join(books, from)
+		}
+		b, err := os.ReadFile(from)
+		if err != nil {
+			t.Fatal(err)
+		}
+		writeFile(t, to, string(b))
+	}
+}
+
+// linesWith are the log's lines that contain s.
+func linesWith(log, s string) []string {
+	var out []string
+	for _, line := range strings.Split(log, "\n") {
+		if strings.Contains(line, s) {
+			out = append(out, line)
+		}
+	}
+	return out
+}
+
+// healthOf is /healthz's status code and body.
+func healthOf(t *testing.T, addr string) (int, healthJSON) {
+	t.Helper()
+	code, body := get(t, "http://"+addr+"/healthz")
+	var h healthJSON
+	if err := json.Unmarshal([]byte(body), &h); err != nil {
+		t.Fatalf("/healthz body %q: %v", body, err)
+	}
+	return code, h
+}
+
+// With the SMTP server down the daemon says so: one WARN line per failed
+// delivery attempt naming the recipient and the error, the cycle's summary
+// counts the failed digests, /healthz reports "degraded" (HTTP 200: the
+// cycle's own work succeeded, and a restart would not bring the mail server
+// back) and /metrics counts the failures. When the server is back and the
+// retry is due, the digest goes out and /healthz is "ok" again. None of
+// these normal cycles claims to have rolled anything back.
+func TestDaemonSaysWhenMailFails(t *testing.T) {
+	mailpitPath(t) // skip or fail at once when mailpit is missing
+	cfg, dir := setup(t, "")
+	addr := freePort(t)
+	daemonConfig(t, cfg, addr)
+	smtpPort := loopbackPort(t) // nothing listens there: the mail server is down
+	smtpAt(t, cfg, smtpPort)
+	demoBooks(t, dir)
+	store := filepath.Join(dir, "costdrift.db")
+	d, logs := startDaemon(t, cfg)
+
+	waitFor(t, 15*time.Second, "a cycle that tried to mail", func() bool { return logs.count(`msg="cycle finished"`) > 0 }, logs)
+	warns := linesWith(logs.String(), `msg="mail delivery failed"`)
+	if len(warns) != 1 || !strings.Contains(warns[0], "level=WARN") || !strings.Contains(warns[0], "recipient=costs@example.test") ||
+		!strings.Contains(warns[0], "alerts=2") || !strings.Contains(warns[0], fmt.Sprintf("127.0.0.1:%d", smtpPort)) ||
+		!strings.Contains(warns[0], "connection refused") {
+		t.Errorf("want one WARN line naming the recipient, its 2 alerts and the refused connection, got %q\nlog:\n%s", warns, logs)
+	}
+	if first := linesWith(logs.String(), `msg="cycle finished"`)[0]; !strings.Contains(first, "mail_sent=0") || !strings.Contains(first, "mail_failed=1") {
+		t.Errorf("the cycle's summary does not count the failed digest: %q", first)
+	}
+	code, h := healthOf(t, addr)
+	if code != http.StatusOK || h.Status != "degraded" || !strings.HasPrefix(h.Reason, "mail delivery failing since ") ||
+		h.MailFailingSince == "" || h.MailFailing != 2 || !strings.Contains(h.MailError, "connection refused") {
+		t.Errorf("GET /healthz with the mail server down: %d %+v", code, h)
+	}
+	if _, body := get(t, "http://"+addr+"/metrics"); !strings.Contains(body, "\ncostdrift_mail_delivery_failures_total 1\n") {
+		t.Errorf("/metrics does not count the failed delivery:\n%s", body)
+	}
+
+	// While the retry waits for its backoff nothing is tried and nothing
+	// more is logged, and the daemon stays degraded.
+	cycles := logs.count(`msg="cycle finished"`)
+	waitFor(t, 5*time.Second, "two more cycles", func() bool { return logs.count(`msg="cycle finished"`) >= cycles+2 }, logs)
+	if n := logs.count(`msg="mail delivery failed"`); n != 1 {
+		t.Errorf("%d WARN lines after cycles that tried nothing, want still 1", n)
+	}
+	if code, h := healthOf(t, addr); code != http.StatusOK || h.Status != "degraded" {
+		t.Errorf("GET /healthz during the backoff: %d %+v", code, h)
+	}
+
+	// The server is back, and the backoff is over (moved into the past
+	// here rather than waited for).
+	api, _ := startMailpit(t, smtpPort)
+	sqldb, err := sql.Open("sqlite3", "file:"+store+"?_busy_timeout=5000")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := sqldb.Exec("UPDATE deliveries SET next_attempt_at = '2000-01-01T00:00:00Z' WHERE status = 'failed'"); err != nil {
+		t.Fatal(err)
+	}
+	sqldb.Close()
+	waitFor(t, 5*time.Second, "/healthz ok again", func() bool {
+		code, h := healthOf(t, addr)
+		return code == http.StatusOK && h.Status == "ok"
+	}, logs)
+	if got, _ := pitMessages(t, api); len(got["costs@example.test"]) != 1 {
+		t.Errorf("after the server came back: messages by recipient %v, want one to costs@example.test", got)
+	}
+	if n := len(linesWith(logs.String(), "mail_sent=1 mail_failed=0")); n != 1 {
+		t.Errorf("%d cycle summaries with the digest sent, want 1\nlog:\n%s", n, logs)
+	}
+	if strings.Contains(logs.String(), "rolled back") {
+		t.Errorf("normal cycles claim a rollback:\n%s", logs)
+	}
+	stop(t, d, logs)
+}
+
+// holdingSMTP is a mail server on 127.0.0.1 that greets, answers EHLO and
+// then never answers again; held receives each connection that reached
+// that point.
+func holdingSMTP(t *testing.T) (port int, held chan struct{}) {
+	t.Helper()
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	held = make(chan struct{}, 16)
+	var conns sync.WaitGroup
+	t.Cleanup(func() { ln.Close(); conns.Wait() })
+	go func() {
+		for {
+			c, err := ln.Accept()
+			if err != nil {
+				return
+			}
+			conns.Add(1)
+			go func() {
+				defer conns.Done()
+				defer c.Close()
+				fmt.Fprintf(c, "220 hold.example.test ESMTP\r\n")
+				r := bufio.NewReader(c)
+				for {
+					line, err := r.ReadString('\n')
+					if err != nil {
+						return
+					}
+					cmd := strings.ToUpper(strings.TrimSpace(line))
+					if strings.HasPrefix(cmd, "EHLO") || strings.HasPrefix(cmd, "HELO") {
+						fmt.Fprintf(c, "250 hold.example.test\r\n")
+						continue
+					}
+					held <- struct{}{}
+					io.Copy(io.Discard, r) // until the client hangs up
+					return
+				}
+			}()
+		}
+	}()
+	return ln.Addr().(*net.TCPAddr).Port, held
+}
+
+// SIGTERM while the cycle mails its alerts, after its sync and analysis
+// have committed: the daemon exits 0, keeps what the cycle committed, and
+// says so; it does not claim that an open transaction was rolled back. The
+// digest that was cut off is not counted as a failed delivery: it goes out
+// at the next cycle.
+func TestDaemonStoppedWhileMailing(t *testing.T) {
+	cfg, dir := setup(t, "")
+	daemonConfig(t, cfg, "")
+	smtpPort, held := holdingSMTP(t)
+	smtpAt(t, cfg, smtpPort)
+	demoBooks(t, dir)
+	store := filepath.Join(dir, "costdrift.db")
+	d, logs := startDaemon(t, cfg)
+	select {
+	case <-held:
+	case <-time.After(15 * time.Second):
+		t.Fatalf("the cycle never reached the mail server\nlog:\n%s", logs)
+	}
+	stop(t, d, logs)
+
+	finished := linesWith(logs.String(), `msg="cycle finished"`)
+	if len(finished) != 1 {
+		t.Fatalf("%d cycle summaries, want 1\nlog:\n%s", len(finished), logs)
+	}
+	want := "interrupted: the daemon was stopped while the alerts were mailed; the cycle's sync, analysis and alerts are stored, and the digests not sent go out at the next cycle"
+	if strings.Contains(logs.String(), "rolled back") || !strings.Contains(finished[0], want) {
+		t.Errorf("the stopped cycle's summary %q, want it to say %q and claim no rollback\nlog:\n%s", finished[0], want, logs)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM cycles WHERE status = 'failed' AND error = '"+strings.ReplaceAll(want, "'", "''")+"'"); n != 1 {
+		t.Errorf("%d cycles recorded as stopped while mailing, want 1", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs"); n != 1 {
+		t.Errorf("%d analyses stored, want the cycle's one", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE kind IN ('fixed_shift', 'rate_shift')"); n != 2 {
+		t.Errorf("%d drift alerts stored, want 2", n)
+	}
+	if n := count(t, store, "SELECT COUNT(*) FROM deliveries"); n != 0 {
+		t.Errorf("%d deliveries recorded for a digest cut off by the stop, want none", n)
+	}
 }

@@ -31,7 +31,9 @@ const BreakScreenLevel = 0.10
 // with a break significant at s.BreakAlpha, fits the behaviour again on the
 // periods from the break on. When fewer than s.MinPeriods follow the break,
 // the new behaviour is provisional: it keeps the class and driver it had
-// before and is refitted on the periods since (PRODUCT §5).
+// before and is refitted on the periods since (README, Drift). A refitted
+// rate that is not positive is implausible for a cost, as in classify: it
+// is reported in the reason and never used (provisionalRate).
 func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Settings) Result {
 	b := res.Behaviour
 	if b.Class == costdrift.InsufficientData || len(res.y) < 2*StepMinPerLevel+2 {
@@ -78,6 +80,7 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 	pb.N = brk.Periods
 	post := res.y[split:]
 	pb.Prediction = nil
+	implausible := ""
 	switch pb.Class {
 	case costdrift.Variable:
 		pb.Driver2, pb.Unit2, pb.VariableRate2 = "", "", 0 // refitted on its first driver alone
@@ -85,17 +88,100 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 			pb.VariableRate = r.Coef[0]
 			pb.Prediction = termsOf(r)
 		}
+		if !(pb.VariableRate > 0) {
+			implausible = fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost, so the formula from before the break is kept",
+				rateOf(pb.VariableRate, pb.Unit, pb.Driver))
+			pb.VariableRate, pb.Prediction = brk.RateBefore, brk.PredictionBefore
+		}
+		brk.FixedAfter, brk.RateAfter = 0, pb.VariableRate
 	case costdrift.Mixed:
 		pb.Driver2, pb.Unit2, pb.VariableRate2 = "", "", 0
 		pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = sideFormula(res.x, res.y, split, len(res.y), false)
+		if !(pb.VariableRate > 0) {
+			implausible = provisionalRate(pb, brk, res.x[split:], post)
+		}
+		brk.FixedAfter, brk.RateAfter = pb.FixedPerPeriod, pb.VariableRate
 	default:
 		pb.MeanCost = meanOf(post)
 		pb.FixedPerPeriod = pb.MeanCost
 		pb.Prediction = constantTerms(post)
 	}
-	pb.Reason = fmt.Sprintf("provisional since %s (break: %s): only %d periods since the break, fewer than %d, so the driver and class from before are kept and refitted on them",
-		brk.Period, breakText(brk, s), brk.Periods, s.MinPeriods)
+	pb.Reason = fmt.Sprintf("provisional since %s (break: %s): only %d periods since the break, fewer than %d, so the driver and class from before are kept and refitted on them%s",
+		brk.Period, breakText(brk, s), brk.Periods, s.MinPeriods, implausible)
 	return prov
+}
+
+// provisionalRate replaces the provisional formula of a mixed cost whose
+// rate refitted on the few periods since a break is not positive. A cost
+// that falls as its driver rises is implausible, and a rate from so few
+// periods is mostly noise (a period without postings at high activity is
+// enough to turn it), so the rate is reported and not used, as the main
+// analysis never uses a negative slope:
+//
+//   - the rate from before the break, b₀ (fitted on the longer history),
+//     is kept and only the fixed part is refitted on the n periods since:
+//     a = ȳ − b₀·x̄ over them;
+//   - where b₀ is not positive either, or that fixed part is negative (the
+//     cost since is below what the old rate alone gives), the formula is
+//     the mean cost since the break, a constant level, until enough periods
+//     follow the break to fit a new rate.
+//
+// Either formula is cost = a + b·x with the rate b taken from elsewhere (b₀,
+// or 0), so its prediction terms are those of a line whose centred level ȳ
+// and rate are independent: se² = s²·(1 + 1/n) + (x − x̄)²·var(b), with
+// s² = Σ(yᵢ − ȳ − b·(xᵢ − x̄))² / (n − 1) over the periods since and var(b)
+// from the fit before the break (0 for the mean). It returns the reason's
+// clause.
+func provisionalRate(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float64) string {
+	refitted := rateOf(pb.VariableRate, pb.Unit, pb.Driver)
+	rate, rateVariance := brk.RateBefore, 0.0 // without the terms before, the interval is conditional on the rate
+	if t := brk.PredictionBefore; t != nil && t.Intercept && len(t.Cov) == 4 {
+		rateVariance = t.S * t.S * t.Cov[3]
+	}
+	fixed := meanOf(y) - rate*meanOf(x)
+	if rate > 0 && fixed >= 0 {
+		pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = fixed, rate, keptRateTerms(x, y, rate, rateVariance)
+		return fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost, so the rate from before the break, %s, is kept and only the fixed part is refitted on them",
+			refitted, rateOf(rate, pb.Unit, pb.Driver))
+	}
+	why := "the rate from before the break is not positive either"
+	if rate > 0 {
+		why = fmt.Sprintf("the rate from before the break, %s, would leave a negative fixed part", rateOf(rate, pb.Unit, pb.Driver))
+	}
+	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = meanOf(y), 0, keptRateTerms(x, y, 0, 0)
+	return fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost and %s, so the cost is taken at its mean since the break, %.2f, until a rate can be fitted",
+		refitted, why, pb.FixedPerPeriod)
+}
+
+// keptRateTerms are the prediction terms of cost = ȳ + rate·(x − x̄) on the
+// periods x, y with the rate given and its variance (see provisionalRate);
+// nil without a residual degree of freedom.
+func keptRateTerms(x, y []float64, rate, rateVariance float64) *fit.Terms {
+	n := len(y)
+	if n < 2 {
+		return nil
+	}
+	mx, my := meanOf(x), meanOf(y)
+	var rss float64
+	for i := range y {
+		e := y[i] - my - rate*(x[i]-mx)
+		rss += e * e
+	}
+	s := math.Sqrt(rss / float64(n-1))
+	rateCov := 0.0 // a rate of zero variance, or no residual spread to scale by
+	if s > 0 {
+		rateCov = rateVariance / (s * s)
+	}
+	return &fit.Terms{Intercept: true, Centre: []float64{mx}, Coef: []float64{my, rate},
+		Cov: []float64{1 / float64(n), 0, 0, rateCov}, S: s, N: n, DF: n - 1}
+}
+
+// rateOf writes a rate per unit of a driver for a reason.
+func rateOf(rate float64, unit, driver string) string {
+	if unit == "" {
+		unit = "unit of " + strings.ReplaceAll(driver, "_", " ")
+	}
+	return fmt.Sprintf("%.4g per %s", rate, unit)
 }
 
 // EndPeriods are the numbers of newest periods the end-of-window test

@@ -19,6 +19,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -52,6 +53,7 @@ type Estimate struct {
 	Warnings       []string
 	rangeWarning   bool
 	noTermsWarning bool
+	negative       bool // a driven formula's budget below zero
 }
 
 // unknown is an estimate with no figure yet.
@@ -65,7 +67,11 @@ func unknown() Estimate {
 type Lookup func(period, driver, costCenter string) (float64, bool)
 
 // Evaluate is b's formula at activity x1 (and x2 for a second driver; both
-// ignored when the formula has no driver).
+// ignored when the formula has no driver). A negative rate, and a driven
+// formula's budget below zero, are never given silently: each puts a
+// warning on the estimate, and totals count the objects budgeted below
+// zero. The figure itself is left as the formula gives it, so that budget
+// and variances still add up.
 func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
 	e := unknown()
 	var row []float64
@@ -109,6 +115,24 @@ func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
 			e.rangeWarning = true
 			e.Warnings = append(e.Warnings, fmt.Sprintf("%s %s is outside the relevant range %s to %s: the formula was not observed there",
 				b.Driver, num(x1), num(lo), num(hi)))
+		}
+	}
+	if b.Class == costdrift.Variable || b.Class == costdrift.Mixed {
+		// The analysis never fits a negative rate (README, The method), but a
+		// formula stored by an earlier version, or edited, may hold one; at
+		// high activity it budgets less than nothing.
+		for _, r := range []struct {
+			driver, unit string
+			rate         float64
+		}{{b.Driver, b.Unit, b.VariableRate}, {b.Driver2, b.Unit2, b.VariableRate2}} {
+			if r.driver != "" && r.rate < 0 {
+				e.Warnings = append(e.Warnings, fmt.Sprintf("negative rate (%s per %s) is implausible for a cost: check the formula with `costdrift explain %s`",
+					strconv.FormatFloat(r.rate, 'f', -1, 64), unitOf(r.unit, r.driver), b.Object))
+			}
+		}
+		if e.Value < 0 {
+			e.negative = true
+			e.Warnings = append(e.Warnings, "negative budget: the formula gives less than no cost at this activity")
 		}
 	}
 	if b.Break != nil && b.Break.Provisional {
@@ -163,6 +187,14 @@ func stepLevel(steps []costdrift.StepLevel, x float64) int {
 		}
 	}
 	return len(steps) - 1
+}
+
+// unitOf is how a warning names the unit of a driver.
+func unitOf(unit, driver string) string {
+	if unit == "" {
+		return "unit of " + strings.ReplaceAll(driver, "_", " ")
+	}
+	return unit
 }
 
 func pendingText(p *costdrift.Pending) string {
@@ -266,7 +298,7 @@ func activityNeed(driver, period string, lag int) string {
 type sum struct {
 	value, variance, dfDenominator float64
 	objects, skipped, noTerms      int
-	outOfRange                     int
+	outOfRange, negative           int
 }
 
 func (s *sum) add(e Estimate) {
@@ -278,6 +310,9 @@ func (s *sum) add(e Estimate) {
 	s.value += e.Value
 	if e.rangeWarning {
 		s.outOfRange++
+	}
+	if e.negative {
+		s.negative++
 	}
 	if math.IsNaN(e.SE) || !(e.DF > 0) {
 		s.noTerms++
@@ -312,6 +347,9 @@ func (s *sum) estimate() Estimate {
 	}
 	if s.outOfRange > 0 {
 		e.Warnings = append(e.Warnings, fmt.Sprintf("%d object(s) planned outside their relevant range", s.outOfRange))
+	}
+	if s.negative > 0 {
+		e.Warnings = append(e.Warnings, fmt.Sprintf("%d object(s) with a negative budget", s.negative))
 	}
 	return e
 }

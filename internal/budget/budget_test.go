@@ -321,3 +321,43 @@ func TestOutside95(t *testing.T) {
 		}
 	}
 }
+
+// A formula with a negative rate is never budgeted silently (README, Budgets
+// and variances): the line says the rate is implausible, and where the
+// budget itself falls below zero it says so too; the totals count such
+// lines. The formula is the one a provisional refit once stored for a
+// freight cost, 11,715.01 − 5.6538 per shipment, fitted on 476 to 910
+// shipments; at 3,000 shipments it gives 11,715.01 − 5.6538 × 3,000 =
+// −5,246.39 (hand-worked), at 600 shipments 8,322.73.
+func TestNegativeRateIsFlagged(t *testing.T) {
+	bs := []costdrift.Behaviour{
+		{Object: obj("6400", "ASSY"), Class: costdrift.Mixed, Driver: "shipments", Unit: "shipment",
+			FixedPerPeriod: 11715.01, VariableRate: -5.6538, RangeMin: 476, RangeMax: 910},
+		{Object: obj("6420", "ASSY"), Class: costdrift.Variable, Driver: "shipments", Unit: "shipment",
+			VariableRate: 3.2, RangeMin: 0, RangeMax: 5000},
+	}
+	plan := table{"shipments": {"2026-07": 3000, "2026-08": 600}}
+	lines := Flexible(bs, []string{"2026-07", "2026-08"}, plan.lookup, monthShift)
+	if len(lines) != 4 {
+		t.Fatalf("%d lines, want 4", len(lines))
+	}
+	high, inside, plain := lines[0], lines[2], lines[1]
+	if !near(high.Value, -5246.39, 1e-9) || !near(inside.Value, 8322.73, 1e-9) {
+		t.Fatalf("budgets %v and %v, want -5,246.39 and 8,322.73", high.Value, inside.Value)
+	}
+	for _, l := range []Line{high, inside} {
+		if !strings.Contains(l.Warning, "negative rate (-5.6538 per shipment) is implausible for a cost") {
+			t.Errorf("%s %s: no warning of the negative rate: %q", l.Object, l.Period, l.Warning)
+		}
+	}
+	if !strings.Contains(high.Warning, "negative budget") || strings.Contains(inside.Warning, "negative budget") {
+		t.Errorf("negative budget flagged on %q, and on the positive one %q", high.Warning, inside.Warning)
+	}
+	if strings.Contains(plain.Warning, "negative") {
+		t.Errorf("a positive rate flagged: %q", plain.Warning)
+	}
+	tot := Totals(lines)
+	if !strings.Contains(tot[0].Warning, "1 object(s) with a negative budget") || strings.Contains(tot[2].Warning, "negative budget") {
+		t.Errorf("totals' warnings %q (2026-07) and %q (2026-08)", tot[0].Warning, tot[2].Warning)
+	}
+}

@@ -165,32 +165,91 @@ func (s Server) Send(ctx context.Context, msgs []*gomail.Msg) []Result {
 		opts = append(opts, gomail.WithOpportunisticSMTPAuth(mechs...), gomail.WithUsername(s.Username),
 			gomail.WithPassword(s.Password))
 	}
+	// go-mail watches the context only while it connects: the greeting, each
+	// command and its QUIT wait for the command timeout, and a QUIT that
+	// gets no answer leaves the connection open. So the connection is
+	// dialled here, and closed when the context ends and when Send returns:
+	// that ends any wait at once.
+	conn := &heldConn{}
+	opts = append(opts, gomail.WithDialContextFunc(func(ctx context.Context, network, address string) (net.Conn, error) {
+		d := &net.Dialer{}
+		var c net.Conn
+		var err error
+		if s.TLS == "tls" {
+			// A *tls.Conn, unwrapped, so that the session counts as
+			// encrypted for AUTH.
+			c, err = (&tls.Dialer{NetDialer: d, Config: tlsConf}).DialContext(ctx, network, address)
+		} else {
+			c, err = d.DialContext(ctx, network, address)
+		}
+		if err == nil {
+			conn.set(c)
+		}
+		return c, err
+	}))
 	client, err := gomail.NewClient(s.Host, opts...)
 	if err != nil {
 		return fail(fmt.Errorf("smtp %s: %w", s.addr(), err))
 	}
 	ctx, cancel := context.WithTimeout(ctx, total)
 	defer cancel()
+	stop := context.AfterFunc(ctx, conn.close)
+	defer stop()
+	defer conn.close()
+	// ended says why the context ended: the whole delivery's time ran out,
+	// or the caller stopped it (a daemon shutting down).
+	ended := func() error {
+		if errors.Is(ctx.Err(), context.DeadlineExceeded) {
+			return fmt.Errorf("smtp %s: sending took longer than %s", s.addr(), total)
+		}
+		return fmt.Errorf("smtp %s: delivery interrupted: %w", s.addr(), ctx.Err())
+	}
 	if err := client.DialWithContext(ctx); err != nil {
+		if ctx.Err() != nil {
+			return fail(ended())
+		}
 		return fail(fmt.Errorf("smtp %s: %w", s.addr(), err))
 	}
-	defer client.Close()
-	// go-mail does not watch the context once connected; closing the
-	// client when it ends bounds the whole delivery.
-	stop := context.AfterFunc(ctx, func() { _ = client.Close() })
-	defer stop()
+	defer client.Close() // QUIT, before the connection is closed
 	for i, m := range msgs {
 		replies.reset()
 		if err := client.Send(m); err != nil {
 			results[i] = Result{Err: s.scrub(fmt.Errorf("smtp %s: %w", s.addr(), err)), Answer: replies.last()}
 			if ctx.Err() != nil {
-				return fail(fmt.Errorf("smtp %s: sending took longer than %s", s.addr(), total))
+				return fail(ended())
 			}
 			continue
 		}
 		results[i] = Result{Answer: replies.last()}
 	}
 	return results
+}
+
+// heldConn is the connection of one delivery, closed from another
+// goroutine when the delivery's context ends.
+type heldConn struct {
+	mu     sync.Mutex
+	c      net.Conn
+	closed bool
+}
+
+func (h *heldConn) set(c net.Conn) {
+	h.mu.Lock()
+	defer h.mu.Unlock()
+	if h.closed {
+		c.Close() // the context ended while it was dialled
+		return
+	}
+	h.c = c
+}
+
+func (h *heldConn) close() {
+	h.mu.Lock()
+	defer h.mu.Unlock()
+	h.closed = true
+	if h.c != nil {
+		h.c.Close()
+	}
 }
 
 func (s Server) addr() string { return net.JoinHostPort(s.Host, fmt.Sprint(s.Port)) }
