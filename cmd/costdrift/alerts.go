@@ -16,6 +16,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -33,37 +34,6 @@ evaluation, and resolves itself when the condition clears.`,
 	}
 	cmd.AddCommand(a.alertsListCommand(), a.alertsShowCommand(), a.alertsAckCommand())
 	return cmd
-}
-
-// withStore opens the existing store for one command and closes it after.
-// It takes no lock: the commands that only read, and budget and variance,
-// which write only their own tables, work beside a running daemon.
-func (a *app) withStore(ctx context.Context, fn func(*env, *sqlite.DB) error) error {
-	e, err := a.loadConfig()
-	if err != nil {
-		return err
-	}
-	db, err := a.openStore(ctx, e, true)
-	if err != nil {
-		return err
-	}
-	defer db.Close()
-	return fn(e, db)
-}
-
-// withStoreToWrite is withStore for a command that changes the store: it
-// holds the store's lock while it runs.
-func (a *app) withStoreToWrite(ctx context.Context, fn func(*env, *sqlite.DB) error) error {
-	e, err := a.loadConfig()
-	if err != nil {
-		return err
-	}
-	db, closeStore, err := a.openStoreToWrite(ctx, e, true)
-	if err != nil {
-		return err
-	}
-	defer closeStore()
-	return fn(e, db)
 }
 
 func checkFormat(format string) error {
@@ -95,7 +65,7 @@ func (a *app) alertsListCommand() *cobra.Command {
 				return fmt.Errorf("--min-severity must be info, warning or critical, not %q", minSeverity)
 			}
 			filter := sqlite.AlertFilter{Status: status, Kind: costdrift.AlertKind(kind), Object: object, MinSeverity: costdrift.Severity(minSeverity)}
-			return a.withStore(cmd.Context(), func(_ *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(_ *pipeline.Env, db *sqlite.DB) error {
 				alerts, err := db.Alerts(cmd.Context(), filter)
 				if err != nil {
 					return fmt.Errorf("alerts: %w", err)
@@ -129,7 +99,7 @@ func (a *app) alertsShowCommand() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			return a.withStore(cmd.Context(), func(_ *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(_ *pipeline.Env, db *sqlite.DB) error {
 				alert, err := readAlert(cmd.Context(), db, id)
 				if err != nil {
 					return err
@@ -161,10 +131,10 @@ escalates.`,
 			if err != nil {
 				return err
 			}
-			return a.withStoreToWrite(cmd.Context(), func(e *env, db *sqlite.DB) error {
+			return a.withStoreToWrite(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
 				if until != "" {
-					if _, err := e.calendar.Parse(until); err != nil {
-						return fmt.Errorf("--until: %v; give a period of the %s calendar the store uses", err, e.calendar.Kind())
+					if _, err := e.Calendar.Parse(until); err != nil {
+						return fmt.Errorf("--until: %v; give a period of the %s calendar the store uses", err, e.Calendar.Kind())
 					}
 				}
 				if err := db.AckAlert(cmd.Context(), id, until); err != nil {

@@ -30,7 +30,7 @@ func alertStore(t *testing.T) string {
 	if err != nil {
 		t.Fatal(err)
 	}
-	db, err := a.openStore(context.Background(), e, false)
+	db, err := e.OpenToRead(context.Background(), false)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,28 +1,17 @@
 package main
 
 import (
-	"context"
-	"encoding/json"
 	"fmt"
 	"io"
-	"log/slog"
-	"slices"
 	"sort"
 	"strings"
 
 	"github.com/spf13/cobra"
 
-	"github.com/costdrift/costdrift/internal/alerts"
-	"github.com/costdrift/costdrift/internal/analyze"
-	"github.com/costdrift/costdrift/internal/config"
-	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/internal/series"
+	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
-
-// bootstrapSeed fixes the resampling behind break p-values, so that the same
-// data give the same verdict on every run and machine.
-const bootstrapSeed uint64 = 0x636f737464726966
 
 func (a *app) analyzeCommand() *cobra.Command {
 	var all bool
@@ -31,131 +20,56 @@ func (a *app) analyzeCommand() *cobra.Command {
 		Short: "Fit every driver to every cost object and classify its behaviour",
 		Long: `analyze fits every driver at every lag to every cost object in scope and
 classifies its behaviour. Objects whose costs, drivers and settings have not
-changed since their last analysis are left as they were; --all refits them too.`,
+changed since their last analysis are left as they were; --all refits them too.
+The alerts that follow are raised and mailed, as in a cycle of the daemon.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			e, err := a.loadConfig()
-			if err != nil {
+			return a.withStoreToWrite(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
+				_, err := a.analyze(cmd, e, db, all)
 				return err
-			}
-			db, closeStore, err := a.openStoreToWrite(cmd.Context(), e, true)
-			if err != nil {
-				return err
-			}
-			defer closeStore()
-			_, err = a.analyzeAll(cmd.Context(), e, db, a.out, all)
-			return err
+			})
 		},
 	}
 	cmd.Flags().BoolVar(&all, "all", false, "refit every object, changed or not")
 	return cmd
 }
 
-// analyzeAll builds the panel from the store, analyses every object and
-// stores the run, its fits and the behaviours in one transaction.
-func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writer, all bool) (*costdrift.AnalysisRun, error) {
-	started := a.now()
-	cfg := e.cfg.Analysis
-	scope, err := costdrift.ParseAccountScope(cfg.Accounts)
+// analyze analyses, raises the alerts and mails them, printing each step.
+func (a *app) analyze(cmd *cobra.Command, e *pipeline.Env, db *sqlite.DB, all bool) (*pipeline.AnalysisResult, error) {
+	ctx := cmd.Context()
+	res, err := pipeline.Analyze(ctx, e, db, all)
 	if err != nil {
-		return nil, err // validated with the config
+		return nil, err
 	}
-	costs, err := db.CostTotals(ctx)
+	printAnalysis(a.out, res)
+	changes, err := pipeline.Raise(ctx, e, db, res)
 	if err != nil {
-		return nil, fmt.Errorf("analyze: read ledger totals: %w", err)
+		return nil, err
 	}
-	activity, err := db.Activity(ctx)
-	if err != nil {
-		return nil, fmt.Errorf("analyze: read activity: %w", err)
-	}
-	minor := int64(1)
-	for range e.currency.Exponent {
-		minor *= 10
-	}
-	panel, err := series.Build(costs, activity, series.Settings{
-		Grain: costdrift.Grain(cfg.Grain), Scope: scope, Window: cfg.Window, MaxLag: slices.Max(cfg.Lags),
-		Minor: minor, Calendar: e.calendar, Now: a.now(),
-	})
-	if err != nil {
-		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
-	}
-	settings, _ := json.Marshal(map[string]any{"grain": cfg.Grain, "accounts": cfg.Accounts, "window": cfg.Window,
-		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.currency.Code,
-		"break_alpha": cfg.BreakAlpha, "bootstrap_replicates": cfg.BootstrapReplicates, "seed": bootstrapSeed})
-	inputs := analyze.InputHashes(&panel, string(settings))
-	total := len(panel.Objects)
-	whole := panel // every object in scope, for the rules on data gaps
-	if !all {
-		previous, err := db.ObjectInputs(ctx)
-		if err != nil {
-			return nil, fmt.Errorf("analyze: %w", err)
-		}
-		changed := panel.Objects[:0:0]
-		for _, o := range panel.Objects {
-			if previous[o.Object.String()] != inputs[o.Object.String()] {
-				changed = append(changed, o)
-			}
-		}
-		panel.Objects = changed
-	}
-	// Each object's behaviour so far, so that a cost near a boundary keeps
-	// its class and driver unless the new evidence is clearly better.
-	before, err := db.CurrentBehaviour(ctx)
+	fmt.Fprintf(a.out, "alerts: %d new, %d escalated, %d reopened, %d resolved (costdrift alerts list)\n",
+		len(changes.New), len(changes.Escalated), len(changes.Reopened), len(changes.Resolved))
+	mail, err := pipeline.Deliver(ctx, e, db)
+	printDeliveries(a.out, mail)
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
 	}
-	prior := make(map[string]costdrift.Behaviour, len(before))
-	for _, b := range before {
-		prior[b.Object.String()] = b
-	}
-	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
-		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed, Prior: prior})
+	return res, nil
+}
 
-	var fits []costdrift.Fit
-	behaviours := make([]costdrift.Behaviour, 0, len(results))
-	classes := map[costdrift.Class]int{}
-	failed := map[string]bool{}
-	for _, r := range results {
-		if r.Err != nil {
-			// An object that cannot be analysed (its costs cannot be
-			// added up, or a defect panicked in its analysis) is skipped;
-			// its previous behaviour stays and it is tried again next run.
-			failed[r.Behaviour.Object.String()] = true
-			attrs := []any{"object", r.Behaviour.Object.String(), "error", r.Err}
-			if r.Stack != "" {
-				attrs = append(attrs, "stack", r.Stack)
-			}
-			slog.Error("cost object skipped", attrs...)
-			fmt.Fprintf(out, "analyze: %s skipped: %v\n", r.Behaviour.Object, r.Err)
-			continue
-		}
-		fits = append(fits, r.Fits...)
-		behaviours = append(behaviours, r.Behaviour)
-		classes[r.Behaviour.Class]++
+// printAnalysis says what an analysis did: the objects skipped, then one
+// line with the window, the classes and the objects left as they were.
+func printAnalysis(out io.Writer, res *pipeline.AnalysisResult) {
+	for _, s := range res.Skipped {
+		fmt.Fprintf(out, "analyze: %s skipped: %s\n", report.TerminalText(s.Object), report.TerminalText(s.Err.Error()))
 	}
-	run := &costdrift.AnalysisRun{Inputs: map[string]string{}, Skipped: total - len(panel.Objects),
-		StartedAt: started, FinishedAt: a.now(), Grain: costdrift.Grain(cfg.Grain), Objects: len(behaviours),
-		WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings),
-	}
-	for _, o := range panel.Objects {
-		if !failed[o.Object.String()] {
-			run.Inputs[o.Object.String()] = inputs[o.Object.String()]
-		}
-	}
-	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
-		return nil, fmt.Errorf("analyze: %w", err)
-	}
-	changes, err := a.raiseAnalysisAlerts(ctx, e, db, &whole, activity, run.WindowTo)
-	if err != nil {
-		return nil, fmt.Errorf("analyze: alerts: %w", err)
-	}
+	run := res.Run
 	var counts []string
-	for c, n := range classes {
+	for c, n := range res.Classes {
 		counts = append(counts, fmt.Sprintf("%d %s", n, c))
 	}
 	sort.Strings(counts)
-	fmt.Fprintf(out, "analysed %d cost objects over %s to %s (%d periods with postings)", len(behaviours),
-		run.WindowFrom, run.WindowTo, panel.PeriodsWithPostings)
+	fmt.Fprintf(out, "analysed %d cost objects over %s to %s (%d periods with postings)", run.Objects,
+		run.WindowFrom, run.WindowTo, res.PeriodsWithPostings)
 	if len(counts) > 0 {
 		fmt.Fprintf(out, ": %s", strings.Join(counts, ", "))
 	}
@@ -163,119 +77,18 @@ func (a *app) analyzeAll(ctx context.Context, e *env, db *sqlite.DB, out io.Writ
 		fmt.Fprintf(out, "; %d unchanged since their last analysis were left as they were (--all refits them)", run.Skipped)
 	}
 	fmt.Fprintln(out)
-	fmt.Fprintf(out, "alerts: %d new, %d escalated, %d reopened, %d resolved (costdrift alerts list)\n",
-		len(changes.New), len(changes.Escalated), len(changes.Reopened), len(changes.Resolved))
-	if err := a.deliverAlerts(ctx, e, db, out); err != nil {
-		return nil, fmt.Errorf("analyze: %w", err)
-	}
-	return run, nil
 }
 
-// raiseAnalysisAlerts evaluates the rules that follow an analysis over
-// every object in scope (not only the refitted ones, so that the alerts of
-// unchanged objects hold) and lets the store open, update and resolve
-// alerts: behaviour changes, spending outliers, activity out of range, data
-// gaps and stale ledger sources.
-func (a *app) raiseAnalysisAlerts(ctx context.Context, e *env, db *sqlite.DB, panel *costdrift.Panel,
-	activity []costdrift.ActivityValue, period string) (sqlite.AlertChanges, error) {
-	current, err := db.CurrentBehaviour(ctx)
-	if err != nil {
-		return sqlite.AlertChanges{}, err
-	}
-	previous, err := db.PreviousBehaviour(ctx)
-	if err != nil {
-		return sqlite.AlertChanges{}, err
-	}
-	names, err := db.AccountNames(ctx)
-	if err != nil {
-		return sqlite.AlertChanges{}, err
-	}
-	raised := alerts.Behaviour(current, previous, names)
-	raised = append(raised, alerts.Spending(current, names)...)
-	raised = append(raised, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
-	raised = append(raised, alerts.DataGap(panel, names)...)
-	states, err := a.sourceStates(ctx, e, db)
-	if err != nil {
-		return sqlite.AlertChanges{}, err
-	}
-	raised = append(raised, alerts.StaleSource(states)...)
-	return db.ApplyAlerts(ctx, raised, alerts.AnalysisKinds, period)
-}
-
-// newestActivity finds, for each behaviour with a driver, the newest value
-// of that driver after the analysed window (the cost centre's own series,
-// else the company-wide one): activity the formula has not seen.
-func newestActivity(current []costdrift.Behaviour, activity []costdrift.ActivityValue, windowTo string) map[string]alerts.NewestActivity {
-	type key struct{ driver, cc string }
-	newest := map[key]alerts.NewestActivity{}
-	for _, v := range activity {
-		k := key{v.Driver, v.CostCenter}
-		if v.Period > windowTo && v.Period > newest[k].Period {
-			newest[k] = alerts.NewestActivity{Period: v.Period, Value: v.Value}
+// printDeliveries prints a line per digest of a delivery step.
+func printDeliveries(out io.Writer, mail pipeline.DeliveryResult) {
+	for _, d := range mail.Digests {
+		switch {
+		case d.Interrupted:
+			fmt.Fprintf(out, "mail: %d alert(s) to %s not sent: interrupted; due again at the next cycle\n", d.Alerts, d.Recipient)
+		case d.Err != "":
+			fmt.Fprintf(out, "mail: %d alert(s) to %s not sent, retried on a later cycle: %s\n", d.Alerts, d.Recipient, d.Err)
+		default:
+			fmt.Fprintf(out, "mail: %d alert(s) to %s: %s\n", d.Alerts, d.Recipient, d.Answer)
 		}
 	}
-	out := map[string]alerts.NewestActivity{}
-	for _, b := range current {
-		if b.Driver == "" {
-			continue
-		}
-		if v, ok := newest[key{b.Driver, b.Object.CostCenter}]; ok && b.Object.CostCenter != "" {
-			out[b.Object.String()] = v
-		} else if v, ok := newest[key{b.Driver, ""}]; ok {
-			out[b.Object.String()] = v
-		}
-	}
-	return out
-}
-
-// sourceStates reads, per configured source, its failures in a row and how
-// many closed periods its newest data lag the newest closed period any
-// source has data for.
-func (a *app) sourceStates(ctx context.Context, e *env, db *sqlite.DB) ([]alerts.SourceState, error) {
-	runs, err := db.SyncRuns(ctx, 500)
-	if err != nil {
-		return nil, err
-	}
-	newest, err := db.NewestPeriods(ctx)
-	if err != nil {
-		return nil, err
-	}
-	// A source is behind when the others have newer closed periods: an
-	// export that stopped on purpose is analysed up to where it stops, so
-	// the calendar alone does not make a source stale.
-	closed := ""
-	for _, p := range newest {
-		if p > closed && e.calendar.Closed(p, a.now()) {
-			closed = p
-		}
-	}
-	var states []alerts.SourceState
-	for _, list := range []struct {
-		role costdrift.Role
-		srcs []config.Source
-	}{{costdrift.RoleLedger, e.cfg.Sources.Ledger}, {costdrift.RoleActivity, e.cfg.Sources.Activity}, {costdrift.RoleAccounts, e.cfg.Sources.Accounts}} {
-		for _, src := range list.srcs {
-			s := alerts.SourceState{Name: src.Name, Role: list.role}
-			for _, r := range runs { // newest first
-				if r.Source != src.Name {
-					continue
-				}
-				if r.Status != "failed" {
-					break
-				}
-				if s.Failures == 0 {
-					s.LastError = r.Error
-				}
-				s.Failures++
-			}
-			if p := newest[src.Name]; p != "" {
-				s.NewestPeriod = p
-				for q := p; q < closed && s.PeriodsBehind < 400; q = e.calendar.Shift(q, 1) {
-					s.PeriodsBehind++
-				}
-			}
-			states = append(states, s)
-		}
-	}
-	return states, nil
 }

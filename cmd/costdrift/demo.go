@@ -14,6 +14,7 @@ import (
 	"github.com/costdrift/costdrift/internal/atomicfile"
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -63,20 +64,22 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if err != nil {
 		return err
 	}
-	db, closeStore, err := a.openStoreToWrite(ctx, e, false)
+	db, closeStore, err := e.OpenToWrite(ctx, false)
 	if err != nil {
 		return err
 	}
 	defer closeStore()
-	if _, err := syncAll(ctx, e, db, a.out); err != nil {
+	a.showProgress(e)
+	if _, err := pipeline.Sync(ctx, e, db, func(r pipeline.SourceResult) { printRun(a.out, db.Path(), r) }); err != nil {
 		return err
 	}
-	run, err := a.analyzeAll(ctx, e, db, a.out, false)
+	res, err := a.analyze(cmd, e, db, false)
 	if err != nil {
 		return err
 	}
+	run := res.Run
 	fmt.Fprintln(a.out)
-	if err := writeReport(ctx, db, "table", e.currency.Code, a.out); err != nil {
+	if err := writeReport(ctx, db, "table", e.Currency.Code, a.out); err != nil {
 		return err
 	}
 
@@ -118,9 +121,9 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if err := a.variance(ctx, e, db, run.WindowTo, closed, outputFlags{format: "table"}); err != nil {
 		return err
 	}
-	if e.cfg.Mail.SMTP.Host == "" {
+	if e.Config.Mail.SMTP.Host == "" {
 		fmt.Fprintf(a.out, "\nAlert mail goes to the folder %s while mail.smtp.host is empty: open its .eml files in a mail client.\n",
-			e.cfg.Path(e.cfg.Mail.Outbox))
+			e.Config.Path(e.Config.Mail.Outbox))
 	}
 	fmt.Fprintf(a.out, "\nThe store is %s. Query it with sqlite3, for example:\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())

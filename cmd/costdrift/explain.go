@@ -1,20 +1,14 @@
 package main
 
 import (
-	"context"
-	"encoding/json"
-	"errors"
 	"fmt"
-	"math"
 	"path/filepath"
-	"slices"
-	"sort"
 	"strings"
 
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/chart"
-	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -41,322 +35,25 @@ the chosen driver, as PNG or SVG by the file's extension.`,
 					return fmt.Errorf("--chart %s: the file must end in .png or .svg", chartPath)
 				}
 			}
-			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
-				return a.explain(cmd.Context(), e, db, args[0], format, chartPath)
+			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
+				ex, sc, err := pipeline.Explain(cmd.Context(), e, db, args[0], chartPath != "")
+				if err != nil {
+					return err
+				}
+				if sc != nil {
+					if err := chart.WriteFile(chartPath, *sc); err != nil {
+						return err
+					}
+					ex.Chart = chartPath
+				}
+				if format == "json" {
+					return report.ExplainJSON(a.out, ex)
+				}
+				return report.ExplainText(a.out, ex, e.Currency.Code)
 			})
 		},
 	}
 	cmd.Flags().StringVar(&format, "format", "text", "text or json")
 	cmd.Flags().StringVar(&chartPath, "chart", "", "also draw cost against the chosen driver into `FILE` (.png or .svg)")
 	return cmd
-}
-
-// runSettings are the analysis settings explain needs, read back from the
-// run's settings JSON.
-type runSettings struct {
-	Alpha float64 `json:"alpha"`
-	Lags  []int   `json:"lags"`
-}
-
-func (a *app) explain(ctx context.Context, e *env, db *sqlite.DB, object, format, chartPath string) error {
-	oa, err := db.ObjectAnalysis(ctx, object)
-	switch {
-	case errors.Is(err, sqlite.ErrNoAnalysis):
-		return errors.New("no analysis stored yet: run `costdrift analyze` first")
-	case errors.Is(err, sqlite.ErrNotAnalysed):
-		return notAnalysed(ctx, e, db, object)
-	case err != nil:
-		return fmt.Errorf("explain %s: %w", object, err)
-	}
-	b := oa.Behaviour
-	if chartPath != "" && b.Driver == "" {
-		return fmt.Errorf("%s is %s with no driver: there is no activity to draw its cost against, so --chart cannot be used",
-			object, strings.ReplaceAll(string(b.Class), "_", " "))
-	}
-	var settings runSettings
-	if err := json.Unmarshal([]byte(oa.Run.Settings), &settings); err != nil {
-		settings = runSettings{} // a run without readable settings is still explained, without alpha
-	}
-	names, err := db.AccountNames(ctx)
-	if err != nil {
-		return fmt.Errorf("explain %s: %w", object, err)
-	}
-	ex := report.Explain(report.ExplainInput{
-		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: settings.Alpha, Fits: oa.Fits,
-		ActivityPeriod: func(p string, lag int) string {
-			if _, err := e.calendar.Parse(p); err != nil {
-				return p
-			}
-			return e.calendar.Shift(p, -lag)
-		},
-	})
-
-	if b.Driver != "" {
-		maxLag := b.Lag
-		if len(settings.Lags) > 0 {
-			maxLag = max(maxLag, slices.Max(settings.Lags))
-		}
-		pts, err := analysedPoints(ctx, e, db, oa, maxLag)
-		if err != nil {
-			return fmt.Errorf("explain %s: %w", object, err)
-		}
-		if note := pointsNote(oa, pts); note != "" {
-			ex.Notes = append(ex.Notes, note)
-		}
-		if chartPath != "" {
-			sc, err := scatter(ctx, e, db, oa, pts, names[b.Object.Account], ex.Formula, maxLag)
-			if err != nil {
-				return fmt.Errorf("explain %s: chart: %w", object, err)
-			}
-			if err := chart.WriteFile(chartPath, sc); err != nil {
-				return err
-			}
-			ex.Chart = chartPath
-		}
-	}
-	if format == "json" {
-		return report.ExplainJSON(a.out, ex)
-	}
-	return report.ExplainText(a.out, ex, e.currency.Code)
-}
-
-// notAnalysed says why an object has no behaviour: it has ledger lines but
-// was not analysed (yet, or because it is out of scope), or it is unknown.
-func notAnalysed(ctx context.Context, e *env, db *sqlite.DB, object string) error {
-	account, costCenter, _ := strings.Cut(object, "/")
-	accountGrain := e.cfg.Analysis.Grain == string(costdrift.GrainAccount)
-	has, err := db.HasLedgerLines(ctx, costdrift.CostObject{Account: account, CostCenter: costCenter}, accountGrain)
-	if err != nil {
-		return fmt.Errorf("explain %s: %w", object, err)
-	}
-	if has && (!accountGrain || costCenter == "") {
-		if scope, err := costdrift.ParseAccountScope(e.cfg.Analysis.Accounts); err == nil && !scope.Contains(account) {
-			return fmt.Errorf("%s has ledger lines but account %s is outside analysis.accounts, so `costdrift analyze` leaves it out", object, account)
-		}
-		return fmt.Errorf("%s has ledger lines but no analysis yet: run `costdrift analyze` first", object)
-	}
-	known, err := db.AnalysedObjects(ctx)
-	if err != nil {
-		return fmt.Errorf("explain %s: %w", object, err)
-	}
-	msg := fmt.Sprintf("unknown cost object %q", object)
-	if near := nearestObjects(object, known, 3); len(near) > 0 {
-		msg += "; did you mean " + strings.Join(near, ", ") + "?"
-	}
-	return errors.New(msg + " (`costdrift report` lists every object)")
-}
-
-// nearestObjects returns up to limit known names close to name: those that
-// start with it (case aside), then those within an edit distance of a third
-// of its length (at least 2), closest first.
-func nearestObjects(name string, known []string, limit int) []string {
-	type scored struct {
-		name  string
-		score int
-	}
-	lower := strings.ToLower(name)
-	var found []scored
-	for _, k := range known {
-		lk := strings.ToLower(k)
-		switch d := editDistance(lower, lk); {
-		case strings.HasPrefix(lk, lower) || strings.HasPrefix(lower, lk+"/"):
-			found = append(found, scored{k, -1})
-		case d <= max(2, len([]rune(name))/3):
-			found = append(found, scored{k, d})
-		}
-	}
-	sort.SliceStable(found, func(i, j int) bool {
-		if found[i].score != found[j].score {
-			return found[i].score < found[j].score
-		}
-		return found[i].name < found[j].name
-	})
-	out := make([]string, 0, limit)
-	for _, f := range found {
-		if len(out) == limit {
-			break
-		}
-		out = append(out, f.name)
-	}
-	return out
-}
-
-// editDistance is the Levenshtein distance between a and b, in runes.
-func editDistance(a, b string) int {
-	ra, rb := []rune(a), []rune(b)
-	prev := make([]int, len(rb)+1)
-	cur := make([]int, len(rb)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(ra); i++ {
-		cur[0] = i
-		for j := 1; j <= len(rb); j++ {
-			cost := 1
-			if ra[i-1] == rb[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(rb)]
-}
-
-// analysedPoints reads the periods the chosen formula was fitted on: for
-// every period of the run's window in which the ledger has postings, the
-// object's cost (zero when it posted nothing) beside the chosen driver's
-// value lag periods before, read as the analysis reads it (the cost centre's
-// own series, else the company-wide one). Periods without a driver value
-// are left out, as the analysis leaves them out.
-func analysedPoints(ctx context.Context, e *env, db *sqlite.DB, oa sqlite.ObjectAnalysis, maxLag int) ([]chart.Point, error) {
-	b, run := oa.Behaviour, oa.Run
-	for _, p := range []string{run.WindowFrom, run.WindowTo} {
-		if _, err := e.calendar.Parse(p); err != nil {
-			return nil, fmt.Errorf("analysis run %d window: %w", run.ID, err)
-		}
-	}
-	accountGrain := run.Grain == costdrift.GrainAccount
-	costs, ledger, err := db.CostPerPeriod(ctx, b.Object, accountGrain, run.WindowFrom, run.WindowTo)
-	if err != nil {
-		return nil, err
-	}
-	x, err := lagged(ctx, e, db, b.Object, accountGrain, b.Driver, b.Lag, run, maxLag)
-	if err != nil {
-		return nil, err
-	}
-	outlier := map[string]bool{}
-	for _, o := range b.Outliers {
-		outlier[o.Period] = true
-	}
-	var pts []chart.Point
-	for _, p := range e.calendar.Between(run.WindowFrom, run.WindowTo) {
-		v, ok := x[p]
-		if !ledger[p] || !ok {
-			continue
-		}
-		pts = append(pts, chart.Point{Period: p, Activity: v, Cost: e.currency.Units(costs[p]), Outlier: outlier[p]})
-	}
-	return pts, nil
-}
-
-// lagged returns a driver's values keyed by the cost period they explain:
-// the value of period p − lag under key p.
-func lagged(ctx context.Context, e *env, db *sqlite.DB, o costdrift.CostObject, accountGrain bool, driver string, lag int,
-	run costdrift.AnalysisRun, maxLag int) (map[string]float64, error) {
-	values, _, err := db.DriverValues(ctx, driver, o.CostCenter, accountGrain, e.calendar.Shift(run.WindowFrom, -maxLag), run.WindowTo)
-	if err != nil {
-		return nil, err
-	}
-	out := make(map[string]float64, len(values))
-	for _, p := range e.calendar.Between(run.WindowFrom, run.WindowTo) {
-		if v, ok := values[e.calendar.Shift(p, -lag)]; ok {
-			out[p] = v
-		}
-	}
-	return out, nil
-}
-
-// pointsNote compares the periods read now with what the analysis stored:
-// a different count, or high-low ends with other values, mean the ledger or
-// activity changed since the analysis.
-func pointsNote(oa sqlite.ObjectAnalysis, pts []chart.Point) string {
-	b := oa.Behaviour
-	n := -1
-	for _, f := range oa.Fits {
-		if f.Model == costdrift.ModelLinear && f.Driver == b.Driver && f.Lag == b.Lag {
-			n = f.N
-		}
-	}
-	changed := n >= 0 && len(pts) != n
-	if hl := b.HighLow; hl != nil && !changed {
-		for _, end := range []struct {
-			period         string
-			activity, cost float64
-		}{{hl.HighPeriod, hl.HighActivity, hl.HighCost}, {hl.LowPeriod, hl.LowActivity, hl.LowCost}} {
-			i := slices.IndexFunc(pts, func(p chart.Point) bool { return p.Period == end.period })
-			if i < 0 || math.Abs(pts[i].Activity-end.activity) > 1e-9*math.Max(1, math.Abs(end.activity)) ||
-				math.Abs(pts[i].Cost-end.cost) > 0.005 {
-				changed = true
-			}
-		}
-	}
-	if !changed {
-		return ""
-	}
-	what := "the high or low activity period now has another cost or activity"
-	if n >= 0 && len(pts) != n {
-		what = fmt.Sprintf("%d periods now, %d fitted then", len(pts), n)
-	}
-	return fmt.Sprintf("the ledger or activity of %s changed since analysis run %d (%s): the numbers above are "+
-		"the analysis's, a chart shows the data as stored now; run `costdrift analyze` to refresh them", b.Object, oa.Run.ID, what)
-}
-
-// scatter builds the chart of cost against the chosen driver: the periods,
-// the formula across the relevant range (or the step levels), the high-low
-// points and the outliers.
-func scatter(ctx context.Context, e *env, db *sqlite.DB, oa sqlite.ObjectAnalysis, pts []chart.Point, accountName, formula string, maxLag int) (chart.Scatter, error) {
-	b := oa.Behaviour
-	if len(pts) == 0 {
-		return chart.Scatter{}, fmt.Errorf("no period of the analysis window has both cost and %s", b.Driver)
-	}
-	title := b.Object.String()
-	if accountName != "" {
-		title += " " + accountName
-	}
-	s := chart.Scatter{
-		Title:  title + ": " + formula,
-		XLabel: report.DriverLabel(b.Driver, b.Lag),
-		YLabel: "cost per period (" + e.currency.Code + ")",
-		Points: pts, RangeMin: b.RangeMin, RangeMax: b.RangeMax,
-	}
-	if b.Unit != "" && !strings.Contains(strings.ToLower(s.XLabel), strings.ToLower(b.Unit)) {
-		s.XLabel += " (" + b.Unit + ")"
-	}
-	if math.IsNaN(s.RangeMin) || math.IsNaN(s.RangeMax) {
-		s.RangeMin, s.RangeMax = 0, 0 // the chart takes the points' span
-	}
-	switch {
-	case b.Class == costdrift.Step:
-		// The stored outliers of a step cost are those of the straight line
-		// on its driver, which a step cost does not follow: marked on the
-		// levels they would flag points that sit on them.
-		s.Points = slices.Clone(pts)
-		for i := range s.Points {
-			s.Points[i].Outlier = false
-		}
-		for _, l := range b.Steps {
-			s.Steps = append(s.Steps, chart.StepLevel{From: l.From, To: l.To, Level: l.Level})
-		}
-	case b.Driver2 != "":
-		// Cost against the first driver alone: the formula with the second
-		// driver held at its mean over the same periods.
-		x2, err := lagged(ctx, e, db, b.Object, oa.Run.Grain == costdrift.GrainAccount, b.Driver2, b.Lag2, oa.Run, maxLag)
-		if err != nil {
-			return s, err
-		}
-		sum, n := 0.0, 0
-		for _, p := range pts {
-			if v, ok := x2[p.Period]; ok {
-				sum, n = sum+v, n+1
-			}
-		}
-		if n > 0 {
-			mean := sum / float64(n)
-			s.Fit = &chart.Line{Fixed: b.FixedPerPeriod + b.VariableRate2*mean, Rate: b.VariableRate,
-				Label: fmt.Sprintf("formula at mean %s (%s)", strings.ReplaceAll(b.Driver2, "_", " "), report.Activity(mean))}
-		}
-	case b.Class == costdrift.Variable:
-		s.Fit = &chart.Line{Fixed: 0, Rate: b.VariableRate, Label: "fitted formula (no fixed part)"}
-	default:
-		s.Fit = &chart.Line{Fixed: b.FixedPerPeriod, Rate: b.VariableRate}
-	}
-	if hl := b.HighLow; hl != nil {
-		h := slices.IndexFunc(pts, func(p chart.Point) bool { return p.Period == hl.HighPeriod })
-		l := slices.IndexFunc(pts, func(p chart.Point) bool { return p.Period == hl.LowPeriod })
-		if h >= 0 && l >= 0 && h != l && pts[h].Activity >= pts[l].Activity {
-			s.HighLow = &[2]int{h, l}
-		}
-	}
-	return s, nil
 }

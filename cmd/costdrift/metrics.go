@@ -1,8 +1,13 @@
 package main
 
 import (
+	"time"
+
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/collectors"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/pipeline"
 )
 
 // metrics is what the daemon exports on /metrics. It has a registry of its
@@ -50,4 +55,29 @@ func newMetrics() *metrics {
 	m.cycles.WithLabelValues("ok")
 	m.cycles.WithLabelValues("failed")
 	return m
+}
+
+// observe takes a cycle's figures.
+func (m *metrics) observe(r *pipeline.CycleResult) {
+	loaded, rejected := r.RowsSynced()
+	m.rowsSynced.Add(float64(loaded))
+	m.rowsRejected.Add(float64(rejected))
+	for _, stage := range []string{"sync", "analyze"} {
+		if d, ok := r.Cycle.Stages[stage]; ok {
+			m.stageSeconds.WithLabelValues(stage).Observe(d.Seconds())
+		}
+	}
+	m.mailFailures.Add(float64(len(r.Mail.Failed())))
+	if r.Counted {
+		m.alertsOpen.Reset()
+		for _, k := range costdrift.AlertKinds() {
+			m.alertsOpen.WithLabelValues(string(k)).Set(float64(r.OpenAlerts[k]))
+		}
+		m.deliveryFailing.Set(float64(r.DeliveriesFailing))
+	}
+	m.stageSeconds.WithLabelValues("cycle").Observe(r.Duration.Seconds())
+	m.cycles.WithLabelValues(r.Cycle.Status).Inc()
+	if r.Err == nil {
+		m.lastSuccess.Set(float64(time.Now().Unix()))
+	}
 }

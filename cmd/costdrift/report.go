@@ -7,6 +7,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -21,8 +22,8 @@ func (a *app) reportCommand() *cobra.Command {
 			if format != "table" && format != "json" {
 				return fmt.Errorf("--format must be table or json, not %q", format)
 			}
-			return a.withStore(cmd.Context(), func(e *env, db *sqlite.DB) error {
-				return writeReport(cmd.Context(), db, format, e.currency.Code, a.out)
+			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
+				return writeReport(cmd.Context(), db, format, e.Currency.Code, a.out)
 			})
 		},
 	}

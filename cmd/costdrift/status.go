@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -25,7 +26,7 @@ func (a *app) statusCommand() *cobra.Command {
 				return fmt.Errorf("--limit must be at least 1, not %d", limit)
 			}
 			// Reading only: no lock, so status works beside a running daemon.
-			return a.withStore(cmd.Context(), func(_ *env, db *sqlite.DB) error {
+			return a.withStore(cmd.Context(), func(_ *pipeline.Env, db *sqlite.DB) error {
 				cycles, err := db.Cycles(cmd.Context(), limit)
 				if err != nil {
 					return fmt.Errorf("status: %w", err)

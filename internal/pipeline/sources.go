@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"context"
@@ -12,38 +12,46 @@ import (
 
 // fileReader reads one file of a file-based source into w and returns the
 // number of data rows it read.
-type fileReader func(ctx context.Context, e *env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error)
-
-// fileKinds maps a source kind to its reader; each kind registers itself
-// from its own file with init.
-var fileKinds = map[string]fileReader{}
+type fileReader func(ctx context.Context, e *Env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error)
 
 // queryReader reads a source that is not a file (a database query) into w.
 // watermark is the newest value a watermark-mode source read last time ("" the
 // first time, or in full-refresh mode); it returns the rows read, the new
 // watermark and warnings for the operator (such as a login that can write),
 // which come back with an error too.
-type queryReader func(ctx context.Context, e *env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (read int, newWatermark string, warnings []string, err error)
+type queryReader func(ctx context.Context, e *Env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (read int, newWatermark string, warnings []string, err error)
 
-// queryKinds maps a source kind to its reader, registered like fileKinds.
-var queryKinds = map[string]queryReader{}
+// sourceKind is how one kind of source is read: file by file, each file
+// one transaction, or by one query.
+type sourceKind struct {
+	file  fileReader
+	query queryReader
+}
 
-func init() { fileKinds["csv"] = readCSV }
+// sourceKinds is the registry of the kinds of source this build reads. A
+// new kind is a reader here and its roles in config.SourceKinds; a test
+// keeps the two in step.
+var sourceKinds = map[string]sourceKind{
+	"csv":  {file: readCSV},
+	"xlsx": {file: readXLSX},
+	"saft": {file: readSAFT},
+	"sql":  {query: readSQL},
+}
 
-func readCSV(ctx context.Context, e *env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
+func readCSV(ctx context.Context, e *Env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
 	opt := csvsource.Options{
 		Source:   src.Name,
 		Columns:  src.Columns,
 		Notation: money.Notation{DecimalComma: src.DecimalComma, ThousandsSeparator: src.ThousandsSeparator},
-		Currency: e.currency,
-		Period:   e.calendar.Period,
+		Currency: e.Currency,
+		Period:   e.Calendar.Period,
 		Layout:   src.Layout,
 		Encoding: src.Encoding,
 	}
-	if e.progress != nil {
+	if e.Progress != nil {
 		if st, err := os.Stat(path); err == nil && st.Size() > progressMinBytes {
 			size := st.Size()
-			opt.Progress = func(done int64) { e.progress(display, done, size) }
+			opt.Progress = func(done int64) { e.Progress(display, done, size) }
 		}
 	}
 	if src.Delimiter != "" {

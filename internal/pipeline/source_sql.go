@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"context"
@@ -12,20 +12,18 @@ import (
 	"github.com/costdrift/costdrift/internal/sqlsource"
 )
 
-func init() { queryKinds["sql"] = readSQL }
-
 // readSQL runs a sql source's query into w. In watermark mode, watermark is
 // the value the store kept from the last successful read ("" the first
 // time), and the new one is returned for the store to keep with the batch.
 // The reader's warnings (a login that can write) are returned for the sync
 // to print and record.
-func readSQL(ctx context.Context, e *env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (int, string, []string, error) {
+func readSQL(ctx context.Context, e *Env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (int, string, []string, error) {
 	if src.Aggregated && role != costdrift.RoleLedger {
 		return 0, "", nil, fmt.Errorf("aggregated: true applies to a ledger source only, not to %s", role)
 	}
 	dsnFile := ""
 	if src.DSNFile != "" {
-		dsnFile = e.cfg.Path(src.DSNFile)
+		dsnFile = e.Config.Path(src.DSNFile)
 	}
 	dsn, origin, err := sqlsource.LoadDSN(src.DSNEnv, dsnFile, os.Getenv)
 	if err != nil {
@@ -39,9 +37,9 @@ func readSQL(ctx context.Context, e *env, role costdrift.Role, src config.Source
 		Query:      src.Query,
 		Columns:    src.Columns,
 		Aggregated: src.Aggregated,
-		Currency:   e.currency,
+		Currency:   e.Currency,
 		Notation:   money.Notation{DecimalComma: src.DecimalComma, ThousandsSeparator: src.ThousandsSeparator},
-		Period:     e.calendar.Period,
+		Period:     e.Calendar.Period,
 	}
 	if src.Timeout != "" {
 		opt.Timeout, _ = time.ParseDuration(src.Timeout) // validated with the config

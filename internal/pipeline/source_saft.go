@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"context"
@@ -10,8 +10,6 @@ import (
 	"github.com/costdrift/costdrift/internal/saftsource"
 )
 
-func init() { fileKinds["saft"] = readSAFT }
-
 // readSAFT reads one SAF-T Financial file: its general ledger or its chart
 // of accounts. It returns the rows given to the writer (a line split
 // between cost centres is one row per cost centre).
@@ -22,17 +20,17 @@ func init() { fileKinds["saft"] = readSAFT }
 // cost without anyone noticing. Rejected lines do not cause this, because
 // their amounts still count; an amount that cannot be read does, and the
 // error names where the first one is.
-func readSAFT(ctx context.Context, e *env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
+func readSAFT(ctx context.Context, e *Env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
 	opt := saftsource.Options{
 		Source:       src.Name,
-		Currency:     e.currency,
-		Period:       e.calendar.Period,
+		Currency:     e.Currency,
+		Period:       e.Calendar.Period,
 		AnalysisType: src.AnalysisType,
 	}
-	if e.progress != nil {
+	if e.Progress != nil {
 		if st, err := os.Stat(path); err == nil && st.Size() > progressMinBytes {
 			size := st.Size()
-			opt.Progress = func(done int64) { e.progress(display, done, size) }
+			opt.Progress = func(done int64) { e.Progress(display, done, size) }
 		}
 	}
 	switch role {

@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"context"
@@ -9,19 +9,17 @@ import (
 	"github.com/costdrift/costdrift/internal/xlsxsource"
 )
 
-func init() { fileKinds["xlsx"] = readXLSX }
-
 // readXLSX reads one worksheet of a workbook. date_format and the notation
 // keys apply to dates and amounts written as text; date and number cells
 // need neither. delimiter and encoding do not apply to a workbook.
-func readXLSX(ctx context.Context, e *env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
+func readXLSX(ctx context.Context, e *Env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
 	opt := xlsxsource.Options{
 		Source:   src.Name,
 		Columns:  src.Columns,
 		Sheet:    src.Sheet,
 		Notation: money.Notation{DecimalComma: src.DecimalComma, ThousandsSeparator: src.ThousandsSeparator},
-		Currency: e.currency,
-		Period:   e.calendar.Period,
+		Currency: e.Currency,
+		Period:   e.Calendar.Period,
 		Layout:   src.Layout,
 	}
 	if src.DateFormat != "" {

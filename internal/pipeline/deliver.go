@@ -1,0 +1,404 @@
+package pipeline
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"strings"
+	"time"
+
+	gomail "github.com/wneessen/go-mail"
+
+	"github.com/costdrift/costdrift/internal/chart"
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/mail"
+	"github.com/costdrift/costdrift/internal/report"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+// Timeouts of one delivery: connecting and each SMTP command, and the whole
+// cycle's messages.
+const (
+	smtpConnectTimeout = 30 * time.Second
+	smtpSendTimeout    = 5 * time.Minute
+)
+
+// mailServer is the configured SMTP server with its password, or an error
+// naming the key that is wrong. Empty host: the outbox is used instead.
+func mailServer(e *Env) (mail.Server, error) {
+	c := e.Config.Mail.SMTP
+	s := mail.Server{Host: c.Host, Port: c.Port, TLS: c.TLS, Username: c.Username,
+		ConnectTimeout: smtpConnectTimeout, SendTimeout: smtpSendTimeout}
+	if c.Username != "" {
+		pw, err := mail.Password(c.PasswordEnv, e.Config.Path(c.PasswordFile))
+		if err != nil {
+			return s, err
+		}
+		s.Password = pw
+	}
+	return s, s.Check()
+}
+
+// outgoing is one recipient's digest of this cycle.
+type outgoing struct {
+	to     string
+	items  []mail.Item
+	msg    *gomail.Msg
+	buildE error
+}
+
+// Delivery is one recipient's digest of a delivery step and what became
+// of it: Answer is the server's answer (or where the outbox file went);
+// Err says why it was not sent, Interrupted that the step was stopped
+// before it went out (it is due again at the next cycle, not counted as
+// failed).
+type Delivery struct {
+	Recipient   string
+	Alerts      int
+	Answer      string
+	Err         string
+	Interrupted bool
+}
+
+// DeliveryResult is what one delivery step did: each recipient's digest,
+// sent or not.
+type DeliveryResult struct {
+	Digests []Delivery
+}
+
+// Failed lists the digests not delivered (interrupted ones excluded).
+func (r DeliveryResult) Failed() []Delivery {
+	var out []Delivery
+	for _, d := range r.Digests {
+		if d.Err != "" && !d.Interrupted {
+			out = append(out, d)
+		}
+	}
+	return out
+}
+
+// Sent counts the digests delivered.
+func (r DeliveryResult) Sent() int {
+	n := 0
+	for _, d := range r.Digests {
+		if d.Err == "" {
+			n++
+		}
+	}
+	return n
+}
+
+// Deliver sends the due digests: for each recipient, the open alerts
+// routed to it that are due (never sent, escalated above what was sent, or
+// failed and past their backoff) go into one digest, sent through the
+// configured server or written to the outbox; the store records each
+// outcome per alert and recipient, and a failed one is retried after the
+// backoff. A failure to send is in the result, not the error, so that a
+// mail server that is down does not fail the analysis before it: only the
+// store's errors, and an interruption, are returned. A digest cut off
+// because ctx ended is not recorded as failed: it is due again at the next
+// cycle.
+func Deliver(ctx context.Context, e *Env, db *sqlite.DB) (DeliveryResult, error) {
+	var t DeliveryResult
+	recipients := e.Config.Alerts.Recipients
+	if len(recipients) == 0 {
+		return t, nil
+	}
+	open, err := db.Alerts(ctx, sqlite.AlertFilter{Status: costdrift.AlertOpen})
+	if err != nil {
+		return t, fmt.Errorf("mail: %w", err)
+	}
+	past, err := db.Deliveries(ctx, "")
+	if err != nil {
+		return t, fmt.Errorf("mail: %w", err)
+	}
+	names, err := db.AccountNames(ctx)
+	if err != nil {
+		return t, fmt.Errorf("mail: %w", err)
+	}
+	objects, err := alertObjects(ctx, db, open)
+	if err != nil {
+		return t, fmt.Errorf("mail: %w", err)
+	}
+	now := e.Now()
+	charts := map[int64][]byte{}
+	var batch []outgoing
+	for _, r := range recipients {
+		rcpt := mail.Recipient{Email: r.Email, CostCenters: r.CostCenters, Accounts: r.Accounts,
+			MinSeverity: costdrift.Severity(r.MinSeverity)}
+		var items []mail.Item
+		for _, al := range open {
+			o := objects[al.Object]
+			if !mail.RoutesObject(rcpt, al, o) {
+				continue
+			}
+			var prev *mail.State
+			if d, ok := past[al.ID][r.Email]; ok {
+				prev = &mail.State{SeveritySent: d.SeveritySent, Failed: d.Status == sqlite.DeliveryFailed,
+					Attempts: d.Attempts, NextAttempt: d.NextAttempt}
+			}
+			if !mail.Due(al, prev, now) {
+				continue
+			}
+			it := mail.Item{Alert: al}
+			if !mail.SourceKind(al.Kind) {
+				it.Object = o
+				it.AccountName = names[o.Account]
+				if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
+					it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
+				}
+				png, ok := charts[al.ID]
+				if !ok {
+					png = alertChart(ctx, e, db, al, names)
+					charts[al.ID] = png
+				}
+				it.Chart = png
+			}
+			items = append(items, it)
+		}
+		if len(items) == 0 {
+			continue
+		}
+		msg, err := mail.Message(mail.Digest{To: r.Email, From: e.Config.Mail.SMTP.From, Items: items, Date: now, Cautions: report.Caution})
+		batch = append(batch, outgoing{to: r.Email, items: items, msg: msg, buildE: err})
+	}
+	if len(batch) == 0 {
+		return t, nil
+	}
+
+	results := make([]mail.Result, len(batch))
+	if e.Config.Mail.SMTP.Host == "" {
+		dir := e.Config.Path(e.Config.Mail.Outbox)
+		for i, o := range batch {
+			if o.buildE != nil {
+				results[i] = mail.Result{Err: o.buildE}
+				continue
+			}
+			p, err := mail.WriteOutbox(dir, o.msg, now, o.to)
+			results[i] = mail.Result{Err: err, Answer: "written to " + p}
+		}
+	} else {
+		server, err := mailServer(e)
+		var msgs []*gomail.Msg
+		var idx []int
+		for i, o := range batch {
+			switch {
+			case err != nil:
+				results[i] = mail.Result{Err: err}
+			case o.buildE != nil:
+				results[i] = mail.Result{Err: o.buildE}
+			default:
+				msgs = append(msgs, o.msg)
+				idx = append(idx, i)
+			}
+		}
+		if len(msgs) > 0 {
+			for j, res := range server.Send(ctx, msgs) {
+				results[idx[j]] = res
+			}
+		}
+	}
+
+	// What reached the server is recorded even when ctx ended meanwhile, so
+	// that it is not sent twice.
+	record, cancel := context.WithTimeout(context.WithoutCancel(ctx), 10*time.Second)
+	defer cancel()
+	interrupted, cut := ctx.Err(), 0
+	for i, o := range batch {
+		res := results[i]
+		d := Delivery{Recipient: o.to, Alerts: len(o.items), Answer: res.Answer}
+		switch {
+		case res.Err == nil:
+			sent := make(map[int64]costdrift.Severity, len(o.items))
+			for _, it := range o.items {
+				sent[it.Alert.ID] = it.Alert.Severity
+			}
+			if err := db.RecordDeliverySent(record, o.to, sent, now); err != nil {
+				return t, fmt.Errorf("mail: %w", err)
+			}
+		case interrupted != nil:
+			cut++
+			d.Err, d.Interrupted = "interrupted", true
+		default:
+			ids := make([]int64, len(o.items))
+			for j, it := range o.items {
+				ids[j] = it.Alert.ID
+			}
+			d.Err = oneLineError(res.Err)
+			if err := db.RecordDeliveryFailed(record, o.to, ids, d.Err, now, mail.Backoff); err != nil {
+				return t, fmt.Errorf("mail: %w", err)
+			}
+		}
+		t.Digests = append(t.Digests, d)
+	}
+	if cut > 0 {
+		return t, fmt.Errorf("mail: %d digest(s) not sent: %w", cut, interrupted)
+	}
+	return t, nil
+}
+
+// alertObjects maps the Object of each object alert to its account and
+// cost centre as the analysis stored them: "6100/01/PLANT/2" is account
+// 6100/01 in cost centre PLANT/2, which no split at a "/" can tell. An
+// object the store has no behaviour for is split at its first "/".
+func alertObjects(ctx context.Context, db *sqlite.DB, open []costdrift.Alert) (map[string]costdrift.CostObject, error) {
+	out := make(map[string]costdrift.CostObject, len(open))
+	if len(open) == 0 {
+		return out, nil
+	}
+	current, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		return nil, err
+	}
+	known := make(map[string]costdrift.CostObject, len(current))
+	for _, b := range current {
+		known[b.Object.String()] = b.Object
+	}
+	for _, al := range open {
+		if mail.SourceKind(al.Kind) {
+			continue
+		}
+		o, ok := known[al.Object]
+		if !ok {
+			o = mail.SplitObject(al.Object)
+		}
+		out[al.Object] = o
+	}
+	return out, nil
+}
+
+func oneLineError(err error) string {
+	return strings.Join(strings.Fields(err.Error()), " ")
+}
+
+// alertChart draws the scatter of the alert's object as in `costdrift
+// explain --chart`, with the formula before the change dashed when the
+// evidence has it on the same driver; nil when the store lacks the data
+// (no analysis, no driver, no points).
+func alertChart(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, names map[string]string) []byte {
+	oa, err := db.ObjectAnalysis(ctx, al.Object)
+	if err != nil || oa.Behaviour.Driver == "" {
+		return nil
+	}
+	b := oa.Behaviour
+	var settings runSettings
+	_ = json.Unmarshal([]byte(oa.Run.Settings), &settings) // unreadable settings: the object's own lag
+	maxLag := settings.maxLag(b.Lag)
+	pts, err := analysedPoints(ctx, e, db, oa, maxLag)
+	if err != nil {
+		return nil
+	}
+	ex := report.Explain(report.ExplainInput{Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Fits: oa.Fits,
+		ActivityPeriod: func(p string, lag int) string { return p }})
+	sc, err := scatter(ctx, e, db, oa, pts, names[b.Object.Account], ex.Formula, maxLag)
+	if err != nil {
+		return nil
+	}
+	fb, ok1 := al.Evidence["fixed_before"].(float64)
+	rb, ok2 := al.Evidence["rate_before"].(float64)
+	driverBefore, hasDriverBefore := al.Evidence["driver_before"].(string)
+	if ok1 && ok2 && (!hasDriverBefore || driverBefore == b.Driver) && b.Class != costdrift.Step {
+		label := "formula before the change"
+		if al.Period != "" {
+			label = "formula before " + al.Period
+		}
+		sc.Previous = &chart.Line{Fixed: fb, Rate: rb, Label: label}
+	}
+	var buf bytes.Buffer
+	if err := sc.WritePNG(&buf, chart.DefaultWidthPx, chart.DefaultHeightPx); err != nil {
+		return nil
+	}
+	return buf.Bytes()
+}
+
+// sampleDigest is the test message: one invented alert, marked as a test.
+func sampleDigest(to, from string, now time.Time) mail.Digest {
+	return mail.Digest{To: to, From: from, Date: now, Cautions: report.Caution, Subject: "costdrift: test message",
+		Items: []mail.Item{{Alert: costdrift.Alert{
+			ID: 0, Kind: costdrift.AlertRateShift, Object: "6400/SAMPLE", Severity: costdrift.SeverityWarning, Period: "2025-02",
+			Message: "Test message from costdrift: this sample alert shows the layout; no cost changed.",
+			Evidence: map[string]any{"test": "sup-F", "p": 0.004, "break": "2025-02", "fixed_before": 1200.0, "fixed_after": 1200.0,
+				"rate_before": 3.5, "rate_after": 4.2, "r2": 0.91, "n": 36.0},
+		}}}}
+}
+
+// MailFailures is the state of alert mail as the store records it:
+// deliveries (alert and recipient) of open alerts whose latest attempt
+// failed, when the earliest of those attempts was, and the latest error.
+type MailFailures struct {
+	Failing   int
+	Earliest  time.Time
+	LastError string
+}
+
+// FailingMail reads from the store whether alert mail is failing. The
+// store, not the latest cycle, decides, because a failed delivery waits
+// for its backoff through cycles that try nothing, and is over only when a
+// retry succeeds or its alert is resolved. Each attempt's time is its next
+// attempt less its backoff.
+func FailingMail(ctx context.Context, db *sqlite.DB) (MailFailures, error) {
+	var f MailFailures
+	open, err := db.Alerts(ctx, sqlite.AlertFilter{Status: costdrift.AlertOpen})
+	if err != nil {
+		return f, err
+	}
+	past, err := db.Deliveries(ctx, "")
+	if err != nil {
+		return f, err
+	}
+	var latest time.Time
+	for _, al := range open {
+		for _, dl := range past[al.ID] {
+			if dl.Status != sqlite.DeliveryFailed {
+				continue
+			}
+			f.Failing++
+			at := dl.NextAttempt.Add(-mail.Backoff(dl.Attempts))
+			if f.Earliest.IsZero() || at.Before(f.Earliest) {
+				f.Earliest = at
+			}
+			if !at.Before(latest) {
+				latest, f.LastError = at, dl.LastError
+			}
+		}
+	}
+	return f, nil
+}
+
+// SendTest sends the sample message to each address through the
+// configured server, or writes it to the outbox when no server is set; it
+// reads no store and records nothing. Each address's outcome is returned.
+func SendTest(ctx context.Context, e *Env, addrs []string) ([]Delivery, error) {
+	now := e.Now()
+	var msgs []*gomail.Msg
+	for _, addr := range addrs {
+		m, err := mail.Message(sampleDigest(addr, e.Config.Mail.SMTP.From, now))
+		if err != nil {
+			return nil, err
+		}
+		msgs = append(msgs, m)
+	}
+	out := make([]Delivery, len(addrs))
+	if e.Config.Mail.SMTP.Host == "" {
+		for i, m := range msgs {
+			p, err := mail.WriteOutbox(e.Config.Path(e.Config.Mail.Outbox), m, now, addrs[i])
+			if err != nil {
+				return out[:i], err
+			}
+			out[i] = Delivery{Recipient: addrs[i], Alerts: 1, Answer: "written to " + p + " (mail.smtp.host is empty)"}
+		}
+		return out, nil
+	}
+	server, err := mailServer(e)
+	if err != nil {
+		return nil, err
+	}
+	for i, res := range server.Send(ctx, msgs) {
+		out[i] = Delivery{Recipient: addrs[i], Alerts: 1, Answer: fmt.Sprintf("accepted by %s:%d: %s", server.Host, server.Port, res.Answer)}
+		if res.Err != nil {
+			out[i].Err = oneLineError(res.Err)
+		}
+	}
+	return out, nil
+}
