@@ -1,6 +1,8 @@
 package analyze
 
 import (
+	"context"
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -250,9 +252,9 @@ func TestPanicInOneObjectIsContained(t *testing.T) {
 	broken := costdrift.CostObject{Account: "6300", CostCenter: "PAINT"}
 	p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: broken, Cost: cost})
 	p.Drivers = append(p.Drivers, costdrift.DriverSeries{Name: "paint_hours", CostCenter: "PAINT", Values: []float64{1, 2}})
-	results := Panel(p, defaults)
-	if len(results) != 2 {
-		t.Fatalf("%d results, want 2", len(results))
+	results, err := Panel(context.Background(), p, defaults)
+	if err != nil || len(results) != 2 {
+		t.Fatalf("%d results (%v), want 2", len(results), err)
 	}
 	if results[0].Err != nil || results[0].Behaviour.Class != costdrift.Fixed {
 		t.Errorf("the sound object: err %v, class %q, want fixed", results[0].Err, results[0].Behaviour.Class)
@@ -279,9 +281,9 @@ func TestUnusableObjectIsSkippedWithItsReason(t *testing.T) {
 	unusable := costdrift.CostObject{Account: "6300", CostCenter: "PAINT"}
 	const reason = "its lines in 2025-03 add up to more than an int64 of minor units holds"
 	p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: unusable, Cost: cost, Unusable: reason})
-	results := Panel(p, defaults)
-	if len(results) != 2 {
-		t.Fatalf("%d results, want 2", len(results))
+	results, err := Panel(context.Background(), p, defaults)
+	if err != nil || len(results) != 2 {
+		t.Fatalf("%d results (%v), want 2", len(results), err)
 	}
 	if results[0].Err != nil || results[0].Behaviour.Class != costdrift.Fixed {
 		t.Errorf("the sound object: err %v, class %q, want fixed", results[0].Err, results[0].Behaviour.Class)
@@ -291,5 +293,26 @@ func TestUnusableObjectIsSkippedWithItsReason(t *testing.T) {
 	}
 	if results[1].Behaviour.Object != unusable || results[1].Behaviour.Class != "" || len(results[1].Fits) != 0 || results[1].Stack != "" {
 		t.Errorf("the unusable object's result: %+v, stack %q", results[1].Behaviour, results[1].Stack)
+	}
+}
+
+// A cancelled analysis starts no further object and says so: a stopping
+// daemon does not wait for the whole panel.
+func TestPanelStopsWhenCancelled(t *testing.T) {
+	const n = 24
+	r := rand.New(rand.NewPCG(9, 10))
+	cost := make([]float64, n)
+	for i := range cost {
+		cost[i] = noisy(r, 4200, 0.02)
+	}
+	p := panelOf(n, cost)
+	for i := 0; i < 50; i++ {
+		p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(7000 + i)}, Cost: cost})
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	results, err := Panel(ctx, p, defaults)
+	if !errors.Is(err, context.Canceled) || results != nil {
+		t.Errorf("Panel after cancel: %d results, %v; want none and context.Canceled", len(results), err)
 	}
 }

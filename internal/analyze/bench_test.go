@@ -1,6 +1,7 @@
 package analyze_test
 
 import (
+	"context"
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/analyze"
@@ -29,7 +30,7 @@ func BenchmarkPanel(b *testing.B) {
 	runs := 0
 	b.ReportAllocs()
 	for b.Loop() {
-		results = analyze.Panel(p, s)
+		results, _ = analyze.Panel(context.Background(), p, s)
 		runs++
 	}
 

@@ -1,6 +1,7 @@
 package analyze
 
 import (
+	"context"
 	"fmt"
 	"runtime"
 	"runtime/debug"
@@ -10,8 +11,10 @@ import (
 )
 
 // Panel analyses every object of the panel, spread over the machine's
-// cores; results come back in the panel's object order.
-func Panel(p *costdrift.Panel, s Settings) []Result {
+// cores; results come back in the panel's object order. Once ctx ends, no
+// further object is started, the ones under way finish, and ctx's error is
+// returned without results.
+func Panel(ctx context.Context, p *costdrift.Panel, s Settings) ([]Result, error) {
 	results := make([]Result, len(p.Objects))
 	work := make(chan int)
 	var wg sync.WaitGroup
@@ -24,12 +27,20 @@ func Panel(p *costdrift.Panel, s Settings) []Result {
 			}
 		}()
 	}
+feed:
 	for i := range p.Objects {
-		work <- i
+		select {
+		case work <- i:
+		case <-ctx.Done():
+			break feed
+		}
 	}
 	close(work)
 	wg.Wait()
-	return results
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	return results, nil
 }
 
 // objectRecovered is Object, except that a panic in one object's analysis

@@ -103,8 +103,11 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	for _, b := range before {
 		prior[b.Object.String()] = b
 	}
-	results := analyze.Panel(&panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
+	results, err := analyze.Panel(ctx, &panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
 		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed, Prior: prior})
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
 
 	res := &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: panel.PeriodsWithPostings,
 		panel: whole, activity: activity}

@@ -27,6 +27,7 @@ package main
 
 import (
 	"bufio"
+	"context"
 	"encoding/binary"
 	"encoding/json"
 	"flag"
@@ -104,7 +105,10 @@ func run(cfg panelgen.Config, dir string, sampleSize int, cpuprofile string) err
 	cpuBefore := cpuSeconds()
 	stopSampling := sampleHeap()
 	start = time.Now()
-	results := analyze.Panel(p, settings)
+	results, err := analyze.Panel(context.Background(), p, settings)
+	if err != nil {
+		return err
+	}
 	wall := time.Since(start)
 	peak := stopSampling()
 	cpu := cpuSeconds() - cpuBefore
