@@ -100,31 +100,41 @@ func (r DeliveryResult) Sent() int {
 // because ctx ended is not recorded as failed: it is due again at the next
 // cycle.
 func Deliver(ctx context.Context, e *Env, db *sqlite.DB) (DeliveryResult, error) {
-	var t DeliveryResult
-	recipients := e.Config.Alerts.Recipients
-	if len(recipients) == 0 {
-		return t, nil
+	if len(e.Config.Alerts.Recipients) == 0 {
+		return DeliveryResult{}, nil
 	}
+	now := e.Now()
+	batch, err := dueDigests(ctx, e, db, now)
+	if err != nil || len(batch) == 0 {
+		return DeliveryResult{}, err
+	}
+	results := sendDigests(ctx, e, batch, now)
+	return recordOutcomes(ctx, db, batch, results, now)
+}
+
+// dueDigests builds each recipient's digest of the open alerts routed to
+// it that are due. Each alert's details (its object's class and driver,
+// its chart) are read and drawn once, whatever the number of recipients.
+func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]outgoing, error) {
 	open, err := db.Alerts(ctx, sqlite.AlertFilter{Status: costdrift.AlertOpen})
 	if err != nil {
-		return t, fmt.Errorf("mail: %w", err)
+		return nil, fmt.Errorf("mail: %w", err)
 	}
 	past, err := db.Deliveries(ctx, "")
 	if err != nil {
-		return t, fmt.Errorf("mail: %w", err)
+		return nil, fmt.Errorf("mail: %w", err)
 	}
 	names, err := db.AccountNames(ctx)
 	if err != nil {
-		return t, fmt.Errorf("mail: %w", err)
+		return nil, fmt.Errorf("mail: %w", err)
 	}
 	objects, err := alertObjects(ctx, db, open)
 	if err != nil {
-		return t, fmt.Errorf("mail: %w", err)
+		return nil, fmt.Errorf("mail: %w", err)
 	}
-	now := e.Now()
-	charts := map[int64][]byte{}
+	details := map[int64]mail.Item{}
 	var batch []outgoing
-	for _, r := range recipients {
+	for _, r := range e.Config.Alerts.Recipients {
 		rcpt := mail.Recipient{Email: r.Email, CostCenters: r.CostCenters, Accounts: r.Accounts,
 			MinSeverity: costdrift.Severity(r.MinSeverity)}
 		var items []mail.Item
@@ -141,19 +151,10 @@ func Deliver(ctx context.Context, e *Env, db *sqlite.DB) (DeliveryResult, error)
 			if !mail.Due(al, prev, now) {
 				continue
 			}
-			it := mail.Item{Alert: al}
-			if !mail.SourceKind(al.Kind) {
-				it.Object = o
-				it.AccountName = names[o.Account]
-				if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
-					it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
-				}
-				png, ok := charts[al.ID]
-				if !ok {
-					png = alertChart(ctx, e, db, al, names)
-					charts[al.ID] = png
-				}
-				it.Chart = png
+			it, ok := details[al.ID]
+			if !ok {
+				it = alertItem(ctx, e, db, al, o, names)
+				details[al.ID] = it
 			}
 			items = append(items, it)
 		}
@@ -163,10 +164,28 @@ func Deliver(ctx context.Context, e *Env, db *sqlite.DB) (DeliveryResult, error)
 		msg, err := mail.Message(mail.Digest{To: r.Email, From: e.Config.Mail.SMTP.From, Items: items, Date: now, Cautions: report.Caution})
 		batch = append(batch, outgoing{to: r.Email, items: items, msg: msg, buildE: err})
 	}
-	if len(batch) == 0 {
-		return t, nil
-	}
+	return batch, nil
+}
 
+// alertItem is an alert as a digest shows it: an object's alert with the
+// object's account name, class, driver and chart, read from the store once.
+func alertItem(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, o costdrift.CostObject, names map[string]string) mail.Item {
+	it := mail.Item{Alert: al}
+	if mail.SourceKind(al.Kind) {
+		return it
+	}
+	it.Object = o
+	it.AccountName = names[o.Account]
+	if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
+		it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
+		it.Chart = alertChart(ctx, e, db, al, oa, names)
+	}
+	return it
+}
+
+// sendDigests sends the digests through the configured server, or writes
+// them to the outbox when no server is set; one result per digest.
+func sendDigests(ctx context.Context, e *Env, batch []outgoing, now time.Time) []mail.Result {
 	results := make([]mail.Result, len(batch))
 	if e.Config.Mail.SMTP.Host == "" {
 		dir := e.Config.Path(e.Config.Mail.Outbox)
@@ -200,8 +219,15 @@ func Deliver(ctx context.Context, e *Env, db *sqlite.DB) (DeliveryResult, error)
 		}
 	}
 
-	// What reached the server is recorded even when ctx ended meanwhile, so
-	// that it is not sent twice.
+	return results
+}
+
+// recordOutcomes records in the store what became of each digest: sent, or
+// failed and due again after the backoff. What reached the server is
+// recorded even when ctx ended meanwhile, so that it is not sent twice; a
+// digest cut off by the end of ctx is not recorded as failed.
+func recordOutcomes(ctx context.Context, db *sqlite.DB, batch []outgoing, results []mail.Result, now time.Time) (DeliveryResult, error) {
+	var t DeliveryResult
 	record, cancel := context.WithTimeout(context.WithoutCancel(ctx), 10*time.Second)
 	defer cancel()
 	interrupted, cut := ctx.Err(), 0
@@ -276,9 +302,8 @@ func oneLineError(err error) string {
 // explain --chart`, with the formula before the change dashed when the
 // evidence has it on the same driver; nil when the store lacks the data
 // (no analysis, no driver, no points).
-func alertChart(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, names map[string]string) []byte {
-	oa, err := db.ObjectAnalysis(ctx, al.Object)
-	if err != nil || oa.Behaviour.Driver == "" {
+func alertChart(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, oa sqlite.ObjectAnalysis, names map[string]string) []byte {
+	if oa.Behaviour.Driver == "" {
 		return nil
 	}
 	b := oa.Behaviour
