@@ -66,6 +66,7 @@ mail:
     tls: starttls              # starttls | tls | none (none only to a loopback host)
     username: ""
     password_env: COSTDRIFT_SMTP_PASSWORD   # the password is never written here
+    password_file: ""          # or a file holding it, owner-only; used instead when set
     from: "costdrift <costdrift@example.test>"
   outbox: outbox
 
