@@ -4,6 +4,10 @@
 // commented starter file that `costdrift init` writes, and the parser of
 // schedule.cron that the daemon schedules with (so what validates, runs).
 //
+// Each scalar key is declared once, in keys (keys.go), with its default, its
+// check, whether it is secret and its doc; defaults, validation, the
+// starter's lines and the printable Settings are made from that table.
+//
 // It must not open the store, read sources or log; callers decide what to do
 // with a config that failed to load.
 package config

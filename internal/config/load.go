@@ -16,38 +16,6 @@ import (
 // COSTDRIFT_STORE overrides store, COSTDRIFT_ANALYSIS_WINDOW analysis.window.
 const EnvPrefix = "COSTDRIFT"
 
-// defaults lists every scalar key with its default. Keys not listed here
-// (lists of sources and recipients) default to empty.
-var defaults = map[string]any{
-	"store":                         "costdrift.db",
-	"currency":                      "EUR",
-	"calendar.period":               "month",
-	"calendar.fiscal_year_start":    1,
-	"calendar.close_after_days":     10,
-	"analysis.grain":                "account_cost_center",
-	"analysis.accounts":             []string{},
-	"analysis.window":               36,
-	"analysis.min_periods":          12,
-	"analysis.lags":                 []int{0, 1},
-	"analysis.alpha":                0.05,
-	"analysis.break_alpha":          0.01,
-	"analysis.bootstrap_replicates": 999,
-	"mail.smtp.host":                "",
-	"mail.smtp.port":                587,
-	"mail.smtp.tls":                 "starttls",
-	"mail.smtp.username":            "",
-	"mail.smtp.password_env":        "COSTDRIFT_SMTP_PASSWORD",
-	"mail.smtp.password_file":       "",
-	"mail.smtp.from":                "costdrift <costdrift@example.test>",
-	"mail.outbox":                   "outbox",
-	"schedule.cron":                 "0 6 * * *",
-	"schedule.timezone":             "UTC",
-	"http.listen":                   "",
-	"http.allow_remote":             false,
-	"log.format":                    "text",
-	"log.level":                     "info",
-}
-
 // Default returns the configuration with every default applied and no sources.
 func Default() *Config {
 	v := newViper()
@@ -61,8 +29,8 @@ func Default() *Config {
 func newViper() *viper.Viper {
 	v := viper.New()
 	v.SetConfigType("yaml")
-	for k, d := range defaults {
-		v.SetDefault(k, d)
+	for _, k := range keys {
+		v.SetDefault(k.name, k.def)
 	}
 	v.SetEnvPrefix(EnvPrefix)
 	v.SetEnvKeyReplacer(strings.NewReplacer(".", "_"))

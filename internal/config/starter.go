@@ -1,25 +1,27 @@
 package config
 
+import (
+	"fmt"
+	"strings"
+	"unicode/utf8"
+)
+
 // Starter is the commented configuration that `costdrift init` writes and
-// that config/costdrift.example.yaml holds. Paths are relative to this file.
-const Starter = `# costdrift configuration.
+// that config/costdrift.example.yaml holds: every declared key with its
+// default (or its example) and its doc, and an example of each list of
+// records. Paths are relative to this file.
+var Starter = starter()
+
+const starterHeader = `# costdrift configuration.
 # Every key below shows its default. Environment variables override keys:
 # COSTDRIFT_STORE=/var/lib/costdrift/costdrift.db, COSTDRIFT_ANALYSIS_WINDOW=24.
 # Relative paths are relative to the folder of this file.
+`
 
-# The SQLite store. It is created owner-only (mode 0600): ledger data is
-# confidential and can include payroll by cost centre.
-store: costdrift.db
-
-# Functional currency (ISO 4217). Amounts are stored as integer minor units.
-currency: EUR
-
-calendar:
-  period: month            # month | week | 4-4-5 | 4-5-4 | 5-4-4 (see README)
-  fiscal_year_start: 1     # month number the fiscal year starts in
-  close_after_days: 10     # a period is analysed only this many days after its end
-
-sources:
+// recordExamples are the starter's lists of records, by top-level key,
+// with comments on what each record holds.
+var recordExamples = map[string]string{
+	"sources": `sources:
   # General-ledger lines. Canonical CSV header:
   #   entry_id, line, date, account, cost_center, amount, description
   # (amount signed, debit positive; or debit and credit columns instead).
@@ -41,44 +43,89 @@ sources:
     - name: coa
       kind: csv
       path: data/accounts.csv
-
-analysis:
-  grain: account_cost_center   # account | account_cost_center
-  accounts: ["5000-6999"]      # ranges and globs of accounts analysed; empty = all
-  window: 36                   # periods analysed, ending at the newest closed period
-  min_periods: 12              # fewer periods than this: insufficient_data
-  lags: [0, 1]                 # periods a driver may lead the cost
-  alpha: 0.05                  # significance level, after correction for the drivers tried
-  break_alpha: 0.01            # a change in behaviour counts at this level (0: no break test)
-  bootstrap_replicates: 999    # resamples behind a break's p-value
-
-alerts:
+`,
+	"alerts": `alerts:
   recipients:
     - email: costs@example.test
       cost_centers: ["*"]
       accounts: ["*"]
       min_severity: warning    # info | warning | critical
+`,
+}
 
-mail:
-  smtp:
-    host: ""                   # empty: messages go to the outbox folder
-    port: 587
-    tls: starttls              # starttls | tls | none (none only to a loopback host)
-    username: ""
-    password_env: COSTDRIFT_SMTP_PASSWORD   # the password is never written here
-    from: "costdrift <costdrift@example.test>"
-  outbox: outbox
+const (
+	// commentColumn is where a nested key's comment starts: past the
+	// longest key and value of the analysis section.
+	commentColumn = 31
+	// paragraphWidth bounds the comment lines above a top-level key.
+	paragraphWidth = 80
+)
 
-schedule:
-  cron: "0 6 * * *"            # every day at 06:00; an optional leading seconds
-                               # field and @every 30s, @hourly, @daily also work
-  timezone: UTC
+func starter() string {
+	var b strings.Builder
+	b.WriteString(starterHeader)
+	for _, section := range sections {
+		b.WriteString("\n")
+		if example, ok := recordExamples[section]; ok {
+			b.WriteString(example)
+			continue
+		}
+		writeKeys(&b, keysIn(section))
+	}
+	return b.String()
+}
 
-http:
-  listen: ""                   # e.g. 127.0.0.1:9464 for /healthz and /metrics
-  allow_remote: false          # true to listen on an address other than loopback
+// writeKeys writes the declared keys of one top-level key as YAML, opening
+// a nested mapping where a key's parents change. A top-level key has its
+// doc above it as a paragraph; a nested one has it beside, aligned.
+func writeKeys(b *strings.Builder, declared []key) {
+	var open []string // the mappings the previous key was nested in
+	for _, k := range declared {
+		path := strings.Split(k.name, ".")
+		parents, leaf := path[:len(path)-1], path[len(path)-1]
+		same := 0
+		for same < len(open) && same < len(parents) && open[same] == parents[same] {
+			same++
+		}
+		for depth := same; depth < len(parents); depth++ {
+			fmt.Fprintf(b, "%s%s:\n", indent(depth), parents[depth])
+		}
+		open = parents
 
-log:
-  format: text                 # text | json
-  level: info                  # debug | info | warn | error
-`
+		line := indent(len(parents)) + leaf + ": " + yamlValue(k.shown())
+		switch {
+		case len(parents) == 0:
+			writeParagraph(b, k.doc)
+		case k.doc != "":
+			pad := max(commentColumn-utf8.RuneCountInString(line), 3)
+			line += strings.Repeat(" ", pad) + "# " + k.doc
+		}
+		b.WriteString(line + "\n")
+	}
+}
+
+// writeParagraph writes doc as comment lines of at most paragraphWidth
+// characters (a longer word gets a line of its own).
+func writeParagraph(b *strings.Builder, doc string) {
+	line := "#"
+	for _, word := range strings.Fields(doc) {
+		if line != "#" && utf8.RuneCountInString(line)+1+utf8.RuneCountInString(word) > paragraphWidth {
+			b.WriteString(line + "\n")
+			line = "#"
+		}
+		line += " " + word
+	}
+	if line != "#" {
+		b.WriteString(line + "\n")
+	}
+}
+
+func indent(depth int) string { return strings.Repeat("  ", depth) }
+
+// shown is the value the starter gives the key.
+func (k key) shown() any {
+	if k.example != nil {
+		return k.example
+	}
+	return k.def
+}
