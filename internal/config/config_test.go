@@ -27,7 +27,7 @@ func TestExampleConfigLoads(t *testing.T) {
 	if string(got) != Starter {
 		t.Fatalf("%s differs from config.Starter; copy Starter into it", example)
 	}
-	c, err := Load(example)
+	c, err := Load(example, testKinds)
 	if err != nil {
 		t.Fatalf("Load(%s): %v", example, err)
 	}
@@ -45,7 +45,7 @@ func TestExampleConfigLoads(t *testing.T) {
 }
 
 func TestDefaultsFillMissingKeys(t *testing.T) {
-	c, err := Load(writeConfig(t, "currency: NOK\n"))
+	c, err := Load(writeConfig(t, "currency: NOK\n"), testKinds)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -57,7 +57,7 @@ func TestDefaultsFillMissingKeys(t *testing.T) {
 func TestEnvironmentOverrides(t *testing.T) {
 	t.Setenv("COSTDRIFT_STORE", "/var/lib/costdrift/books.db")
 	t.Setenv("COSTDRIFT_ANALYSIS_WINDOW", "24")
-	c, err := Load(writeConfig(t, "store: local.db\nanalysis:\n  window: 30\n"))
+	c, err := Load(writeConfig(t, "store: local.db\nanalysis:\n  window: 30\n"), testKinds)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -112,7 +112,7 @@ func TestLoadErrors(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			path := writeConfig(t, tc.yaml)
-			_, err := Load(path)
+			_, err := Load(path, testKinds)
 			if err == nil {
 				t.Fatal("Load succeeded, want an error")
 			}
@@ -128,7 +128,7 @@ func TestLoadErrors(t *testing.T) {
 // unquoted as a user would.
 func TestCalendarPeriodKinds(t *testing.T) {
 	for _, kind := range []string{"month", "week", "4-4-5", "4-5-4", "5-4-4"} {
-		c, err := Load(writeConfig(t, "calendar:\n  period: "+kind+"\n  fiscal_year_start: 2\n"))
+		c, err := Load(writeConfig(t, "calendar:\n  period: "+kind+"\n  fiscal_year_start: 2\n"), testKinds)
 		if err != nil {
 			t.Errorf("calendar.period %s: %v", kind, err)
 			continue
@@ -141,7 +141,7 @@ func TestCalendarPeriodKinds(t *testing.T) {
 
 func TestUnknownSourceKind(t *testing.T) {
 	path := writeConfig(t, "sources:\n  ledger:\n    - {name: gl, kind: parquet, path: q.pq}\n")
-	_, err := Load(path)
+	_, err := Load(path, testKinds)
 	if err == nil || !strings.HasPrefix(err.Error(), "sources.ledger[0].kind: must be one of csv") || !strings.HasSuffix(err.Error(), `not "parquet" (`+path+")") {
 		t.Fatalf("got %v", err)
 	}
@@ -149,7 +149,7 @@ func TestUnknownSourceKind(t *testing.T) {
 
 func TestSQLSourceNeedsDSNOutsideConfig(t *testing.T) {
 	path := writeConfig(t, "sources:\n  ledger:\n    - {name: erp, kind: sql, driver: postgres, query: SELECT 1}\n")
-	_, err := Load(path)
+	_, err := Load(path, testKinds)
 	if err == nil || !strings.Contains(err.Error(), "set exactly one of dsn_env or dsn_file") {
 		t.Fatalf("got %v", err)
 	}
@@ -157,21 +157,21 @@ func TestSQLSourceNeedsDSNOutsideConfig(t *testing.T) {
 
 func TestAggregatedOnlyForTheLedger(t *testing.T) {
 	path := writeConfig(t, "sources:\n  activity:\n    - {name: erp, kind: sql, driver: postgres, dsn_env: ERP_DSN, aggregated: true, query: SELECT 1}\n")
-	_, err := Load(path)
+	_, err := Load(path, testKinds)
 	if err == nil || !strings.Contains(err.Error(), "sources.activity[0].aggregated: applies to a ledger source only") {
 		t.Fatalf("got %v", err)
 	}
 }
 
 func TestMissingFile(t *testing.T) {
-	_, err := Load(filepath.Join(t.TempDir(), "nope.yaml"))
+	_, err := Load(filepath.Join(t.TempDir(), "nope.yaml"), testKinds)
 	if err == nil || !strings.Contains(err.Error(), "not found") || !strings.Contains(err.Error(), "costdrift init") {
 		t.Fatalf("got %v, want a not-found error that points to costdrift init", err)
 	}
 }
 
 func TestInvalidYAML(t *testing.T) {
-	_, err := Load(writeConfig(t, "store: [unclosed\n"))
+	_, err := Load(writeConfig(t, "store: [unclosed\n"), testKinds)
 	if err == nil || !strings.Contains(err.Error(), "not valid YAML") {
 		t.Fatalf("got %v, want a YAML error", err)
 	}
@@ -198,7 +198,7 @@ func TestScheduleAndListenAccepted(t *testing.T) {
 		"http:\n  listen: 0.0.0.0:9464\n  allow_remote: true\n",
 		"log:\n  format: json\n  level: debug\n",
 	} {
-		if _, err := Load(writeConfig(t, yaml)); err != nil {
+		if _, err := Load(writeConfig(t, yaml), testKinds); err != nil {
 			t.Errorf("%q: %v", yaml, err)
 		}
 	}

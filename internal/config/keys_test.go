@@ -85,7 +85,7 @@ func TestStarterShowsEveryKey(t *testing.T) {
 	if err := raw.ReadConfig(strings.NewReader(Starter)); err != nil {
 		t.Fatal(err)
 	}
-	c, err := Load(writeConfig(t, Starter))
+	c, err := Load(writeConfig(t, Starter), testKinds)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -236,7 +236,7 @@ func TestDeclaredCheckMessages(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			path := writeConfig(t, tc.yaml)
-			_, err := Load(path)
+			_, err := Load(path, testKinds)
 			if err == nil {
 				t.Fatal("Load succeeded, want an error")
 			}

@@ -39,8 +39,9 @@ func newViper() *viper.Viper {
 }
 
 // Load reads the YAML file at path, applies defaults and COSTDRIFT_*
-// environment overrides, rejects unknown keys, and validates the result.
-func Load(path string) (*Config, error) {
+// environment overrides, rejects unknown keys, and validates the result;
+// kinds are the kinds of source the build reads.
+func Load(path string, kinds Kinds) (*Config, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
@@ -74,7 +75,7 @@ func Load(path string) (*Config, error) {
 		return nil, fmt.Errorf("config file %s: %w", path, err)
 	}
 	c.File = path
-	if err := c.Validate(); err != nil {
+	if err := c.Validate(kinds); err != nil {
 		return nil, err
 	}
 	return &c, nil

@@ -10,19 +10,15 @@ import (
 	"github.com/costdrift/costdrift/internal/money"
 )
 
-// SourceKinds lists the kinds of source this build reads, with the roles
-// each can fill. A kind's package registers itself in cmd/costdrift.
-var SourceKinds = map[string][]string{
-	"csv":  {"ledger", "activity", "accounts"},
-	"xlsx": {"ledger", "activity", "accounts"},
-	"sql":  {"ledger", "activity", "accounts"},
-	"saft": {"ledger", "accounts"},
-}
+// Kinds lists the kinds of source a build reads, with the roles each can
+// fill (ledger, activity, accounts). The application layer's registry of
+// source readers gives it to Load, so that a kind is declared in one place.
+type Kinds map[string][]string
 
-// Validate checks every key and returns the first problem, naming the key and
-// the file.
-func (c *Config) Validate() error {
-	err := c.validate()
+// Validate checks every key, the sources' kinds against kinds, and returns
+// the first problem, naming the key and the file.
+func (c *Config) Validate(kinds Kinds) error {
+	err := c.validate(kinds)
 	if err != nil {
 		err.File = c.File
 		return err
@@ -32,12 +28,12 @@ func (c *Config) Validate() error {
 
 // recordChecks check the lists of records. Each runs after the declared
 // keys of its top-level key, so problems come in the order of the file.
-var recordChecks = map[string]func(*Config) *Error{
+var recordChecks = map[string]func(*Config, Kinds) *Error{
 	"sources": (*Config).validateSources,
-	"alerts":  (*Config).validateRecipients,
+	"alerts":  func(c *Config, _ Kinds) *Error { return c.validateRecipients() },
 }
 
-func (c *Config) validate() *Error {
+func (c *Config) validate(kinds Kinds) *Error {
 	for _, section := range sections {
 		for _, k := range keysIn(section) {
 			if err := k.checkValue(c); err != nil {
@@ -45,7 +41,7 @@ func (c *Config) validate() *Error {
 			}
 		}
 		if records := recordChecks[section]; records != nil {
-			if err := records(c); err != nil {
+			if err := records(c, kinds); err != nil {
 				return err
 			}
 		}
@@ -59,7 +55,7 @@ func bad(key, format string, args ...any) *Error {
 
 // validateSources checks each source of each role; a name may be used once
 // across all roles, since commands and the store name sources by it.
-func (c *Config) validateSources() *Error {
+func (c *Config) validateSources(kinds Kinds) *Error {
 	names := map[string]string{} // source name -> the key that used it first
 	for _, role := range []struct {
 		name string
@@ -74,7 +70,7 @@ func (c *Config) validateSources() *Error {
 				return bad(key+".name", "%q is already the name of %s; names must be unique", s.Name, prev)
 			}
 			names[s.Name] = key
-			if err := validateSource(key, role.name, s); err != nil {
+			if err := validateSource(key, role.name, s, kinds); err != nil {
 				return err
 			}
 		}
@@ -84,10 +80,10 @@ func (c *Config) validateSources() *Error {
 
 // validateSource checks one source: its kind against its role, the keys
 // its kind needs, and how its file spells text, dates and amounts.
-func validateSource(key, role string, s Source) *Error {
-	roles, known := SourceKinds[s.Kind]
+func validateSource(key, role string, s Source, kinds Kinds) *Error {
+	roles, known := kinds[s.Kind]
 	if !known {
-		return bad(key+".kind", "must be one of %s, not %q", kindList(), s.Kind)
+		return bad(key+".kind", "must be one of %s, not %q", kinds.list(), s.Kind)
 	}
 	if !contains(roles, role) {
 		return bad(key+".kind", "a %s source cannot deliver %s", s.Kind, role)
@@ -226,10 +222,10 @@ func GoDateLayout(format string) (string, error) {
 	return layout, nil
 }
 
-func kindList() string {
-	kinds := make([]string, 0, len(SourceKinds))
-	for k := range SourceKinds {
-		kinds = append(kinds, k)
+func (k Kinds) list() string {
+	kinds := make([]string, 0, len(k))
+	for name := range k {
+		kinds = append(kinds, name)
 	}
 	sort.Strings(kinds)
 	return strings.Join(kinds, ", ")

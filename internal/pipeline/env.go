@@ -26,7 +26,7 @@ type Env struct {
 
 // Load reads and validates the config file at path.
 func Load(path string, now func() time.Time) (*Env, error) {
-	cfg, err := config.Load(path)
+	cfg, err := config.Load(path, Kinds())
 	if err != nil {
 		return nil, err
 	}

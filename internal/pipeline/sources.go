@@ -21,21 +21,34 @@ type fileReader func(ctx context.Context, e *Env, role costdrift.Role, src confi
 // which come back with an error too.
 type queryReader func(ctx context.Context, e *Env, role costdrift.Role, src config.Source, watermark string, w costdrift.SourceWriter) (read int, newWatermark string, warnings []string, err error)
 
-// sourceKind is how one kind of source is read: file by file, each file
-// one transaction, or by one query.
+// sourceKind is how one kind of source is read, file by file (each file
+// one transaction) or by one query, and the roles it can fill.
 type sourceKind struct {
+	roles []costdrift.Role
 	file  fileReader
 	query queryReader
 }
 
-// sourceKinds is the registry of the kinds of source this build reads. A
-// new kind is a reader here and its roles in config.SourceKinds; a test
-// keeps the two in step.
+var allRoles = []costdrift.Role{costdrift.RoleLedger, costdrift.RoleActivity, costdrift.RoleAccounts}
+
+// sourceKinds is the one registry of the kinds of source this build reads:
+// the config's check of each source's kind and role comes from it (Kinds).
 var sourceKinds = map[string]sourceKind{
-	"csv":  {file: readCSV},
-	"xlsx": {file: readXLSX},
-	"saft": {file: readSAFT},
-	"sql":  {query: readSQL},
+	"csv":  {roles: allRoles, file: readCSV},
+	"xlsx": {roles: allRoles, file: readXLSX},
+	"saft": {roles: []costdrift.Role{costdrift.RoleLedger, costdrift.RoleAccounts}, file: readSAFT},
+	"sql":  {roles: allRoles, query: readSQL},
+}
+
+// Kinds is the registry as the config checks it: each kind with its roles.
+func Kinds() config.Kinds {
+	out := make(config.Kinds, len(sourceKinds))
+	for name, k := range sourceKinds {
+		for _, r := range k.roles {
+			out[name] = append(out[name], string(r))
+		}
+	}
+	return out
 }
 
 func readCSV(ctx context.Context, e *Env, role costdrift.Role, src config.Source, path, display string, w costdrift.SourceWriter) (int, error) {
