@@ -10,7 +10,7 @@ import (
 
 // A corpus of malformed ledger files: each ends as rejects with reasons or
 // as one clear source error; none crashes; every row read is either stored
-// or rejected (PRODUCT §7).
+// or rejected (README, Sources: a row that cannot be read goes to the rejects table).
 func TestBadInputCorpus(t *testing.T) {
 	const h = "entry_id,line,date,account,cost_center,amount,description\n"
 	const good = "G1,1,2026-01-05,6100,WELD,10.00,ok\n"

@@ -123,7 +123,7 @@ func TestDataQuality(t *testing.T) {
 	if n := count(t, store, `SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND reasons = '{"amount in USD with no functional_amount in EUR":1,"duplicate key with different values inside one load":1}'`); n != 1 {
 		t.Errorf("reasons not counted in sync_runs")
 	}
-	// read = stored + rejected (PRODUCT §7: every row ends somewhere).
+	// read = stored + rejected (README, Sources: every row ends in the store or in rejects).
 	if n := count(t, store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND rows_read = rows_loaded + rows_rejected"); n != 1 {
 		t.Errorf("rows read do not equal stored plus rejected")
 	}

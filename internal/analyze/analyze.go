@@ -11,7 +11,7 @@ import (
 	"github.com/costdrift/costdrift/internal/fit"
 )
 
-// Settings are the method settings (PRODUCT defaults in brackets).
+// Settings are the method settings (the README's method defaults in brackets).
 type Settings struct {
 	MinPeriods int     // fewer observations than this: insufficient_data [12]
 	Lags       []int   // periods a driver may lead the cost [0, 1]

@@ -136,7 +136,7 @@ func TestInsufficientData(t *testing.T) {
 	}
 }
 
-// A significant negative slope is reported and never used (PRODUCT §5).
+// A significant negative slope is reported and never used (README, The method).
 func TestNegativeSlopeIsImplausible(t *testing.T) {
 	const n = 30
 	r := rand.New(rand.NewPCG(3, 5))

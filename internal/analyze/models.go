@@ -9,7 +9,7 @@ import (
 	"github.com/costdrift/costdrift/internal/fit"
 )
 
-// Step model settings (PRODUCT §5): 2 to 4 levels, each at least 3 periods.
+// Step model settings (README, The method): 2 to 4 levels, each at least 3 periods.
 // A step model must beat the straight line on the same data by at least
 // StepMinDeltaAICc. The brief's default is 4, a difference conventionally
 // read as "considerably less support" for the worse model (Burnham &
@@ -244,7 +244,7 @@ func (s *second) screen() (b1, b2, partialF, vif float64, ok bool) {
 	return b1, b2, partialF, vif, true
 }
 
-// forwardSelect looks for a second driver (PRODUCT §5): its coefficient
+// forwardSelect looks for a second driver (README, The method): its coefficient
 // positive and significant by the partial F test at alpha /
 // SecondDriverStrictness, Bonferroni-corrected over the second drivers tried;
 // the pair's variance inflation below MaxVIF; and the leave-one-out error at

@@ -12,7 +12,7 @@ const SpendingPeriods = 2
 
 // spending checks the newest periods' actual cost against the 95 %
 // prediction interval of the behaviour's formula at their actual activity,
-// the formula fitted without them (PRODUCT §5): through the origin for a
+// the formula fitted without them (README, The method): through the origin for a
 // variable cost, a line for mixed and step costs (a step's levels are a line
 // near one level), the mean without a driver. The check of period t leaves
 // out t and every later period, so it sees only what was known before.

@@ -17,8 +17,8 @@ import (
 )
 
 // The data set is invented; these tests check that the files carry the
-// design (Expectations and the activity design in company.go, both taken
-// from the product brief) and the file formats the sources read. They read
+// design (Expectations and the activity design in company.go, both as the
+// README's demo section describes them) and the file formats the sources read. They read
 // the written files back rather than trusting the generator's memory, except
 // where the unrounded designed amounts are needed.
 
@@ -428,7 +428,7 @@ func TestExpectationsCoverLedger(t *testing.T) {
 }
 
 // TestExpectationsMatchDesign checks Expectations against the cost design
-// of the product brief, transcribed here independently of company.go.
+// as the README's demo section describes it, transcribed here independently of company.go.
 func TestExpectationsMatchDesign(t *testing.T) {
 	tests := []struct {
 		name               string
@@ -440,7 +440,7 @@ func TestExpectationsMatchDesign(t *testing.T) {
 		driftFixed         float64
 		driftRate          float64
 	}{
-		// Source of every row: the cost design in the product brief.
+		// Source of every row: the cost design of the demo (README, Set up and try it).
 		{"tubing", "5100", "WELD", "variable", "frames_built", "", 0, 0, 18.40, 0.02, "", 0, 0},
 		{"paint", "5200", "PAINT", "variable", "frames_built", "", 0, 0, 6.75, 0.03, "", 0, 0},
 		{"rent weld", "6100", "WELD", "fixed", "", "", 0, 4200, 0, 0, "", 0, 0},
@@ -589,7 +589,7 @@ func checkUnexplained(t *testing.T, e Expectation, costs []float64, p parsed) {
 
 func TestActivityDesign(t *testing.T) {
 	_, _, p := writeAndRead(t, DefaultSeed)
-	// Source: the activity design of the product brief.
+	// Source: the activity design of the demo (README, Set up and try it).
 	wantUnits := map[[2]string]string{
 		{"frames_built", ""}: "frame", {"shipments", ""}: "shipment", {"orders", ""}: "order",
 		{"machine_hours", "WELD"}: "machine hour", {"machine_hours", "PAINT"}: "machine hour",

@@ -20,7 +20,7 @@ func TestTrimmingRange(t *testing.T) {
 		wantTooFew bool
 		trim       float64
 	}{
-		{"n100 k1", 100, 1, 15, 85, false, 0.15},            // Nile, notes §2(d): points 15..85
+		{"n100 k1", 100, 1, 15, 85, false, 0.15},            // Nile as in strucchange's example: points 15..85
 		{"n36 k2", 36, 2, 5, 31, false, 0.15},               // floor(5.4) = 5
 		{"n25 k1", 25, 1, 3, 22, false, 0.15},               // floor(3.75) = 3
 		{"n24 k3 clamp", 24, 3, 4, 20, false, 0.15},         // floor(3.6) = 3 < k+1 = 4; to 21 > n−k−1 = 20

@@ -54,7 +54,7 @@ func printed(t *testing.T, what string, got, want float64, digits int) {
 // TestNile checks the mean-shift model Nile ~ 1 (n = 100, k = 1) against the
 // values strucchange prints in its saved test output
 // (cran/strucchange tests/strucchange-tests.Rout.save and
-// tests/Examples/strucchange-Ex.Rout.save [READ, reference notes §2(d)]);
+// tests/Examples/strucchange-Ex.Rout.save);
 // Debian's r-cran-strucchange 1.5-3 prints the same. Each value is matched
 // to the digits printed, and to the notes' recomputation where they give
 // more digits.
@@ -66,7 +66,7 @@ func TestNile(t *testing.T) {
 		t.Fatal(err)
 	}
 	if fs.From != 15 || fs.To != 85 || len(fs.F) != 71 {
-		t.Errorf("candidates %d..%d (%d), want 15..85 (71): notes §2(b), Fstats from = floor(0.15·100)",
+		t.Errorf("candidates %d..%d (%d), want 15..85 (71): strucchange Fstats, from = floor(0.15·100)",
 			fs.From, fs.To, len(fs.F))
 	}
 	printed(t, "sup.F", fs.SupF, 75.93, 4)                  // strucchange: sup.F = 75.93
@@ -95,7 +95,7 @@ func TestNile(t *testing.T) {
 
 	// sctest(Nile ~ 1, type = "Chow", point = 28): F = 75.93, p-value = 7.438e-14
 	// (Debian r-cran-strucchange 1.5-3; with k = 1 the Chow F equals the
-	// Wald-scale F_28, notes §2(d)).
+	// Wald-scale F_28).
 	F, p, err := Chow(nil, y, true, 28)
 	if err != nil {
 		t.Fatal(err)

@@ -7,8 +7,7 @@ import (
 )
 
 // TestAndrewsCritical checks the embedded Andrews (2003) table at 15 %
-// trimming against the values in the reference notes §2(b) [READ: Andrews
-// (2003) Table 1 via cran/tseriesTARMA data/ACValues.rda; the same to 2
+// trimming against Andrews (2003), Table 1 [read via cran/tseriesTARMA data/ACValues.rda; the same to 2
 // decimals as gretl's QLR_critvals × q], and a few other cells against the
 // csv rows themselves.
 func TestAndrewsCritical(t *testing.T) {
@@ -19,15 +18,15 @@ func TestAndrewsCritical(t *testing.T) {
 		level float64
 		want  float64
 	}{
-		{"p1 10%", 1, 0.15, 0.10, 7.12},           // notes §2(b)
-		{"p1 5%", 1, 0.15, 0.05, 8.68},            // notes §2(b)
-		{"p1 1%", 1, 0.15, 0.01, 12.16},           // notes §2(b)
-		{"p2 10%", 2, 0.15, 0.10, 10.00},          // notes §2(b)
-		{"p2 5%", 2, 0.15, 0.05, 11.72},           // notes §2(b)
-		{"p2 1%", 2, 0.15, 0.01, 15.56},           // notes §2(b)
-		{"p3 10%", 3, 0.15, 0.10, 12.28},          // notes §2(b)
-		{"p3 5%", 3, 0.15, 0.05, 14.13},           // notes §2(b)
-		{"p3 1%", 3, 0.15, 0.01, 18.07},           // notes §2(b)
+		{"p1 10%", 1, 0.15, 0.10, 7.12},           // Andrews (2003), Table 1
+		{"p1 5%", 1, 0.15, 0.05, 8.68},            // Andrews (2003), Table 1
+		{"p1 1%", 1, 0.15, 0.01, 12.16},           // Andrews (2003), Table 1
+		{"p2 10%", 2, 0.15, 0.10, 10.00},          // Andrews (2003), Table 1
+		{"p2 5%", 2, 0.15, 0.05, 11.72},           // Andrews (2003), Table 1
+		{"p2 1%", 2, 0.15, 0.01, 15.56},           // Andrews (2003), Table 1
+		{"p3 10%", 3, 0.15, 0.10, 12.28},          // Andrews (2003), Table 1
+		{"p3 5%", 3, 0.15, 0.05, 14.13},           // Andrews (2003), Table 1
+		{"p3 1%", 3, 0.15, 0.01, 18.07},           // Andrews (2003), Table 1
 		{"p20 1% pi0 .15", 20, 0.15, 0.01, 48.59}, // csv row pi0 = 0.15, last column
 		{"p1 5% pi0 .05", 1, 0.05, 0.05, 9.71},    // csv row pi0 = 0.05
 		{"p1 1% pi0 .5", 1, 0.5, 0.01, 6.63},      // csv row pi0 = 0.5: the χ²_1 1 % point (common practice)
@@ -54,7 +53,7 @@ func TestAndrewsCritical(t *testing.T) {
 }
 
 // TestOLSCUSUMCritical: the Kolmogorov critical values of sup|Brownian
-// bridge|. Reference notes §2(a) [READ: statsmodels breaks_cusumolsresid,
+// bridge| [statsmodels breaks_cusumolsresid,
 // 1.62762361, 1.35809864, 1.22384787; printed to 3 decimals as 1.628, 1.358,
 // 1.224 in Ploberger & Krämer (1992)].
 func TestOLSCUSUMCritical(t *testing.T) {
@@ -94,8 +93,8 @@ func TestOLSCUSUMCritical(t *testing.T) {
 }
 
 // TestRecursiveCUSUMCritical: the Brown, Durbin & Evans (1975) boundary
-// constants 0.850, 0.948, 1.143 at 10, 5, 1 % [READ: reference notes §2(a),
-// statsmodels recursive_olsresiduals; RECOMPUTED there from strucchange's
+// constants 0.850, 0.948, 1.143 at 10, 5, 1 % [statsmodels
+// recursive_olsresiduals; recomputed from strucchange's
 // crossing probability as 0.84992, 0.94790, 1.14297].
 func TestRecursiveCUSUMCritical(t *testing.T) {
 	tests := []struct {

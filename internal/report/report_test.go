@@ -64,7 +64,7 @@ func TestFormula(t *testing.T) {
 	}
 }
 
-// The JSON report's fields are a contract (PRODUCT §4).
+// The JSON report's fields are a contract (README, Command line: `report --format json`).
 func TestJSONFields(t *testing.T) {
 	bs := []costdrift.Behaviour{
 		{Object: costdrift.CostObject{Account: "6200", CostCenter: "WELD"}, Class: costdrift.Mixed, Driver: "machine_hours", Unit: "machine hour",

@@ -48,7 +48,7 @@ func TestWindowEndsAtNewestClosedPeriodWithPostings(t *testing.T) {
 }
 
 // A period with no postings for an object is zero cost only when the ledger
-// as a whole has postings then (PRODUCT §5); otherwise it is unknown.
+// as a whole has postings then (README, The method); otherwise it is unknown.
 func TestMissingPeriods(t *testing.T) {
 	costs := []costdrift.CostTotal{
 		{Period: "2026-07", Account: "6100", AmountMinor: 100},

@@ -199,7 +199,7 @@ func diagNum(f costdrift.Fit, v float64) any {
 	return num(v)
 }
 
-// saveBehaviour keeps an object's effective-dated history (PRODUCT §5):
+// saveBehaviour keeps an object's effective-dated history (README, Drift):
 //
 //   - no open row: the behaviour opens one from its first period; with a
 //     break, a closed row for the periods before the break is written first,
