@@ -9,6 +9,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
 // TestMain lets the test binary stand in for the costdrift command, so that
@@ -89,10 +91,11 @@ func TestKilledSyncLeavesStoreConsistent(t *testing.T) {
 		if _, err := os.Stat(store); err != nil {
 			continue // killed before the store existed
 		}
-		if tryCount(store, "SELECT COUNT(*) FROM sqlite_master WHERE name = 'gl_lines'") != 1 {
-			// Killed before the first migration committed: the store
-			// has no tables yet, and the next sync creates them.
-			t.Logf("kill %d: before the store's tables were created", k)
+		if tryCount(store, "SELECT MAX(version) FROM schema_migrations") != sqlite.SchemaVersion() {
+			// Killed before the last migration committed (each commits on
+			// its own): the store's tables are not all there yet, and the
+			// next sync creates the rest.
+			t.Logf("kill %d: before the store's migrations were done", k)
 			continue
 		}
 		stored := 0
