@@ -158,7 +158,7 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		}
 		b.FixedPerPeriod = m.Levels[0].Mean
 		if terms, err := fit.StepTerms(m); err == nil {
-			b.Prediction = &terms
+			b.Prediction = stored(terms)
 		}
 		chosen := &res.Fits[best.stepIdx]
 		chosen.Chosen = true
@@ -301,15 +301,21 @@ func highLow(c *candidate) *costdrift.HighLow {
 	return out
 }
 
-// termsOf is r's prediction terms.
-func termsOf(r *fit.Regression) *fit.Terms {
-	t := r.Terms()
-	return &t
+// termsOf is r's prediction terms as a behaviour stores them.
+func termsOf(r *fit.Regression) *costdrift.PredictionTerms {
+	return stored(r.Terms())
+}
+
+// stored is t in the domain's type, the form a behaviour carries to the
+// store and the budget.
+func stored(t fit.Terms) *costdrift.PredictionTerms {
+	p := costdrift.PredictionTerms(t)
+	return &p
 }
 
 // constantTerms is the prediction terms of the mean of y, nil when there is
 // no residual degree of freedom.
-func constantTerms(y []float64) *fit.Terms {
+func constantTerms(y []float64) *costdrift.PredictionTerms {
 	r, err := fit.Constant(y)
 	if err != nil || r.DF < 1 {
 		return nil
