@@ -214,7 +214,7 @@ type alertJSON struct {
 
 func newAlertJSON(a costdrift.Alert) alertJSON {
 	j := alertJSON{ID: a.ID, Kind: string(a.Kind), Object: a.Object, Severity: string(a.Severity), Status: a.Status,
-		Period: a.Period, Message: a.Message, Occurrences: a.Occurrences, Fingerprint: a.Fingerprint, Evidence: a.Evidence,
+		Period: a.Period, Message: a.Message, Occurrences: a.Occurrences, Fingerprint: a.Fingerprint, Evidence: a.Evidence.Map(),
 		CreatedAt: a.CreatedAt.UTC().Format(time.RFC3339), UpdatedAt: a.UpdatedAt.UTC().Format(time.RFC3339)}
 	if a.AckUntil != "" {
 		until := a.AckUntil
@@ -292,13 +292,13 @@ func writeAlertDetail(w io.Writer, a costdrift.Alert) error {
 		return err
 	}
 	fmt.Fprintln(w)
-	if len(a.Evidence) == 0 {
+	if len(a.Evidence.Map()) == 0 {
 		_, err := fmt.Fprintln(w, "Evidence: none stored")
 		return err
 	}
 	fmt.Fprintln(w, "Evidence")
 	var rows []evidenceRow
-	evidenceRows(&rows, "  ", a.Evidence)
+	evidenceRows(&rows, "  ", a.Evidence.Map())
 	width := 0
 	for _, r := range rows {
 		width = max(width, utf8.RuneCountInString(r.label))

@@ -37,7 +37,7 @@ func alertStore(t *testing.T) string {
 	defer db.Close()
 	raise := func(kind costdrift.AlertKind, object string, severity costdrift.Severity, period, message string, evidence map[string]any) costdrift.Alert {
 		return costdrift.Alert{Kind: kind, Object: object, Severity: severity, Period: period, Message: message,
-			Fingerprint: costdrift.Fingerprint(kind, object, ""), Evidence: evidence}
+			Fingerprint: costdrift.Fingerprint(kind, object, ""), Evidence: costdrift.AlertEvidence{Other: evidence}}
 	}
 	alerts := []costdrift.Alert{
 		raise(costdrift.AlertRateShift, "6200/WELD", costdrift.SeverityWarning, "2025-07", "rate per machine hour up from 1.88 to 2.21 since 2025-07",

@@ -11,7 +11,7 @@ import (
 	"github.com/xuri/excelize/v2"
 
 	"github.com/costdrift/costdrift/internal/atomicfile"
-	"github.com/costdrift/costdrift/internal/budget"
+	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
@@ -132,7 +132,7 @@ func writeXLSX(w io.Writer, sheet string, cells [][]any) error {
 	if err := f.SetSheetName("Sheet1", sheet); err != nil {
 		return err
 	}
-	rows := append(cells, nil, []any{strings.ToUpper(budget.Independence[:1]) + budget.Independence[1:] + "."})
+	rows := append(cells, nil, []any{strings.ToUpper(costdrift.Independence[:1]) + costdrift.Independence[1:] + "."})
 	for _, line := range strings.Split(report.Caution, "\n") {
 		rows = append(rows, []any{line})
 	}

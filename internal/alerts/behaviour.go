@@ -61,9 +61,9 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 			level := math.Abs(k.LevelBefore)
 			fixed := (k.FixedAfter - k.FixedBefore) / level
 			rate := (k.RateAfter - k.RateBefore) * k.ActivityBefore / level
-			ev := map[string]any{"test": k.Test, "statistic": finite(k.Statistic), "p": finite(k.P), "break": k.Period,
-				"fixed_before": finite(k.FixedBefore), "fixed_after": finite(k.FixedAfter), "rate_before": finite(k.RateBefore),
-				"rate_after": finite(k.RateAfter), "periods_after": k.Periods, "provisional": k.Provisional, "r2": finite(b.R2), "n": b.N}
+			ev := costdrift.AlertEvidence{Test: new(k.Test), Statistic: new(k.Statistic), P: new(k.P), Break: new(k.Period),
+				FixedBefore: new(k.FixedBefore), FixedAfter: new(k.FixedAfter), RateBefore: new(k.RateBefore),
+				RateAfter: new(k.RateAfter), PeriodsAfter: new(k.Periods), Provisional: new(k.Provisional), R2: new(b.R2), N: new(b.N)}
 			if math.Abs(fixed) >= MinShift {
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertFixedShift, Object: object, Severity: severity(fixed), Period: k.Period,
@@ -137,19 +137,14 @@ func rateText(v float64) string {
 	return fmt.Sprintf("%.2f", v)
 }
 
-func evidence(b, prev costdrift.Behaviour) map[string]any {
-	return map[string]any{
-		"class_before": string(prev.Class), "class_after": string(b.Class),
-		"driver_before": prev.Driver, "driver_after": b.Driver,
-		"fixed_before": finite(prev.FixedPerPeriod), "rate_before": finite(prev.VariableRate),
-		"fixed_after": finite(b.FixedPerPeriod), "rate_after": finite(b.VariableRate),
-		"since": b.Since, "reason": b.Reason, "r2": finite(b.R2), "n": b.N,
+// evidence of a change of class or driver: both behaviours' formulas, and
+// the fit of the new one. A number that is not finite is stored as null.
+func evidence(b, prev costdrift.Behaviour) costdrift.AlertEvidence {
+	return costdrift.AlertEvidence{
+		ClassBefore: new(string(prev.Class)), ClassAfter: new(string(b.Class)),
+		DriverBefore: new(prev.Driver), DriverAfter: new(b.Driver),
+		FixedBefore: new(prev.FixedPerPeriod), RateBefore: new(prev.VariableRate),
+		FixedAfter: new(b.FixedPerPeriod), RateAfter: new(b.VariableRate),
+		Since: new(b.Since), Reason: new(b.Reason), R2: new(b.R2), N: new(b.N),
 	}
-}
-
-func finite(v float64) any {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return v
 }

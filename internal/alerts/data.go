@@ -45,8 +45,8 @@ func Spending(current []costdrift.Behaviour, names map[string]string) []costdrif
 			Message: fmt.Sprintf("%s: %s cost %.2f is %s the expected %.2f (95 %% interval %.2f to %.2f)",
 				label(b, names), c.Period, c.Actual, side, c.Expected, c.Low, c.High),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertSpendingOutlier, b.Object.String(), c.Period),
-			Evidence: map[string]any{"period": c.Period, "actual": c.Actual, "expected": c.Expected, "low95": c.Low, "high95": c.High,
-				"activity": c.Activity, "formula_fitted_without_it": true, "repeats": sev == costdrift.SeverityWarning},
+			Evidence: costdrift.AlertEvidence{Period: new(c.Period), Actual: new(c.Actual), Expected: new(c.Expected), Low95: new(c.Low),
+				High95: new(c.High), Activity: new(c.Activity), FormulaFittedWithoutIt: new(true), Repeats: new(sev == costdrift.SeverityWarning)},
 		})
 	}
 	return out
@@ -82,7 +82,8 @@ func OutOfRange(current []costdrift.Behaviour, newest map[string]NewestActivity,
 			Message: fmt.Sprintf("%s: %s activity %.1f %s is %.0f %% outside the relevant range %.1f to %.1f; the formula does not hold there",
 				label(b, names), a.Period, a.Value, strings.ReplaceAll(b.Driver, "_", " "), 100*beyond, b.RangeMin, b.RangeMax),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertOutOfRange, b.Object.String(), a.Period),
-			Evidence:    map[string]any{"period": a.Period, "activity": a.Value, "range_min": b.RangeMin, "range_max": b.RangeMax, "driver": b.Driver},
+			Evidence: costdrift.AlertEvidence{Period: new(a.Period), Activity: new(a.Value), RangeMin: new(b.RangeMin), RangeMax: new(b.RangeMax),
+				Driver: new(b.Driver)},
 		})
 	}
 	return out
@@ -127,7 +128,7 @@ func DataGap(p *costdrift.Panel, names map[string]string) []costdrift.Alert {
 				Message: fmt.Sprintf("%s%s has no postings in %s though it posted in every other period of the window", object,
 					prefix(" ", name), p.Periods[i]),
 				Fingerprint: costdrift.Fingerprint(costdrift.AlertDataGap, object, p.Periods[i]),
-				Evidence:    map[string]any{"period": p.Periods[i], "periods_posted": posted},
+				Evidence:    costdrift.AlertEvidence{Period: new(p.Periods[i]), PeriodsPosted: new(posted)},
 			})
 		}
 	}
@@ -164,7 +165,7 @@ func SourceFailure(states []SourceState) []costdrift.Alert {
 			Kind: costdrift.AlertSourceFailure, Object: s.Name, Severity: sev,
 			Message:     fmt.Sprintf("source %s failed %d time(s) in a row: %s", s.Name, s.Failures, s.LastError),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertSourceFailure, s.Name, ""),
-			Evidence:    map[string]any{"failures_in_a_row": s.Failures, "error": s.LastError},
+			Evidence:    costdrift.AlertEvidence{FailuresInARow: new(s.Failures), Error: new(s.LastError)},
 		})
 	}
 	return out
@@ -183,7 +184,7 @@ func StaleSource(states []SourceState) []costdrift.Alert {
 			Message: fmt.Sprintf("source %s has nothing newer than %s: %d closed periods since have no data from it",
 				s.Name, s.NewestPeriod, s.PeriodsBehind),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertStaleSource, s.Name, ""),
-			Evidence:    map[string]any{"newest_period": s.NewestPeriod, "closed_periods_behind": s.PeriodsBehind},
+			Evidence:    costdrift.AlertEvidence{NewestPeriod: new(s.NewestPeriod), ClosedPeriodsBehind: new(s.PeriodsBehind)},
 		})
 	}
 	return out

@@ -156,7 +156,7 @@ func provisionalRate(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float
 // keptRateTerms are the prediction terms of cost = ȳ + rate·(x − x̄) on the
 // periods x, y with the rate given and its variance (see provisionalRate);
 // nil without a residual degree of freedom.
-func keptRateTerms(x, y []float64, rate, rateVariance float64) *fit.Terms {
+func keptRateTerms(x, y []float64, rate, rateVariance float64) *costdrift.PredictionTerms {
 	n := len(y)
 	if n < 2 {
 		return nil
@@ -172,7 +172,7 @@ func keptRateTerms(x, y []float64, rate, rateVariance float64) *fit.Terms {
 	if s > 0 {
 		rateCov = rateVariance / (s * s)
 	}
-	return &fit.Terms{Intercept: true, Centre: []float64{mx}, Coef: []float64{my, rate},
+	return &costdrift.PredictionTerms{Intercept: true, Centre: []float64{mx}, Coef: []float64{my, rate},
 		Cov: []float64{1 / float64(n), 0, 0, rateCov}, S: s, N: n, DF: n - 1}
 }
 
@@ -354,7 +354,7 @@ func breakText(b *costdrift.Break, s Settings) string {
 
 // sideFormula fits one side of a break: a line on the driver (through the
 // origin for a variable cost), or the mean.
-func sideFormula(x, y []float64, lo, hi int, proportional bool) (fixed, rate float64, terms *fit.Terms) {
+func sideFormula(x, y []float64, lo, hi int, proportional bool) (fixed, rate float64, terms *costdrift.PredictionTerms) {
 	if x != nil && proportional {
 		if r, err := fit.ThroughOrigin(x[lo:hi], y[lo:hi]); err == nil {
 			return 0, r.Coef[0], termsOf(r)

@@ -33,47 +33,73 @@ import (
 //
 // A significant negative slope is reported in the reason and never used.
 func classify(res *Result, cands, ranked []*candidate, y []float64, periods []string, s Settings) {
-	b := &res.Behaviour
+	note := implausibleNote(cands)
+	diag := &costdrift.Diagnostics{Candidates: len(cands)}
+	if len(ranked) == 0 {
+		classifyWithoutDriver(res, len(cands), y, note, diag, s)
+		return
+	}
+	steps, stepCand, stepBest := chooseStep(res, ranked, s)
+	best := ranked[0]
+	if stepCand != nil {
+		best = stepCand
+	}
+	adoptDriver(res, best, steps, diag)
+	if stepCand != nil {
+		classifyStep(res, best, stepBest, diag, note)
+		return
+	}
+	line := chooseLine(res, best, cands, diag, s)
+	classifyLine(res, best, line, y, diag, note, s)
+}
+
+// implausibleNote is the part of a reason that counts the significant
+// negative slopes ignored; "" when there are none.
+func implausibleNote(cands []*candidate) string {
 	implausible := 0
 	for _, c := range cands {
 		if c.negative {
 			implausible++
 		}
 	}
-	tried := fmt.Sprintf("%d driver-lag candidates tried", len(cands))
-	note := ""
-	if implausible > 0 {
-		note = fmt.Sprintf("; %d significant negative slope(s) ignored as implausible", implausible)
+	if implausible == 0 {
+		return ""
 	}
-	diag := &costdrift.Diagnostics{Candidates: len(cands)}
+	return fmt.Sprintf("; %d significant negative slope(s) ignored as implausible", implausible)
+}
 
-	if len(ranked) == 0 {
-		constantFit := res.Fits[0]
-		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelConstant, N: constantFit.N,
-			AICc: constantFit.AICc, PRESS: constantFit.PRESS, R2: 0})
-		b.R2 = math.NaN()
-		b.FixedPerPeriod = b.MeanCost
-		b.Prediction = constantTerms(y)
-		res.Fits[0].Chosen = true
-		b.Diagnostics = diag
-		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
-		if b.CV <= FixedMaxCV {
-			b.Class = costdrift.Fixed
-			b.Reason = fmt.Sprintf("no driver explains it (%s, Holm-corrected at %g) and it varies %.1f %% around its mean (at most %.0f %%)%s",
-				tried, s.Alpha, 100*b.CV, 100*FixedMaxCV, note)
-		} else {
-			b.Class = costdrift.Unexplained
-			b.Reason = fmt.Sprintf("no driver explains it (%s, Holm-corrected at %g) and it varies %.1f %% around its mean (more than %.0f %%); the fixed amount shown is the mean%s",
-				tried, s.Alpha, 100*b.CV, 100*FixedMaxCV, note)
-		}
-		return
+// classifyWithoutDriver is the first rule: no driver is significant, so
+// the cost is fixed at its mean when it varies little, else unexplained.
+func classifyWithoutDriver(res *Result, tried int, y []float64, note string, diag *costdrift.Diagnostics, s Settings) {
+	b := &res.Behaviour
+	constantFit := res.Fits[0]
+	diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelConstant, N: constantFit.N,
+		AICc: constantFit.AICc, PRESS: constantFit.PRESS, R2: 0})
+	b.R2 = math.NaN()
+	b.FixedPerPeriod = b.MeanCost
+	b.Prediction = constantTerms(y)
+	res.Fits[0].Chosen = true
+	b.Diagnostics = diag
+	diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
+	if b.CV <= FixedMaxCV {
+		b.Class = costdrift.Fixed
+		b.Reason = fmt.Sprintf("no driver explains it (%d driver-lag candidates tried, Holm-corrected at %g) and it varies %.1f %% around its mean (at most %.0f %%)%s",
+			tried, s.Alpha, 100*b.CV, 100*FixedMaxCV, note)
+	} else {
+		b.Class = costdrift.Unexplained
+		b.Reason = fmt.Sprintf("no driver explains it (%d driver-lag candidates tried, Holm-corrected at %g) and it varies %.1f %% around its mean (more than %.0f %%); the fixed amount shown is the mean%s",
+			tried, s.Alpha, 100*b.CV, 100*FixedMaxCV, note)
 	}
+}
 
-	// Step models on the best-ranked drivers: a step beats the line on the
-	// same data by ΔAICc >= StepMinDeltaAICc, with levels rising in the driver.
-	var stepCand *candidate
-	var stepBest *stepFit
-	steps := map[*candidate]*stepFit{}
+// chooseStep fits step models on the best-ranked drivers, records each fit,
+// and returns them with the step that wins, if any: it beats the line on
+// the same data by ΔAICc >= StepMinDeltaAICc (less to stay a step, more to
+// become one), beats the best line of any driver too, has levels rising in
+// the driver and is flat inside them.
+func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candidate]*stepFit, stepCand *candidate, stepBest *stepFit) {
+	b := &res.Behaviour
+	steps = map[*candidate]*stepFit{}
 	for i, c := range ranked {
 		if i == StepCandidates {
 			break
@@ -114,11 +140,14 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 			c.stepIdx = len(res.Fits) - 1
 		}
 	}
+	return steps, stepCand, stepBest
+}
 
-	best := ranked[0]
-	if stepCand != nil {
-		best = stepCand
-	}
+// adoptDriver makes best the behaviour's driver: its range, period span
+// and high-low estimate, and the comparison of the models fitted on its
+// periods.
+func adoptDriver(res *Result, best *candidate, steps map[*candidate]*stepFit, diag *costdrift.Diagnostics) {
+	b := &res.Behaviour
 	best.full()
 	lin := best.linear
 	res.x, res.y, res.index = best.x, best.y, best.index
@@ -147,80 +176,105 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 	b.Since, b.Until = best.periods[0], best.periods[len(best.periods)-1]
 	b.HighLow = highLow(best)
 	b.Diagnostics = diag
-	label := driverLabel(best)
+}
 
-	if stepCand != nil {
-		m := stepBest.model
-		b.Class = costdrift.Step
-		b.R2 = stepBest.r2
-		for _, l := range m.Levels {
-			b.Steps = append(b.Steps, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
-		}
-		b.FixedPerPeriod = m.Levels[0].Mean
-		if terms, err := fit.StepTerms(m); err == nil {
-			b.Prediction = &terms
-		}
-		chosen := &res.Fits[best.stepIdx]
-		chosen.Chosen = true
-		diagnose(chosen, lin, [][]float64{best.x}, best.y, best.periods, diag)
-		chosen.DurbinWatson = fit.DurbinWatson(m.Residuals)
-		diag.DurbinWatson = chosen.DurbinWatson
-		b.Outliers = chosen.Outliers
-		b.Reason = fmt.Sprintf("cost steps up with %s: %d levels (AICc %.1f below the straight line's, R² %.2f, n %d)%s",
-			label, len(m.Levels), lin.AICc-m.AICc, stepBest.r2, len(best.x), note)
-		return
+// classifyStep is the step rule: the formula is the winning step model's
+// levels.
+func classifyStep(res *Result, best *candidate, stepBest *stepFit, diag *costdrift.Diagnostics, note string) {
+	b := &res.Behaviour
+	lin := best.linear
+	m := stepBest.model
+	b.Class = costdrift.Step
+	b.R2 = stepBest.r2
+	for _, l := range m.Levels {
+		b.Steps = append(b.Steps, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
 	}
+	b.FixedPerPeriod = m.Levels[0].Mean
+	if terms, err := fit.StepTerms(m); err == nil {
+		b.Prediction = stored(terms)
+	}
+	chosen := &res.Fits[best.stepIdx]
+	chosen.Chosen = true
+	diagnose(chosen, lin, [][]float64{best.x}, best.y, best.periods, diag)
+	chosen.DurbinWatson = fit.DurbinWatson(m.Residuals)
+	diag.DurbinWatson = chosen.DurbinWatson
+	b.Outliers = chosen.Outliers
+	b.Reason = fmt.Sprintf("cost steps up with %s: %d levels (AICc %.1f below the straight line's, R² %.2f, n %d)%s",
+		driverLabel(best), len(m.Levels), lin.AICc-m.AICc, stepBest.r2, len(best.x), note)
+}
 
-	// A second driver, by forward selection.
+// lineFormula is the regression the line rules judge: the best driver's
+// line, or the line on it and a second driver; its shares of cost at mean
+// activity, the data it was fitted on, and the words for the reason.
+type lineFormula struct {
+	pair                      *second // the second driver; nil for one
+	a, slope, slope2          float64
+	fixedShare, variableShare float64
+	interceptP                float64
+	reg                       *fit.Regression
+	columns                   [][]float64
+	ys                        []float64
+	periods                   []string
+	fitIdx                    int    // its record in Result.Fits
+	label                     string // the driver, or both drivers
+	evidence                  string // R², the test, n
+}
+
+// chooseLine is the line on best's driver, with a second driver when
+// forward selection adopts one (which sets it on the behaviour and records
+// the two-driver fit).
+func chooseLine(res *Result, best *candidate, cands []*candidate, diag *costdrift.Diagnostics, s Settings) lineFormula {
+	b := &res.Behaviour
+	lin := best.linear
 	pair, secondTried := forwardSelect(best, cands, s)
 	if secondTried > 0 && pair != nil {
 		diag.Models = append(diag.Models, costdrift.ModelSummary{Model: costdrift.ModelTwoDriver, Driver: best.driver.Name + " + " + pair.c.driver.Name,
 			Lag: best.lag, N: pair.full.N, AICc: pair.full.AICc, PRESS: pair.full.PRESS, R2: pair.full.R2})
 	}
-
-	var a, slope, slope2, level, fixedShare, variableShare, interceptP float64
-	var chosenReg *fit.Regression
-	var columns [][]float64
-	var ys []float64
-	var obsPeriods []string
-	evidence := fmt.Sprintf("R² %.2f, slope %s after correction, n %d", lin.R2, pText(best.adjustedP), lin.N)
-	if pair != nil {
-		r := pair.full
-		a, slope, slope2 = r.Coef[0], r.Coef[1], r.Coef[2]
-		m1, m2 := meanOf(pair.x1), meanOf(pair.x2)
-		level = a + slope*m1 + slope2*m2
-		fixedShare, variableShare = a/level, (slope*m1+slope2*m2)/level
-		interceptP = r.P[0]
-		chosenReg, columns, ys, obsPeriods = r, [][]float64{pair.x1, pair.x2}, pair.y, pair.periods
-		b.Driver2, b.Unit2, b.Lag2 = pair.c.driver.Name, pair.c.driver.Unit, pair.c.lag
-		b.R2, b.N = r.R2, r.N
-		label += " and " + driverLabel(pair.c)
-		evidence = fmt.Sprintf("R² %.2f with both, second driver partial F %s after correction, VIF %.1f, n %d", r.R2, pText(pair.partialP*float64(secondTried)), pair.vif, r.N)
-		res.Fits = append(res.Fits, twoDriverRecord(b.Object, best, pair))
-	} else {
-		a, slope = lin.Coef[0], lin.Coef[1]
-		level = a + slope*best.meanX
-		fixedShare, variableShare = a/level, slope*best.meanX/level
-		interceptP = lin.P[0]
-		chosenReg, columns, ys, obsPeriods = lin, [][]float64{best.x}, best.y, best.periods
+	l := lineFormula{pair: pair, label: driverLabel(best), fitIdx: best.linearIdx,
+		evidence: fmt.Sprintf("R² %.2f, slope %s after correction, n %d", lin.R2, pText(best.adjustedP), lin.N)}
+	if pair == nil {
+		l.a, l.slope = lin.Coef[0], lin.Coef[1]
+		level := l.a + l.slope*best.meanX
+		l.fixedShare, l.variableShare = l.a/level, l.slope*best.meanX/level
+		l.interceptP = lin.P[0]
+		l.reg, l.columns, l.ys, l.periods = lin, [][]float64{best.x}, best.y, best.periods
+		return l
 	}
-	chosenIdx := best.linearIdx
-	if pair != nil {
-		chosenIdx = len(res.Fits) - 1
-	}
+	r := pair.full
+	l.a, l.slope, l.slope2 = r.Coef[0], r.Coef[1], r.Coef[2]
+	m1, m2 := meanOf(pair.x1), meanOf(pair.x2)
+	level := l.a + l.slope*m1 + l.slope2*m2
+	l.fixedShare, l.variableShare = l.a/level, (l.slope*m1+l.slope2*m2)/level
+	l.interceptP = r.P[0]
+	l.reg, l.columns, l.ys, l.periods = r, [][]float64{pair.x1, pair.x2}, pair.y, pair.periods
+	b.Driver2, b.Unit2, b.Lag2 = pair.c.driver.Name, pair.c.driver.Unit, pair.c.lag
+	b.R2, b.N = r.R2, r.N
+	l.label += " and " + driverLabel(pair.c)
+	l.evidence = fmt.Sprintf("R² %.2f with both, second driver partial F %s after correction, VIF %.1f, n %d", r.R2, pText(pair.partialP*float64(secondTried)), pair.vif, r.N)
+	res.Fits = append(res.Fits, twoDriverRecord(b.Object, best, pair))
+	l.fitIdx = len(res.Fits) - 1
+	return l
+}
 
-	variableRule := interceptP >= s.Alpha || fixedShare < MinorShare
+// classifyLine applies the share rules to the line: variable (through the
+// origin) when the fixed part is not significant or minor, fixed when the
+// variable part is minor, else mixed; then diagnoses the chosen fit.
+func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag *costdrift.Diagnostics, note string, s Settings) {
+	b := &res.Behaviour
+	chosenIdx := l.fitIdx
+	variableRule := l.interceptP >= s.Alpha || l.fixedShare < MinorShare
 	if prior, ok := s.Prior[b.Object.String()]; ok {
-		variableRule = keepVariableOrMixed(prior.Class, variableRule, interceptP, fixedShare, s.Alpha)
+		variableRule = keepVariableOrMixed(prior.Class, variableRule, l.interceptP, l.fixedShare, s.Alpha)
 	}
 	switch {
 	case variableRule:
 		b.Class = costdrift.Variable
-		b.VariableRate = slope
-		b.VariableRate2 = slope2
-		b.Prediction = termsOf(chosenReg) // replaced by the proportional fit's below
-		if pair != nil {
-			if r, err := fit.OLS(columns, ys, false); err == nil {
+		b.VariableRate = l.slope
+		b.VariableRate2 = l.slope2
+		b.Prediction = termsOf(l.reg) // replaced by the proportional fit's below
+		if l.pair != nil {
+			if r, err := fit.OLS(l.columns, l.ys, false); err == nil {
 				b.VariableRate, b.VariableRate2 = r.Coef[0], r.Coef[1]
 				b.Prediction = termsOf(r)
 			}
@@ -229,12 +283,12 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 			b.Prediction = termsOf(best.origin)
 			chosenIdx = best.linearIdx + 1
 		}
-		why := fmt.Sprintf("fixed part not significant (%s)", pText(interceptP))
-		if interceptP < s.Alpha {
-			why = fmt.Sprintf("fixed part is %.1f %% of cost at mean activity (below %.0f %%)", 100*fixedShare, 100*MinorShare)
+		why := fmt.Sprintf("fixed part not significant (%s)", pText(l.interceptP))
+		if l.interceptP < s.Alpha {
+			why = fmt.Sprintf("fixed part is %.1f %% of cost at mean activity (below %.0f %%)", 100*l.fixedShare, 100*MinorShare)
 		}
-		b.Reason = fmt.Sprintf("cost moves with %s (%s); %s%s", label, evidence, why, note)
-	case variableShare < minorShareFor(s.Prior, b.Object):
+		b.Reason = fmt.Sprintf("cost moves with %s (%s); %s%s", l.label, l.evidence, why, note)
+	case l.variableShare < minorShareFor(s.Prior, b.Object):
 		b.Class = costdrift.Fixed
 		b.Driver, b.Unit, b.Lag = "", "", 0
 		b.Driver2, b.Unit2, b.Lag2 = "", "", 0
@@ -247,18 +301,18 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		res.x = nil // a fixed cost's break is a break in its level
 		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
 		b.Reason = fmt.Sprintf("%s is significant (%s) but drives only %.1f %% of cost at mean activity (below %.0f %%); treated as fixed%s",
-			label, evidence, 100*variableShare, 100*MinorShare, note)
+			l.label, l.evidence, 100*l.variableShare, 100*MinorShare, note)
 		return
 	default:
 		b.Class = costdrift.Mixed
-		b.FixedPerPeriod, b.VariableRate, b.VariableRate2 = a, slope, slope2
-		b.Prediction = termsOf(chosenReg)
+		b.FixedPerPeriod, b.VariableRate, b.VariableRate2 = l.a, l.slope, l.slope2
+		b.Prediction = termsOf(l.reg)
 		b.Reason = fmt.Sprintf("cost moves with %s (%s) above a significant fixed part (%s), %.0f %% fixed at mean activity%s",
-			label, evidence, pText(interceptP), 100*fixedShare, note)
+			l.label, l.evidence, pText(l.interceptP), 100*l.fixedShare, note)
 	}
 	chosen := &res.Fits[chosenIdx]
 	chosen.Chosen = true
-	diagnose(chosen, chosenReg, columns, ys, obsPeriods, diag)
+	diagnose(chosen, l.reg, l.columns, l.ys, l.periods, diag)
 	b.Outliers = chosen.Outliers
 	if diag.RobustNote != "" {
 		b.Reason += "; robust fit disagrees (see explain)"
@@ -301,15 +355,21 @@ func highLow(c *candidate) *costdrift.HighLow {
 	return out
 }
 
-// termsOf is r's prediction terms.
-func termsOf(r *fit.Regression) *fit.Terms {
-	t := r.Terms()
-	return &t
+// termsOf is r's prediction terms as a behaviour stores them.
+func termsOf(r *fit.Regression) *costdrift.PredictionTerms {
+	return stored(r.Terms())
+}
+
+// stored is t in the domain's type, the form a behaviour carries to the
+// store and the budget.
+func stored(t fit.Terms) *costdrift.PredictionTerms {
+	p := costdrift.PredictionTerms(t)
+	return &p
 }
 
 // constantTerms is the prediction terms of the mean of y, nil when there is
 // no residual degree of freedom.
-func constantTerms(y []float64) *fit.Terms {
+func constantTerms(y []float64) *costdrift.PredictionTerms {
 	r, err := fit.Constant(y)
 	if err != nil || r.DF < 1 {
 		return nil

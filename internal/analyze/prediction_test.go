@@ -20,15 +20,15 @@ func checkPrediction(t *testing.T, what string, b costdrift.Behaviour) {
 		}
 		return
 	}
-	p := b.Prediction
-	if p == nil {
+	if b.Prediction == nil {
 		t.Errorf("%s: %s without prediction terms (%s)", what, b.Class, b.Reason)
 		return
 	}
-	if err := p.Check(); err != nil {
+	if err := b.Prediction.Check(); err != nil {
 		t.Errorf("%s: %v", what, err)
 		return
 	}
+	p := fit.Terms(*b.Prediction)
 	same := func(got, want float64) bool { return math.Abs(got-want) <= 1e-9*math.Max(1, math.Abs(want)) }
 	provisional := b.Break != nil && b.Break.Provisional
 	switch {

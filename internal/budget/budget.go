@@ -6,7 +6,7 @@
 // activity (common practice: budget = fixed + rate × activity; the level for
 // a step cost; the mean for a cost no driver explains), with the prediction
 // interval of a new period's cost from the stored prediction terms (see
-// fit.Terms). Totals add the objects' budgets and their variances, assuming
+// costdrift.PredictionTerms). Totals add the objects' budgets and their variances, assuming
 // the objects' deviations from their formulas are independent; the degrees
 // of freedom of a total are Welch–Satterthwaite's,
 //
@@ -28,38 +28,10 @@ import (
 	"github.com/costdrift/costdrift/internal/fit"
 )
 
-// Kind says what a line sums.
-type Kind string
-
-const (
-	KindObject     Kind = "object"      // one cost object
-	KindCostCenter Kind = "cost_center" // the objects of one cost centre
-	KindTotal      Kind = "total"       // every object
-)
-
-// Independence is the assumption behind every total's interval, said in
-// the output.
-const Independence = "totals' intervals assume the objects' deviations from their formulas are independent"
-
-// Estimate is a formula's cost at some activity with its prediction
-// intervals. The intervals and SE are NaN when the formula has no stored
-// prediction terms.
-type Estimate struct {
-	Value          float64
-	SE             float64 // standard error of one new period's cost
-	DF             float64 // degrees of freedom of SE (Welch–Satterthwaite for totals)
-	Low80, High80  float64
-	Low95, High95  float64
-	Warnings       []string
-	rangeWarning   bool
-	noTermsWarning bool
-	negative       bool // a driven formula's budget below zero
-}
-
 // unknown is an estimate with no figure yet.
-func unknown() Estimate {
+func unknown() costdrift.Estimate {
 	nan := math.NaN()
-	return Estimate{Value: nan, SE: nan, DF: nan, Low80: nan, High80: nan, Low95: nan, High95: nan}
+	return costdrift.Estimate{Value: nan, SE: nan, DF: nan, Low80: nan, High80: nan, Low95: nan, High95: nan}
 }
 
 // Lookup returns a driver's activity in a period for a cost centre: the
@@ -72,7 +44,7 @@ type Lookup func(period, driver, costCenter string) (float64, bool)
 // warning on the estimate, and totals count the objects budgeted below
 // zero. The figure itself is left as the formula gives it, so that budget
 // and variances still add up.
-func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
+func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (costdrift.Estimate, error) {
 	e := unknown()
 	var row []float64
 	levels := false
@@ -112,7 +84,7 @@ func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
 			lo, hi = b.Steps[0].From, b.Steps[len(b.Steps)-1].To
 		}
 		if x1 < lo || x1 > hi {
-			e.rangeWarning = true
+			e.OutsideRange = true
 			e.Warnings = append(e.Warnings, fmt.Sprintf("%s %s is outside the relevant range %s to %s: the formula was not observed there",
 				b.Driver, num(x1), num(lo), num(hi)))
 		}
@@ -131,7 +103,7 @@ func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
 			}
 		}
 		if e.Value < 0 {
-			e.negative = true
+			e.Negative = true
 			e.Warnings = append(e.Warnings, "negative budget: the formula gives less than no cost at this activity")
 		}
 	}
@@ -142,25 +114,23 @@ func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (Estimate, error) {
 		e.Warnings = append(e.Warnings, fmt.Sprintf("a change to %s awaits confirmation by the next analysis", pendingText(b.Pending)))
 	}
 
-	t := b.Prediction
-	switch {
-	case t == nil || t.Check() != nil:
-		e.noTermsWarning = true
+	if b.Prediction == nil || b.Prediction.Check() != nil {
 		e.Warnings = append(e.Warnings, "no prediction interval: the formula was stored without its prediction terms; run `costdrift analyze --all`")
 		return e, nil
-	case t.Levels != levels || t.Regressors() != len(row):
-		e.noTermsWarning = true
+	}
+	t := fit.Terms(*b.Prediction)
+	if t.Levels != levels || t.Regressors() != len(row) {
 		e.Warnings = append(e.Warnings, "no prediction interval: the stored prediction terms do not match the formula; run `costdrift analyze --all`")
 		return e, nil
 	}
 	_, se := t.Predict(row)
 	e.SE, e.DF = se, float64(t.DF)
-	e.interval()
+	interval(&e)
 	return e, nil
 }
 
-// interval sets the 80 and 95 % intervals from Value, SE and DF.
-func (e *Estimate) interval() {
+// interval sets e's 80 and 95 % intervals from its Value, SE and DF.
+func interval(e *costdrift.Estimate) {
 	if math.IsNaN(e.SE) || !(e.DF > 0) {
 		return
 	}
@@ -213,33 +183,17 @@ func num(v float64) string {
 	return fmt.Sprintf("%.2f", v)
 }
 
-// Line is one line of a budget: one object's, one cost centre's or the
-// total's budget for one period.
-type Line struct {
-	Kind      Kind
-	Object    costdrift.CostObject // totals: the cost centre only, or nothing
-	Period    string
-	Class     costdrift.Class // objects only
-	Driver    string
-	Activity  float64 // planned activity of Driver; NaN without a driver
-	Driver2   string
-	Activity2 float64
-	Objects   int // objects in the sum (1 for an object's line)
-	Estimate
-	Warning string // every warning, joined with "; "
-}
-
 // Flexible budgets every behaviour for every period at the activity the
 // lookup gives, one line per behaviour and period in that order. A driver
 // with a lag is looked up in the period before; the caller's lookup asks
 // the plan first and the actual activity after it, so that the period
 // before the plan's first is found. shift(p, n) is the period n after p.
-func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Lookup, shift func(string, int) string) []Line {
-	var out []Line
+func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Lookup, shift func(string, int) string) []costdrift.BudgetLine {
+	var out []costdrift.BudgetLine
 	for _, period := range periods {
 		for i := range behaviours {
 			b := &behaviours[i]
-			l := Line{Kind: KindObject, Object: b.Object, Period: period, Class: b.Class, Objects: 1,
+			l := costdrift.BudgetLine{Kind: costdrift.LineObject, Object: b.Object, Period: period, Class: b.Class, Objects: 1,
 				Activity: math.NaN(), Activity2: math.NaN()}
 			l.Estimate = unknown()
 			var missing []string
@@ -301,17 +255,17 @@ type sum struct {
 	outOfRange, negative           int
 }
 
-func (s *sum) add(e Estimate) {
+func (s *sum) add(e costdrift.Estimate) {
 	if math.IsNaN(e.Value) {
 		s.skipped++
 		return
 	}
 	s.objects++
 	s.value += e.Value
-	if e.rangeWarning {
+	if e.OutsideRange {
 		s.outOfRange++
 	}
-	if e.negative {
+	if e.Negative {
 		s.negative++
 	}
 	if math.IsNaN(e.SE) || !(e.DF > 0) {
@@ -324,7 +278,7 @@ func (s *sum) add(e Estimate) {
 }
 
 // estimate is the total with its intervals and warnings.
-func (s *sum) estimate() Estimate {
+func (s *sum) estimate() costdrift.Estimate {
 	e := unknown()
 	e.Value = s.value
 	if s.objects == 0 {
@@ -339,8 +293,8 @@ func (s *sum) estimate() Estimate {
 	case s.objects > 0:
 		e.SE = math.Sqrt(s.variance)
 		e.DF = s.variance * s.variance / s.dfDenominator
-		e.interval()
-		e.Warnings = append(e.Warnings, fmt.Sprintf("%s (Welch–Satterthwaite df %.1f)", Independence, e.DF))
+		interval(&e)
+		e.Warnings = append(e.Warnings, fmt.Sprintf("%s (Welch–Satterthwaite df %.1f)", costdrift.Independence, e.DF))
 	}
 	if s.skipped > 0 {
 		e.Warnings = append(e.Warnings, fmt.Sprintf("%d object(s) without a budget left out", s.skipped))
@@ -357,14 +311,14 @@ func (s *sum) estimate() Estimate {
 // Totals sums the object lines per period and cost centre and per period,
 // in the order: for each period, each cost centre's total (by name), then
 // the period's total.
-func Totals(lines []Line) []Line {
+func Totals(lines []costdrift.BudgetLine) []costdrift.BudgetLine {
 	type key struct{ period, cc string }
 	byCC := map[key]*sum{}
 	byPeriod := map[string]*sum{}
 	var periods []string
 	ccs := map[string][]string{}
 	for _, l := range lines {
-		if l.Kind != KindObject {
+		if l.Kind != costdrift.LineObject {
 			continue
 		}
 		if byPeriod[l.Period] == nil {
@@ -379,21 +333,21 @@ func Totals(lines []Line) []Line {
 		byCC[k].add(l.Estimate)
 		byPeriod[l.Period].add(l.Estimate)
 	}
-	var out []Line
+	var out []costdrift.BudgetLine
 	for _, p := range periods {
 		names := ccs[p]
 		sort.Strings(names)
 		for _, cc := range names {
 			s := byCC[key{p, cc}]
-			out = append(out, totalLine(KindCostCenter, costdrift.CostObject{CostCenter: cc}, p, s))
+			out = append(out, totalLine(costdrift.LineCostCenter, costdrift.CostObject{CostCenter: cc}, p, s))
 		}
-		out = append(out, totalLine(KindTotal, costdrift.CostObject{}, p, byPeriod[p]))
+		out = append(out, totalLine(costdrift.LineTotal, costdrift.CostObject{}, p, byPeriod[p]))
 	}
 	return out
 }
 
-func totalLine(kind Kind, o costdrift.CostObject, period string, s *sum) Line {
-	l := Line{Kind: kind, Object: o, Period: period, Objects: s.objects + s.skipped, Activity: math.NaN(), Activity2: math.NaN()}
+func totalLine(kind costdrift.LineKind, o costdrift.CostObject, period string, s *sum) costdrift.BudgetLine {
+	l := costdrift.BudgetLine{Kind: kind, Object: o, Period: period, Objects: s.objects + s.skipped, Activity: math.NaN(), Activity2: math.NaN()}
 	l.Estimate = s.estimate()
 	l.Warning = strings.Join(l.Warnings, "; ")
 	return l

@@ -41,13 +41,13 @@ func obj(account, cc string) costdrift.CostObject {
 }
 
 // lineTerms are the prediction terms of a line fitted to x, y.
-func lineTerms(t *testing.T, x, y []float64) *fit.Terms {
+func lineTerms(t *testing.T, x, y []float64) *costdrift.PredictionTerms {
 	t.Helper()
 	r, err := fit.Line(x, y)
 	if err != nil {
 		t.Fatal(err)
 	}
-	terms := r.Terms()
+	terms := costdrift.PredictionTerms(r.Terms())
 	return &terms
 }
 
@@ -127,7 +127,7 @@ func TestStepBudget(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	b := costdrift.Behaviour{Object: obj("6300", "ASSY"), Class: costdrift.Step, Driver: "frames_built", Prediction: &terms}
+	b := costdrift.Behaviour{Object: obj("6300", "ASSY"), Class: costdrift.Step, Driver: "frames_built", Prediction: new(costdrift.PredictionTerms(terms))}
 	for _, l := range m.Levels {
 		b.Steps = append(b.Steps, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
 	}
@@ -143,8 +143,8 @@ func TestStepBudget(t *testing.T) {
 		}
 		// se² = s²(1 + 1/n_level), s² = RSS/(N − k) = 360000/33.
 		se := math.Sqrt(360000.0 / 33 * (1 + 1/float64(c.n)))
-		if e.Value != c.want || !near(e.SE, se, 1e-12) || e.DF != 33 || e.rangeWarning != c.outside {
-			t.Errorf("step at %v: %v ± %v (df %v, outside %v), want %v ± %v (df 33, outside %v)", c.x, e.Value, e.SE, e.DF, e.rangeWarning, c.want, se, c.outside)
+		if e.Value != c.want || !near(e.SE, se, 1e-12) || e.DF != 33 || e.OutsideRange != c.outside {
+			t.Errorf("step at %v: %v ± %v (df %v, outside %v), want %v ± %v (df 33, outside %v)", c.x, e.Value, e.SE, e.DF, e.OutsideRange, c.want, se, c.outside)
 		}
 	}
 }
@@ -171,7 +171,7 @@ func TestIntervalsOfOneFormula(t *testing.T) {
 	if !near((e.High80-e.Low80)/2/se, 1.885618, 1e-6) || !near((e.High95-e.Low95)/2/se, 4.302653, 1e-6) {
 		t.Errorf("half-widths %v and %v of se, want 1.885618 and 4.302653", (e.High80-e.Low80)/2/se, (e.High95-e.Low95)/2/se)
 	}
-	if !e.rangeWarning || !strings.Contains(strings.Join(e.Warnings, ";"), "hours 6 is outside the relevant range 1 to 4") {
+	if !e.OutsideRange || !strings.Contains(strings.Join(e.Warnings, ";"), "hours 6 is outside the relevant range 1 to 4") {
 		t.Errorf("no range warning: %q", e.Warnings)
 	}
 }
@@ -218,7 +218,7 @@ func TestFlexibleWithLagAndGaps(t *testing.T) {
 	if tot[0].Object.CostCenter != "ASSY" || tot[0].Value != 1900 || tot[0].Objects != 3 || !strings.Contains(tot[0].Warning, "1 object(s) without a budget left out") {
 		t.Errorf("ASSY 2027-01 total: %+v", tot[0])
 	}
-	if tot[2].Kind != KindTotal || tot[2].Value != 1900+1900 {
+	if tot[2].Kind != costdrift.LineTotal || tot[2].Value != 1900+1900 {
 		t.Errorf("2027-01 total %v, want 3800", tot[2].Value)
 	}
 	// A lag whose period has neither plan nor actual: no budget, said.
@@ -249,7 +249,7 @@ func TestTotalsAddUp(t *testing.T) {
 	for p, period := range []string{"2027-01", "2027-02"} {
 		objs := lines[3*p : 3*p+3]
 		a, bb, all := tot[3*p], tot[3*p+1], tot[3*p+2]
-		if a.Object.CostCenter != "A" || bb.Object.CostCenter != "B" || all.Kind != KindTotal || all.Period != period {
+		if a.Object.CostCenter != "A" || bb.Object.CostCenter != "B" || all.Kind != costdrift.LineTotal || all.Period != period {
 			t.Fatalf("totals out of order: %+v %+v %+v", a, bb, all)
 		}
 		sumA := objs[0].Value + objs[1].Value
@@ -262,7 +262,7 @@ func TestTotalsAddUp(t *testing.T) {
 			t.Errorf("%s: total %v ± %v is not the cost centres' %v + %v", period, all.Value, all.SE, a.Value, bb.Value)
 		}
 		half := tQuantile(0.05, all.DF) * all.SE
-		if !near(all.High95-all.Value, half, 1e-12) || !strings.Contains(all.Warning, Independence) {
+		if !near(all.High95-all.Value, half, 1e-12) || !strings.Contains(all.Warning, costdrift.Independence) {
 			t.Errorf("%s total interval %v..%v, warning %q", period, all.Low95, all.High95, all.Warning)
 		}
 	}
@@ -281,7 +281,7 @@ func TestVarianceTotals(t *testing.T) {
 	actual := map[string]float64{"6200/WELD": 6100, "5100/WELD": 5800, "6100/PAINT": 3300}
 	lines := Variances(bs, "2026-11", actual, act.lookup, plan.lookup, monthShift)
 	tot := VarianceTotals(lines)
-	if len(tot) != 3 || tot[0].Object.CostCenter != "PAINT" || tot[1].Object.CostCenter != "WELD" || tot[2].Kind != KindTotal {
+	if len(tot) != 3 || tot[0].Object.CostCenter != "PAINT" || tot[1].Object.CostCenter != "WELD" || tot[2].Kind != costdrift.LineTotal {
 		t.Fatalf("totals %+v", tot)
 	}
 	weld, all := tot[1], tot[2]
@@ -345,7 +345,7 @@ func TestNegativeRateIsFlagged(t *testing.T) {
 	if !near(high.Value, -5246.39, 1e-9) || !near(inside.Value, 8322.73, 1e-9) {
 		t.Fatalf("budgets %v and %v, want -5,246.39 and 8,322.73", high.Value, inside.Value)
 	}
-	for _, l := range []Line{high, inside} {
+	for _, l := range []costdrift.BudgetLine{high, inside} {
 		if !strings.Contains(l.Warning, "negative rate (-5.6538 per shipment) is implausible for a cost") {
 			t.Errorf("%s %s: no warning of the negative rate: %q", l.Object, l.Period, l.Warning)
 		}

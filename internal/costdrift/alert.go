@@ -92,9 +92,8 @@ type Alert struct {
 	Message     string // one line for the accountant
 	Fingerprint string // Fingerprint(Kind, Object, discriminator)
 	// Evidence is what the rule decided on: the test, its statistic and
-	// p-value, R², n, the old and new formula. Stored as JSON, so numbers
-	// read back as float64.
-	Evidence    map[string]any
+	// p-value, R², n, the old and new formula.
+	Evidence    AlertEvidence
 	CreatedAt   time.Time // first raised
 	UpdatedAt   time.Time // last raised, acknowledged or resolved
 	ResolvedAt  time.Time // zero unless resolved

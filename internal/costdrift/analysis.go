@@ -32,3 +32,24 @@ type AnalysisRun struct {
 	// not change.
 	Skipped int
 }
+
+// AnalysisSettings are the settings an analysis ran with. They are stored
+// as JSON with the run (AnalysisRun.Settings) and hashed into every
+// object's inputs, so that a change of settings refits every object.
+//
+// The fields are in the order of their JSON keys, sorted: settings were
+// stored as a map before they had a type, and a map's keys marshal sorted,
+// so this order keeps the JSON, and the input hashes, of the same settings
+// as they were.
+type AnalysisSettings struct {
+	Accounts            []string `json:"accounts"`
+	Alpha               float64  `json:"alpha"`
+	BootstrapReplicates int      `json:"bootstrap_replicates"`
+	BreakAlpha          float64  `json:"break_alpha"`
+	Currency            string   `json:"currency"`
+	Grain               Grain    `json:"grain"`
+	Lags                []int    `json:"lags"`
+	MinPeriods          int      `json:"min_periods"`
+	Seed                uint64   `json:"seed"` // of the bootstrap behind break p-values
+	Window              int      `json:"window"`
+}

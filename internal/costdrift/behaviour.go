@@ -1,7 +1,5 @@
 package costdrift
 
-import "github.com/costdrift/costdrift/internal/fit"
-
 // Class is the cost-behaviour class of a cost object.
 type Class string
 
@@ -172,7 +170,7 @@ type Behaviour struct {
 	// provisional step), through the origin for variable ones, a line for
 	// mixed ones, both drivers with a second driver, one indicator per
 	// level for step costs. Nil when the class is insufficient_data.
-	Prediction *fit.Terms
+	Prediction *PredictionTerms
 
 	// Pending is a change of class, driver or lag seen by one analysis
 	// without a significant break: it takes effect only when the next
@@ -229,5 +227,5 @@ type Break struct {
 	// PredictionBefore are the prediction terms of the formula before the
 	// break (FixedBefore, RateBefore), stored with the closed behaviour
 	// row for the periods before it.
-	PredictionBefore *fit.Terms `json:"-"`
+	PredictionBefore *PredictionTerms `json:"-"`
 }

@@ -14,9 +14,12 @@ import (
 // where r = (1, x0 − Centre) for a model with an intercept and r = x0
 // without one, and Cov = (XᵀX)⁻¹ in that parametrisation. With Cov in the
 // centred parametrisation a straight line's terms read as the textbook
-// formula, se² = S²·(1 + 1/N + (x0 − x̄)²/Sxx). Terms is stored as JSON
-// beside a cost formula, so that budgets and variances are computed from the
-// store without refitting.
+// formula, se² = S²·(1 + 1/N + (x0 − x̄)²/Sxx). The terms are stored as
+// JSON beside a cost formula, so that budgets and variances are computed from
+// the store without refitting: the stored form is the domain's
+// PredictionTerms, whose fields are these, and a value converts between
+// the two types. Stored terms are checked (PredictionTerms.Check) before
+// Predict sees them.
 type Terms struct {
 	Intercept bool      `json:"intercept"`
 	Centre    []float64 `json:"centre,omitempty"` // regressor means (with an intercept)
@@ -89,33 +92,6 @@ func StepRow(g, k int) []float64 {
 	return row
 }
 
-// Check reports whether the terms are complete and consistent: the sizes
-// agree, the numbers are finite and DF >= 1. Terms read back from a store
-// are checked before use.
-func (t Terms) Check() error {
-	k := len(t.Coef)
-	switch {
-	case k == 0:
-		return errors.New("prediction terms without coefficients")
-	case len(t.Cov) != k*k:
-		return fmt.Errorf("prediction terms: %d coefficients but %d covariance entries", k, len(t.Cov))
-	case t.Intercept && len(t.Centre) != k-1:
-		return fmt.Errorf("prediction terms: %d coefficients but %d centres", k, len(t.Centre))
-	case !t.Intercept && len(t.Centre) != 0:
-		return errors.New("prediction terms: centres without an intercept")
-	case t.DF < 1:
-		return fmt.Errorf("prediction terms: %d residual degrees of freedom", t.DF)
-	case !(t.S >= 0) || math.IsInf(t.S, 0):
-		return fmt.Errorf("prediction terms: residual standard error %g", t.S)
-	}
-	for _, v := range append(append(append([]float64(nil), t.Coef...), t.Cov...), t.Centre...) {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return errors.New("prediction terms hold a number that is not finite")
-		}
-	}
-	return nil
-}
-
 // Regressors is the number of regressor values Predict takes.
 func (t Terms) Regressors() int {
 	if t.Intercept {
@@ -126,7 +102,7 @@ func (t Terms) Regressors() int {
 
 // Predict returns the fitted value at x0 and the standard error of a new
 // observation there (see Terms). It panics when len(x0) is not
-// t.Regressors().
+// t.Regressors() or the covariance is not k×k.
 func (t Terms) Predict(x0 []float64) (yhat, se float64) {
 	k := len(t.Coef)
 	if len(x0) != t.Regressors() || len(t.Cov) != k*k {

@@ -7,6 +7,8 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
 type intervalCase struct {
@@ -119,7 +121,8 @@ func TestCrosscheckIntervals(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		var stored Terms
+		// Read back as the store does, into the domain's type.
+		var stored costdrift.PredictionTerms
 		if err := json.Unmarshal(b, &stored); err != nil {
 			t.Fatal(err)
 		}
@@ -139,7 +142,7 @@ func TestCrosscheckIntervals(t *testing.T) {
 				level     float64
 				low, high float64
 			}{{0.80, p.Low80, p.High80}, {0.95, p.Low95, p.High95}} {
-				low, high, yhat, se := stored.Interval(x0, lv.level)
+				low, high, yhat, se := Terms(stored).Interval(x0, lv.level)
 				half := (lv.high - lv.low) / 2
 				for _, q := range []struct {
 					what      string
@@ -173,7 +176,7 @@ func TestTermsCheck(t *testing.T) {
 		t.Fatal(err)
 	}
 	good := r.Terms()
-	if err := good.Check(); err != nil {
+	if err := costdrift.PredictionTerms(good).Check(); err != nil {
 		t.Fatal(err)
 	}
 	// The textbook form for a line (common practice):
@@ -196,7 +199,7 @@ func TestTermsCheck(t *testing.T) {
 		bad.Cov = append([]float64(nil), good.Cov...)
 		bad.Centre = append([]float64(nil), good.Centre...)
 		mutate(&bad)
-		if bad.Check() == nil {
+		if costdrift.PredictionTerms(bad).Check() == nil {
 			t.Errorf("%s: Check accepted %+v", name, bad)
 		}
 	}

@@ -3,6 +3,7 @@ package mail
 import (
 	"bytes"
 	"flag"
+	"math"
 	netmail "net/mail"
 	"os"
 	"path/filepath"
@@ -137,18 +138,18 @@ func sampleDigest(to string) Digest {
 	shift := alert(7, costdrift.AlertRateShift, "6400/ASSY", costdrift.SeverityWarning)
 	shift.Period = "2025-02"
 	shift.Message = "6400/ASSY Freight out: rate per shipment fell from 2025-02, 14.48 to 11.92 (18 % of the cost at the activity before)"
-	shift.Evidence = map[string]any{"test": "sup-F", "statistic": 696.16, "p": 0.0002, "break": "2025-02",
-		"fixed_before": 0.0, "fixed_after": 0.0, "rate_before": 14.48, "rate_after": 11.92, "r2": 0.9951, "n": 17.0,
-		"periods_after": 17.0, "provisional": false}
+	shift.Evidence = costdrift.AlertEvidence{Test: new("sup-F"), Statistic: new(696.16), P: new(0.0002), Break: new("2025-02"),
+		FixedBefore: new(0.0), FixedAfter: new(0.0), RateBefore: new(14.48), RateAfter: new(11.92), R2: new(0.9951), N: new(17),
+		PeriodsAfter: new(17), Provisional: new(false)}
 	recl := alert(8, costdrift.AlertReclassified, "6300/PAINT", costdrift.SeverityCritical)
 	recl.Period = "2025-09"
 	recl.Message = "6300/PAINT Paint is now mixed on machine hours (was fixed) since 2025-09"
-	recl.Evidence = map[string]any{"class_before": "fixed", "class_after": "mixed", "driver_before": "", "driver_after": "machine_hours",
-		"fixed_before": 2100.0, "rate_before": nil, "fixed_after": 850.0, "rate_after": 3.125, "since": "2025-09",
-		"reason": "slope significant", "r2": 0.82, "n": 36.0}
+	recl.Evidence = costdrift.AlertEvidence{ClassBefore: new("fixed"), ClassAfter: new("mixed"), DriverBefore: new(""),
+		DriverAfter: new("machine_hours"), FixedBefore: new(2100.0), RateBefore: new(math.NaN()), FixedAfter: new(850.0),
+		RateAfter: new(3.125), Since: new("2025-09"), Reason: new("slope significant"), R2: new(0.82), N: new(36)}
 	src := alert(9, costdrift.AlertSourceFailure, "gl", costdrift.SeverityWarning)
 	src.Message = "source gl failed: data/gl.csv: no such file"
-	src.Evidence = map[string]any{"failures_in_a_row": 2.0, "error": "data/gl.csv: no such file"}
+	src.Evidence = costdrift.AlertEvidence{FailuresInARow: new(2), Error: new("data/gl.csv: no such file")}
 	return Digest{To: to, From: "costdrift <costdrift@example.test>", Date: time.Date(2026, 1, 5, 6, 0, 0, 0, time.UTC), Cautions: caution,
 		Items: []Item{
 			{Alert: recl, AccountName: "Paint", Class: "mixed", Driver: "machine_hours", Chart: tinyPNG},

@@ -142,20 +142,20 @@ func views(items []Item) []view {
 		if !SourceKind(a.Kind) {
 			v.Explain = "costdrift explain " + shellQuote(a.Object)
 		}
-		if s := text(ev["break"]); s != "" {
+		if s := text(value(ev.Break)); s != "" {
 			v.Since = s
-		} else if s := text(ev["since"]); s != "" {
+		} else if s := text(value(ev.Since)); s != "" {
 			v.Since = s
 		}
-		driverBefore, driverAfter := text(ev["driver_before"]), text(ev["driver_after"])
+		driverBefore, driverAfter := text(value(ev.DriverBefore)), text(value(ev.DriverAfter))
 		if driverBefore == "" && driverAfter == "" {
-			driverBefore = text(ev["driver"])
+			driverBefore = text(value(ev.Driver))
 			if driverBefore == "" {
 				driverBefore = oneLine(it.Driver)
 			}
 			driverAfter = driverBefore
 		}
-		if c0, c1 := text(ev["class_before"]), text(ev["class_after"]); c0 != "" || c1 != "" {
+		if c0, c1 := text(value(ev.ClassBefore)), text(value(ev.ClassAfter)); c0 != "" || c1 != "" {
 			v.Changes = append(v.Changes, row{"class", words(c0), words(c1)})
 		} else if it.Class != "" && !SourceKind(a.Kind) {
 			v.Changes = append(v.Changes, row{"class", words(it.Class), words(it.Class)})
@@ -163,50 +163,20 @@ func views(items []Item) []view {
 		if driverBefore != "" || driverAfter != "" {
 			v.Changes = append(v.Changes, row{"driver", driverWords(driverBefore), driverWords(driverAfter)})
 		}
-		if _, ok := ev["fixed_before"]; ok {
+		if ev.FixedBefore != nil {
 			v.Changes = append(v.Changes, row{"formula per period",
-				formula(ev["fixed_before"], ev["rate_before"], driverBefore), formula(ev["fixed_after"], ev["rate_after"], driverAfter)})
+				formula(value(ev.FixedBefore), value(ev.RateBefore), driverBefore), formula(value(ev.FixedAfter), value(ev.RateAfter), driverAfter)})
 		}
-		if _, ok := ev["expected"]; ok {
-			v.Changes = append(v.Changes, row{"cost in " + text(ev["period"]),
-				"expected " + number(ev["expected"]) + " (95 %: " + number(ev["low95"]) + " to " + number(ev["high95"]) + ")",
-				"actual " + number(ev["actual"])})
+		if ev.Expected != nil {
+			v.Changes = append(v.Changes, row{"cost in " + text(value(ev.Period)),
+				"expected " + number(value(ev.Expected)) + " (95 %: " + number(value(ev.Low95)) + " to " + number(value(ev.High95)) + ")",
+				"actual " + number(value(ev.Actual))})
 		}
-		if _, ok := ev["range_min"]; ok {
-			v.Changes = append(v.Changes, row{"activity in " + text(ev["period"]),
-				"relevant range " + number(ev["range_min"]) + " to " + number(ev["range_max"]), number(ev["activity"])})
+		if ev.RangeMin != nil {
+			v.Changes = append(v.Changes, row{"activity in " + text(value(ev.Period)),
+				"relevant range " + number(value(ev.RangeMin)) + " to " + number(value(ev.RangeMax)), number(value(ev.Activity))})
 		}
-		for _, e := range []struct{ key, name string }{
-			{"test", "test"}, {"statistic", "statistic"}, {"p", "p-value"}, {"r2", "R²"}, {"n", "n (periods)"},
-			{"periods_after", "periods after the change"}, {"reason", "reason"}, {"failures_in_a_row", "failures in a row"},
-			{"error", "last error"}, {"newest_period", "newest period"}, {"closed_periods_behind", "closed periods behind"},
-		} {
-			val, ok := ev[e.key]
-			if !ok || val == nil {
-				continue
-			}
-			s := ""
-			switch e.key {
-			case "p":
-				s = pValue(val)
-			case "r2":
-				s = fixed(val, 3)
-			case "statistic":
-				if f, ok := float(val); ok && math.Abs(f) >= 1e6 {
-					s = strconv.FormatFloat(f, 'g', 3, 64)
-				} else {
-					s = fixed(val, 2)
-				}
-			default:
-				s = text(val)
-			}
-			if s != "" {
-				v.Evidence = append(v.Evidence, row{Name: e.name, After: s})
-			}
-		}
-		if b, _ := ev["provisional"].(bool); b {
-			v.Evidence = append(v.Evidence, row{Name: "provisional", After: "yes: few periods after the change so far"})
-		}
+		v.Evidence = evidenceRows(ev)
 		if len(it.Chart) > 0 && !SourceKind(a.Kind) {
 			v.CID = fmt.Sprintf("chart-%d@costdrift", a.ID)
 		}
@@ -300,6 +270,62 @@ func HTML(d Digest) (string, error) {
 		return "", fmt.Errorf("mail: html part: %w", err)
 	}
 	return b.String(), nil
+}
+
+// evidenceRows are the test, its statistic and p-value, the fit and the
+// other figures a rule recorded, in that order, each with its name; an
+// entry not recorded, or not a finite number, has no row.
+func evidenceRows(ev costdrift.AlertEvidence) []row {
+	var rows []row
+	for _, e := range []struct {
+		name  string
+		value any
+		show  func(any) string
+	}{
+		{"test", value(ev.Test), text},
+		{"statistic", value(ev.Statistic), statistic},
+		{"p-value", value(ev.P), pValue},
+		{"R²", value(ev.R2), func(v any) string { return fixed(v, 3) }},
+		{"n (periods)", value(ev.N), text},
+		{"periods after the change", value(ev.PeriodsAfter), text},
+		{"reason", value(ev.Reason), text},
+		{"failures in a row", value(ev.FailuresInARow), text},
+		{"last error", value(ev.Error), text},
+		{"newest period", value(ev.NewestPeriod), text},
+		{"closed periods behind", value(ev.ClosedPeriodsBehind), text},
+	} {
+		if e.value == nil {
+			continue
+		}
+		if s := e.show(e.value); s != "" {
+			rows = append(rows, row{Name: e.name, After: s})
+		}
+	}
+	if ev.Provisional != nil && *ev.Provisional {
+		rows = append(rows, row{Name: "provisional", After: "yes: few periods after the change so far"})
+	}
+	return rows
+}
+
+// value is an evidence entry for the formatting below: nil when it was not
+// recorded or is a number that is not finite (stored as null).
+func value[T any](p *T) any {
+	if p == nil {
+		return nil
+	}
+	if f, ok := any(*p).(float64); ok && (math.IsNaN(f) || math.IsInf(f, 0)) {
+		return nil
+	}
+	return *p
+}
+
+// statistic shows a test statistic with two decimals, or with three
+// significant digits from a million on.
+func statistic(v any) string {
+	if f, ok := float(v); ok && math.Abs(f) >= 1e6 {
+		return strconv.FormatFloat(f, 'g', 3, 64)
+	}
+	return fixed(v, 2)
 }
 
 // text shows an evidence value: strings as they are, whole numbers without

@@ -74,9 +74,9 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
 	}
-	settings, _ := json.Marshal(map[string]any{"grain": cfg.Grain, "accounts": cfg.Accounts, "window": cfg.Window,
-		"min_periods": cfg.MinPeriods, "lags": cfg.Lags, "alpha": cfg.Alpha, "currency": e.Currency.Code,
-		"break_alpha": cfg.BreakAlpha, "bootstrap_replicates": cfg.BootstrapReplicates, "seed": bootstrapSeed})
+	settings, _ := json.Marshal(costdrift.AnalysisSettings{Grain: costdrift.Grain(cfg.Grain), Accounts: cfg.Accounts, Window: cfg.Window,
+		MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha, Currency: e.Currency.Code,
+		BreakAlpha: cfg.BreakAlpha, BootstrapReplicates: cfg.BootstrapReplicates, Seed: bootstrapSeed})
 	inputs := analyze.InputHashes(&panel, string(settings))
 	total := len(panel.Objects)
 	whole := panel // every object in scope, for the rules on data gaps

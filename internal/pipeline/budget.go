@@ -19,7 +19,7 @@ import (
 // period, then the cost-centre totals and the total.
 type BudgetResult struct {
 	Plan  string // the plan's name: its file name without extension
-	Lines []budget.Line
+	Lines []costdrift.BudgetLine
 	Names map[string]string // account names
 }
 
@@ -61,8 +61,8 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath string) (Budget
 }
 
 // orderBudget puts each period's object lines before its totals.
-func orderBudget(lines []budget.Line) []budget.Line {
-	rank := map[budget.Kind]int{budget.KindObject: 0, budget.KindCostCenter: 1, budget.KindTotal: 2}
+func orderBudget(lines []costdrift.BudgetLine) []costdrift.BudgetLine {
+	rank := map[costdrift.LineKind]int{costdrift.LineObject: 0, costdrift.LineCostCenter: 1, costdrift.LineTotal: 2}
 	sort.SliceStable(lines, func(i, j int) bool {
 		if lines[i].Period != lines[j].Period {
 			return lines[i].Period < lines[j].Period
@@ -76,7 +76,7 @@ func orderBudget(lines []budget.Line) []budget.Line {
 // then the totals.
 type VarianceResult struct {
 	Period, Plan string // Plan is "" without one
-	Lines        []budget.VarianceLine
+	Lines        []costdrift.VarianceLine
 	Names        map[string]string // account names
 	// LeftOut says, per object left out, why (its lines cannot be added
 	// up).

@@ -320,15 +320,14 @@ func alertChart(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, 
 	if err != nil {
 		return nil
 	}
-	fb, ok1 := al.Evidence["fixed_before"].(float64)
-	rb, ok2 := al.Evidence["rate_before"].(float64)
-	driverBefore, hasDriverBefore := al.Evidence["driver_before"].(string)
-	if ok1 && ok2 && (!hasDriverBefore || driverBefore == b.Driver) && b.Class != costdrift.Step {
+	ev := al.Evidence
+	sameDriver := ev.DriverBefore == nil || *ev.DriverBefore == b.Driver
+	if ev.FixedBefore != nil && ev.RateBefore != nil && sameDriver && b.Class != costdrift.Step {
 		label := "formula before the change"
 		if al.Period != "" {
 			label = "formula before " + al.Period
 		}
-		sc.Previous = &chart.Line{Fixed: fb, Rate: rb, Label: label}
+		sc.Previous = &chart.Line{Fixed: *ev.FixedBefore, Rate: *ev.RateBefore, Label: label}
 	}
 	var buf bytes.Buffer
 	if err := sc.WritePNG(&buf, chart.DefaultWidthPx, chart.DefaultHeightPx); err != nil {
@@ -343,8 +342,8 @@ func sampleDigest(to, from string, now time.Time) mail.Digest {
 		Items: []mail.Item{{Alert: costdrift.Alert{
 			ID: 0, Kind: costdrift.AlertRateShift, Object: "6400/SAMPLE", Severity: costdrift.SeverityWarning, Period: "2025-02",
 			Message: "Test message from costdrift: this sample alert shows the layout; no cost changed.",
-			Evidence: map[string]any{"test": "sup-F", "p": 0.004, "break": "2025-02", "fixed_before": 1200.0, "fixed_after": 1200.0,
-				"rate_before": 3.5, "rate_after": 4.2, "r2": 0.91, "n": 36.0},
+			Evidence: costdrift.AlertEvidence{Test: new("sup-F"), P: new(0.004), Break: new("2025-02"), FixedBefore: new(1200.0),
+				FixedAfter: new(1200.0), RateBefore: new(3.5), RateAfter: new(4.2), R2: new(0.91), N: new(36)},
 		}}}}
 }
 

@@ -8,7 +8,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
-	"github.com/costdrift/costdrift/internal/budget"
+	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
 // BudgetRow is one budget line as the JSON, CSV and XLSX outputs write it.
@@ -26,28 +26,28 @@ type BudgetRow struct {
 	High95     *float64 `json:"high95"`
 	Warning    string   `json:"warning"`
 
-	Line        budget.Kind `json:"line"` // object, cost_center or total
-	AccountName string      `json:"account_name"`
-	Class       string      `json:"class,omitempty"`
-	Driver      string      `json:"driver,omitempty"`
-	Activity    *float64    `json:"activity"`
-	Driver2     string      `json:"driver2,omitempty"`
-	Activity2   *float64    `json:"activity2"`
-	Objects     int         `json:"objects"`
-	SE          *float64    `json:"se"`
-	DF          *float64    `json:"df"`
+	Line        costdrift.LineKind `json:"line"` // object, cost_center or total
+	AccountName string             `json:"account_name"`
+	Class       string             `json:"class,omitempty"`
+	Driver      string             `json:"driver,omitempty"`
+	Activity    *float64           `json:"activity"`
+	Driver2     string             `json:"driver2,omitempty"`
+	Activity2   *float64           `json:"activity2"`
+	Objects     int                `json:"objects"`
+	SE          *float64           `json:"se"`
+	DF          *float64           `json:"df"`
 }
 
 // BudgetRows turns budget lines (objects and totals) into rows, rounding
 // money to cents.
-func BudgetRows(lines []budget.Line, names map[string]string) []BudgetRow {
+func BudgetRows(lines []costdrift.BudgetLine, names map[string]string) []BudgetRow {
 	rows := make([]BudgetRow, 0, len(lines))
 	for _, l := range lines {
 		r := BudgetRow{Period: l.Period, CostCenter: l.Object.CostCenter, Line: l.Kind, Warning: l.Warning,
 			Budget: money(l.Value), Low80: money(l.Low80), High80: money(l.High80), Low95: money(l.Low95), High95: money(l.High95),
 			Driver: l.Driver, Activity: ptr(l.Activity), Driver2: l.Driver2, Activity2: ptr(l.Activity2), Objects: l.Objects,
 			SE: money(l.SE), DF: ptr(l.DF)}
-		if l.Kind == budget.KindObject {
+		if l.Kind == costdrift.LineObject {
 			r.Object, r.Account, r.AccountName, r.Class = l.Object.String(), l.Object.Account, names[l.Object.Account], string(l.Class)
 		}
 		rows = append(rows, r)
@@ -125,7 +125,7 @@ func BudgetTable(w io.Writer, rows []BudgetRow, currency, plan string) error {
 		return err
 	}
 	notes.write(w)
-	fmt.Fprintf(w, "\nTotals add the objects' budgets and their variances. %s.\n", sentence(budget.Independence))
+	fmt.Fprintf(w, "\nTotals add the objects' budgets and their variances. %s.\n", sentence(costdrift.Independence))
 	fmt.Fprintln(w, "An interval is where a period's cost should fall at the planned activity if the formula holds (prediction interval).")
 	fmt.Fprintln(w)
 	_, err := fmt.Fprintln(w, Caution)
@@ -134,32 +134,32 @@ func BudgetTable(w io.Writer, rows []BudgetRow, currency, plan string) error {
 
 // VarianceRow is one variance line as the outputs write it.
 type VarianceRow struct {
-	Object           string      `json:"object"`
-	Account          string      `json:"account"`
-	CostCenter       string      `json:"cost_center"`
-	Period           string      `json:"period"`
-	Line             budget.Kind `json:"line"`
-	AccountName      string      `json:"account_name"`
-	Class            string      `json:"class,omitempty"`
-	Driver           string      `json:"driver,omitempty"`
-	ActualActivity   *float64    `json:"actual_activity"`
-	PlannedActivity  *float64    `json:"planned_activity"`
-	Actual           *float64    `json:"actual"`
-	FlexibleBudget   *float64    `json:"flexible_budget"`
-	Low95            *float64    `json:"low95"`
-	High95           *float64    `json:"high95"`
-	SpendingVariance *float64    `json:"spending_variance"`
-	SpendingMark     string      `json:"spending_mark"`
-	StaticBudget     *float64    `json:"static_budget"`
-	ActivityVariance *float64    `json:"activity_variance"`
-	ActivityMark     string      `json:"activity_mark"`
-	Outside95        bool        `json:"outside95"`
-	Objects          int         `json:"objects"`
-	Warning          string      `json:"warning"`
+	Object           string             `json:"object"`
+	Account          string             `json:"account"`
+	CostCenter       string             `json:"cost_center"`
+	Period           string             `json:"period"`
+	Line             costdrift.LineKind `json:"line"`
+	AccountName      string             `json:"account_name"`
+	Class            string             `json:"class,omitempty"`
+	Driver           string             `json:"driver,omitempty"`
+	ActualActivity   *float64           `json:"actual_activity"`
+	PlannedActivity  *float64           `json:"planned_activity"`
+	Actual           *float64           `json:"actual"`
+	FlexibleBudget   *float64           `json:"flexible_budget"`
+	Low95            *float64           `json:"low95"`
+	High95           *float64           `json:"high95"`
+	SpendingVariance *float64           `json:"spending_variance"`
+	SpendingMark     string             `json:"spending_mark"`
+	StaticBudget     *float64           `json:"static_budget"`
+	ActivityVariance *float64           `json:"activity_variance"`
+	ActivityMark     string             `json:"activity_mark"`
+	Outside95        bool               `json:"outside95"`
+	Objects          int                `json:"objects"`
+	Warning          string             `json:"warning"`
 }
 
 // VarianceRows turns variance lines into rows, rounding money to cents.
-func VarianceRows(lines []budget.VarianceLine, names map[string]string) []VarianceRow {
+func VarianceRows(lines []costdrift.VarianceLine, names map[string]string) []VarianceRow {
 	rows := make([]VarianceRow, 0, len(lines))
 	for _, l := range lines {
 		r := VarianceRow{Period: l.Period, CostCenter: l.Object.CostCenter, Line: l.Kind, Driver: l.Driver,
@@ -174,7 +174,7 @@ func VarianceRows(lines []budget.VarianceLine, names map[string]string) []Varian
 		if math.IsNaN(l.ActivityVariance) {
 			r.ActivityMark = ""
 		}
-		if l.Kind == budget.KindObject {
+		if l.Kind == costdrift.LineObject {
 			r.Object, r.Account, r.AccountName, r.Class = l.Object.String(), l.Object.Account, names[l.Object.Account], string(l.Class)
 		}
 		rows = append(rows, r)
@@ -256,7 +256,7 @@ func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan strin
 	if starred > 0 {
 		fmt.Fprintf(w, "*: %d actual(s) outside the flexible budget's 95 %% prediction interval.\n", starred)
 	}
-	fmt.Fprintf(w, "%s.\n", sentence(budget.Independence))
+	fmt.Fprintf(w, "%s.\n", sentence(costdrift.Independence))
 	fmt.Fprintln(w)
 	_, err := fmt.Fprintln(w, Caution)
 	return err
@@ -265,11 +265,11 @@ func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan strin
 // lineNames is a budget or variance line's first two cells and an empty
 // activity: the object and its account name, or the total and how many
 // objects it adds.
-func lineNames(kind budget.Kind, object, accountName, costCenter string, objects int) (name, what, activity string) {
+func lineNames(kind costdrift.LineKind, object, accountName, costCenter string, objects int) (name, what, activity string) {
 	switch kind {
-	case budget.KindCostCenter:
+	case costdrift.LineCostCenter:
 		return "total " + TerminalText(costCenter), fmt.Sprintf("%d objects", objects), "-"
-	case budget.KindTotal:
+	case costdrift.LineTotal:
 		return "TOTAL", fmt.Sprintf("%d objects", objects), "-"
 	}
 	return TerminalText(object), clip(TerminalText(accountName), 22), "-"
@@ -289,7 +289,7 @@ func withoutIndependence(warning string) string {
 	parts := strings.Split(warning, "; ")
 	keep := parts[:0]
 	for _, p := range parts {
-		if !strings.HasPrefix(p, budget.Independence) {
+		if !strings.HasPrefix(p, costdrift.Independence) {
 			keep = append(keep, p)
 		}
 	}

@@ -401,6 +401,20 @@ func ExplainJSON(w io.Writer, e Explanation) error {
 // path, are shown through TerminalText.
 func ExplainText(w io.Writer, e Explanation, currency string) error {
 	var s strings.Builder
+	explainHeader(&s, e, currency)
+	explainDrivers(&s, e, currency)
+	explainModels(&s, e)
+	explainHighLow(&s, e)
+	explainDiagnostics(&s, e.Diagnostics)
+	explainNotes(&s, e)
+	s.WriteString("\n" + e.Cautions + "\n")
+	_, err := io.WriteString(w, s.String())
+	return err
+}
+
+// explainHeader writes the title and the behaviour: class, formula,
+// driver, the periods fitted, the reason and the analysis.
+func explainHeader(s *strings.Builder, e Explanation, currency string) {
 	title := TerminalText(e.Object)
 	if e.AccountName != "" {
 		title += " — " + TerminalText(e.AccountName)
@@ -432,7 +446,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 	if e.Analysis.Alpha > 0 {
 		analysis += fmt.Sprintf(", Holm-corrected at %g", e.Analysis.Alpha)
 	}
-	keyValues(&s, [][2]string{
+	keyValues(s, [][2]string{
 		{"class", TerminalText(string(e.Class))},
 		{"formula", TerminalText(e.Formula)},
 		{"driver", driver},
@@ -440,111 +454,130 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 		{"reason", TerminalText(e.Reason)},
 		{"analysis", analysis},
 	})
+}
 
+// explainDrivers writes every driver and lag tried, ranked, the chosen one
+// marked, with what PRESS/N means.
+func explainDrivers(s *strings.Builder, e Explanation, currency string) {
 	s.WriteString("\nDrivers tried: cost = fixed + rate × driver by least squares, ranked by leave-one-out\nerror among slopes that are positive and significant after Holm's correction\n")
 	if len(e.Drivers) == 0 {
 		s.WriteString("  no driver could be fitted (no activity series covers enough periods)\n")
-	} else {
-		t := table{header: []string{"RANK", "DRIVER", "LAG", "RATE", "P", "HOLM P", "R²", "PRESS/N", "N", ""}, right: "rlrrrrrrrl"}
-		var chosen *DriverLine
-		for i, d := range e.Drivers {
-			rank := "-"
-			if d.Rank > 0 {
-				rank = fmt.Sprint(d.Rank)
-			}
-			note := ""
-			switch {
-			case d.Chosen:
-				note = "◀ chosen"
-				chosen = &e.Drivers[i]
-			case d.Implausible:
-				note = "implausible: significant negative slope, not used"
-			case !d.Significant:
-				note = "not significant"
-			}
-			t.add(rank, TerminalText(d.Driver), fmt.Sprint(d.Lag), num(d.Rate, 4), pValue(d.P), pValue(d.HolmP), num(d.R2, 3), press(d.PRESSPerPeriod), fmt.Sprint(d.N), note)
-		}
-		t.write(&s, "  ")
-		fmt.Fprintf(&s, "  PRESS/N: mean squared error (%s²) of predicting each period from the others; lower is better.\n", currency)
-		if chosen != nil && chosen.PRESSPerPeriod != nil {
-			fmt.Fprintf(&s, "  For the chosen driver's line its square root is %s %s a period.\n", Number(math.Sqrt(*chosen.PRESSPerPeriod), 2), currency)
-		}
+		return
 	}
-
-	if len(e.Models) > 0 {
-		on := "without a driver"
-		if e.ModelDriver != "" {
-			on = "on " + TerminalText(e.ModelDriver) + ", lag " + fmt.Sprint(e.ModelLag)
+	t := table{header: []string{"RANK", "DRIVER", "LAG", "RATE", "P", "HOLM P", "R²", "PRESS/N", "N", ""}, right: "rlrrrrrrrl"}
+	var chosen *DriverLine
+	for i, d := range e.Drivers {
+		rank := "-"
+		if d.Rank > 0 {
+			rank = fmt.Sprint(d.Rank)
 		}
-		fmt.Fprintf(&s, "\nModels %s: lower AICc is better; 4 or more above the best is considerably less support\n", on)
-		t := table{header: []string{"MODEL", "DRIVER", "N", "R²", "AICc", "ΔAICc", "PRESS/N", ""}, right: "llrrrrrl"}
-		uncentred := false
-		for _, m := range e.Models {
-			r2 := num(m.R2, 3)
-			if m.Model == costdrift.ModelProportional && m.R2 != nil {
-				r2 += "*"
-				uncentred = true
-			}
-			var notes []string
-			if m.Chosen {
-				notes = append(notes, "◀ chosen")
-			}
-			if m.Best {
-				notes = append(notes, "lowest AICc")
-			}
-			if !m.Comparable {
-				notes = append(notes, "other n: AICc not comparable")
-			}
-			drv := "-"
-			if m.Driver != "" {
-				drv = TerminalText(m.Driver) + ", lag " + fmt.Sprint(m.Lag)
-			}
-			t.add(TerminalText(strings.ReplaceAll(string(m.Model), "_", "-")), drv, fmt.Sprint(m.N), r2, num(m.AICc, 1), num(m.DeltaAICc, 1), press(m.PRESSPerPeriod), strings.Join(notes, ", "))
+		note := ""
+		switch {
+		case d.Chosen:
+			note = "◀ chosen"
+			chosen = &e.Drivers[i]
+		case d.Implausible:
+			note = "implausible: significant negative slope, not used"
+		case !d.Significant:
+			note = "not significant"
 		}
-		t.write(&s, "  ")
-		if uncentred {
-			s.WriteString("  * measured from zero cost, not from the mean: not comparable with the other R² values\n")
-		}
+		t.add(rank, TerminalText(d.Driver), fmt.Sprint(d.Lag), num(d.Rate, 4), pValue(d.P), pValue(d.HolmP), num(d.R2, 3), press(d.PRESSPerPeriod), fmt.Sprint(d.N), note)
 	}
+	t.write(s, "  ")
+	fmt.Fprintf(s, "  PRESS/N: mean squared error (%s²) of predicting each period from the others; lower is better.\n", currency)
+	if chosen != nil && chosen.PRESSPerPeriod != nil {
+		fmt.Fprintf(s, "  For the chosen driver's line its square root is %s %s a period.\n", Number(math.Sqrt(*chosen.PRESSPerPeriod), 2), currency)
+	}
+}
 
-	if c := e.Comparison; c != nil {
-		// High-low is on the first driver alone, also when the formula has two.
-		fmt.Fprintf(&s, "\nHigh-low beside least squares, on %s\n", TerminalText(DriverLabel(*e.Driver, *e.Lag)))
-		lagged := c.High.ActivityPeriod != c.High.Period || c.Low.ActivityPeriod != c.Low.Period
-		t := table{header: []string{"", "PERIOD", "ACTIVITY", "COST"}, right: "llrr"}
+// explainModels writes the comparison of the models on the chosen driver;
+// nothing when there is none.
+func explainModels(s *strings.Builder, e Explanation) {
+	if len(e.Models) == 0 {
+		return
+	}
+	on := "without a driver"
+	if e.ModelDriver != "" {
+		on = "on " + TerminalText(e.ModelDriver) + ", lag " + fmt.Sprint(e.ModelLag)
+	}
+	fmt.Fprintf(s, "\nModels %s: lower AICc is better; 4 or more above the best is considerably less support\n", on)
+	t := table{header: []string{"MODEL", "DRIVER", "N", "R²", "AICc", "ΔAICc", "PRESS/N", ""}, right: "llrrrrrl"}
+	uncentred := false
+	for _, m := range e.Models {
+		r2 := num(m.R2, 3)
+		if m.Model == costdrift.ModelProportional && m.R2 != nil {
+			r2 += "*"
+			uncentred = true
+		}
+		var notes []string
+		if m.Chosen {
+			notes = append(notes, "◀ chosen")
+		}
+		if m.Best {
+			notes = append(notes, "lowest AICc")
+		}
+		if !m.Comparable {
+			notes = append(notes, "other n: AICc not comparable")
+		}
+		drv := "-"
+		if m.Driver != "" {
+			drv = TerminalText(m.Driver) + ", lag " + fmt.Sprint(m.Lag)
+		}
+		t.add(TerminalText(strings.ReplaceAll(string(m.Model), "_", "-")), drv, fmt.Sprint(m.N), r2, num(m.AICc, 1), num(m.DeltaAICc, 1), press(m.PRESSPerPeriod), strings.Join(notes, ", "))
+	}
+	t.write(s, "  ")
+	if uncentred {
+		s.WriteString("  * measured from zero cost, not from the mean: not comparable with the other R² values\n")
+	}
+}
+
+// explainHighLow writes the high-low estimate beside least squares;
+// nothing without one.
+func explainHighLow(s *strings.Builder, e Explanation) {
+	c := e.Comparison
+	if c == nil {
+		return
+	}
+	// High-low is on the first driver alone, also when the formula has two.
+	fmt.Fprintf(s, "\nHigh-low beside least squares, on %s\n", TerminalText(DriverLabel(*e.Driver, *e.Lag)))
+	lagged := c.High.ActivityPeriod != c.High.Period || c.Low.ActivityPeriod != c.Low.Period
+	t := table{header: []string{"", "PERIOD", "ACTIVITY", "COST"}, right: "llrr"}
+	if lagged {
+		t = table{header: []string{"", "PERIOD", "ACTIVITY OF", "ACTIVITY", "COST"}, right: "lllrr"}
+	}
+	for _, end := range []struct {
+		name string
+		e    HighLowEnd
+	}{{"highest activity", c.High}, {"lowest activity", c.Low}} {
 		if lagged {
-			t = table{header: []string{"", "PERIOD", "ACTIVITY OF", "ACTIVITY", "COST"}, right: "lllrr"}
+			t.add(end.name, TerminalText(end.e.Period), TerminalText(end.e.ActivityPeriod), Activity(end.e.Activity), Number(end.e.Cost, 2))
+		} else {
+			t.add(end.name, TerminalText(end.e.Period), Activity(end.e.Activity), Number(end.e.Cost, 2))
 		}
-		for _, end := range []struct {
-			name string
-			e    HighLowEnd
-		}{{"highest activity", c.High}, {"lowest activity", c.Low}} {
-			if lagged {
-				t.add(end.name, TerminalText(end.e.Period), TerminalText(end.e.ActivityPeriod), Activity(end.e.Activity), Number(end.e.Cost, 2))
-			} else {
-				t.add(end.name, TerminalText(end.e.Period), Activity(end.e.Activity), Number(end.e.Cost, 2))
-			}
-		}
-		t.write(&s, "  ")
-		s.WriteString("\n")
-		t = table{header: []string{"", "FIXED", "RATE", "PERIODS"}, right: "lrrr"}
-		t.add("high-low", num(c.HighLow.Fixed, 2), num(c.HighLow.Rate, 4), "2")
-		if c.N > 0 {
-			t.add("least squares", num(c.LeastSquares.Fixed, 2), num(c.LeastSquares.Rate, 4), fmt.Sprint(c.N))
-		}
-		t.write(&s, "  ")
-		wrap(&s, TerminalText(c.Explanation), "  ", textWidth)
 	}
+	t.write(s, "  ")
+	s.WriteString("\n")
+	t = table{header: []string{"", "FIXED", "RATE", "PERIODS"}, right: "lrrr"}
+	t.add("high-low", num(c.HighLow.Fixed, 2), num(c.HighLow.Rate, 4), "2")
+	if c.N > 0 {
+		t.add("least squares", num(c.LeastSquares.Fixed, 2), num(c.LeastSquares.Rate, 4), fmt.Sprint(c.N))
+	}
+	t.write(s, "  ")
+	wrap(s, TerminalText(c.Explanation), "  ", textWidth)
+}
 
+// explainDiagnostics writes how far the chosen fit can be trusted: the
+// residuals' autocorrelation, the robust fit beside least squares and the
+// outliers.
+func explainDiagnostics(s *strings.Builder, d DiagnosticsView) {
 	s.WriteString("\nDiagnostics\n")
-	d := e.Diagnostics
 	if d.DurbinWatson != nil {
-		wrap(&s, fmt.Sprintf("Durbin–Watson %.2f, %s", *d.DurbinWatson, d.DurbinWatsonReading), "  ", textWidth)
+		wrap(s, fmt.Sprintf("Durbin–Watson %.2f, %s", *d.DurbinWatson, d.DurbinWatsonReading), "  ", textWidth)
 	} else {
-		wrap(&s, "Durbin–Watson: "+d.DurbinWatsonReading+".", "  ", textWidth)
+		wrap(s, "Durbin–Watson: "+d.DurbinWatsonReading+".", "  ", textWidth)
 	}
 	if d.Basis != "" {
-		wrap(&s, "The robust fit and the outliers below are of "+TerminalText(d.Basis)+".", "  ", textWidth)
+		wrap(s, "The robust fit and the outliers below are of "+TerminalText(d.Basis)+".", "  ", textWidth)
 	}
 	if d.Robust != nil {
 		t := table{header: []string{"", "FIXED", "RATE"}, right: "lrr"}
@@ -552,9 +585,9 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 		if d.LeastSquares != nil {
 			t.add("least squares", num(d.LeastSquares.Fixed, 2), num(d.LeastSquares.Rate, 4))
 		}
-		t.write(&s, "  ")
+		t.write(s, "  ")
 		if d.RobustNote != "" {
-			wrap(&s, "Note: "+TerminalText(d.RobustNote)+".", "  ", textWidth)
+			wrap(s, "Note: "+TerminalText(d.RobustNote)+".", "  ", textWidth)
 		} else {
 			s.WriteString("  The robust rate is within two standard errors of least squares: no small group of periods sways it.\n")
 		}
@@ -562,33 +595,33 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 	if d.CooksLimit != nil {
 		limit := fmt.Sprintf("%.3f", *d.CooksLimit)
 		if len(d.Outliers) == 0 {
-			fmt.Fprintf(&s, "  Outliers: none (no period has a Cook's distance above 4/n = %s).\n", limit)
+			fmt.Fprintf(s, "  Outliers: none (no period has a Cook's distance above 4/n = %s).\n", limit)
 		} else {
-			fmt.Fprintf(&s, "  Outliers: periods with a Cook's distance above 4/n = %s\n", limit)
+			fmt.Fprintf(s, "  Outliers: periods with a Cook's distance above 4/n = %s\n", limit)
 			t := table{header: []string{"PERIOD", "COOK'S D", "STUDENTISED RESIDUAL"}, right: "lrr"}
 			for _, o := range d.Outliers {
 				t.add(TerminalText(o.Period), fmt.Sprintf("%.3f", o.CooksD), fmt.Sprintf("%.2f", o.Studentised))
 			}
-			t.write(&s, "    ")
+			t.write(s, "    ")
 		}
 	}
+}
 
+// explainNotes writes the caller's notes and where the chart went.
+func explainNotes(s *strings.Builder, e Explanation) {
 	if len(e.Notes) > 0 || e.Chart != "" {
 		s.WriteString("\n")
 	}
 	for _, n := range e.Notes {
-		wrap(&s, "Note: "+TerminalText(n), "", textWidth)
+		wrap(s, "Note: "+TerminalText(n), "", textWidth)
 	}
 	if e.Chart != "" {
 		// The path is written whole: wrapping would fold its spaces.
 		s.WriteString("Chart written to " + TerminalText(e.Chart) + "\n")
-		if e.Class == costdrift.Step && len(d.Outliers) > 0 {
+		if e.Class == costdrift.Step && len(e.Diagnostics.Outliers) > 0 {
 			s.WriteString("The straight line's outliers are not marked on the step levels.\n")
 		}
 	}
-	s.WriteString("\n" + e.Cautions + "\n")
-	_, err := io.WriteString(w, s.String())
-	return err
 }
 
 // keyValues writes "  key   value" lines with the values aligned and

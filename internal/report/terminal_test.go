@@ -8,7 +8,6 @@ import (
 	"testing"
 	"unicode/utf8"
 
-	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
@@ -132,11 +131,11 @@ func TestTextRenderersShowNamesAsText(t *testing.T) {
 		t.Fatal(err)
 	}
 
-	interval := budget.Estimate{Value: 6080, Low80: 6000, High80: 6160, Low95: 5950, High95: 6210}
-	budgetLines := []budget.Line{
-		{Object: object, Period: "2026-07", Kind: budget.KindObject, Class: costdrift.Mixed, Driver: driver, Activity: 1000,
+	interval := costdrift.Estimate{Value: 6080, Low80: 6000, High80: 6160, Low95: 5950, High95: 6210}
+	budgetLines := []costdrift.BudgetLine{
+		{Object: object, Period: "2026-07", Kind: costdrift.LineObject, Class: costdrift.Mixed, Driver: driver, Activity: 1000,
 			Activity2: math.NaN(), Estimate: interval, Warning: driver + " 1,600 is outside the relevant range"},
-		{Object: costdrift.CostObject{CostCenter: object.CostCenter}, Period: "2026-07", Kind: budget.KindCostCenter, Objects: 1,
+		{Object: costdrift.CostObject{CostCenter: object.CostCenter}, Period: "2026-07", Kind: costdrift.LineCostCenter, Objects: 1,
 			Activity: math.NaN(), Activity2: math.NaN(), Estimate: interval},
 	}
 	var budgetTable bytes.Buffer
@@ -144,10 +143,10 @@ func TestTextRenderersShowNamesAsText(t *testing.T) {
 		t.Fatal(err)
 	}
 
-	varianceLines := []budget.VarianceLine{
-		{Object: object, Period: "2026-06", Kind: budget.KindObject, Class: costdrift.Mixed, Driver: driver, ActualActivity: 1000,
+	varianceLines := []costdrift.VarianceLine{
+		{Object: object, Period: "2026-06", Kind: costdrift.LineObject, Class: costdrift.Mixed, Driver: driver, ActualActivity: 1000,
 			PlanActivity: math.NaN(), Static: math.NaN(), ActivityVariance: math.NaN(), Actual: 6200, Flexible: interval, SpendingVariance: 120, Warning: "fitted on " + driver},
-		{Object: costdrift.CostObject{CostCenter: object.CostCenter}, Period: "2026-06", Kind: budget.KindCostCenter, Objects: 1,
+		{Object: costdrift.CostObject{CostCenter: object.CostCenter}, Period: "2026-06", Kind: costdrift.LineCostCenter, Objects: 1,
 			ActualActivity: math.NaN(), PlanActivity: math.NaN(), Static: math.NaN(), ActivityVariance: math.NaN(), Actual: 6200, Flexible: interval, SpendingVariance: 120},
 	}
 	var varianceTable bytes.Buffer

@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"math"
 	"strings"
 	"time"
 
@@ -219,51 +218,17 @@ func resolveCleared(ctx context.Context, tx *sql.Tx, kind costdrift.AlertKind, r
 	return nil
 }
 
-// evidenceJSON encodes an alert's evidence; nil or empty evidence is NULL.
-// JSON has no NaN or infinity: such numbers, which a statistic can be
-// (R² of a constant series), are stored as null rather than failing the
-// whole evaluation.
-func evidenceJSON(evidence map[string]any) (any, error) {
-	if len(evidence) == 0 {
+// evidenceJSON encodes an alert's evidence; no evidence is NULL. Numbers
+// that are not finite are stored as null (AlertEvidence.MarshalJSON).
+func evidenceJSON(evidence costdrift.AlertEvidence) (any, error) {
+	if len(evidence.Map()) == 0 {
 		return nil, nil
 	}
-	b, err := json.Marshal(finiteJSON(evidence))
+	b, err := json.Marshal(evidence)
 	if err != nil {
 		return nil, fmt.Errorf("evidence: %w", err)
 	}
 	return string(b), nil
-}
-
-// finiteJSON replaces non-finite floats by nil in the shapes evidence is
-// built from: maps, slices of any or of float64, and floats.
-func finiteJSON(v any) any {
-	switch v := v.(type) {
-	case float64:
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil
-		}
-	case float32:
-		return finiteJSON(float64(v))
-	case map[string]any:
-		out := make(map[string]any, len(v))
-		for k, x := range v {
-			out[k] = finiteJSON(x)
-		}
-		return out
-	case []any:
-		out := make([]any, len(v))
-		for i, x := range v {
-			out[i] = finiteJSON(x)
-		}
-		return out
-	case []float64:
-		out := make([]any, len(v))
-		for i, x := range v {
-			out[i] = finiteJSON(x)
-		}
-		return out
-	}
-	return v
 }
 
 // severityRankSQL is Severity.Rank as an SQL expression on the severity

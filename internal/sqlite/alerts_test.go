@@ -14,9 +14,10 @@ import (
 )
 
 // raise is an alert as a rule would hand it over; the discriminator is "".
+// The evidence is given by key, as any version may have written it.
 func raise(kind costdrift.AlertKind, object string, severity costdrift.Severity, period, message string, evidence map[string]any) costdrift.Alert {
 	return costdrift.Alert{Kind: kind, Object: object, Severity: severity, Period: period, Message: message,
-		Fingerprint: costdrift.Fingerprint(kind, object, ""), Evidence: evidence}
+		Fingerprint: costdrift.Fingerprint(kind, object, ""), Evidence: costdrift.AlertEvidence{Other: evidence}}
 }
 
 var (
@@ -68,8 +69,10 @@ func TestApplyAlertsInsertsNew(t *testing.T) {
 	got := getAlert(t, db, 1)
 	want := costdrift.Alert{ID: 1, Kind: costdrift.AlertRateShift, Object: "6200/WELD", Severity: costdrift.SeverityWarning,
 		Status: costdrift.AlertOpen, Period: "2025-07", Message: rateShift.Message, Fingerprint: rateShift.Fingerprint,
-		// Stored as JSON: the whole number n reads back as a float64.
-		Evidence:  map[string]any{"test": "sup-F", "p_value": 0.0012, "n": 36.0, "old_formula": "cost = 4,210.50 + 1.88 per machine hour"},
+		// Stored as JSON: test and n read back into their fields, the keys
+		// no field names into Other.
+		Evidence: costdrift.AlertEvidence{Test: new("sup-F"), N: new(36),
+			Other: map[string]any{"p_value": 0.0012, "old_formula": "cost = 4,210.50 + 1.88 per machine hour"}},
 		CreatedAt: c.t, UpdatedAt: c.t, Occurrences: 1}
 	if !reflect.DeepEqual(got, want) {
 		t.Errorf("alert 1:\n got  %+v\n want %+v", got, want)
@@ -80,7 +83,7 @@ func TestApplyAlertsInsertsNew(t *testing.T) {
 		t.Errorf("stored row: %s", got)
 	}
 	// No evidence is NULL, and reads back as none.
-	if a := getAlert(t, db, 2); a.Evidence != nil || a.Period != "2025-05" {
+	if a := getAlert(t, db, 2); len(a.Evidence.Map()) != 0 || a.Period != "2025-05" {
 		t.Errorf("alert 2: evidence %v, period %q", a.Evidence, a.Period)
 	}
 	if n := count(t, db, "open_alerts"); n != 3 {
@@ -96,7 +99,7 @@ func TestApplyAlertsUpdatesTheSameCondition(t *testing.T) {
 	c.t = c.t.Add(24 * time.Hour)
 	again := rateShift
 	again.Message = "rate per machine hour up from 1.88 to 2.25 since 2025-07"
-	again.Evidence = map[string]any{"test": "sup-F", "p_value": 0.0004, "n": 37}
+	again.Evidence = costdrift.AlertEvidence{Other: map[string]any{"test": "sup-F", "p_value": 0.0004, "n": 37}}
 	ch := apply(t, db, "2025-06", kinds(costdrift.AlertRateShift), again)
 	checkChanges(t, ch, AlertChanges{Updated: 1})
 
@@ -104,11 +107,11 @@ func TestApplyAlertsUpdatesTheSameCondition(t *testing.T) {
 		t.Fatalf("%d alert rows, want 1: the same condition is one alert", n)
 	}
 	a := getAlert(t, db, 1)
-	if a.Message != again.Message || a.Evidence["p_value"] != 0.0004 || a.Evidence["n"] != 37.0 || a.Occurrences != 2 ||
+	if a.Message != again.Message || a.Evidence.Map()["p_value"] != 0.0004 || a.Evidence.Map()["n"] != 37.0 || a.Occurrences != 2 ||
 		!a.CreatedAt.Equal(first) || !a.UpdatedAt.Equal(c.t) || a.Status != costdrift.AlertOpen || a.Severity != costdrift.SeverityWarning {
 		t.Errorf("updated alert %+v", a)
 	}
-	if _, ok := a.Evidence["old_formula"]; ok {
+	if _, ok := a.Evidence.Map()["old_formula"]; ok {
 		t.Errorf("evidence kept a key the new evaluation did not give: %v", a.Evidence)
 	}
 }
@@ -408,8 +411,8 @@ func TestAlertEvidenceWithoutANumber(t *testing.T) {
 	// null instead of failing the evaluation.
 	db, _ := mustOpen(t)
 	a := rateShift
-	a.Evidence = map[string]any{"r2": math.NaN(), "f": math.Inf(1), "levels": []float64{1, math.NaN()},
-		"fits": []any{map[string]any{"r2": math.NaN(), "n": 12}}, "p_value": float32(0.5)}
+	a.Evidence = costdrift.AlertEvidence{Other: map[string]any{"r2": math.NaN(), "f": math.Inf(1), "levels": []float64{1, math.NaN()},
+		"fits": []any{map[string]any{"r2": math.NaN(), "n": 12}}, "p_value": float32(0.5)}}
 	apply(t, db, "2025-07", kinds(costdrift.AlertRateShift), a)
 	if got := dump(t, db, `SELECT evidence FROM alerts`); got != `"{\"f\":null,\"fits\":[{\"n\":12,\"r2\":null}],\"levels\":[1,null],\"p_value\":0.5,\"r2\":null}"`+"\n" {
 		t.Errorf("evidence %s", got)
@@ -460,7 +463,7 @@ func TestMigrationKeepsAlertsOfSchema4(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if a.Occurrences != 1 || a.Evidence != nil || a.AckUntil != "" || !a.ResolvedAt.IsZero() {
+	if a.Occurrences != 1 || len(a.Evidence.Map()) != 0 || a.AckUntil != "" || !a.ResolvedAt.IsZero() {
 		t.Errorf("alert from schema 4: %+v", a)
 	}
 	// And it goes on like any other.

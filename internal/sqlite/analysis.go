@@ -11,7 +11,6 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/internal/fit"
 )
 
 // CostTotals returns the net amount per period, account and cost centre of
@@ -319,7 +318,7 @@ func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 // predictionJSON stores the formula's prediction terms; terms that are not
 // complete, finite numbers are left out (NULL), and a budget then says it
 // has no interval.
-func predictionJSON(t *fit.Terms) any {
+func predictionJSON(t *costdrift.PredictionTerms) any {
 	if t == nil || t.Check() != nil {
 		return nil
 	}
@@ -450,7 +449,7 @@ func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]cost
 			return nil, err
 		}
 		if prediction != "" {
-			b.Prediction = &fit.Terms{}
+			b.Prediction = &costdrift.PredictionTerms{}
 			if err := json.Unmarshal([]byte(prediction), b.Prediction); err != nil {
 				return nil, fmt.Errorf("behaviour %s: prediction: %w", b.Object, err)
 			}

@@ -11,7 +11,6 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/internal/fit"
 )
 
 var weld = costdrift.CostObject{Account: "6200", CostCenter: "WELD"}
@@ -30,7 +29,7 @@ func mixed() costdrift.Behaviour {
 		HighLow: &costdrift.HighLow{HighPeriod: "2025-11", LowPeriod: "2024-08", HighActivity: 1490, LowActivity: 512.5,
 			HighCost: 7000.25, LowCost: 5180.75, Fixed: 4218.1, Rate: 1.86, Warning: "the low end (2024-08) is an outlier"},
 		CV: 0.125, MeanCost: 6100.25,
-		Prediction: &fit.Terms{Intercept: true, Centre: []float64{900.5}, Coef: []float64{6100.25, 1.875}, Cov: []float64{1.0 / 35, 0, 0, 1.25e-6},
+		Prediction: &costdrift.PredictionTerms{Intercept: true, Centre: []float64{900.5}, Coef: []float64{6100.25, 1.875}, Cov: []float64{1.0 / 35, 0, 0, 1.25e-6},
 			S: 80.5, N: 35, DF: 33},
 	}
 }
@@ -352,7 +351,7 @@ func TestBehaviourIn(t *testing.T) {
 	save(t, db, c, nil, mixed())
 	after := mixed()
 	after.FixedPerPeriod, after.Since = 3900, "2025-02"
-	before := &fit.Terms{Intercept: true, Centre: []float64{880}, Coef: []float64{5900, 1.9}, Cov: []float64{1.0 / 19, 0, 0, 2e-6}, S: 70, N: 19, DF: 17}
+	before := &costdrift.PredictionTerms{Intercept: true, Centre: []float64{880}, Coef: []float64{5900, 1.9}, Cov: []float64{1.0 / 19, 0, 0, 2e-6}, S: 70, N: 19, DF: 17}
 	after.Break = &costdrift.Break{Period: "2025-02", LastBefore: "2025-01", WindowFrom: "2023-07", Test: "sup-F", Statistic: 30, P: 0.001,
 		Driver: "machine_hours", Lag: 1, FixedBefore: 4210.5, RateBefore: 1.875, FixedAfter: 3900, RateAfter: 1.875, Periods: 17,
 		PredictionBefore: before}

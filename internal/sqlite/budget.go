@@ -6,7 +6,6 @@ import (
 	"math"
 	"time"
 
-	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
@@ -14,7 +13,7 @@ import (
 // one transaction, replacing what the plan of the same name held before.
 // Only the plans and budget_lines tables are written, so that a budget can
 // be made while a daemon works on the rest of the store.
-func (db *DB) SaveBudget(ctx context.Context, plan string, values []costdrift.ActivityValue, lines []budget.Line, at time.Time) error {
+func (db *DB) SaveBudget(ctx context.Context, plan string, values []costdrift.ActivityValue, lines []costdrift.BudgetLine, at time.Time) error {
 	now := at.UTC().Format(time.RFC3339)
 	return db.inTx(ctx, func(tx *sql.Tx) error {
 		if err := savePlan(ctx, tx, plan, values, now); err != nil {
@@ -32,7 +31,7 @@ func (db *DB) SaveBudget(ctx context.Context, plan string, values []costdrift.Ac
 		defer stmt.Close()
 		for _, l := range lines {
 			object, class := "", any(nil)
-			if l.Kind == budget.KindObject {
+			if l.Kind == costdrift.LineObject {
 				object, class = l.Object.String(), string(l.Class)
 			}
 			if _, err := stmt.ExecContext(ctx, plan, l.Period, string(l.Kind), object, l.Object.Account, l.Object.CostCenter, class,
@@ -49,7 +48,7 @@ func (db *DB) SaveBudget(ctx context.Context, plan string, values []costdrift.Ac
 // SaveVariances stores a closed period's variance lines (and, with a plan,
 // the plan's activity), replacing the earlier report of the same period
 // and plan ("" without one).
-func (db *DB) SaveVariances(ctx context.Context, period, plan string, values []costdrift.ActivityValue, lines []budget.VarianceLine, at time.Time) error {
+func (db *DB) SaveVariances(ctx context.Context, period, plan string, values []costdrift.ActivityValue, lines []costdrift.VarianceLine, at time.Time) error {
 	now := at.UTC().Format(time.RFC3339)
 	return db.inTx(ctx, func(tx *sql.Tx) error {
 		if plan != "" {
@@ -70,7 +69,7 @@ func (db *DB) SaveVariances(ctx context.Context, period, plan string, values []c
 		defer stmt.Close()
 		for _, l := range lines {
 			object, class := "", any(nil)
-			if l.Kind == budget.KindObject {
+			if l.Kind == costdrift.LineObject {
 				object, class = l.Object.String(), string(l.Class)
 			}
 			spendingMark, activityMark := l.SpendingMark(), l.ActivityMark()

@@ -21,12 +21,16 @@ var ErrNoAnalysis = errors.New("no analysis stored yet")
 var ErrNotAnalysed = errors.New("no behaviour stored for this cost object")
 
 // ObjectAnalysis is what the store holds on one cost object: its current
-// behaviour, the analysis run that last confirmed it, and every fit of the
-// object's latest analysis.
+// behaviour, the analysis run that last confirmed it with the settings it
+// ran with, and every fit of the object's latest analysis.
 type ObjectAnalysis struct {
 	Behaviour costdrift.Behaviour
 	Run       costdrift.AnalysisRun
-	Fits      []costdrift.Fit
+	// Settings are Run.Settings read back; zero when the stored JSON
+	// cannot be read, so that the object is still explained, without the
+	// run's significance level and lags.
+	Settings costdrift.AnalysisSettings
+	Fits     []costdrift.Fit
 }
 
 // ObjectAnalysis reads one cost object, named as the report names it
@@ -53,6 +57,9 @@ func (db *DB) ObjectAnalysis(ctx context.Context, object string) (ObjectAnalysis
 	out.Behaviour = b
 	if out.Run, err = db.analysisRun(ctx, runID); err != nil {
 		return out, err
+	}
+	if err := json.Unmarshal([]byte(out.Run.Settings), &out.Settings); err != nil {
+		out.Settings = costdrift.AnalysisSettings{}
 	}
 	var fitsRun int64
 	if err := db.db.QueryRowContext(ctx, `SELECT COALESCE((SELECT analysis_run_id FROM object_inputs WHERE object = ?), ?)`,

@@ -41,6 +41,42 @@ func explainFits(slope float64) []costdrift.Fit {
 	return []costdrift.Fit{constant, line, step, two}
 }
 
+// TestObjectAnalysisSettings: the run's settings read back through the
+// domain type; settings that cannot be read leave it zero, and the object
+// is still explained.
+func TestObjectAnalysisSettings(t *testing.T) {
+	db, c := mustOpen(t)
+	ctx := context.Background()
+	want := costdrift.AnalysisSettings{Accounts: []string{"5000-6999"}, Alpha: 0.05, BootstrapReplicates: 999, BreakAlpha: 0.01,
+		Currency: "EUR", Grain: costdrift.GrainAccountCostCenter, Lags: []int{0, 1}, MinPeriods: 12, Seed: 7, Window: 36}
+	for _, tc := range []struct {
+		name, stored string
+		want         costdrift.AnalysisSettings
+	}{
+		{"as analyze stores them", `{"accounts":["5000-6999"],"alpha":0.05,"bootstrap_replicates":999,"break_alpha":0.01,"currency":"EUR",` +
+			`"grain":"account_cost_center","lags":[0,1],"min_periods":12,"seed":7,"window":36}`, want},
+		{"a key of another version", `{"alpha":0.01,"lags":[0,1,2],"smoothing":"none"}`,
+			costdrift.AnalysisSettings{Alpha: 0.01, Lags: []int{0, 1, 2}}},
+		{"unreadable", `{"alpha":`, costdrift.AnalysisSettings{}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			run := analysisRun(c)
+			run.Settings = tc.stored
+			if err := db.SaveAnalysis(ctx, run, explainFits(1.0712), []costdrift.Behaviour{mixed()}); err != nil {
+				t.Fatal(err)
+			}
+			c.t = c.t.AddDate(0, 1, 0)
+			got, err := db.ObjectAnalysis(ctx, "6200/WELD")
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got.Run.Settings != tc.stored || !reflect.DeepEqual(got.Settings, tc.want) {
+				t.Errorf("settings %q read as %+v, want %+v", got.Run.Settings, got.Settings, tc.want)
+			}
+		})
+	}
+}
+
 func TestObjectAnalysis(t *testing.T) {
 	db, c := mustOpen(t)
 	ctx := context.Background()
