@@ -3,7 +3,6 @@ package pipeline
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"fmt"
 	"strings"
 	"time"
@@ -307,9 +306,7 @@ func alertChart(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, 
 		return nil
 	}
 	b := oa.Behaviour
-	var settings runSettings
-	_ = json.Unmarshal([]byte(oa.Run.Settings), &settings) // unreadable settings: the object's own lag
-	maxLag := settings.maxLag(b.Lag)
+	maxLag := widestLag(oa.Settings, b.Lag)
 	pts, err := analysedPoints(ctx, e, db, oa, maxLag)
 	if err != nil {
 		return nil

@@ -2,7 +2,6 @@ package pipeline
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -15,13 +14,6 @@ import (
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
-
-// runSettings are the analysis settings explain needs, read back from the
-// run's settings JSON.
-type runSettings struct {
-	Alpha float64 `json:"alpha"`
-	Lags  []int   `json:"lags"`
-}
 
 // Explain gathers the evidence behind one object's behaviour from what the
 // latest analysis stored, and the data it was fitted on as the store holds
@@ -42,16 +34,12 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 		return report.Explanation{}, nil, fmt.Errorf("%s is %s with no driver: there is no activity to draw its cost against, so --chart cannot be used",
 			object, strings.ReplaceAll(string(b.Class), "_", " "))
 	}
-	var settings runSettings
-	if err := json.Unmarshal([]byte(oa.Run.Settings), &settings); err != nil {
-		settings = runSettings{} // a run without readable settings is still explained, without alpha
-	}
 	names, err := db.AccountNames(ctx)
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	ex := report.Explain(report.ExplainInput{
-		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: settings.Alpha, Fits: oa.Fits,
+		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
 		ActivityPeriod: func(p string, lag int) string {
 			if _, err := e.Calendar.Parse(p); err != nil {
 				return p
@@ -62,7 +50,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if b.Driver == "" {
 		return ex, nil, nil
 	}
-	maxLag := settings.maxLag(b.Lag)
+	maxLag := widestLag(oa.Settings, b.Lag)
 	pts, err := analysedPoints(ctx, e, db, oa, maxLag)
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
@@ -80,9 +68,9 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	return ex, &sc, nil
 }
 
-// maxLag is the largest lag the run tried, at least lag: the driver's
+// widestLag is the largest lag the run tried, at least lag: the driver's
 // values are read from that many periods before the window.
-func (s runSettings) maxLag(lag int) int {
+func widestLag(s costdrift.AnalysisSettings, lag int) int {
 	if len(s.Lags) > 0 {
 		return max(lag, slices.Max(s.Lags))
 	}
