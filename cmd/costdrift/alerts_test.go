@@ -60,7 +60,7 @@ func alertStore(t *testing.T) string {
 }
 
 // alertListJSON is the documented contract of `alerts list --format json`
-// (PRODUCT §4) and the extras.
+// (README, Command line and Alerts) and the extras.
 type alertListJSON struct {
 	ID          int64          `json:"id"`
 	Kind        string         `json:"kind"`
@@ -99,7 +99,7 @@ func ids(rows []alertListJSON) []int64 {
 func TestAlertsListJSON(t *testing.T) {
 	cfg := alertStore(t)
 	out := mustRun(t, "--config", cfg, "alerts", "list", "--format", "json")
-	// The field names of PRODUCT §4, each present on every element.
+	// The field names the README gives (Alerts), each present on every element.
 	var raw []map[string]json.RawMessage
 	if err := json.Unmarshal([]byte(out), &raw); err != nil {
 		t.Fatal(err)

@@ -9,7 +9,7 @@ import (
 )
 
 // MinShift is the smallest change worth an alert, as a share of the cost
-// per period at the activity before the change (PRODUCT §5: a change of at
+// per period at the activity before the change (README, Alerts: a change of at
 // least 10 % and significant).
 const MinShift = 0.10
 
@@ -28,7 +28,7 @@ var BehaviourKinds = []costdrift.AlertKind{costdrift.AlertReclassified, costdrif
 //     break, and its fixed part, or its rate times the activity before the
 //     break, moved by at least MinShift of the cost per period before it.
 //
-// Each is a warning, at least (a behaviour change, PRODUCT §4); a shift of
+// Each is a warning, at least (a behaviour change; README, Alerts); a shift of
 // more than half the cost is critical. An alert holds while the current
 // behaviour is the changed one, and resolves when it is replaced.
 func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Behaviour, names map[string]string) []costdrift.Alert {

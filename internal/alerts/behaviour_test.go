@@ -22,7 +22,7 @@ func freight(rateAfter float64) costdrift.Behaviour {
 }
 
 // The thresholds are worked by hand (a shift of at least 10 % of the cost per
-// period before the change, PRODUCT §5).
+// period before the change; README, Alerts).
 func TestShifts(t *testing.T) {
 	tests := []struct {
 		name  string

@@ -20,7 +20,7 @@ const OutOfRangeMargin = 0.10
 // Spending raises spending_outlier when the newest period's actual cost lies
 // outside the 95 % prediction interval of the formula fitted without it:
 // info for a one-off, warning when the period before was outside on the same
-// side too (PRODUCT §4: a lone spending outlier is info).
+// side too (README, Alerts: a lone spending outlier is info).
 func Spending(current []costdrift.Behaviour, names map[string]string) []costdrift.Alert {
 	var out []costdrift.Alert
 	for _, b := range current {

@@ -9,7 +9,7 @@ import (
 )
 
 // classify sets the behaviour from the ranked candidates. The rules, in
-// order (PRODUCT §5):
+// order (README, The method):
 //
 //   - no driver with a positive slope significant after correction: fixed
 //     when the coefficient of variation is at most FixedMaxCV, else
