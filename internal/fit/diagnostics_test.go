@@ -9,9 +9,9 @@ import (
 
 // TestDurbinWatson: hand-worked vectors, the raw-series vector of
 // statsmodels' test_statstools.py test_durbin_watson (benchmarks from R
-// car::durbinWatsonTest; /work/shared/reference/NOTES.md 2(c), read and
-// recomputed there), and the Longley OLS residuals (NOTES.md 2(c):
-// 2.5594876892815 recomputed, 2.559 in statsmodels' printed summary).
+// car::durbinWatsonTest), and the Longley OLS residuals (2.5594876892815
+// recomputed from the NIST certified fit; 2.559 in statsmodels' printed
+// summary).
 func TestDurbinWatson(t *testing.T) {
 	x := []float64{-0.1184, -1.3403, 0.0063, -0.612, -0.3869, -0.2313, -2.8485, -0.2167, 0.4153, 1.8492,
 		-0.3706, 0.9726, -0.1501, -0.0337, -1.4423, 1.2489, 0.9182, -0.2331, -0.6182, 0.183}

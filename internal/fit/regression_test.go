@@ -283,9 +283,9 @@ func TestNISTFilip(t *testing.T) {
 }
 
 // TestLongleyLikelihood checks AIC and BIC on Longley against statsmodels,
-// whose OLS summary (statsmodels regression/tests/test_regression.py, read in
-// /work/shared/reference/NOTES.md 2(c)) prints log-likelihood −109.62, AIC 233.2
-// and BIC 238.6; NOTES recomputes the log-likelihood as −109.61743. statsmodels
+// whose OLS summary (statsmodels regression/tests/test_regression.py) prints
+// log-likelihood −109.62, AIC 233.2 and BIC 238.6, the log-likelihood
+// recomputed as −109.61743. statsmodels
 // counts the 7 coefficients, R's AIC(lm) and this package count the variance
 // too, so our AIC is statsmodels' + 2 and our BIC statsmodels' + ln 16.
 func TestLongleyLikelihood(t *testing.T) {
