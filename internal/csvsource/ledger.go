@@ -65,6 +65,14 @@ func parseLedgerRow(t *table, rec []string, opt Options, layout string, signed b
 	if l.EntryID == "" {
 		return l, "missing entry_id"
 	}
+	// Without a line number, a line is numbered by its place in the entry,
+	// rejected lines included, so that its number does not depend on
+	// whether the lines before it could be read.
+	lineText := t.field(rec, "line")
+	if lineText == "" {
+		nextLine[l.EntryID]++
+		l.Line = nextLine[l.EntryID]
+	}
 	if l.Account == "" {
 		return l, "missing account"
 	}
@@ -116,15 +124,12 @@ func parseLedgerRow(t *table, rec []string, opt Options, layout string, signed b
 		}
 	}
 
-	if lineText := t.field(rec, "line"); t.has("line") && lineText != "" {
+	if lineText != "" {
 		n, err := strconv.Atoi(lineText)
 		if err != nil || n < 1 {
 			return l, fmt.Sprintf("bad line %q: want a whole number from 1", lineText)
 		}
 		l.Line = n
-	} else {
-		nextLine[l.EntryID]++
-		l.Line = nextLine[l.EntryID]
 	}
 	return l, ""
 }

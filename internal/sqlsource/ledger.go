@@ -3,6 +3,7 @@ package sqlsource
 import (
 	"context"
 	"fmt"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -15,7 +16,7 @@ import (
 // ROW_NUMBER() OVER (PARTITION BY entry_id ORDER BY id) AS line.
 var (
 	ledgerRequired     = []string{"entry_id", "line", "date", "account"}
-	ledgerOptional     = []string{"cost_center", "amount", "debit", "credit", "description"}
+	ledgerOptional     = []string{"cost_center", "amount", "debit", "credit", "description", "currency", "functional_amount"}
 	aggregatedRequired = []string{"period", "account", "amount"}
 	aggregatedOptional = []string{"cost_center"}
 )
@@ -101,6 +102,18 @@ func ledgerLine(r row, opt Options, signed bool) (costdrift.LedgerLine, string) 
 	}
 	l.PostedOn = d.Format("2006-01-02")
 	l.Period = opt.Period(d)
+	// A line in a foreign currency counts only through its amount in the
+	// functional currency, as in a CSV file.
+	if cur := strings.ToUpper(r.text("currency")); cur != "" && cur != opt.Currency.Code {
+		v := r.get("functional_amount")
+		if text(v) == "" {
+			return l, fmt.Sprintf("amount in %s with no functional_amount in %s", cur, opt.Currency.Code)
+		}
+		if l.AmountMinor, reason = amount(v, opt.Currency, opt.Notation); reason != "" {
+			return l, "bad functional_amount: " + strings.TrimPrefix(reason, "bad amount: ")
+		}
+		return l, ""
+	}
 	if signed {
 		if l.AmountMinor, reason = amount(r.get("amount"), opt.Currency, opt.Notation); reason != "" {
 			return l, reason

@@ -102,7 +102,7 @@ func TestSQLiteLedger(t *testing.T) {
 			rej("books", "books row 4 (entry JE-1002, line 1)",
 				`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
 				`entry_id="JE-1002", line=1, booked="28.02.2025", account="6200", amount_real=0.30000000000000004`),
-			rej("books", "books row 5 (entry JE-1002, line 2)", `bad date "30.02.2025": want a date, or text as DD.MM.YYYY`,
+			rej("books", "books row 5 (entry JE-1002, line 2)", `bad date "30.02.2025": want DD.MM.YYYY`,
 				`entry_id="JE-1002", line=2, booked="30.02.2025", account="2100", amount_real=-0.3`),
 		})
 	})

@@ -93,6 +93,12 @@ func date(v any, layout string) (time.Time, string) {
 	case nil:
 		return time.Time{}, "missing date"
 	case time.Time:
+		if x.IsZero() {
+			// The SQLite driver gives the zero time for a value of a DATE
+			// column it cannot read as a date (go-sqlite3, rows.Next); no
+			// ledger has a posting in the year 1.
+			return time.Time{}, "bad date: 0001-01-01, which the driver returns for a value it cannot read as a date"
+		}
 		y, m, d := x.Date()
 		return time.Date(y, m, d, 0, 0, 0, 0, time.UTC), ""
 	case string, []byte:
@@ -103,7 +109,7 @@ func date(v any, layout string) (time.Time, string) {
 		if t, ok := parseDate(s, layout); ok {
 			return t, ""
 		}
-		return time.Time{}, fmt.Sprintf("bad date %q: want a date, or text as %s", s, humanLayout(layout))
+		return time.Time{}, fmt.Sprintf("bad date %q: want %s", s, humanLayout(layout))
 	default:
 		return time.Time{}, fmt.Sprintf("bad date: a %T value (%s), not a date", v, text(v))
 	}

@@ -67,10 +67,12 @@ func TestDate(t *testing.T) {
 		{"RFC 3339 text", "", "2025-01-31T10:00:00Z", "2025-01-31", ""},
 		{"text in the source layout", "02.01.2006", "31.01.2025", "2025-01-31", ""},
 		{"ISO beside the source layout", "02.01.2006", "2025-01-31", "2025-01-31", ""},
-		{"other text", "", "31/01/2025", "", `bad date "31/01/2025": want a date, or text as YYYY-MM-DD`},
-		{"no such day", "02.01.2006", "30.02.2025", "", `bad date "30.02.2025": want a date, or text as DD.MM.YYYY`},
+		{"other text", "", "31/01/2025", "", `bad date "31/01/2025": want YYYY-MM-DD`},
+		{"no such day", "02.01.2006", "30.02.2025", "", `bad date "30.02.2025": want DD.MM.YYYY`},
 		{"a number", "", int64(20250131), "", "bad date: a int64 value (20250131), not a date"},
 		{"NULL", "", nil, "", "missing date"},
+		// What the SQLite driver gives for a DATE value it cannot read.
+		{"the zero time", "", time.Time{}, "", "bad date: 0001-01-01, which the driver returns for a value it cannot read as a date"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -234,7 +234,7 @@ func value(c cell, n money.Notation) (float64, string) {
 			return 0, fmt.Sprintf("bad value %q: not a number", c.text)
 		}
 		if v < 0 {
-			return 0, fmt.Sprintf("bad value %s: activity cannot be negative", c.text)
+			return 0, fmt.Sprintf("bad value %q: activity cannot be negative", c.text)
 		}
 		return v, ""
 	case textCell:
@@ -295,7 +295,7 @@ func period(c cell, opt Options, date1904 bool) (string, string) {
 			}
 		}
 	}
-	return "", fmt.Sprintf("bad period %q: want YYYY-MM, a date, or a date cell", c.text)
+	return "", fmt.Sprintf("bad period %q: want YYYY-MM or a date", c.text)
 }
 
 // humanLayout spells a Go date layout the way the config does.

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"strconv"
+	"strings"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/money"
@@ -13,7 +14,7 @@ import (
 // must be present.
 var (
 	ledgerRequired = []string{"entry_id", "date", "account"}
-	ledgerOptional = []string{"line", "cost_center", "amount", "debit", "credit", "description"}
+	ledgerOptional = []string{"line", "cost_center", "amount", "debit", "credit", "description", "currency", "functional_amount"}
 )
 
 // ReadLedger streams the general-ledger lines of one worksheet to w and
@@ -68,6 +69,13 @@ func parseLedgerRow(t *table, opt Options, layout string, signed bool, nextLine 
 	if l.EntryID == "" {
 		return l, "missing entry_id"
 	}
+	// Without a line number, a line is numbered by its place in the entry,
+	// rejected lines included, as in a CSV file.
+	lineText, lineWhy := t.text("line")
+	if lineWhy == "" && lineText == "" {
+		nextLine[l.EntryID]++
+		l.Line = nextLine[l.EntryID]
+	}
 	if l.Account == "" {
 		return l, "missing account"
 	}
@@ -78,8 +86,22 @@ func parseLedgerRow(t *table, opt Options, layout string, signed bool, nextLine 
 	l.PostedOn = posted.Format("2006-01-02")
 	l.Period = opt.Period(posted)
 
+	currency, why := t.text("currency")
+	if why != "" {
+		return l, why
+	}
 	var err error
-	if signed {
+	// A line in a foreign currency counts only through its amount in the
+	// functional currency, as in a CSV file.
+	if cur := strings.ToUpper(currency); cur != "" && cur != opt.Currency.Code {
+		c := t.field("functional_amount")
+		if c.kind == blankCell {
+			return l, fmt.Sprintf("amount in %s with no functional_amount in %s", cur, opt.Currency.Code)
+		}
+		if l.AmountMinor, err = amount(c, opt.Currency, opt.Notation); err != nil {
+			return l, "bad functional_amount: " + err.Error()
+		}
+	} else if signed {
 		if l.AmountMinor, err = amount(t.field("amount"), opt.Currency, opt.Notation); err != nil {
 			return l, "bad amount: " + err.Error()
 		}
@@ -107,19 +129,15 @@ func parseLedgerRow(t *table, opt Options, layout string, signed bool, nextLine 
 		}
 	}
 
-	lineText, why := t.text("line")
-	if why != "" {
-		return l, why
+	if lineWhy != "" {
+		return l, lineWhy
 	}
-	if t.has("line") && lineText != "" {
+	if lineText != "" {
 		n, err := strconv.Atoi(lineText)
 		if err != nil || n < 1 {
 			return l, fmt.Sprintf("bad line %q: want a whole number from 1", lineText)
 		}
 		l.Line = n
-	} else {
-		nextLine[l.EntryID]++
-		l.Line = nextLine[l.EntryID]
 	}
 	return l, ""
 }

@@ -550,8 +550,8 @@ func TestReadActivityLong(t *testing.T) {
 		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.Values, want)
 	}
 	wantRejects := []costdrift.Reject{
-		{Source: "act", Location: "act.xlsx:Sheet1!5", Reason: "bad value -3: activity cannot be negative", Raw: "2025-04,frames_built,-3"},
-		{Source: "act", Location: "act.xlsx:Sheet1!6", Reason: `bad period "2025-13": want YYYY-MM, a date, or a date cell`, Raw: "2025-13,frames_built,3"},
+		{Source: "act", Location: "act.xlsx:Sheet1!5", Reason: `bad value "-3": activity cannot be negative`, Raw: "2025-04,frames_built,-3"},
+		{Source: "act", Location: "act.xlsx:Sheet1!6", Reason: `bad period "2025-13": want YYYY-MM or a date`, Raw: "2025-13,frames_built,3"},
 	}
 	if !reflect.DeepEqual(w.Rejects, wantRejects) {
 		t.Fatalf("rejects %+v", w.Rejects)
