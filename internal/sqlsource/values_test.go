@@ -118,6 +118,8 @@ func TestPeriodAndMonth(t *testing.T) {
 		{"month 13", "2025-13", "", `bad period "2025-13": want YYYY-MM or a date`},
 		{"a number", int64(202502), "", "bad period: a int64 value (202502), want YYYY-MM or a date"},
 		{"NULL", nil, "", "missing period"},
+		// What the SQLite driver gives for a DATE value it cannot read.
+		{"the zero time", time.Time{}, "", "bad period: 0001-01-01, which the driver returns for a value it cannot read as a date"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
