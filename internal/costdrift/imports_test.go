@@ -33,6 +33,14 @@ var (
 		"drift":      {"analyze", "budget", "fit"},
 	}
 
+	// sharedRules hold rules over domain types that several stages of one
+	// kind apply alike (canon: the rules of a ledger, activity or account
+	// row, for every source kind). They import the domain and the leaves;
+	// each maps to the stages that may import it.
+	sharedRules = map[string][]string{
+		"canon": {"csvsource", "xlsxsource", "sqlsource", "saftsource"},
+	}
+
 	// applicationLayer holds the use cases the commands call; like cmd/,
 	// it may import every package, and only cmd/ may import it.
 	applicationLayer = []string{"pipeline"}
@@ -68,7 +76,17 @@ func importAllowed(from, to string) error {
 	}
 	_, fromLeaf := leaves[from]
 	importers, toLeaf := leaves[to]
+	_, fromRules := sharedRules[from]
+	users, toRules := sharedRules[to]
 	switch {
+	case fromRules && (to == domain || toLeaf):
+		return nil
+	case fromRules:
+		return fmt.Errorf("%s holds shared rules: it imports the domain and the leaves only, not %s", from, to)
+	case toRules && !slices.Contains(users, from):
+		return fmt.Errorf("%s is imported only by %s", to, strings.Join(users, ", "))
+	case toRules:
+		return nil
 	case fromLeaf && !toLeaf:
 		return fmt.Errorf("%s is a leaf library: it imports other leaves only, not %s", from, to)
 	case toLeaf && importers != nil && !slices.Contains(importers, from):
@@ -114,6 +132,12 @@ func TestImportRule(t *testing.T) {
 		{"costdrift/costdrifttest", "costdrift", true},
 		{"costdrift/costdrifttest", "sqlite", false},
 		{"csvsource", "costdrift/costdrifttest", false},
+		{"csvsource", "canon", true},
+		{"saftsource", "canon", true},
+		{"sqlite", "canon", false},
+		{"canon", "costdrift", true},
+		{"canon", "money", true},
+		{"canon", "csvsource", false},
 	} {
 		if err := importAllowed(tc.from, tc.to); (err == nil) != tc.ok {
 			t.Errorf("%s imports %s: allowed %v (%v), want %v", tc.from, tc.to, err == nil, err, tc.ok)

@@ -2,7 +2,9 @@ package csvsource
 
 import (
 	"context"
+	"fmt"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
@@ -13,17 +15,21 @@ func ReadAccounts(ctx context.Context, path, display string, opt Options, w cost
 		return 0, err
 	}
 	defer closer.Close()
-	if err := t.bind(opt.Columns, []string{"account"}, []string{"name", "type", "group"}, "expected account, name, type, group"); err != nil {
-		return 0, err
+	b, err := canon.Bind(t.header, opt.Columns, canon.AccountColumns)
+	if err != nil {
+		return 0, fmt.Errorf("%s: %w", display, err)
 	}
+	rules := opt.rules()
+	bound := b.Bound()
+	var row canon.Row
 	return t.rows(ctx, display, opt, w, func(rec []string) error {
-		a := costdrift.Account{Source: opt.Source, Account: t.field(rec, "account"), Name: t.field(rec, "name"),
-			Type: t.field(rec, "type"), Group: t.field(rec, "group")}
-		switch {
-		case t.rowProblem(rec) != "":
-			return t.reject(opt, w, t.rowProblem(rec))
-		case a.Account == "":
-			return t.reject(opt, w, "missing account")
+		if reason := t.rowProblem(rec); reason != "" {
+			return t.reject(opt, w, reason)
+		}
+		fill(&row, bound, rec)
+		a, reason := rules.Account(&row)
+		if reason != "" {
+			return t.reject(opt, w, reason)
 		}
 		return w.Account(a)
 	})

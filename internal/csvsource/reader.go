@@ -16,6 +16,7 @@ import (
 	"golang.org/x/text/encoding/charmap"
 	"golang.org/x/text/transform"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/money"
 )
@@ -40,12 +41,23 @@ type Options struct {
 	Progress func(done int64)
 }
 
+// rules are the row rules of the source's options.
+func (opt Options) rules() canon.Rules {
+	return canon.Rules{Source: opt.Source, Currency: opt.Currency, Notation: opt.Notation, DateLayout: opt.DateLayout, Period: opt.Period}
+}
+
+// fill sets the cells of a record's bound columns.
+func fill(row *canon.Row, bound []canon.Bound, rec []string) {
+	for _, b := range bound {
+		row[b.Column] = canon.TextCell(rec[b.Index])
+	}
+}
+
 // table is an open CSV file positioned after its header.
 type table struct {
 	name   string
 	r      *csv.Reader
 	header []string
-	col    map[string]int // canonical name -> index
 	line   int
 	// The file, and where the current record starts in it, so that a row
 	// the CSV reader cannot split is still stored as it was written.
@@ -209,36 +221,6 @@ func detectDelimiter(sample []byte) rune {
 	return best
 }
 
-// bind maps canonical column names to header positions, honouring the
-// column mapping; it fails naming the required columns that are missing.
-func (t *table) bind(mapping map[string]string, required, optional []string, hint string) error {
-	index := map[string]int{}
-	for i, h := range t.header {
-		index[strings.ToLower(strings.TrimSpace(h))] = i
-	}
-	t.col = map[string]int{}
-	var missing []string
-	for _, name := range append(append([]string{}, required...), optional...) {
-		want := name
-		if m, ok := mapping[name]; ok && m != "" {
-			want = m
-		}
-		if i, ok := index[strings.ToLower(strings.TrimSpace(want))]; ok {
-			t.col[name] = i
-		}
-	}
-	for _, name := range required {
-		if _, ok := t.col[name]; !ok {
-			missing = append(missing, name)
-		}
-	}
-	if len(missing) > 0 {
-		return fmt.Errorf("%s: header has no column %s (found: %s); %s, or map yours under `columns:` in the source's config",
-			t.name, strings.Join(missing, ", "), strings.Join(t.header, ", "), hint)
-	}
-	return nil
-}
-
 // next returns the next record, or io.EOF. Records that the CSV reader
 // cannot parse (a stray quote) come back as a row error.
 func (t *table) next() ([]string, error) {
@@ -253,19 +235,6 @@ func (t *table) next() ([]string, error) {
 		t.line = pe.StartLine
 	}
 	return rec, err
-}
-
-func (t *table) field(rec []string, name string) string {
-	i, ok := t.col[name]
-	if !ok || i >= len(rec) {
-		return ""
-	}
-	return strings.TrimSpace(rec[i])
-}
-
-func (t *table) has(name string) bool {
-	_, ok := t.col[name]
-	return ok
 }
 
 func (t *table) location() string { return fmt.Sprintf("%s:%d", t.name, t.line) }

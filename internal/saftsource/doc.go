@@ -19,6 +19,10 @@
 // returns beside what it read so that the caller can refuse an incomplete
 // file (Totals.Check).
 //
+// The XML and its elements are read here; the posting date and its period
+// are set by canon.Rules.Posting and amounts parsed by money.Currency.Parse,
+// as for every source kind, so the same line stores the same row.
+//
 // Files are streamed with encoding/xml's token decoder; only one Line or
 // one Account element is decoded at a time, so memory does not grow with
 // the number of lines (only the entry IDs read are remembered, to catch a

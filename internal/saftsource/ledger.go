@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"strings"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
@@ -70,6 +71,7 @@ type ledger struct {
 	*file
 	ctx      context.Context
 	opt      Options
+	rules    canon.Rules // the posting date's period, as every source kind gives it
 	w        costdrift.SourceWriter
 	tot      Totals
 	currency string              // Header/DefaultCurrencyCode
@@ -170,7 +172,8 @@ func ReadLedger(ctx context.Context, path, display string, opt Options, w costdr
 // readLedger reads the ledger of an opened file.
 func readLedger(ctx context.Context, x *file, opt Options, w costdrift.SourceWriter) (Totals, error) {
 	opt.AnalysisType = strings.TrimSpace(opt.AnalysisType)
-	r := &ledger{file: x, ctx: ctx, opt: opt, w: w, tot: Totals{Currency: opt.Currency}, seen: map[string]struct{}{}}
+	r := &ledger{file: x, ctx: ctx, opt: opt, w: w, tot: Totals{Currency: opt.Currency}, seen: map[string]struct{}{},
+		rules: canon.Rules{Source: opt.Source, Currency: opt.Currency, Period: opt.Period}}
 	err := r.root()
 	if err == nil && !r.entries {
 		err = fmt.Errorf("%s has no GeneralLedgerEntries: it holds no ledger lines (is it an export of master data only?)", x.display)
@@ -467,11 +470,10 @@ func (r *ledger) line(j *journal, tx *transaction, start *xml.StartElement, from
 	base := costdrift.LedgerLine{
 		Source:      r.opt.Source,
 		EntryID:     tx.entryID,
-		PostedOn:    date.Format("2006-01-02"),
-		Period:      r.opt.Period(date),
 		Account:     strings.TrimSpace(l.AccountID),
 		Description: strings.TrimSpace(l.Description),
 	}
+	r.rules.Posting(&base, date)
 	if base.Description == "" {
 		base.Description = tx.description
 	}

@@ -36,9 +36,12 @@
 //     in an error: every driver message is stripped of the connection string
 //     and of its password in each spelling, and errors do not wrap driver
 //     errors (a caller unwrapping would find the raw text again).
-//   - Mapping result columns to canonical ones by name, case-insensitively,
-//     through the source's columns mapping, and converting values: amounts
-//     exactly into minor units, dates from time values or text.
+//   - Turning the values the driver gives into canon.Cells: NUMERIC and
+//     DECIMAL text, integers and doubles into exact amounts (a double that
+//     is not a short decimal is rejected), dates and timestamps into days,
+//     text as text. Columns are bound to canonical ones, and rows read, by
+//     the rules every source kind shares (internal/canon); a query result
+//     with two columns of one canonical name is refused.
 //   - The watermark: with Options.WatermarkColumn set, the query's
 //     :watermark placeholder is bound to Options.Watermark (NULL on the first
 //     run) and the largest value of that column seen is returned in

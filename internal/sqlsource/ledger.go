@@ -2,11 +2,10 @@ package sqlsource
 
 import (
 	"context"
-	"fmt"
 	"time"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/internal/money"
 )
 
 // Ledger columns. Either amount, or debit and credit, must be present. line
@@ -14,10 +13,18 @@ import (
 // and any database can number them, e.g.
 // ROW_NUMBER() OVER (PARTITION BY entry_id ORDER BY id) AS line.
 var (
-	ledgerRequired     = []string{"entry_id", "line", "date", "account"}
-	ledgerOptional     = []string{"cost_center", "amount", "debit", "credit", "description"}
-	aggregatedRequired = []string{"period", "account", "amount"}
-	aggregatedOptional = []string{"cost_center"}
+	ledgerColumns = canon.Columns{
+		Required: []canon.Column{canon.EntryID, canon.Line, canon.Date, canon.Account},
+		Optional: []canon.Column{canon.CostCenter, canon.Amount, canon.Debit, canon.Credit, canon.Description, canon.Currency, canon.FunctionalAmount},
+		Hint: "expected entry_id, line, date, account and amount (or debit and credit); " +
+			"a table without line numbers can number them in the query: ROW_NUMBER() OVER (PARTITION BY entry_id ORDER BY <its key>) AS line",
+		Amounts: true,
+	}
+	aggregatedColumns = canon.Columns{
+		Required: []canon.Column{canon.Period, canon.Account, canon.Amount},
+		Optional: []canon.Column{canon.CostCenter},
+		Hint:     "an aggregated ledger query returns period, account, cost_center and amount",
+	}
 )
 
 // ReadLedger runs the source's query and streams its general-ledger lines to
@@ -25,7 +32,8 @@ var (
 //
 // Line by line, the result has entry_id, line, date, account, amount (signed,
 // debit positive; or debit and credit, amount = debit - credit) and
-// optionally cost_center and description.
+// optionally cost_center, description, and currency with functional_amount
+// for lines in another currency; the rules are canon.Ledger's.
 //
 // With opt.Aggregated the result has period (YYYY-MM, or a date in the
 // month), account, amount and optionally cost_center, one row per sum: each
@@ -35,106 +43,45 @@ var (
 // account and cost_center: two rows with the same three would be one line,
 // and the later would replace the earlier in the store.
 func ReadLedger(ctx context.Context, opt Options, w costdrift.SourceWriter) (Result, error) {
+	rules := opt.rules()
 	if opt.Aggregated {
 		return run(ctx, opt, func(cols []string) (rowFunc, error) {
-			col, err := bindColumns(cols, opt.Columns, aggregatedRequired, aggregatedOptional,
-				"an aggregated ledger query returns period, account, cost_center and amount")
+			res, err := bindResult(cols, opt, aggregatedColumns)
 			if err != nil {
 				return nil, err
 			}
 			return func(n int, vals []any) error {
-				r := row{col: col, vals: vals, cols: cols}
-				line, k, reason := aggregatedLine(r, opt)
+				res.read(vals)
+				line, k, reason := aggregatedLine(res, &rules)
 				if reason != "" {
-					return reject(w, opt, n, k, reason, r)
+					return reject(w, opt, n, k, reason, res)
 				}
 				return w.LedgerLine(line)
 			}, nil
 		})
 	}
 	return run(ctx, opt, func(cols []string) (rowFunc, error) {
-		const hint = "expected entry_id, line, date, account and amount (or debit and credit); " +
-			"a table without line numbers can number them in the query: ROW_NUMBER() OVER (PARTITION BY entry_id ORDER BY <its key>) AS line"
-		col, err := bindColumns(cols, opt.Columns, ledgerRequired, ledgerOptional, hint)
+		res, err := bindResult(cols, opt, ledgerColumns)
 		if err != nil {
 			return nil, err
 		}
-		_, signed := col["amount"]
-		_, debit := col["debit"]
-		_, credit := col["credit"]
-		if !signed && !(debit && credit) {
-			return nil, fmt.Errorf("the query result has neither an amount column nor debit and credit columns; %s", hint)
-		}
+		ledger := canon.NewLedger(rules, res.binding, false)
 		return func(n int, vals []any) error {
-			r := row{col: col, vals: vals, cols: cols}
-			line, reason := ledgerLine(r, opt, signed)
+			res.read(vals)
+			line, reason := ledger.Line(&res.row)
 			if reason != "" {
-				return reject(w, opt, n, key("entry", line.EntryID, "line", r.text("line")), reason, r)
+				return reject(w, opt, n, key("entry", line.EntryID, "line", res.text(canon.Line)), reason, res)
 			}
 			return w.LedgerLine(line)
 		}, nil
 	})
 }
 
-// ledgerLine turns a result row into a ledger line, or says why it cannot.
-func ledgerLine(r row, opt Options, signed bool) (costdrift.LedgerLine, string) {
-	l := costdrift.LedgerLine{
-		Source:      opt.Source,
-		EntryID:     r.text("entry_id"),
-		Account:     r.text("account"),
-		CostCenter:  r.text("cost_center"),
-		Description: r.text("description"),
-	}
-	if l.EntryID == "" {
-		return l, "missing entry_id"
-	}
-	var reason string
-	if l.Line, reason = lineNumber(r.get("line")); reason != "" {
-		return l, reason
-	}
-	if l.Account == "" {
-		return l, "missing account"
-	}
-	d, reason := date(r.get("date"), opt.DateLayout)
-	if reason != "" {
-		return l, reason
-	}
-	l.PostedOn = d.Format("2006-01-02")
-	l.Period = opt.Period(d)
-	if signed {
-		if l.AmountMinor, reason = amount(r.get("amount"), opt.Currency, opt.Notation); reason != "" {
-			return l, reason
-		}
-		return l, ""
-	}
-	dv, cv := r.get("debit"), r.get("credit")
-	if text(dv) == "" && text(cv) == "" {
-		return l, "missing amount: both debit and credit are empty"
-	}
-	var debit, credit int64
-	if text(dv) != "" {
-		if debit, reason = amount(dv, opt.Currency, opt.Notation); reason != "" {
-			return l, "debit: " + reason
-		}
-	}
-	if text(cv) != "" {
-		if credit, reason = amount(cv, opt.Currency, opt.Notation); reason != "" {
-			return l, "credit: " + reason
-		}
-	}
-	// Each side is within the bound; their difference may not be.
-	l.AmountMinor = debit - credit
-	if !money.InRange(l.AmountMinor) {
-		what := fmt.Sprintf("debit %q minus credit %q", text(dv), text(cv))
-		return l, "bad amount: " + opt.Currency.OutOfRange(what, opt.Notation).Error()
-	}
-	return l, ""
-}
-
-// aggregatedLine turns a row of per-period sums into one ledger line.
-func aggregatedLine(r row, opt Options) (costdrift.LedgerLine, string, string) {
-	account, cc := r.text("account"), r.text("cost_center")
-	first, reason := month(r.get("period"), opt.DateLayout)
+// aggregatedLine turns a row of per-period sums into one ledger line, and
+// gives the row's key for a reject.
+func aggregatedLine(res *result, rules *canon.Rules) (costdrift.LedgerLine, string, string) {
+	account, cc := res.text(canon.Account), res.text(canon.CostCenter)
+	first, reason := month(rules, &res.row[canon.Period])
 	p := ""
 	if reason == "" {
 		p = first.Format("2006-01")
@@ -146,13 +93,13 @@ func aggregatedLine(r row, opt Options) (costdrift.LedgerLine, string, string) {
 	if account == "" {
 		return costdrift.LedgerLine{}, k, "missing account"
 	}
-	minor, reason := amount(r.get("amount"), opt.Currency, opt.Notation)
+	minor, reason := rules.Money(&res.row[canon.Amount], canon.Amount)
 	if reason != "" {
 		return costdrift.LedgerLine{}, k, reason
 	}
 	last := first.AddDate(0, 1, -1)
 	return costdrift.LedgerLine{
-		Source:      opt.Source,
+		Source:      rules.Source,
 		EntryID:     "sum:" + p + ":" + account + ":" + cc,
 		Line:        1,
 		PostedOn:    last.Format(time.DateOnly),
@@ -161,4 +108,14 @@ func aggregatedLine(r row, opt Options) (costdrift.LedgerLine, string, string) {
 		CostCenter:  cc,
 		AmountMinor: minor,
 	}, k, ""
+}
+
+// month reads an aggregated row's period (YYYY-MM, or a date or timestamp
+// in the month such as date_trunc('month', posted_on)) as its first day.
+func month(rules *canon.Rules, c *canon.Cell) (time.Time, string) {
+	day, why := rules.PeriodDay(c)
+	if why != "" {
+		return time.Time{}, why
+	}
+	return time.Date(day.Year(), day.Month(), 1, 0, 0, 0, 0, time.UTC), ""
 }

@@ -102,7 +102,7 @@ func TestSQLiteLedger(t *testing.T) {
 			rej("books", "books row 4 (entry JE-1002, line 1)",
 				`bad amount: amount "0.30000000000000004": more decimals than the currency's minor unit (EUR has 2) (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
 				`entry_id="JE-1002", line=1, booked="28.02.2025", account="6200", amount_real=0.30000000000000004`),
-			rej("books", "books row 5 (entry JE-1002, line 2)", `bad date "30.02.2025": want a date, or text as DD.MM.YYYY`,
+			rej("books", "books row 5 (entry JE-1002, line 2)", `bad date "30.02.2025": want DD.MM.YYYY`,
 				`entry_id="JE-1002", line=2, booked="30.02.2025", account="2100", amount_real=-0.3`),
 		})
 	})
@@ -353,16 +353,16 @@ func TestSQLiteLedgerGroupingAndBound(t *testing.T) {
 	const grouping = `digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
 	const bound = `is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`
 	checkRejects(t, rec.Rejects, []costdrift.Reject{
-		rej("books", "books row 2 (entry B1, line 1)", `debit: bad amount: amount "1,23": `+grouping,
+		rej("books", "books row 2 (entry B1, line 1)", `bad debit: amount "1,23": `+grouping,
 			`column1="B1", column2=1, column3="2025-01-31", column4="6100", column5="1,23", column6=NULL`),
-		rej("books", "books row 3 (entry B2, line 1)", `credit: bad amount: amount "12,3456": `+grouping,
+		rej("books", "books row 3 (entry B2, line 1)", `bad credit: amount "12,3456": `+grouping,
 			`column1="B2", column2=1, column3="2025-01-31", column4="6100", column5=NULL, column6="12,3456"`),
-		rej("books", "books row 4 (entry B3, line 1)", `debit: bad amount: amount "9,999,999,999,999,999.99" `+bound,
+		rej("books", "books row 4 (entry B3, line 1)", `bad debit: amount "9,999,999,999,999,999.99" `+bound,
 			`column1="B3", column2=1, column3="2025-01-31", column4="6100", column5="9,999,999,999,999,999.99", column6=NULL`),
 		rej("books", "books row 5 (entry B4, line 1)", `bad amount: debit "60000000000000" minus credit "-60000000000000" `+bound,
 			`column1="B4", column2=1, column3="2025-01-31", column4="6100", column5=60000000000000, column6=-60000000000000`),
 		rej("books", "books row 6 (entry B5, line 1)",
-			`debit: bad amount: amount "10000000000000000" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
+			`bad debit: amount "10000000000000000" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`,
 			`column1="B5", column2=1, column3="2025-01-31", column4="6100", column5=10000000000000000, column6=NULL`),
 	})
 }

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/money"
 )
 
@@ -38,202 +39,99 @@ func text(v any) string {
 	}
 }
 
-// amount converts a money value exactly into minor units, or says why not.
+// cell turns a value, as the driver gives it, into the canonical cell of
+// the column it stands under. Text stays text, for the rules to read by
+// the source's notation and date format; numbers, dates and NULL are
+// turned here.
+func cell(col canon.Column, v any, cur money.Currency) canon.Cell {
+	switch col.Kind() {
+	case canon.MoneyKind:
+		return moneyCell(col, v, cur)
+	case canon.DateKind, canon.PeriodKind:
+		return dateCell(col, v)
+	case canon.QuantityKind:
+		return quantityCell(v)
+	}
+	return canon.TextCell(text(v))
+}
+
+// moneyCell reads an amount exactly into minor units, or says why not.
 //
-// Text (NUMERIC, DECIMAL, a character column) goes straight to money
-// parsing, so 0.30 is 30 cents whatever the column's scale. A float64 is
-// first written as the shortest decimal that reads back as the same double
+// Text (NUMERIC, DECIMAL, a character column) goes to the rules, so 0.30 is
+// 30 cents whatever the column's scale. A float64 is first written as the
+// shortest decimal that reads back as the same double
 // (strconv.FormatFloat(v, 'f', -1, 64)): an amount that was stored as a
 // short decimal comes back as exactly that decimal (0.3 -> "0.3" -> 30),
 // while a double that is not such a decimal, such as the sum 0.1 + 0.2 =
 // 0.30000000000000004, keeps its stray digits and is rejected as too
 // precise instead of being rounded silently. Formatting with a fixed number
 // of decimals would round, and %v would switch to exponent notation.
-func amount(v any, cur money.Currency, n money.Notation) (int64, string) {
+func moneyCell(col canon.Column, v any, cur money.Currency) canon.Cell {
 	var s string
 	switch x := v.(type) {
 	case nil:
-		return 0, "missing amount"
+		return canon.Cell{}
 	case string, []byte:
-		s = text(x)
-		if s == "" {
-			return 0, "missing amount"
-		}
-		minor, err := cur.Parse(s, n)
-		if err != nil {
-			return 0, "bad amount: " + err.Error()
-		}
-		return minor, ""
+		return canon.TextCell(text(x))
 	case int64:
 		s = strconv.FormatInt(x, 10)
 	case float64:
 		if math.IsNaN(x) || math.IsInf(x, 0) {
-			return 0, fmt.Sprintf("bad amount: %v is not a number", x)
+			return canon.BadCell(fmt.Sprintf("bad %s: %v is not a number", col, x))
 		}
 		s = strconv.FormatFloat(x, 'f', -1, 64)
 	default:
-		return 0, fmt.Sprintf("bad amount: a %T value, not a number", v)
+		return canon.BadCell(fmt.Sprintf("bad %s: a %T value, not a number", col, v))
 	}
 	minor, err := cur.Parse(s, money.Notation{})
 	if err != nil {
-		reason := "bad amount: " + err.Error()
+		reason := fmt.Sprintf("bad %s: %v", col, err)
 		if _, isFloat := v.(float64); isFloat {
 			reason += " (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)"
 		}
-		return 0, reason
+		return canon.BadCell(reason)
 	}
-	return minor, ""
+	return canon.MoneyCell(minor, s)
 }
 
-// date reads a posting date from a date or timestamp (its calendar day in
-// the location the driver gave it) or from text in layout or ISO form, with
-// an optional time after the date ("2025-01-31 00:00:00", "2025-01-31T...").
-func date(v any, layout string) (time.Time, string) {
+// dateCell reads a date or a period: a date or timestamp is its calendar
+// day in the location the driver gave it; text goes to the rules, which
+// also take ISO 8601 with a time after the date ("2025-01-31 00:00:00").
+func dateCell(col canon.Column, v any) canon.Cell {
 	switch x := v.(type) {
 	case nil:
-		return time.Time{}, "missing date"
+		return canon.Cell{}
 	case time.Time:
-		y, m, d := x.Date()
-		return time.Date(y, m, d, 0, 0, 0, 0, time.UTC), ""
+		if x.IsZero() {
+			// The SQLite driver gives the zero time for a value of a DATE
+			// column it cannot read as a date (go-sqlite3, rows.Next); no
+			// ledger has a posting in the year 1.
+			return canon.BadCell(fmt.Sprintf("bad %s: 0001-01-01, which the driver returns for a value it cannot read as a date", col))
+		}
+		return canon.DayCell(x, "")
 	case string, []byte:
-		s := text(x)
-		if s == "" {
-			return time.Time{}, "missing date"
-		}
-		if t, ok := parseDate(s, layout); ok {
-			return t, ""
-		}
-		return time.Time{}, fmt.Sprintf("bad date %q: want a date, or text as %s", s, humanLayout(layout))
-	default:
-		return time.Time{}, fmt.Sprintf("bad date: a %T value (%s), not a date", v, text(v))
+		return canon.TextCell(text(x))
 	}
+	if col == canon.Period {
+		return canon.BadCell(fmt.Sprintf("bad period: a %T value (%s), want YYYY-MM or a date", v, text(v)))
+	}
+	return canon.BadCell(fmt.Sprintf("bad date: a %T value (%s), not a date", v, text(v)))
 }
 
-func parseDate(s, layout string) (time.Time, bool) {
-	for _, l := range []string{layout, "2006-01-02"} {
-		if l == "" {
-			continue
-		}
-		if t, err := time.Parse(l, s); err == nil {
-			return t, true
-		}
-	}
-	if len(s) > 10 && (s[10] == ' ' || s[10] == 'T') {
-		if t, err := time.Parse("2006-01-02", s[:10]); err == nil {
-			return t, true
-		}
-	}
-	return time.Time{}, false
-}
-
-// month reads a period given as YYYY-MM text or as a date or timestamp
-// (e.g. date_trunc('month', posted_on)), and returns its first day.
-func month(v any, layout string) (time.Time, string) {
+// quantityCell reads an activity value: a number as it is, text by the
+// rules.
+func quantityCell(v any) canon.Cell {
 	switch x := v.(type) {
 	case nil:
-		return time.Time{}, "missing period"
-	case time.Time:
-		return time.Date(x.Year(), x.Month(), 1, 0, 0, 0, 0, time.UTC), ""
-	case string, []byte:
-		s := text(x)
-		if s == "" {
-			return time.Time{}, "missing period"
-		}
-		if len(s) == 7 {
-			if t, err := time.Parse("2006-01", s); err == nil {
-				return t, ""
-			}
-		}
-		if t, ok := parseDate(s, layout); ok {
-			return time.Date(t.Year(), t.Month(), 1, 0, 0, 0, 0, time.UTC), ""
-		}
-		return time.Time{}, fmt.Sprintf("bad period %q: want YYYY-MM or a date", s)
-	default:
-		return time.Time{}, fmt.Sprintf("bad period: a %T value (%s), want YYYY-MM or a date", v, text(v))
-	}
-}
-
-// period reads an activity period: YYYY-MM text is read as the month's
-// first day (as in csvsource), a date as itself, and the calendar names the
-// period.
-func period(v any, opt Options) (string, string) {
-	switch x := v.(type) {
-	case nil:
-		return "", "missing period"
-	case time.Time:
-		return opt.Period(x), ""
-	case string, []byte:
-		s := text(x)
-		if s == "" {
-			return "", "missing period"
-		}
-		if len(s) == 7 {
-			if t, err := time.Parse("2006-01", s); err == nil {
-				return opt.Period(t), ""
-			}
-		}
-		if t, ok := parseDate(s, opt.DateLayout); ok {
-			return opt.Period(t), ""
-		}
-		return "", fmt.Sprintf("bad period %q: want YYYY-MM or a date", s)
-	default:
-		return "", fmt.Sprintf("bad period: a %T value (%s), want YYYY-MM or a date", v, text(v))
-	}
-}
-
-// quantity reads an activity value: a number that is finite and not negative.
-func quantity(v any, n money.Notation) (float64, string) {
-	var f float64
-	switch x := v.(type) {
-	case nil:
-		return 0, "missing value"
+		return canon.Cell{}
 	case int64:
-		f = float64(x)
+		return canon.NumberCell(float64(x), strconv.FormatInt(x, 10))
 	case float64:
-		f = x
+		return canon.NumberCell(x, text(x))
 	case string, []byte:
-		s := text(x)
-		if s == "" {
-			return 0, "missing value"
-		}
-		t, err := n.Plain(s)
-		if err != nil {
-			return 0, fmt.Sprintf("bad value %q: %v", s, err)
-		}
-		if f, err = strconv.ParseFloat(t, 64); err != nil {
-			return 0, fmt.Sprintf("bad value %q: not a number", s)
-		}
-	default:
-		return 0, fmt.Sprintf("bad value: a %T value, not a number", v)
+		return canon.TextCell(text(x))
 	}
-	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return 0, fmt.Sprintf("bad value %q: not a number", text(v))
-	}
-	if f < 0 {
-		return 0, fmt.Sprintf("bad value %q: activity cannot be negative", text(v))
-	}
-	return f, ""
-}
-
-// lineNumber reads a ledger line number: a whole number from 1.
-func lineNumber(v any) (int, string) {
-	switch x := v.(type) {
-	case nil:
-		return 0, "missing line"
-	case int64:
-		if x >= 1 && x <= math.MaxInt32 {
-			return int(x), ""
-		}
-	case float64:
-		if x >= 1 && x <= math.MaxInt32 && x == math.Trunc(x) {
-			return int(x), ""
-		}
-	case string, []byte:
-		if n, err := strconv.Atoi(text(x)); err == nil && n >= 1 {
-			return n, ""
-		}
-	}
-	return 0, fmt.Sprintf("bad line %q: want a whole number from 1", text(v))
+	return canon.BadCell(fmt.Sprintf("bad value: a %T value, not a number", v))
 }
 
 // maxRaw caps the stored text of a rejected row.
@@ -331,13 +229,4 @@ func watermarkText(driver string, v any) string {
 		return t.Format("2006-01-02 15:04:05.999999999")
 	}
 	return t.Format("2006-01-02 15:04:05.999999999-07:00")
-}
-
-// humanLayout spells a Go date layout the way the config does.
-func humanLayout(layout string) string {
-	if layout == "" {
-		layout = "2006-01-02"
-	}
-	r := strings.NewReplacer("2006", "YYYY", "01", "MM", "02", "DD")
-	return r.Replace(layout)
 }

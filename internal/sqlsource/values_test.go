@@ -5,8 +5,22 @@ import (
 	"testing"
 	"time"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/money"
 )
+
+// rules are those of a source in EUR with the notation and date layout.
+func rules(n money.Notation, layout string) canon.Rules {
+	return Options{Source: "books", Currency: eur(), Notation: n, DateLayout: layout, Period: monthly}.rules()
+}
+
+// amount reads a driver's value as an amount, as the source does: its
+// cell, then the rules.
+func amount(v any, n money.Notation) (int64, string) {
+	r := rules(n, "")
+	c := cell(canon.Amount, v, eur())
+	return r.Money(&c, canon.Amount)
+}
 
 func TestAmount(t *testing.T) {
 	comma := money.Notation{DecimalComma: true, ThousandsSeparator: "."}
@@ -35,13 +49,13 @@ func TestAmount(t *testing.T) {
 		{"double out of range", 1e21, money.Notation{}, 0, `bad amount: amount "1000000000000000000000" is out of range: costdrift stores at most 99999999999999.99 EUR either side of zero (a floating-point column: store or sum amounts as NUMERIC or DECIMAL)`},
 		{"NaN", math.NaN(), money.Notation{}, 0, "bad amount: NaN is not a number"},
 		{"NUMERIC NaN as text", "NaN", money.Notation{}, 0, `bad amount: amount "NaN" is not a number`},
-		{"NULL", nil, money.Notation{}, 0, "missing amount"},
-		{"empty text", " ", money.Notation{}, 0, "missing amount"},
+		{"NULL", nil, money.Notation{}, 0, "bad amount: empty amount"},
+		{"empty text", " ", money.Notation{}, 0, "bad amount: empty amount"},
 		{"boolean", true, money.Notation{}, 0, "bad amount: a bool value, not a number"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got, reason := amount(tc.v, eur(), tc.n)
+			got, reason := amount(tc.v, tc.n)
 			if got != tc.want || reason != tc.reason {
 				t.Errorf("amount(%#v) = %d, %q; want %d, %q", tc.v, got, reason, tc.want, tc.reason)
 			}
@@ -67,14 +81,18 @@ func TestDate(t *testing.T) {
 		{"RFC 3339 text", "", "2025-01-31T10:00:00Z", "2025-01-31", ""},
 		{"text in the source layout", "02.01.2006", "31.01.2025", "2025-01-31", ""},
 		{"ISO beside the source layout", "02.01.2006", "2025-01-31", "2025-01-31", ""},
-		{"other text", "", "31/01/2025", "", `bad date "31/01/2025": want a date, or text as YYYY-MM-DD`},
-		{"no such day", "02.01.2006", "30.02.2025", "", `bad date "30.02.2025": want a date, or text as DD.MM.YYYY`},
+		{"other text", "", "31/01/2025", "", `bad date "31/01/2025": want YYYY-MM-DD`},
+		{"no such day", "02.01.2006", "30.02.2025", "", `bad date "30.02.2025": want DD.MM.YYYY`},
 		{"a number", "", int64(20250131), "", "bad date: a int64 value (20250131), not a date"},
 		{"NULL", "", nil, "", "missing date"},
+		// What the SQLite driver gives for a DATE value it cannot read.
+		{"the zero time", "", time.Time{}, "", "bad date: 0001-01-01, which the driver returns for a value it cannot read as a date"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got, reason := date(tc.v, tc.layout)
+			r := rules(money.Notation{}, tc.layout)
+			c := cell(canon.Date, tc.v, eur())
+			got, reason := r.Date(&c)
 			s := ""
 			if reason == "" {
 				s = got.Format("2006-01-02")
@@ -87,7 +105,7 @@ func TestDate(t *testing.T) {
 }
 
 func TestPeriodAndMonth(t *testing.T) {
-	opt := Options{Period: monthly}
+	r := rules(money.Notation{}, "")
 	tests := []struct {
 		name         string
 		v            any
@@ -100,14 +118,21 @@ func TestPeriodAndMonth(t *testing.T) {
 		{"month 13", "2025-13", "", `bad period "2025-13": want YYYY-MM or a date`},
 		{"a number", int64(202502), "", "bad period: a int64 value (202502), want YYYY-MM or a date"},
 		{"NULL", nil, "", "missing period"},
+		// What the SQLite driver gives for a DATE value it cannot read.
+		{"the zero time", time.Time{}, "", "bad period: 0001-01-01, which the driver returns for a value it cannot read as a date"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got, reason := period(tc.v, opt)
+			c := cell(canon.Period, tc.v, eur())
+			day, reason := r.PeriodDay(&c)
+			got := ""
+			if reason == "" {
+				got = monthly(day)
+			}
 			if got != tc.want || reason != tc.reason {
 				t.Errorf("period(%#v) = %q, %q; want %q, %q", tc.v, got, reason, tc.want, tc.reason)
 			}
-			first, reason := month(tc.v, "")
+			first, reason := month(&r, &c)
 			if tc.reason == "" && (reason != "" || first.Format("2006-01-02") != tc.want+"-01") {
 				t.Errorf("month(%#v) = %v, %q; want %s-01", tc.v, first, reason, tc.want)
 			}
@@ -116,6 +141,32 @@ func TestPeriodAndMonth(t *testing.T) {
 			}
 		})
 	}
+}
+
+// quantity reads a driver's value as an activity value, as the source does.
+func quantity(v any, n money.Notation) (float64, string) {
+	r := rules(n, "")
+	c := cell(canon.Value, v, eur())
+	return r.Quantity(&c)
+}
+
+// lineNumber reads a driver's value as a ledger line's number, in a line
+// whose other columns are good.
+func lineNumber(v any) (int, string) {
+	b, err := canon.Bind([]string{"entry_id", "line", "date", "account", "amount"}, nil, ledgerColumns)
+	if err != nil {
+		panic(err)
+	}
+	ledger := canon.NewLedger(rules(money.Notation{}, ""), b, false)
+	var row canon.Row
+	row[canon.EntryID], row[canon.Account] = canon.TextCell("E1"), canon.TextCell("6100")
+	row[canon.Date], row[canon.Amount] = canon.TextCell("2025-01-31"), canon.TextCell("1.00")
+	row[canon.Line] = cell(canon.Line, v, eur())
+	l, reason := ledger.Line(&row)
+	if reason != "" {
+		return 0, reason
+	}
+	return l.Line, ""
 }
 
 func TestQuantityAndLine(t *testing.T) {

@@ -3,6 +3,7 @@ package xlsxsource
 import (
 	"context"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
@@ -13,34 +14,22 @@ func ReadAccounts(ctx context.Context, path, display string, opt Options, w cost
 		return 0, err
 	}
 	defer t.close()
-	if err := t.bind(opt.Columns, []string{"account"}, []string{"name", "type", "group"}, "expected account, name, type, group"); err != nil {
+	b, err := t.bind(opt.Columns, canon.AccountColumns)
+	if err != nil {
 		return 0, err
 	}
+	rules := opt.rules()
+	bound := b.Bound()
+	var row canon.Row
 	return t.each(ctx, func() error {
-		a, reason := accountRow(t, opt)
+		if why := t.overflow(); why != "" {
+			return t.reject(opt, w, why)
+		}
+		t.fill(&row, bound, opt)
+		a, reason := rules.Account(&row)
 		if reason != "" {
 			return t.reject(opt, w, reason)
 		}
 		return w.Account(a)
 	})
-}
-
-func accountRow(t *table, opt Options) (costdrift.Account, string) {
-	if why := t.overflow(); why != "" {
-		return costdrift.Account{}, why
-	}
-	a := costdrift.Account{Source: opt.Source}
-	for _, f := range []struct {
-		name string
-		to   *string
-	}{{"account", &a.Account}, {"name", &a.Name}, {"type", &a.Type}, {"group", &a.Group}} {
-		var why string
-		if *f.to, why = t.text(f.name); why != "" {
-			return a, why
-		}
-	}
-	if a.Account == "" {
-		return a, "missing account"
-	}
-	return a, ""
 }

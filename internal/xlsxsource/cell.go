@@ -9,6 +9,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/money"
 )
 
@@ -96,27 +97,120 @@ func serialDay(text string, date1904 bool) (time.Time, string) {
 	return time.Time{}, fmt.Sprintf("bad date: serial %s is after 9999-12-31", text)
 }
 
-// date reads a posting date: a date cell by its serial, text by layout.
-func date(c cell, layout string, date1904 bool) (time.Time, string) {
+// canonical turns a cell into the canonical cell of the column it stands
+// under. Text cells stay text, for the rules to read by the source's
+// notation and date format, as in a CSV file; what is particular to a
+// workbook is decided here: a number cell is an exact amount
+// (numberMinor) or a quantity, a date cell the day it shows, and a cell
+// that cannot be what its column holds (a formula error, a date under an
+// amount) says why.
+func (t *table) canonical(col canon.Column, c cell, opt Options) canon.Cell {
+	switch col.Kind() {
+	case canon.MoneyKind:
+		return moneyCell(col, c, opt.Currency)
+	case canon.DateKind:
+		return t.dateCell(c, opt)
+	case canon.PeriodKind:
+		return t.periodCell(c)
+	case canon.QuantityKind:
+		return quantityCell(c)
+	}
+	switch c.kind {
+	case errorCell:
+		return canon.BadCell(fmt.Sprintf("%s: the cell holds the error %s", col, c.text))
+	case dateCell:
+		if d, why := serialDay(c.text, t.date1904); why == "" {
+			return canon.TextCell(d.Format("2006-01-02"))
+		}
+	}
+	return canon.TextCell(c.text)
+}
+
+// moneyCell reads an amount: a number cell exactly in minor units
+// (numberMinor), text by the rules.
+func moneyCell(col canon.Column, c cell, cur money.Currency) canon.Cell {
+	switch c.kind {
+	case numberCell:
+		minor, err := numberMinor(c.text, cur)
+		if err != nil {
+			return canon.BadCell(fmt.Sprintf("bad %s: %v", col, err))
+		}
+		return canon.MoneyCell(minor, c.text)
+	case dateCell, isoDateCell:
+		return canon.BadCell(fmt.Sprintf("bad %s: the cell is a date (%s), not an amount", col, c.text))
+	case boolCell:
+		return canon.BadCell(fmt.Sprintf("bad %s: the cell is %s, not an amount", col, c.text))
+	case errorCell:
+		return canon.BadCell(fmt.Sprintf("bad %s: the cell holds the error %s", col, c.text))
+	}
+	return canon.TextCell(c.text)
+}
+
+// dateCell reads a posting date: a date cell by its serial, an ISO date
+// cell as written, text by the rules.
+func (t *table) dateCell(c cell, opt Options) canon.Cell {
+	layout := opt.DateLayout
+	if layout == "" {
+		layout = "2006-01-02"
+	}
 	switch c.kind {
 	case dateCell:
-		return serialDay(c.text, date1904)
+		d, why := serialDay(c.text, t.date1904)
+		if why != "" {
+			return canon.BadCell(why)
+		}
+		return canon.DayCell(d, c.text)
 	case isoDateCell:
 		if d, err := time.Parse("2006-01-02", prefix(c.text, 10)); err == nil {
-			return d, ""
+			return canon.DayCell(d, c.text)
 		}
-		return time.Time{}, fmt.Sprintf("bad date %q: not an ISO 8601 date", c.text)
+		return canon.BadCell(fmt.Sprintf("bad date %q: not an ISO 8601 date", c.text))
 	case boolCell, errorCell:
-		return time.Time{}, fmt.Sprintf("bad date %q: want a date cell or text %s", c.text, humanLayout(layout))
+		return canon.BadCell(fmt.Sprintf("bad date %q: want a date cell or text %s", c.text, canon.HumanLayout(layout)))
+	case numberCell:
+		// A number such as 20250131 can be a date in the layout YYYYMMDD.
+		if _, err := time.Parse(layout, c.text); err != nil {
+			return canon.BadCell(fmt.Sprintf("bad date %s: a number without a date format; format the column as a date or write %s", c.text, canon.HumanLayout(layout)))
+		}
 	}
-	d, err := time.Parse(layout, c.text)
-	if err == nil {
-		return d, ""
+	return canon.TextCell(c.text)
+}
+
+// periodCell reads an activity period: a date cell, or an ISO date cell,
+// is the day it shows; anything else is read by the rules as text (YYYY-MM
+// or a date).
+func (t *table) periodCell(c cell) canon.Cell {
+	switch c.kind {
+	case dateCell:
+		d, why := serialDay(c.text, t.date1904)
+		if why != "" {
+			return canon.BadCell(why)
+		}
+		return canon.DayCell(d, c.text)
+	case isoDateCell:
+		if d, err := time.Parse("2006-01-02", prefix(c.text, 10)); err == nil {
+			return canon.DayCell(d, c.text)
+		}
 	}
-	if c.kind == numberCell {
-		return time.Time{}, fmt.Sprintf("bad date %s: a number without a date format; format the column as a date or write %s", c.text, humanLayout(layout))
+	return canon.TextCell(c.text)
+}
+
+// quantityCell reads an activity value: a number cell as the double it is,
+// text by the rules.
+func quantityCell(c cell) canon.Cell {
+	switch c.kind {
+	case blankCell, textCell:
+		return canon.TextCell(c.text)
+	case numberCell:
+		v, err := strconv.ParseFloat(c.text, 64)
+		if err != nil {
+			return canon.BadCell(fmt.Sprintf("bad value %q: not a number", c.text))
+		}
+		return canon.NumberCell(v, c.text)
+	case errorCell:
+		return canon.BadCell("bad value: the cell holds the error " + c.text)
 	}
-	return time.Time{}, fmt.Sprintf("bad date %q: want %s", c.text, humanLayout(layout))
+	return canon.BadCell(fmt.Sprintf("bad value %q: not a number", c.text))
 }
 
 func prefix(s string, n int) string {
@@ -124,23 +218,6 @@ func prefix(s string, n int) string {
 		return s
 	}
 	return s[:n]
-}
-
-// amount reads an amount exactly in minor units. Text goes through the
-// currency's parser with the source's notation, as in a CSV file; a number
-// cell through numberMinor.
-func amount(c cell, cur money.Currency, n money.Notation) (int64, error) {
-	switch c.kind {
-	case numberCell:
-		return numberMinor(c.text, cur)
-	case dateCell, isoDateCell:
-		return 0, fmt.Errorf("the cell is a date (%s), not an amount", c.text)
-	case boolCell:
-		return 0, fmt.Errorf("the cell is %s, not an amount", c.text)
-	case errorCell:
-		return 0, fmt.Errorf("the cell holds the error %s", c.text)
-	}
-	return cur.Parse(c.text, n)
 }
 
 // tolerance is how far, in currency units, the number a cell stores may lie
@@ -220,85 +297,4 @@ func decimalLiteral(s string) bool {
 		}
 	}
 	return i == len(s)
-}
-
-// value reads an activity quantity: a number cell as the double it is,
-// text with the source's notation. Activity cannot be negative or missing.
-func value(c cell, n money.Notation) (float64, string) {
-	switch c.kind {
-	case blankCell:
-		return 0, "missing value"
-	case numberCell:
-		v, err := strconv.ParseFloat(c.text, 64)
-		if err != nil {
-			return 0, fmt.Sprintf("bad value %q: not a number", c.text)
-		}
-		if v < 0 {
-			return 0, fmt.Sprintf("bad value %s: activity cannot be negative", c.text)
-		}
-		return v, ""
-	case textCell:
-		return parseValue(c.text, n)
-	case errorCell:
-		return 0, fmt.Sprintf("bad value: the cell holds the error %s", c.text)
-	}
-	return 0, fmt.Sprintf("bad value %q: not a number", c.text)
-}
-
-// parseValue reads a quantity written as text, as the CSV source does.
-func parseValue(text string, n money.Notation) (float64, string) {
-	if text == "" {
-		return 0, "missing value"
-	}
-	s, err := n.Plain(text)
-	if err != nil {
-		return 0, fmt.Sprintf("bad value %q: %v", text, err)
-	}
-	v, err := strconv.ParseFloat(s, 64)
-	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, fmt.Sprintf("bad value %q: not a number", text)
-	}
-	if v < 0 {
-		return 0, fmt.Sprintf("bad value %q: activity cannot be negative", text)
-	}
-	return v, ""
-}
-
-// period reads an activity period: a date cell maps to its period; text is
-// YYYY-MM or a date (in the source's layout or ISO), as in a CSV file.
-func period(c cell, opt Options, date1904 bool) (string, string) {
-	switch c.kind {
-	case blankCell:
-		return "", "missing period"
-	case dateCell:
-		d, why := serialDay(c.text, date1904)
-		if why != "" {
-			return "", why
-		}
-		return opt.Period(d), ""
-	case isoDateCell:
-		if d, err := time.Parse("2006-01-02", prefix(c.text, 10)); err == nil {
-			return opt.Period(d), ""
-		}
-	case textCell, numberCell:
-		if len(c.text) == 7 {
-			if d, err := time.Parse("2006-01", c.text); err == nil {
-				return opt.Period(d), ""
-			}
-		}
-		for _, layout := range []string{opt.DateLayout, "2006-01-02"} {
-			if layout == "" {
-				continue
-			}
-			if d, err := time.Parse(layout, c.text); err == nil {
-				return opt.Period(d), ""
-			}
-		}
-	}
-	return "", fmt.Sprintf("bad period %q: want YYYY-MM, a date, or a date cell", c.text)
-}
-
-// humanLayout spells a Go date layout the way the config does.
-func humanLayout(layout string) string {
-	return strings.NewReplacer("2006", "YYYY", "01", "MM", "02", "DD").Replace(layout)
 }

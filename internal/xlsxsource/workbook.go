@@ -17,6 +17,7 @@ import (
 
 	"github.com/xuri/excelize/v2"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/money"
 )
@@ -42,6 +43,11 @@ type Options struct {
 	Period func(time.Time) string
 	// Layout of an activity sheet: "long", "wide", or "" to detect.
 	Layout string
+}
+
+// rules are the row rules of the source's options.
+func (opt Options) rules() canon.Rules {
+	return canon.Rules{Source: opt.Source, Currency: opt.Currency, Notation: opt.Notation, DateLayout: opt.DateLayout, Period: opt.Period}
 }
 
 // unzipInMemory is the largest worksheet or shared-string part excelize
@@ -75,7 +81,6 @@ type table struct {
 	row    int // 1-based number of the current row
 	cells  []cell
 	header []string
-	col    map[string]int // canonical name -> index
 }
 
 // open opens the workbook at path, chooses the sheet and reads the header:
@@ -305,83 +310,29 @@ func (t *table) isDateStyle(s int) bool {
 	return d
 }
 
-// bind maps canonical column names to header positions, honouring the
-// column mapping; it fails naming the required columns that are missing.
-func (t *table) bind(mapping map[string]string, required, optional []string, hint string) error {
-	t.col = bindHeader(t.header, mapping, required, optional)
-	var missing []string
-	for _, name := range required {
-		if _, ok := t.col[name]; !ok {
-			missing = append(missing, name)
-		}
+// bind binds the header's columns, or says which the sheet lacks.
+func (t *table) bind(mapping map[string]string, cols canon.Columns) (canon.Binding, error) {
+	b, err := canon.Bind(t.header, mapping, cols)
+	if err != nil {
+		return b, fmt.Errorf("%s: %w", t.location(), err)
 	}
-	if len(missing) > 0 {
-		return fmt.Errorf("%s: header has no column %s (found: %s); %s, or map yours under `columns:` in the source's config",
-			t.location(), strings.Join(missing, ", "), t.found(), hint)
-	}
-	return nil
+	return b, nil
 }
 
-func bindHeader(header []string, mapping map[string]string, required, optional []string) map[string]int {
-	index := map[string]int{}
-	for i, h := range header {
-		index[strings.ToLower(strings.TrimSpace(h))] = i // the last of equal headers wins, as in a CSV file
-	}
-	col := map[string]int{}
-	for _, name := range append(append([]string{}, required...), optional...) {
-		want := name
-		if m, ok := mapping[name]; ok && m != "" {
-			want = m
-		}
-		if i, ok := index[strings.ToLower(strings.TrimSpace(want))]; ok {
-			col[name] = i
-		}
-	}
-	return col
-}
-
-// found lists the header's non-empty cells for messages.
-func (t *table) found() string {
-	var names []string
-	for _, h := range t.header {
-		if h = strings.TrimSpace(h); h != "" {
-			names = append(names, h)
-		}
-	}
-	return strings.Join(names, ", ")
-}
-
-func (t *table) has(name string) bool {
-	_, ok := t.col[name]
-	return ok
-}
-
-// field returns the cell under a canonical column; blank when the column
-// or the cell is absent.
-func (t *table) field(name string) cell {
-	i, ok := t.col[name]
-	if !ok || i >= len(t.cells) {
+// at returns the cell of the current row at a position; blank beyond the
+// row's last cell.
+func (t *table) at(i int) cell {
+	if i >= len(t.cells) {
 		return cell{}
 	}
-	c := t.cells[i]
-	if c.text = strings.TrimSpace(c.text); c.text == "" {
-		c.kind = blankCell // a cell of spaces is as empty as in a CSV file
-	}
-	return c
+	return t.cells[i]
 }
 
-// text returns a column as text, or the reason it cannot be text.
-func (t *table) text(name string) (string, string) {
-	c := t.field(name)
-	switch c.kind {
-	case errorCell:
-		return "", fmt.Sprintf("%s: the cell holds the error %s", name, c.text)
-	case dateCell:
-		if d, why := serialDay(c.text, t.date1904); why == "" {
-			return d.Format("2006-01-02"), ""
-		}
+// fill sets the cells of the current row's bound columns.
+func (t *table) fill(row *canon.Row, bound []canon.Bound, opt Options) {
+	for _, b := range bound {
+		row[b.Column] = t.canonical(b.Column, t.at(b.Index), opt)
 	}
-	return c.text, ""
 }
 
 // overflow names a column beyond the header that holds a value: it would

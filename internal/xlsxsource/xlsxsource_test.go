@@ -17,6 +17,7 @@ import (
 
 	"github.com/xuri/excelize/v2"
 
+	"github.com/costdrift/costdrift/internal/canon"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
 	"github.com/costdrift/costdrift/internal/money"
@@ -510,16 +511,23 @@ func TestReadLedgerRejects(t *testing.T) {
 
 func TestCellErrorsAreReasons(t *testing.T) {
 	// excelize cannot write a formula error as a saved result, so the cell
-	// is built directly: a t="e" cell holding #DIV/0!.
+	// is built directly: a t="e" cell holding #DIV/0!, under an amount, a
+	// value and a text column.
 	c := cell{text: "#DIV/0!", kind: errorCell}
-	if _, err := amount(c, eur, money.Notation{}); err == nil || err.Error() != "the cell holds the error #DIV/0!" {
-		t.Errorf("amount: %v", err)
+	opt := options()
+	rules := opt.rules()
+	tb := &table{}
+	amount := tb.canonical(canon.Amount, c, opt)
+	if _, why := rules.Money(&amount, canon.Amount); why != "bad amount: the cell holds the error #DIV/0!" {
+		t.Errorf("amount: %q", why)
 	}
-	if _, why := value(c, money.Notation{}); why != "bad value: the cell holds the error #DIV/0!" {
+	value := tb.canonical(canon.Value, c, opt)
+	if _, why := rules.Quantity(&value); why != "bad value: the cell holds the error #DIV/0!" {
 		t.Errorf("value: %q", why)
 	}
-	tb := &table{header: []string{"account"}, col: map[string]int{"account": 0}, cells: []cell{c}}
-	if _, why := tb.text("account"); why != "account: the cell holds the error #DIV/0!" {
+	var row canon.Row
+	row[canon.Account] = tb.canonical(canon.Account, c, opt)
+	if _, why := rules.Account(&row); why != "account: the cell holds the error #DIV/0!" {
 		t.Errorf("text: %q", why)
 	}
 }
@@ -550,8 +558,8 @@ func TestReadActivityLong(t *testing.T) {
 		t.Fatalf("read %d\ngot  %+v\nwant %+v", n, w.Values, want)
 	}
 	wantRejects := []costdrift.Reject{
-		{Source: "act", Location: "act.xlsx:Sheet1!5", Reason: "bad value -3: activity cannot be negative", Raw: "2025-04,frames_built,-3"},
-		{Source: "act", Location: "act.xlsx:Sheet1!6", Reason: `bad period "2025-13": want YYYY-MM, a date, or a date cell`, Raw: "2025-13,frames_built,3"},
+		{Source: "act", Location: "act.xlsx:Sheet1!5", Reason: `bad value "-3": activity cannot be negative`, Raw: "2025-04,frames_built,-3"},
+		{Source: "act", Location: "act.xlsx:Sheet1!6", Reason: `bad period "2025-13": want YYYY-MM or a date`, Raw: "2025-13,frames_built,3"},
 	}
 	if !reflect.DeepEqual(w.Rejects, wantRejects) {
 		t.Fatalf("rejects %+v", w.Rejects)
@@ -912,18 +920,5 @@ func TestReadLedgerGroupingAndBound(t *testing.T) {
 		if r.Location != want[i].location || r.Reason != want[i].reason {
 			t.Errorf("reject %d: got %s %q, want %s %q", i, r.Location, r.Reason, want[i].location, want[i].reason)
 		}
-	}
-}
-
-func TestParseValueGrouping(t *testing.T) {
-	// Activity written as text follows the notation as amounts do: 1,234.5
-	// is 1234.5 (by hand); 1,23 was read as 123 before grouping was checked.
-	n := money.Notation{ThousandsSeparator: ","}
-	if v, why := parseValue("1,234.5", n); v != 1234.5 || why != "" {
-		t.Errorf("1,234.5: got %v, %q", v, why)
-	}
-	want := `bad value "1,23": digits are not grouped in threes by the thousands separator "," (as in 1,234,567)`
-	if v, why := parseValue("1,23", n); why != want {
-		t.Errorf("1,23: got %v, %q; want %q", v, why, want)
 	}
 }
