@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"fmt"
+	"os"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/calendar"
@@ -107,4 +108,18 @@ func (e *Env) sources() []roleSource {
 type roleSource struct {
 	role costdrift.Role
 	src  config.Source
+}
+
+// progress is how a reader reports how far it has read a file, for a file
+// large enough to show it while Progress is set; nil otherwise.
+func (e *Env) progress(path, display string) func(done int64) {
+	if e.Progress == nil {
+		return nil
+	}
+	st, err := os.Stat(path)
+	if err != nil || st.Size() <= progressMinBytes {
+		return nil
+	}
+	size := st.Size()
+	return func(done int64) { e.Progress(display, done, size) }
 }

@@ -3,7 +3,6 @@ package pipeline
 import (
 	"context"
 	"fmt"
-	"os"
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -27,12 +26,7 @@ func readSAFT(ctx context.Context, e *Env, role costdrift.Role, src config.Sourc
 		Period:       e.Calendar.Period,
 		AnalysisType: src.AnalysisType,
 	}
-	if e.Progress != nil {
-		if st, err := os.Stat(path); err == nil && st.Size() > progressMinBytes {
-			size := st.Size()
-			opt.Progress = func(done int64) { e.Progress(display, done, size) }
-		}
-	}
+	opt.Progress = e.progress(path, display)
 	switch role {
 	case costdrift.RoleAccounts:
 		return saftsource.ReadAccounts(ctx, path, display, opt, w)

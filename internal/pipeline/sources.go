@@ -2,7 +2,6 @@ package pipeline
 
 import (
 	"context"
-	"os"
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -61,12 +60,7 @@ func readCSV(ctx context.Context, e *Env, role costdrift.Role, src config.Source
 		Layout:   src.Layout,
 		Encoding: src.Encoding,
 	}
-	if e.Progress != nil {
-		if st, err := os.Stat(path); err == nil && st.Size() > progressMinBytes {
-			size := st.Size()
-			opt.Progress = func(done int64) { e.Progress(display, done, size) }
-		}
-	}
+	opt.Progress = e.progress(path, display)
 	if src.Delimiter != "" {
 		opt.Delimiter = []rune(src.Delimiter)[0]
 	}
