@@ -145,48 +145,13 @@ func (s Server) Send(ctx context.Context, msgs []*gomail.Msg) []Result {
 		tlsConf.ServerName = s.Host
 	}
 	replies := &replyLog{}
-	opts := []gomail.Option{gomail.WithPort(s.Port), gomail.WithTimeout(connect), gomail.WithTLSConfig(tlsConf),
-		gomail.WithDebugLog(), gomail.WithLogger(replies)}
-	switch s.TLS {
-	case "starttls":
-		opts = append(opts, gomail.WithTLSPolicy(gomail.TLSMandatory))
-	case "tls":
-		opts = append(opts, gomail.WithSSL())
-	case "none":
-		opts = append(opts, gomail.WithTLSPolicy(gomail.NoTLS))
-	}
-	if s.Username != "" {
-		// PLAIN, else LOGIN: what nearly every server offers. In the clear
-		// only on loopback (Check has refused anything else).
-		mechs := []gomail.SMTPAuthType{gomail.SMTPAuthPlain, gomail.SMTPAuthLogin}
-		if s.TLS == "none" {
-			mechs = []gomail.SMTPAuthType{gomail.SMTPAuthPlainNoEnc, gomail.SMTPAuthLoginNoEnc}
-		}
-		opts = append(opts, gomail.WithOpportunisticSMTPAuth(mechs...), gomail.WithUsername(s.Username),
-			gomail.WithPassword(s.Password))
-	}
 	// go-mail watches the context only while it connects: the greeting, each
 	// command and its QUIT wait for the command timeout, and a QUIT that
 	// gets no answer leaves the connection open. So the connection is
 	// dialled here, and closed when the context ends and when Send returns:
 	// that ends any wait at once.
 	conn := &heldConn{}
-	opts = append(opts, gomail.WithDialContextFunc(func(ctx context.Context, network, address string) (net.Conn, error) {
-		d := &net.Dialer{}
-		var c net.Conn
-		var err error
-		if s.TLS == "tls" {
-			// A *tls.Conn, unwrapped, so that the session counts as
-			// encrypted for AUTH.
-			c, err = (&tls.Dialer{NetDialer: d, Config: tlsConf}).DialContext(ctx, network, address)
-		} else {
-			c, err = d.DialContext(ctx, network, address)
-		}
-		if err == nil {
-			conn.set(c)
-		}
-		return c, err
-	}))
+	opts := s.options(connect, tlsConf, replies, conn)
 	client, err := gomail.NewClient(s.Host, opts...)
 	if err != nil {
 		return fail(fmt.Errorf("smtp %s: %w", s.addr(), err))
@@ -364,4 +329,47 @@ func WriteOutbox(dir string, m *gomail.Msg, when time.Time, name string) (string
 		}
 		return p, nil
 	}
+}
+
+// options are the client's settings: port and timeout, the TLS policy,
+// AUTH when a username is set, the replies logged into replies, and a
+// dialler that keeps the connection in conn so that Send can close it.
+func (s Server) options(connect time.Duration, tlsConf *tls.Config, replies *replyLog, conn *heldConn) []gomail.Option {
+	opts := []gomail.Option{gomail.WithPort(s.Port), gomail.WithTimeout(connect), gomail.WithTLSConfig(tlsConf),
+		gomail.WithDebugLog(), gomail.WithLogger(replies)}
+	switch s.TLS {
+	case "starttls":
+		opts = append(opts, gomail.WithTLSPolicy(gomail.TLSMandatory))
+	case "tls":
+		opts = append(opts, gomail.WithSSL())
+	case "none":
+		opts = append(opts, gomail.WithTLSPolicy(gomail.NoTLS))
+	}
+	if s.Username != "" {
+		// PLAIN, else LOGIN: what nearly every server offers. In the clear
+		// only on loopback (Check has refused anything else).
+		mechs := []gomail.SMTPAuthType{gomail.SMTPAuthPlain, gomail.SMTPAuthLogin}
+		if s.TLS == "none" {
+			mechs = []gomail.SMTPAuthType{gomail.SMTPAuthPlainNoEnc, gomail.SMTPAuthLoginNoEnc}
+		}
+		opts = append(opts, gomail.WithOpportunisticSMTPAuth(mechs...), gomail.WithUsername(s.Username),
+			gomail.WithPassword(s.Password))
+	}
+	opts = append(opts, gomail.WithDialContextFunc(func(ctx context.Context, network, address string) (net.Conn, error) {
+		d := &net.Dialer{}
+		var c net.Conn
+		var err error
+		if s.TLS == "tls" {
+			// A *tls.Conn, unwrapped, so that the session counts as
+			// encrypted for AUTH.
+			c, err = (&tls.Dialer{NetDialer: d, Config: tlsConf}).DialContext(ctx, network, address)
+		} else {
+			c, err = d.DialContext(ctx, network, address)
+		}
+		if err == nil {
+			conn.set(c)
+		}
+		return c, err
+	}))
+	return opts
 }
