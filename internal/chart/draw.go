@@ -162,6 +162,30 @@ func drawLegend(c draw.Canvas, sty text.Style, items []legendItem) vg.Length {
 // grid, high-low line, previous formula, fit or steps, points, outliers,
 // high-low rings, labels.
 func (s Scatter) plot() (*plot.Plot, []legendItem) {
+	p := s.axes()
+	// The legend lists markers, then formulas, then the range.
+	lo, hi := s.relevantRange()
+	band := &rangeBand{from: lo, to: hi}
+	p.Add(band)
+	p.Add(&plotter.Grid{Horizontal: draw.LineStyle{Color: colGrid, Width: 0.5}})
+	items := s.addFormulas(p, lo, hi)
+	markers, notes := s.addPoints(p)
+	items = append(append(markers, items...), legendItem{"relevant range", band})
+	if len(notes) > 0 {
+		p.Add(&noteLabels{notes: notes, style: textStyle(noteSize, colSubtle)})
+	}
+
+	// A cost-volume chart reads best from the origin (common practice): the
+	// fixed part of a cost is then seen as the height of the line above zero
+	// activity. Only when every value is non-negative, so no data are cut off.
+	if s.allNonNegative() {
+		p.X.Min, p.Y.Min = 0, 0
+	}
+	return p, items
+}
+
+// axes is a new plot with the chart's axes, labels and ticks.
+func (s Scatter) axes() *plot.Plot {
 	p := plot.New()
 	p.BackgroundColor = nil
 	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
@@ -184,14 +208,14 @@ func (s Scatter) plot() (*plot.Plot, []legendItem) {
 	p.X.Tick.Marker = groupedTicks{target: 6}
 	p.Y.Tick.Marker = groupedTicks{target: 5}
 
-	// The legend lists markers, then formulas, then the range.
-	var markers, items []legendItem
-	lo, hi := s.relevantRange()
+	return p
+}
 
-	band := &rangeBand{from: lo, to: hi}
-	p.Add(band)
-	p.Add(&plotter.Grid{Horizontal: draw.LineStyle{Color: colGrid, Width: 0.5}})
-
+// addFormulas adds the high-low line, the previous formula, and the fitted
+// line or the step levels, bottom to top, and returns their legend entries:
+// the current formula first, the previous one after it.
+func (s Scatter) addFormulas(p *plot.Plot, lo, hi float64) []legendItem {
+	var items []legendItem
 	if s.HighLow != nil {
 		h, l := s.Points[s.HighLow[0]], s.Points[s.HighLow[1]]
 		hl := mustLine(plotter.XYs{{X: l.Activity, Y: l.Cost}, {X: h.Activity, Y: h.Cost}},
@@ -223,6 +247,13 @@ func (s Scatter) plot() (*plot.Plot, []legendItem) {
 		items = append(items, *previous)
 	}
 
+	return items
+}
+
+// addPoints adds the periods, the outliers and the high-low rings, and
+// returns their legend entries and the labels of the points that carry one.
+func (s Scatter) addPoints(p *plot.Plot) ([]legendItem, []note) {
+	var markers []legendItem
 	var plain, outliers plotter.XYs
 	var notes []note
 	for i, pt := range s.Points {
@@ -265,18 +296,7 @@ func (s Scatter) plot() (*plot.Plot, []legendItem) {
 		p.Add(rings)
 		markers = append(markers, legendItem{"high-low points", rings})
 	}
-	items = append(append(markers, items...), legendItem{"relevant range", band})
-	if len(notes) > 0 {
-		p.Add(&noteLabels{notes: notes, style: textStyle(noteSize, colSubtle)})
-	}
-
-	// A cost-volume chart reads best from the origin (common practice): the
-	// fixed part of a cost is then seen as the height of the line above zero
-	// activity. Only when every value is non-negative, so no data are cut off.
-	if s.allNonNegative() {
-		p.X.Min, p.Y.Min = 0, 0
-	}
-	return p, items
+	return markers, notes
 }
 
 // reference returns the cost the drawn formula gives at activity: the fitted
