@@ -15,6 +15,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/report"
 )
 
@@ -63,7 +64,7 @@ classifies each cost as fixed, variable, mixed or step-fixed with its formula.`,
 }
 
 func defaultConfigPath() string {
-	if p := os.Getenv("COSTDRIFT_CONFIG"); p != "" {
+	if p := os.Getenv(config.FileEnv); p != "" {
 		return p
 	}
 	return "costdrift.yaml"

@@ -51,7 +51,7 @@ alert mail is failing, and /metrics gives Prometheus metrics. Each digest
 that could not be mailed is logged as a WARN line.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			e, err := a.loadConfig()
+			e, err := pipeline.Load(a.configPath, a.now)
 			if err != nil {
 				return err
 			}
@@ -60,6 +60,7 @@ that could not be mailed is logged as a WARN line.`,
 			// What the shared steps log (a skipped cost object) goes the
 			// same way as the daemon's own lines.
 			slog.SetDefault(log)
+			logConfigWarnings(log, e)
 			ctx := cmd.Context()
 			db, closeStore, err := e.OpenToWrite(ctx, false)
 			if err != nil {
@@ -81,6 +82,14 @@ that could not be mailed is logged as a WARN line.`,
 	}
 	cmd.Flags().BoolVar(&once, "once", false, "run one cycle now and exit (status 1 when it failed)")
 	return cmd
+}
+
+// logConfigWarnings logs what loading the config warned about; the
+// daemon's stderr is its log.
+func logConfigWarnings(log *slog.Logger, e *pipeline.Env) {
+	for _, w := range e.Config.Warnings {
+		log.Warn("config warning", "file", e.Config.File, "warning", w)
+	}
 }
 
 // newLogger writes log lines as text or JSON per log.format.
@@ -305,11 +314,12 @@ func (d *daemon) reload(ctx context.Context) {
 	keep := func(why string, err error) {
 		d.log.Error("config reload failed; keeping the running config", "file", d.a.configPath, "reason", why, "error", err)
 	}
-	e, err := d.a.loadConfig()
+	e, err := pipeline.Load(d.a.configPath, d.a.now)
 	if err != nil {
 		keep("the new config does not load", err)
 		return
 	}
+	logConfigWarnings(d.log, e)
 	d.mu.Lock()
 	defer d.mu.Unlock()
 	old := d.e

@@ -2,13 +2,25 @@ package main
 
 import (
 	"context"
+	"fmt"
 
 	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
+// loadConfig loads the config for a one-shot command and shows what the
+// loading warns about (a COSTDRIFT_ variable that sets no key) on stderr,
+// beside the output rather than in it.
 func (a *app) loadConfig() (*pipeline.Env, error) {
-	return pipeline.Load(a.configPath, a.now)
+	e, err := pipeline.Load(a.configPath, a.now)
+	if err != nil {
+		return nil, err
+	}
+	for _, w := range e.Config.Warnings {
+		fmt.Fprintln(a.errw, "costdrift: warning: "+report.TerminalText(w))
+	}
+	return e, nil
 }
 
 // withStore opens the existing store for one command and closes it after.

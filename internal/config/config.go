@@ -22,6 +22,9 @@ type Config struct {
 	// File is the path the config was loaded from; relative paths in the
 	// config are relative to its folder.
 	File string `mapstructure:"-"`
+	// Warnings are what Load noticed that did not stop it: COSTDRIFT_*
+	// variables that set no key. The commands show them.
+	Warnings []string `mapstructure:"-"`
 }
 
 // Calendar says how posting dates map to periods.

@@ -1,7 +1,8 @@
 // Package config owns costdrift's one configuration file: the typed Config,
 // its defaults, loading through viper (with COSTDRIFT_* environment
-// overrides), validation with errors that name the key and the file, and the
-// commented starter file that `costdrift init` writes, and the parser of
+// overrides), validation with errors that name the key and the file (or the
+// variable, for a value from the environment), warnings for COSTDRIFT_*
+// variables that set no key, and the commented starter file that `costdrift init` writes, and the parser of
 // schedule.cron that the daemon schedules with (so what validates, runs).
 //
 // Each scalar key is declared once, in keys (keys.go), with its default, its

@@ -13,7 +13,8 @@ import (
 )
 
 // EnvPrefix prefixes the environment variables that override keys:
-// COSTDRIFT_STORE overrides store, COSTDRIFT_ANALYSIS_WINDOW analysis.window.
+// COSTDRIFT_STORE overrides store, COSTDRIFT_ANALYSIS_WINDOW analysis.window
+// (env.go).
 const EnvPrefix = "COSTDRIFT"
 
 // Default returns the configuration with every default applied and no sources.
@@ -32,15 +33,14 @@ func newViper() *viper.Viper {
 	for _, k := range keys {
 		v.SetDefault(k.name, k.def)
 	}
-	v.SetEnvPrefix(EnvPrefix)
-	v.SetEnvKeyReplacer(strings.NewReplacer(".", "_"))
-	v.AutomaticEnv()
 	return v
 }
 
 // Load reads the YAML file at path, applies defaults and COSTDRIFT_*
 // environment overrides, rejects unknown keys, and validates the result;
-// kinds are the kinds of source the build reads.
+// kinds are the kinds of source the build reads. A problem with a value
+// from the environment names the variable; COSTDRIFT_* variables that
+// nothing reads come back in the Config's Warnings.
 func Load(path string, kinds Kinds) (*Config, error) {
 	f, err := os.Open(path)
 	if err != nil {
@@ -69,6 +69,10 @@ func Load(path string, kinds Kinds) (*Config, error) {
 		err.File = path
 		return nil, err
 	}
+	fromEnv, err := applyEnvironment(v.Set, os.LookupEnv)
+	if err != nil {
+		return nil, err
+	}
 
 	var c Config
 	if err := v.Unmarshal(&c); err != nil {
@@ -76,8 +80,9 @@ func Load(path string, kinds Kinds) (*Config, error) {
 	}
 	c.File = path
 	if err := c.Validate(kinds); err != nil {
-		return nil, err
+		return nil, blameEnvironment(err, fromEnv)
 	}
+	c.Warnings = envWarnings(os.Environ(), &c)
 	return &c, nil
 }
 
