@@ -97,7 +97,7 @@ func closeIf(db *DB) {
 // Root writes any file whatever its mode, so as root the check runs again
 // in a child process as the unprivileged user nobody.
 func TestOpenToReadReadOnlyStore(t *testing.T) {
-	if path := os.Getenv("COSTDRIFT_READ_ONLY_STORE"); path != "" {
+	if path := os.Getenv("COSTDRIFT_TEST_READ_ONLY_STORE"); path != "" {
 		checkReadOnlyStore(t, path)
 		return
 	}
@@ -135,7 +135,7 @@ func TestOpenToReadReadOnlyStore(t *testing.T) {
 		}
 	}
 	cmd := exec.Command(bin, "-test.run", "^TestOpenToReadReadOnlyStore$", "-test.v")
-	cmd.Env = append(os.Environ(), "COSTDRIFT_READ_ONLY_STORE="+path)
+	cmd.Env = append(os.Environ(), "COSTDRIFT_TEST_READ_ONLY_STORE="+path)
 	cmd.SysProcAttr = &syscall.SysProcAttr{Credential: &syscall.Credential{Uid: 65534, Gid: 65534}}
 	out, err := cmd.CombinedOutput()
 	if err != nil || !strings.Contains(string(out), "--- PASS: TestOpenToReadReadOnlyStore") {
