@@ -151,10 +151,9 @@ func syncSource(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role,
 					run.FilesSkipped++
 					if old.Settings == "" {
 						file.ID = old.ID
-						err = db.KeepSettings(ctx, file)
-					}
-					if err != nil {
-						failed = append(failed, err.Error())
+						if err := db.KeepSettings(ctx, file); err != nil {
+							failed = append(failed, fmt.Sprintf("%s: recording its reading settings: %v", display, err))
+						}
 					}
 					continue
 				}
