@@ -29,6 +29,13 @@ func TestBadInputCorpus(t *testing.T) {
 		{"impossible date", h + good + "I1,1,2026-02-30,6100,WELD,1.00,x\n", 1, 1, "bad date", false},
 		{"month 13", h + good + "I2,1,2026-13-01,6100,WELD,1.00,x\n", 1, 1, "bad date", false},
 		{"date in another layout", h + good + "I3,1,05.01.2026,6100,WELD,1.00,x\n", 1, 1, "bad date", false},
+		// The reason names the setting that reads the row.
+		{"day before month", h + good + "I4,1,15/01/2026,6100,WELD,1.00,x\n", 1, 1,
+			`bad date "15/01/2026": want YYYY-MM-DD; set date_format (e.g. DD/MM/YYYY)`, false},
+		{"comma thousands undeclared", h + good + "K1,1,2026-01-05,6100,WELD,\"1,234.50\",x\n", 1, 1,
+			`(with thousands_separator "," it reads as 1234.50)`, false},
+		{"point thousands undeclared", h + good + "K2,1,2026-01-05,6100,WELD,\"1.234,50\",x\n", 1, 1,
+			`(with decimal_comma: true and thousands_separator "." it reads as 1234.50)`, false},
 		{"NaN amount", h + good + "N1,1,2026-01-05,6100,WELD,NaN,x\n", 1, 1, "bad amount", false},
 		{"Infinity amount", h + good + "N2,1,2026-01-05,6100,WELD,Infinity,x\n", 1, 1, "bad amount", false},
 		{"1e400 amount", h + good + "N3,1,2026-01-05,6100,WELD,1e400,x\n", 1, 1, "bad amount", false},

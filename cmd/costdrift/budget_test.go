@@ -304,6 +304,9 @@ func TestBadPlans(t *testing.T) {
 			[]string{"bad-period.csv:3", "2026-13"}},
 		{"bad value", "period,driver,value\n2026-07,frames_built,lots\n", nil, []string{"bad-value.csv:2", "lots"}},
 		{"negative value", "period,driver,value\n2026-07,frames_built,-5\n", nil, []string{"negative-value.csv:2", "cannot be negative"}},
+		// A plan has no notation settings: the reason says how to write it.
+		{"grouped value", "period,driver,value\n2026-07,frames_built,\"1,750.5\"\n", nil,
+			[]string{"grouped-value.csv:2", `bad value "1,750.5": not a number (write it as 1750.5)`}},
 		{"twice", "period,driver,value,cost_center\n2026-07,machine_hours,900,WELD\n2026-07,machine_hours,950,WELD\n", nil,
 			[]string{"twice.csv:3", "machine_hours 2026-07 for WELD is planned twice (first at twice.csv:2)"}},
 		{"wrong header", "month,what,amount\n2026-07,frames_built,5\n", nil, []string{"wrong-header.csv", "period"}},

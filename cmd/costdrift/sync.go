@@ -19,9 +19,10 @@ func (a *app) syncCommand() *cobra.Command {
 		Use:   "sync",
 		Short: "Read every configured source into the store",
 		Long: `sync reads every configured source into the store. Files that have not changed
-since the last sync are skipped; a changed file replaces exactly the rows it
-loaded before, in one transaction. A file that has disappeared keeps its rows
-until you drop them with --forget.`,
+since the last sync, and whose source's reading settings (columns, date_format,
+decimal_comma, ...) have not changed either, are skipped; a changed file
+replaces exactly the rows it loaded before, in one transaction. A file that has
+disappeared keeps its rows until you drop them with --forget.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			e, err := a.loadConfig()

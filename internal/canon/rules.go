@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -28,6 +29,10 @@ type Rules struct {
 	DatabaseDates bool
 	// Period maps a day to its period.
 	Period func(time.Time) string
+	// Fixed says the reading of the source has no settings (a plan, a
+	// SAF-T file): a reason says how to write a value, not which setting
+	// would read it.
+	Fixed bool
 }
 
 func (r *Rules) layout() string {
@@ -56,7 +61,7 @@ func (r *Rules) Money(c *Cell, col Column) (int64, string) {
 	}
 	v, err := r.Currency.Parse(c.text, r.Notation)
 	if err != nil {
-		return 0, "bad " + col.String() + ": " + err.Error()
+		return 0, "bad " + col.String() + ": " + err.Error() + r.moneyHint(strings.TrimSpace(c.text), err)
 	}
 	return v, ""
 }
@@ -98,7 +103,7 @@ func (r *Rules) Date(c *Cell) (time.Time, string) {
 	if d, ok := r.ParseDate(c.text); ok {
 		return d, ""
 	}
-	return time.Time{}, fmt.Sprintf("bad date %q: want %s", c.text, HumanLayout(r.layout()))
+	return time.Time{}, fmt.Sprintf("bad date %q: want %s%s", c.text, HumanLayout(r.layout()), r.dateHint(c.text))
 }
 
 // Posting sets a line's posting date and its period from the day it was
@@ -133,7 +138,7 @@ func (r *Rules) PeriodDay(c *Cell) (time.Time, string) {
 	if d, err := time.Parse(isoDate, s); err == nil {
 		return d, ""
 	}
-	return time.Time{}, fmt.Sprintf("bad period %q: want YYYY-MM or a date", s)
+	return time.Time{}, fmt.Sprintf("bad period %q: want YYYY-MM or a date%s", s, r.dateHint(s))
 }
 
 // period reads a period column as the calendar's period.
@@ -163,10 +168,10 @@ func (r *Rules) Quantity(c *Cell) (float64, string) {
 		}
 		s, err := r.Notation.Plain(c.text)
 		if err != nil {
-			return 0, fmt.Sprintf("bad value %q: %v", c.text, err)
+			return 0, fmt.Sprintf("bad value %q: %v%s", c.text, err, r.quantityHint(c.text))
 		}
 		if v, err = strconv.ParseFloat(s, 64); err != nil {
-			return 0, fmt.Sprintf("bad value %q: not a number", c.text)
+			return 0, fmt.Sprintf("bad value %q: not a number%s", c.text, r.quantityHint(c.text))
 		}
 	}
 	if math.IsNaN(v) || math.IsInf(v, 0) {

@@ -43,7 +43,8 @@ type SyncRun struct {
 }
 
 // SourceFile is what the store remembers of a file it loaded: the
-// fingerprint that tells whether the file changed since.
+// fingerprint that tells whether the file changed since, and the settings
+// it was read with, which tell whether it would be read otherwise now.
 type SourceFile struct {
 	ID     int64
 	Source string
@@ -51,4 +52,7 @@ type SourceFile struct {
 	Size   int64
 	SHA256 string
 	Rows   int
+	// Settings are the source's reading settings as canonical JSON; ""
+	// when unknown (a file loaded before the store kept them).
+	Settings string
 }

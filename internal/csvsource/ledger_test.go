@@ -288,9 +288,9 @@ func TestLedgerRejects(t *testing.T) {
 	}
 	checkRejects(t, rec.Rejects, []costdrift.Reject{
 		rej("gl", "gl.csv:3", `bad date "2025-02-30": want YYYY-MM-DD`, "B1,1,2025-02-30,6200,WELD,100.00,no such day"),
-		rej("gl", "gl.csv:4", `bad date "31/01/2025": want YYYY-MM-DD`, "B2,1,31/01/2025,6200,WELD,100.00,wrong layout"),
+		rej("gl", "gl.csv:4", `bad date "31/01/2025": want YYYY-MM-DD; set date_format (e.g. DD/MM/YYYY)`, "B2,1,31/01/2025,6200,WELD,100.00,wrong layout"),
 		rej("gl", "gl.csv:5", `bad amount: amount "12.345": more decimals than the currency's minor unit (EUR has 2)`, "B3,1,2025-01-31,6200,WELD,12.345,too precise"),
-		rej("gl", "gl.csv:6", `bad amount: amount "12,50" has a ','; declare decimal_comma or thousands_separator for this source`, `B4,1,2025-01-31,6200,WELD,"12,50",decimal comma undeclared`),
+		rej("gl", "gl.csv:6", `bad amount: amount "12,50" has a ','; declare decimal_comma or thousands_separator for this source (with decimal_comma: true it reads as 12.50)`, `B4,1,2025-01-31,6200,WELD,"12,50",decimal comma undeclared`),
 		rej("gl", "gl.csv:7", `bad amount: amount "n/a" is not a number`, "B5,1,2025-01-31,6200,WELD,n/a,not a number"),
 		rej("gl", "gl.csv:8", `bad amount: empty amount`, "B6,1,2025-01-31,6200,WELD,,empty amount"),
 		rej("gl", "gl.csv:9", "missing account", "B7,1,2025-01-31,,WELD,1.00,no account"),

@@ -39,11 +39,15 @@ type Options struct {
 	Encoding string
 	// Progress, when set, is told how many bytes of the file were read.
 	Progress func(done int64)
+	// Fixed says the file's reading has no settings (a plan): see
+	// canon.Rules.
+	Fixed bool
 }
 
 // rules are the row rules of the source's options.
 func (opt Options) rules() canon.Rules {
-	return canon.Rules{Source: opt.Source, Currency: opt.Currency, Notation: opt.Notation, DateLayout: opt.DateLayout, Period: opt.Period}
+	return canon.Rules{Source: opt.Source, Currency: opt.Currency, Notation: opt.Notation, DateLayout: opt.DateLayout, Period: opt.Period,
+		Fixed: opt.Fixed}
 }
 
 // fill sets the cells of a record's bound columns.

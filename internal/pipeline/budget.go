@@ -336,9 +336,9 @@ func readPlan(ctx context.Context, e *Env, path string, known map[string]bool) (
 	var err error
 	switch strings.ToLower(filepath.Ext(path)) {
 	case ".xlsx", ".xlsm":
-		_, err = xlsxsource.ReadActivity(ctx, path, display, xlsxsource.Options{Source: "plan", Currency: e.Currency, Period: e.Calendar.Period}, &w)
+		_, err = xlsxsource.ReadActivity(ctx, path, display, xlsxsource.Options{Source: "plan", Currency: e.Currency, Period: e.Calendar.Period, Fixed: true}, &w)
 	default:
-		_, err = csvsource.ReadActivity(ctx, path, display, csvsource.Options{Source: "plan", Currency: e.Currency, Period: e.Calendar.Period}, &w)
+		_, err = csvsource.ReadActivity(ctx, path, display, csvsource.Options{Source: "plan", Currency: e.Currency, Period: e.Calendar.Period, Fixed: true}, &w)
 	}
 	if err != nil {
 		return planFile{}, fmt.Errorf("plan %s", planError(err, path))

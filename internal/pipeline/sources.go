@@ -26,6 +26,9 @@ type sourceKind struct {
 	roles []costdrift.Role
 	file  fileReader
 	query queryReader
+	// settings are the config keys the kind reads that shape what a source
+	// yields (readingSettings).
+	settings []string
 }
 
 var allRoles = []costdrift.Role{costdrift.RoleLedger, costdrift.RoleActivity, costdrift.RoleAccounts}
@@ -33,10 +36,14 @@ var allRoles = []costdrift.Role{costdrift.RoleLedger, costdrift.RoleActivity, co
 // sourceKinds is the one registry of the kinds of source this build reads:
 // the config's check of each source's kind and role comes from it (Kinds).
 var sourceKinds = map[string]sourceKind{
-	"csv":  {roles: allRoles, file: readCSV},
-	"xlsx": {roles: allRoles, file: readXLSX},
-	"saft": {roles: []costdrift.Role{costdrift.RoleLedger, costdrift.RoleAccounts}, file: readSAFT},
-	"sql":  {roles: allRoles, query: readSQL},
+	"csv": {roles: allRoles, file: readCSV,
+		settings: []string{"columns", "delimiter", "date_format", "decimal_comma", "thousands_separator", "layout", "encoding"}},
+	"xlsx": {roles: allRoles, file: readXLSX,
+		settings: []string{"columns", "sheet", "date_format", "decimal_comma", "thousands_separator", "layout"}},
+	"saft": {roles: []costdrift.Role{costdrift.RoleLedger, costdrift.RoleAccounts}, file: readSAFT,
+		settings: []string{"analysis_type"}},
+	"sql": {roles: allRoles, query: readSQL,
+		settings: []string{"columns", "date_format", "decimal_comma", "thousands_separator", "query", "aggregated", "watermark_column"}},
 }
 
 // Kinds is the registry as the config checks it: each kind with its roles.

@@ -108,7 +108,7 @@ func raiseSourceAlerts(ctx context.Context, e *Env, db *sqlite.DB) error {
 func syncSource(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role, src config.Source, run *costdrift.SyncRun) ([]string, error) {
 	kind, ok := sourceKinds[src.Kind]
 	if kind.query != nil {
-		return nil, syncQuery(ctx, e, db, role, src, run, kind.query)
+		return syncQuery(ctx, e, db, role, src, run, kind.query)
 	}
 	read := kind.file
 	if !ok || read == nil {
@@ -132,7 +132,8 @@ func syncSource(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role,
 		byPath[f.Path] = f
 	}
 
-	var failed []string
+	var failed, notes []string
+	settings := readingSettings(src)
 	seen := map[string]bool{}
 	for _, path := range matches {
 		abs, err := filepath.Abs(path)
@@ -143,10 +144,20 @@ func syncSource(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role,
 		display := displayPath(e, src, path)
 		file, err := fingerprint(abs, display)
 		if err == nil {
-			file.Source = src.Name
+			file.Source, file.Settings = src.Name, settings
 			if old, ok := byPath[abs]; ok && old.Size == file.Size && old.SHA256 == file.SHA256 {
-				run.FilesSkipped++
-				continue
+				changed := changedSettings(old.Settings, settings)
+				if len(changed) == 0 {
+					run.FilesSkipped++
+					if old.Settings == "" {
+						file.ID = old.ID
+						if err := db.KeepSettings(ctx, file); err != nil {
+							failed = append(failed, fmt.Sprintf("%s: recording its reading settings: %v", display, err))
+						}
+					}
+					continue
+				}
+				notes = append(notes, fmt.Sprintf("%s read again: its reading settings changed (%s)", display, strings.Join(changed, ", ")))
 			}
 			err = db.LoadFile(ctx, run, file, func(w costdrift.SourceWriter) error {
 				n, err := read(ctx, e, role, src, abs, display, w)
@@ -163,7 +174,6 @@ func syncSource(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role,
 		}
 		run.Files++
 	}
-	var notes []string
 	// Counted again: this sync's loads may have taken rows over from the
 	// files that are gone.
 	if known, err = db.SourceFiles(context.WithoutCancel(ctx), src.Name); err != nil {
@@ -191,16 +201,28 @@ func syncSource(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role,
 
 // syncQuery syncs a database source in one transaction: a full refresh
 // (rows no longer returned are removed) or, with a watermark, only new rows.
-func syncQuery(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role, src config.Source, run *costdrift.SyncRun, read queryReader) error {
-	watermark := ""
-	if src.Refresh == "watermark" {
-		var err error
-		if watermark, _, err = db.Watermark(ctx, src.Name); err != nil {
-			return err
+// A watermark source whose reading settings (its query, its columns...)
+// changed since its watermark was stored is refreshed in full once: rows
+// past the watermark alone would leave the ones read the old way as they
+// were.
+func syncQuery(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role, src config.Source, run *costdrift.SyncRun, read queryReader) ([]string, error) {
+	watermark, settings, full := "", "", src.Refresh != "watermark"
+	var notes []string
+	if !full {
+		settings = readingSettings(src)
+		mark, kept, _, err := db.Watermark(ctx, src.Name)
+		if err != nil {
+			return nil, err
+		}
+		watermark = mark
+		if changed := changedSettings(kept, settings); len(changed) > 0 {
+			watermark, full = "", true
+			notes = append(notes, fmt.Sprintf("%s read again in full: its reading settings changed (%s)",
+				src.Name, strings.Join(changed, ", ")))
 		}
 	}
 	var warnings []string
-	err := db.LoadQuery(ctx, run, src.Refresh != "watermark", func(w costdrift.SourceWriter) (string, error) {
+	err := db.LoadQuery(ctx, run, full, settings, func(w costdrift.SourceWriter) (string, error) {
 		n, mark, warns, err := read(ctx, e, role, src, watermark, w)
 		run.RowsRead += n
 		warnings = warns
@@ -209,7 +231,7 @@ func syncQuery(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role, 
 	// After the load: a failed batch resets the run's counts, but a login
 	// that can write is worth knowing about either way.
 	run.Warnings = append(run.Warnings, warnings...)
-	return err
+	return notes, err
 }
 
 // syncGCPercent is the garbage collector's target during a sync (Go's

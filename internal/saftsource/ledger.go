@@ -173,7 +173,7 @@ func ReadLedger(ctx context.Context, path, display string, opt Options, w costdr
 func readLedger(ctx context.Context, x *file, opt Options, w costdrift.SourceWriter) (Totals, error) {
 	opt.AnalysisType = strings.TrimSpace(opt.AnalysisType)
 	r := &ledger{file: x, ctx: ctx, opt: opt, w: w, tot: Totals{Currency: opt.Currency}, seen: map[string]struct{}{},
-		rules: canon.Rules{Source: opt.Source, Currency: opt.Currency, Period: opt.Period}}
+		rules: canon.Rules{Source: opt.Source, Currency: opt.Currency, Period: opt.Period, Fixed: true}}
 	err := r.root()
 	if err == nil && !r.entries {
 		err = fmt.Errorf("%s has no GeneralLedgerEntries: it holds no ledger lines (is it an export of master data only?)", x.display)

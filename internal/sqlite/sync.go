@@ -77,7 +77,7 @@ func (db *DB) LoadSource(ctx context.Context, run *costdrift.SyncRun, fill func(
 	if err := db.BeginSync(ctx, run); err != nil {
 		return err
 	}
-	err := db.LoadQuery(ctx, run, false, func(w costdrift.SourceWriter) (string, error) { return "", fill(w) })
+	err := db.LoadQuery(ctx, run, false, "", func(w costdrift.SourceWriter) (string, error) { return "", fill(w) })
 	if ferr := db.FinishSync(ctx, run, err); err == nil {
 		err = ferr
 	}
@@ -90,8 +90,9 @@ func (db *DB) LoadSource(ctx context.Context, run *costdrift.SyncRun, fill func(
 // LoadQuery stores the rows of a database query in one transaction. With
 // full, the query returned everything: rows of the source it no longer
 // returns are removed (counted as replaced). fill may return a new watermark,
-// which is stored with the rows.
-func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, fill func(costdrift.SourceWriter) (string, error)) error {
+// which is stored with the rows and with settings, the reading settings it
+// was read with.
+func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, settings string, fill func(costdrift.SourceWriter) (string, error)) error {
 	before := snapshot(run)
 	err := db.inTx(ctx, func(tx *sql.Tx) error {
 		mode := modeUpsert
@@ -113,8 +114,9 @@ func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, 
 			}
 		}
 		if mark != "" {
-			_, err = tx.ExecContext(ctx, `INSERT INTO source_watermarks (source, value, updated_at) VALUES (?, ?, ?)
-				ON CONFLICT (source) DO UPDATE SET value = excluded.value, updated_at = excluded.updated_at`, run.Source, mark, db.now())
+			_, err = tx.ExecContext(ctx, `INSERT INTO source_watermarks (source, value, updated_at, reading_settings) VALUES (?, ?, ?, ?)
+				ON CONFLICT (source) DO UPDATE SET value = excluded.value, updated_at = excluded.updated_at,
+				reading_settings = excluded.reading_settings`, run.Source, mark, db.now(), nullString(settings))
 		}
 		return err
 	})
@@ -124,19 +126,21 @@ func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, 
 	return err
 }
 
-// Watermark returns the newest watermark a source has stored, if any.
-func (db *DB) Watermark(ctx context.Context, source string) (string, bool, error) {
-	var v string
-	err := db.q().QueryRowContext(ctx, `SELECT value FROM source_watermarks WHERE source = ?`, source).Scan(&v)
+// Watermark returns the newest watermark a source has stored, if any, and
+// the reading settings it was read with ("" when unknown).
+func (db *DB) Watermark(ctx context.Context, source string) (value, settings string, ok bool, err error) {
+	err = db.q().QueryRowContext(ctx, `SELECT value, COALESCE(reading_settings, '') FROM source_watermarks WHERE source = ?`, source).
+		Scan(&value, &settings)
 	if errors.Is(err, sql.ErrNoRows) {
-		return "", false, nil
+		return "", "", false, nil
 	}
-	return v, err == nil, err
+	return value, settings, err == nil, err
 }
 
 // SourceFiles lists the files a source has loaded.
 func (db *DB) SourceFiles(ctx context.Context, source string) ([]costdrift.SourceFile, error) {
-	rows, err := db.q().QueryContext(ctx, `SELECT id, source, path, size, sha256, rows FROM source_files WHERE source = ? ORDER BY path`, source)
+	rows, err := db.q().QueryContext(ctx, `SELECT id, source, path, size, sha256, rows, COALESCE(reading_settings, '')
+		FROM source_files WHERE source = ? ORDER BY path`, source)
 	if err != nil {
 		return nil, err
 	}
@@ -144,12 +148,21 @@ func (db *DB) SourceFiles(ctx context.Context, source string) ([]costdrift.Sourc
 	var out []costdrift.SourceFile
 	for rows.Next() {
 		var f costdrift.SourceFile
-		if err := rows.Scan(&f.ID, &f.Source, &f.Path, &f.Size, &f.SHA256, &f.Rows); err != nil {
+		if err := rows.Scan(&f.ID, &f.Source, &f.Path, &f.Size, &f.SHA256, &f.Rows, &f.Settings); err != nil {
 			return nil, err
 		}
 		out = append(out, f)
 	}
 	return out, rows.Err()
+}
+
+// KeepSettings records the reading settings of a file loaded before the
+// store kept them, as the settings it was read with: the file is not read
+// again for them, and a later change of settings is seen.
+func (db *DB) KeepSettings(ctx context.Context, file costdrift.SourceFile) error {
+	_, err := db.q().ExecContext(ctx, `UPDATE source_files SET reading_settings = ? WHERE id = ? AND reading_settings IS NULL`,
+		file.Settings, file.ID)
+	return err
 }
 
 // LoadFile stores one file in one transaction: the rows the file loaded
@@ -208,8 +221,9 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 		// Every row stored by this load, new or taken over from another
 		// file, now belongs to this file; its old rows were removed above.
 		rows := run.RowsLoaded - loadedBefore
-		if _, err := tx.ExecContext(ctx, `UPDATE source_files SET size = ?, sha256 = ?, rows = ?, loaded_at = ?, sync_run_id = ? WHERE id = ?`,
-			file.Size, file.SHA256, rows, db.now(), run.ID, id); err != nil {
+		if _, err := tx.ExecContext(ctx, `UPDATE source_files SET size = ?, sha256 = ?, rows = ?, loaded_at = ?, sync_run_id = ?,
+			reading_settings = ? WHERE id = ?`,
+			file.Size, file.SHA256, rows, db.now(), run.ID, nullString(file.Settings), id); err != nil {
 			return err
 		}
 		if run.Role == costdrift.RoleLedger {

@@ -81,7 +81,7 @@ func TestDate(t *testing.T) {
 		{"RFC 3339 text", "", "2025-01-31T10:00:00Z", "2025-01-31", ""},
 		{"text in the source layout", "02.01.2006", "31.01.2025", "2025-01-31", ""},
 		{"ISO beside the source layout", "02.01.2006", "2025-01-31", "2025-01-31", ""},
-		{"other text", "", "31/01/2025", "", `bad date "31/01/2025": want YYYY-MM-DD`},
+		{"other text", "", "31/01/2025", "", `bad date "31/01/2025": want YYYY-MM-DD; set date_format (e.g. DD/MM/YYYY)`},
 		{"no such day", "02.01.2006", "30.02.2025", "", `bad date "30.02.2025": want DD.MM.YYYY`},
 		{"a number", "", int64(20250131), "", "bad date: a int64 value (20250131), not a date"},
 		{"NULL", "", nil, "", "missing date"},

@@ -43,11 +43,15 @@ type Options struct {
 	Period func(time.Time) string
 	// Layout of an activity sheet: "long", "wide", or "" to detect.
 	Layout string
+	// Fixed says the workbook's reading has no settings (a plan): see
+	// canon.Rules.
+	Fixed bool
 }
 
 // rules are the row rules of the source's options.
 func (opt Options) rules() canon.Rules {
-	return canon.Rules{Source: opt.Source, Currency: opt.Currency, Notation: opt.Notation, DateLayout: opt.DateLayout, Period: opt.Period}
+	return canon.Rules{Source: opt.Source, Currency: opt.Currency, Notation: opt.Notation, DateLayout: opt.DateLayout, Period: opt.Period,
+		Fixed: opt.Fixed}
 }
 
 // unzipInMemory is the largest worksheet or shared-string part excelize

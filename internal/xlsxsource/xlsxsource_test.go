@@ -483,10 +483,10 @@ func TestReadLedgerRejects(t *testing.T) {
 	}
 	want := []struct{ location, reason string }{
 		{"gl.xlsx:Sheet1!3", "missing account"},
-		{"gl.xlsx:Sheet1!4", `bad date "15.01.2025": want YYYY-MM-DD`},
+		{"gl.xlsx:Sheet1!4", `bad date "15.01.2025": want YYYY-MM-DD; set date_format (e.g. DD.MM.YYYY)`},
 		{"gl.xlsx:Sheet1!5", "bad date 45672: a number without a date format; format the column as a date or write YYYY-MM-DD"},
 		{"gl.xlsx:Sheet1!6", "bad amount: number 12.345: more decimals than the currency's minor unit (EUR has 2)"},
-		{"gl.xlsx:Sheet1!7", `bad amount: amount "12,50" has a ','; declare decimal_comma or thousands_separator for this source`},
+		{"gl.xlsx:Sheet1!7", `bad amount: amount "12,50" has a ','; declare decimal_comma or thousands_separator for this source (with decimal_comma: true it reads as 12.50)`},
 		{"gl.xlsx:Sheet1!8", "bad amount: the cell is TRUE, not an amount"},
 		{"gl.xlsx:Sheet1!10", "column I has a value but the header ends at column G"},
 		{"gl.xlsx:Sheet1!11", `bad line "0": want a whole number from 1`},
