@@ -128,7 +128,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	fmt.Fprintf(a.out, "\nThe store is %s. Query it with sqlite3, for example:\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())
-	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_series WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
+	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_with_drivers WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, cost_center, round(budget) AS budget, round(low95) AS low95, round(high95) AS high95 FROM flexible_budget WHERE line <> 'object'\"\n", db.Path())
 	return nil
 }

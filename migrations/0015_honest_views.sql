@@ -1,0 +1,96 @@
+-- costdrift store, schema 15: views that mean what they say.
+--
+-- cost_series held one row per account, cost centre, period and driver: a
+-- SUM(amount) over it counted each cost once per driver, a period without
+-- postings had no row (the analysis counts it as zero when the ledger has
+-- postings in it, README "The method"), and accounts outside the analysis
+-- were there. It now holds one row per cost object and period as the latest
+-- analysis sees them; the driver values have views of their own.
+
+-- Each cost object in scope: the objects analysed with the account scope
+-- and grain of the latest analysis (a view cannot read the config, and the
+-- analysis is what chose them). An object analysed under another scope or
+-- grain, before the settings changed, is left out. Before the first
+-- analysis: every account and cost centre of the ledger.
+CREATE VIEW scope_objects AS
+WITH latest AS (
+    SELECT grain, json_extract(settings, '$.accounts') AS accounts
+    FROM analysis_runs ORDER BY id DESC LIMIT 1
+)
+SELECT b.object, b.account, b.cost_center, l.grain
+FROM behaviour_history b
+JOIN analysis_runs r ON r.id = b.last_run_id
+JOIN latest l ON l.grain = r.grain AND l.accounts IS json_extract(r.settings, '$.accounts')
+WHERE b.valid_to_run_at IS NULL
+UNION ALL
+SELECT DISTINCT account || CASE WHEN cost_center = '' THEN '' ELSE '/' || cost_center END,
+       account, cost_center, 'account_cost_center'
+FROM gl_lines
+WHERE NOT EXISTS (SELECT 1 FROM analysis_runs);
+
+DROP VIEW cost_series;
+-- The lines are summed in two parts that cannot overflow, as schema 12 does
+-- (see 0012_exact_cost_totals.sql): amount_minor is the exact total, or
+-- NULL where it lies beyond an integer; amount is there on every row.
+CREATE VIEW cost_series AS
+WITH parts AS (
+    SELECT period, account, cost_center,
+           SUM(amount_minor / 1000000000) AS billions,
+           SUM(amount_minor % 1000000000) AS rest,
+           TOTAL(amount_minor) AS approx
+    FROM gl_lines GROUP BY period, account, cost_center
+), object_parts AS (
+    -- At account grain an object is the account over all its cost centres.
+    SELECT o.object, p.period, SUM(p.billions) AS billions, SUM(p.rest) AS rest, TOTAL(p.approx) AS approx
+    FROM scope_objects o
+    JOIN parts p ON p.account = o.account AND (o.grain = 'account' OR p.cost_center = o.cost_center)
+    GROUP BY o.object, p.period
+), carried AS (
+    SELECT object, period, approx,
+           billions + rest / 1000000000 AS billions, rest % 1000000000 AS rest
+    FROM object_parts
+), aligned AS (
+    SELECT object, period, approx,
+           billions - (billions > 0 AND rest < 0) + (billions < 0 AND rest > 0) AS billions,
+           rest + 1000000000 * ((billions > 0 AND rest < 0) - (billions < 0 AND rest > 0)) AS rest
+    FROM carried
+), cost AS (
+    SELECT object, period, approx,
+           CASE WHEN typeof(billions * 1000000000 + rest) = 'integer' THEN billions * 1000000000 + rest END AS amount_minor
+    FROM aligned
+), ledger_periods AS (
+    -- A period in which the ledger has no postings at all is unknown to the
+    -- analysis, not zero: it has no row.
+    SELECT DISTINCT period FROM gl_lines
+)
+SELECT lp.period,
+       o.account,
+       o.cost_center,
+       CASE WHEN c.object IS NULL THEN 0 ELSE c.amount_minor END AS amount_minor,
+       COALESCE(c.amount_minor, c.approx, 0) / CAST((SELECT value FROM store_meta WHERE key = 'minor_per_unit') AS REAL) AS amount,
+       o.object
+FROM scope_objects o
+CROSS JOIN ledger_periods lp
+LEFT JOIN cost c ON c.object = o.object AND c.period = lp.period;
+
+-- Each driver's value per period and cost centre ('' company-wide), summed
+-- over the sources that report it.
+CREATE VIEW driver_series AS
+SELECT period, driver, cost_center, SUM(value) AS value, MAX(unit) AS unit
+FROM activity GROUP BY period, driver, cost_center;
+
+-- cost_series beside each driver's value in the same period (the cost
+-- centre's own series, else the company-wide one): one row per object,
+-- period and driver, so a sum over it counts each cost once per driver;
+-- filter on one driver.
+CREATE VIEW cost_with_drivers AS
+SELECT c.period, c.account, c.cost_center, c.amount_minor, c.amount, c.object,
+       d.driver,
+       COALESCE(own.value, company.value) AS driver_value,
+       COALESCE(own.unit, company.unit) AS driver_unit
+FROM cost_series c
+CROSS JOIN (SELECT DISTINCT driver FROM activity) d
+LEFT JOIN driver_series own
+       ON own.period = c.period AND own.driver = d.driver AND own.cost_center = c.cost_center AND c.cost_center <> ''
+LEFT JOIN driver_series company
+       ON company.period = c.period AND company.driver = d.driver AND company.cost_center = '';
