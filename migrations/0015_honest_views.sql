@@ -94,3 +94,54 @@ LEFT JOIN driver_series own
        ON own.period = c.period AND own.driver = d.driver AND own.cost_center = c.cost_center AND c.cost_center <> ''
 LEFT JOIN driver_series company
        ON company.period = c.period AND company.driver = d.driver AND company.cost_center = '';
+
+-- The budget and variance views give money as the rest of the store does:
+-- in currency units with the currency's decimals (store_meta
+-- minor_per_unit), not the unrounded floats the formulas give; the tables
+-- budget_lines and variance_lines keep those. SQLite's round() rounds half
+-- away from zero. A variance is the difference of the rounded figures, so
+-- that spending + activity variance = actual - static budget to the cent
+-- on every line, and its mark is the mark of that difference.
+DROP VIEW flexible_budget;
+CREATE VIEW flexible_budget AS
+WITH m AS (SELECT CAST(value AS REAL) AS minor FROM store_meta WHERE key = 'minor_per_unit')
+SELECT b.plan, b.period, b.line, b.object, b.account,
+       COALESCE((SELECT a.name FROM accounts a WHERE a.account = b.account AND a.name <> '' ORDER BY a.source LIMIT 1), '') AS account_name,
+       b.cost_center, b.class, b.driver, b.activity, b.driver2, b.activity2, b.objects,
+       round(b.budget * m.minor) / m.minor AS budget,
+       round(b.low80 * m.minor) / m.minor AS low80,
+       round(b.high80 * m.minor) / m.minor AS high80,
+       round(b.low95 * m.minor) / m.minor AS low95,
+       round(b.high95 * m.minor) / m.minor AS high95,
+       b.warning, b.computed_at
+FROM budget_lines b, m
+ORDER BY b.plan, b.period, CASE b.line WHEN 'object' THEN 0 WHEN 'cost_center' THEN 1 ELSE 2 END, b.cost_center, b.account;
+
+DROP VIEW spending_variances;
+CREATE VIEW spending_variances AS
+WITH m AS (SELECT CAST(value AS REAL) AS minor FROM store_meta WHERE key = 'minor_per_unit'),
+scaled AS (
+    SELECT v.*, m.minor,
+           round(v.actual * m.minor) AS actual_m,
+           round(v.flexible_budget * m.minor) AS flexible_m,
+           round(v.static_budget * m.minor) AS static_m
+    FROM variance_lines v, m
+), figures AS (
+    SELECT scaled.*, actual_m - flexible_m AS spending_m, flexible_m - static_m AS activity_m
+    FROM scaled
+)
+SELECT v.period, v.plan, v.line, v.object, v.account,
+       COALESCE((SELECT a.name FROM accounts a WHERE a.account = v.account AND a.name <> '' ORDER BY a.source LIMIT 1), '') AS account_name,
+       v.cost_center, v.class, v.driver, v.actual_activity, v.planned_activity, v.objects,
+       v.actual_m / v.minor AS actual,
+       v.flexible_m / v.minor AS flexible_budget,
+       round(v.low95 * v.minor) / v.minor AS low95,
+       round(v.high95 * v.minor) / v.minor AS high95,
+       v.spending_m / v.minor AS spending_variance,
+       CASE WHEN v.spending_m > 0 THEN 'U' WHEN v.spending_m < 0 THEN 'F' ELSE '' END AS spending_mark,
+       v.static_m / v.minor AS static_budget,
+       v.activity_m / v.minor AS activity_variance,
+       CASE WHEN v.activity_m > 0 THEN 'U' WHEN v.activity_m < 0 THEN 'F' ELSE '' END AS activity_mark,
+       v.outside95, v.warning, v.computed_at
+FROM figures v
+ORDER BY v.period, v.plan, CASE v.line WHEN 'object' THEN 0 WHEN 'cost_center' THEN 1 ELSE 2 END, v.cost_center, v.account;
