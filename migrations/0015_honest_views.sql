@@ -118,6 +118,47 @@ FROM budget_lines b, m
 ORDER BY b.plan, b.period, CASE b.line WHEN 'object' THEN 0 WHEN 'cost_center' THEN 1 ELSE 2 END, b.cost_center, b.account;
 
 DROP VIEW spending_variances;
+
+-- A variance report is kept only when saved under a name (`costdrift
+-- variance --save NAME`), and a report saved again under the same name
+-- replaces it: the name joins the key. A report kept before is named after
+-- its period and plan, as it was found: "2026-06", or "2026-06 plan-2026-q2".
+CREATE TABLE variance_lines_named (
+    name               TEXT NOT NULL,        -- the name it was saved under
+    period             TEXT NOT NULL,
+    plan               TEXT NOT NULL,        -- the plan file's name, '' without one
+    line               TEXT NOT NULL CHECK (line IN ('object', 'cost_center', 'total')),
+    object             TEXT NOT NULL,
+    account            TEXT NOT NULL,
+    cost_center        TEXT NOT NULL,
+    class              TEXT,
+    driver             TEXT,
+    actual_activity    REAL,
+    planned_activity   REAL,
+    objects            INTEGER NOT NULL,
+    actual             REAL NOT NULL,
+    flexible_budget    REAL,
+    low95              REAL,
+    high95             REAL,
+    static_budget      REAL,
+    spending_variance  REAL,
+    spending_mark      TEXT NOT NULL DEFAULT '' CHECK (spending_mark IN ('', 'F', 'U')),
+    activity_variance  REAL,
+    activity_mark      TEXT NOT NULL DEFAULT '' CHECK (activity_mark IN ('', 'F', 'U')),
+    outside95          INTEGER NOT NULL DEFAULT 0,
+    warning            TEXT NOT NULL DEFAULT '',
+    computed_at        TEXT NOT NULL,
+    PRIMARY KEY (name, line, object, cost_center)
+);
+INSERT INTO variance_lines_named
+SELECT CASE WHEN plan = '' THEN period ELSE period || ' ' || plan END,
+       period, plan, line, object, account, cost_center, class, driver, actual_activity, planned_activity, objects,
+       actual, flexible_budget, low95, high95, static_budget, spending_variance, spending_mark,
+       activity_variance, activity_mark, outside95, warning, computed_at
+FROM variance_lines;
+DROP TABLE variance_lines;
+ALTER TABLE variance_lines_named RENAME TO variance_lines;
+
 CREATE VIEW spending_variances AS
 WITH m AS (SELECT CAST(value AS REAL) AS minor FROM store_meta WHERE key = 'minor_per_unit'),
 scaled AS (
@@ -142,6 +183,6 @@ SELECT v.period, v.plan, v.line, v.object, v.account,
        v.static_m / v.minor AS static_budget,
        v.activity_m / v.minor AS activity_variance,
        CASE WHEN v.activity_m > 0 THEN 'U' WHEN v.activity_m < 0 THEN 'F' ELSE '' END AS activity_mark,
-       v.outside95, v.warning, v.computed_at
+       v.outside95, v.warning, v.computed_at, v.name
 FROM figures v
-ORDER BY v.period, v.plan, CASE v.line WHEN 'object' THEN 0 WHEN 'cost_center' THEN 1 ELSE 2 END, v.cost_center, v.account;
+ORDER BY v.period, v.plan, v.name, CASE v.line WHEN 'object' THEN 0 WHEN 'cost_center' THEN 1 ELSE 2 END, v.cost_center, v.account;

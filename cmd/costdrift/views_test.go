@@ -119,3 +119,105 @@ func TestCostSeriesIsTheAnalysedSeries(t *testing.T) {
 	}
 
 }
+
+// A budget or variance report is kept only when saved under a name, and
+// saving again under the same name replaces it (README "Budgets and
+// variances"); a trial run leaves the store as it was.
+func TestBudgetAndVarianceKeptOnlyWhenSaved(t *testing.T) {
+	dir := t.TempDir()
+	mustRun(t, "demo", "--dir", dir)
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	store := filepath.Join(dir, "costdrift.db")
+	q3 := filepath.Join(dir, "plans", "plan-2026-q3.csv")
+	q2 := filepath.Join(dir, "plans", "plan-2026-q2.csv")
+	stored := func() string {
+		t.Helper()
+		db, err := sql.Open("sqlite3", "file:"+store+"?mode=ro")
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer db.Close()
+		var s string
+		if err := db.QueryRow(`SELECT
+			(SELECT COUNT(*) || ' ' || COALESCE(group_concat(plan || '|' || period || '|' || line || '|' || object || '|' || cost_center || '|' || computed_at, ';'), '') FROM budget_lines) || ' / ' ||
+			(SELECT COUNT(*) || ' ' || COALESCE(group_concat(plan || '|' || period || '|' || driver || '|' || loaded_at, ';'), '') FROM plans) || ' / ' ||
+			(SELECT COUNT(*) || ' ' || COALESCE(group_concat(name || '|' || period || '|' || line || '|' || object || '|' || computed_at, ';'), '') FROM variance_lines)`).Scan(&s); err != nil {
+			t.Fatal(err)
+		}
+		return s
+	}
+
+	// The demo keeps its budget and its variance report, for the queries it prints.
+	demoLines := count(t, store, `SELECT COUNT(*) FROM budget_lines WHERE plan = 'plan-2026-q3'`)
+	if demoLines != 3*(13+3+1) || count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06' AND period = '2026-06'`) != 13+3+1 {
+		t.Fatalf("the demo kept %d budget lines under plan-2026-q3 (want 51) and %d variance lines under 2026-06 (want 17)", demoLines,
+			count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06'`))
+	}
+
+	// Trial runs: a plan file of a name not stored yet, a period with no
+	// report kept.
+	trial := filepath.Join(t.TempDir(), "trial.csv")
+	b, err := os.ReadFile(q3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(trial, b, 0o600); err != nil {
+		t.Fatal(err)
+	}
+	before := stored()
+	out := mustRun(t, "--config", cfg, "budget", "--plan", trial)
+	if !strings.Contains(out, "budget: a trial run, not kept in the store (--save NAME keeps it)") {
+		t.Errorf("a budget without --save does not say it was not kept:\n%s", out)
+	}
+	mustRun(t, "--config", cfg, "budget", "--plan", trial, "--format", "json")
+	mustRun(t, "--config", cfg, "variance", "--period", "2026-05", "--plan", q2)
+	mustRun(t, "--config", cfg, "variance", "--period", "2026-04")
+	if after := stored(); after != before {
+		t.Errorf("runs without --save changed the store:\n before %.300s\n after  %.300s", before, after)
+	}
+
+	out = mustRun(t, "--config", cfg, "budget", "--plan", q3, "--save", "draft")
+	if !strings.Contains(out, "budget: kept in the store under the name draft (view flexible_budget)") {
+		t.Errorf("budget --save draft does not say so:\n%s", out)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM flexible_budget WHERE plan = 'draft'`); n != demoLines {
+		t.Errorf("%d budget lines under draft, want %d", n, demoLines)
+	}
+	if got, want := count(t, store, `SELECT COUNT(*) FROM plans WHERE plan = 'draft'`),
+		count(t, store, `SELECT COUNT(*) FROM plans WHERE plan = 'plan-2026-q3'`); got != want || got == 0 {
+		t.Errorf("%d planned values under draft, want %d", got, want)
+	}
+	// Saved again under the same name, the second plan replaces the first.
+	mustRun(t, "--config", cfg, "budget", "--plan", q2, "--save", "draft")
+	if n := count(t, store, `SELECT COUNT(*) FROM budget_lines WHERE plan = 'draft' AND period NOT BETWEEN '2026-04' AND '2026-06'`); n != 0 {
+		t.Errorf("%d lines of the first draft are left", n)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM budget_lines WHERE plan = 'draft'`); n != demoLines {
+		t.Errorf("%d lines under draft after saving the second plan, want %d (13 objects, 3 cost centres and the total for 3 months)", n, demoLines)
+	}
+	if got, want := count(t, store, `SELECT COUNT(*) FROM plans WHERE plan = 'draft' AND location LIKE 'plan-2026-q2.csv:%'`),
+		count(t, store, `SELECT COUNT(*) FROM plans WHERE plan = 'draft'`); got != want || got == 0 {
+		t.Errorf("%d of the %d planned values under draft come from plan-2026-q2.csv", got, want)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM budget_lines WHERE plan = 'plan-2026-q3'`); n != demoLines {
+		t.Errorf("saving draft changed the budget saved as plan-2026-q3: %d lines", n)
+	}
+
+	mustRun(t, "--config", cfg, "variance", "--period", "2026-06", "--save", "review")
+	if n := count(t, store, `SELECT COUNT(*) FROM spending_variances WHERE name = 'review' AND period = '2026-06' AND plan = ''`); n != 13+3+1 {
+		t.Errorf("%d variance lines saved as review, want 17", n)
+	}
+	mustRun(t, "--config", cfg, "variance", "--period", "2026-05", "--plan", q2, "--save", "review")
+	if got := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review' AND period = '2026-05' AND plan = 'plan-2026-q2'`); got != 13+3+1 ||
+		count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review'`) != got {
+		t.Errorf("review saved again for 2026-05: %d lines of 2026-05, %d in all, want 17 and 17", got,
+			count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review'`))
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06'`); n != 13+3+1 {
+		t.Errorf("saving review changed the report saved as 2026-06: %d lines", n)
+	}
+
+	if _, err := run(t, "--config", cfg, "budget", "--plan", q3, "--save", ""); err == nil || !strings.Contains(err.Error(), "--save needs a name") {
+		t.Errorf("budget --save with an empty name: %v", err)
+	}
+}

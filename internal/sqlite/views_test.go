@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/migrations"
 )
 
 // TestBudgetViewsRoundMoney: flexible_budget and spending_variances give
@@ -47,7 +48,7 @@ func TestBudgetViewsRoundMoney(t *testing.T) {
 			if got := dump(t, tc.db, `SELECT budget, low80, high80, low95, high95 FROM flexible_budget`); got != tc.want {
 				t.Errorf("flexible_budget:\n got  %s want %s", got, tc.want)
 			}
-			if err := tc.db.SaveVariances(ctx, "2026-06", "", nil, []costdrift.VarianceLine{variance}, tc.db.Now()); err != nil {
+			if err := tc.db.SaveVariances(ctx, "june", "2026-06", "", []costdrift.VarianceLine{variance}, tc.db.Now()); err != nil {
 				t.Fatal(err)
 			}
 			if got := dump(t, tc.db, `SELECT actual, flexible_budget, low95, high95, static_budget, spending_variance, spending_mark,
@@ -55,5 +56,42 @@ func TestBudgetViewsRoundMoney(t *testing.T) {
 				t.Errorf("spending_variances:\n got  %s want %s", got, tc.wantV)
 			}
 		})
+	}
+}
+
+// TestSavedNamesKeepEarlierResults: budgets and variance reports stored
+// before results were saved under a name stay. A budget keeps its plan's
+// name as its name; a variance report is named after its period and plan.
+func TestSavedNamesKeepEarlierResults(t *testing.T) {
+	ms, err := loadMigrations(migrations.FS)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var before []migration
+	for _, m := range ms {
+		if m.version < 15 {
+			before = append(before, m)
+		}
+	}
+	db := bareDB(t)
+	ctx := context.Background()
+	if err := db.applyMigrations(ctx, before); err != nil {
+		t.Fatal(err)
+	}
+	mustExec(t, db, `INSERT INTO budget_lines (plan, period, line, object, account, cost_center, objects, budget, computed_at)
+		VALUES ('plan-2026-q3', '2026-07', 'total', '', '', '', 13, 80123.456, '2026-06-30T08:00:00Z')`)
+	mustExec(t, db, `INSERT INTO variance_lines (period, plan, line, object, account, cost_center, objects, actual, spending_variance, spending_mark, computed_at)
+		VALUES ('2026-06', '', 'total', '', '', '', 13, 79000.5, -12.25, 'F', '2026-07-02T08:00:00Z'),
+		       ('2026-06', 'plan-2026-q2', 'total', '', '', '', 13, 79000.5, -12.25, 'F', '2026-07-02T08:00:00Z')`)
+	if err := db.applyMigrations(ctx, ms); err != nil {
+		t.Fatal(err)
+	}
+	if got := dump(t, db, `SELECT plan, period, line, budget FROM budget_lines`); got != `"plan-2026-q3"|"2026-07"|"total"|float64:80123.456`+"\n" {
+		t.Errorf("budget_lines after the migration:\n%s", got)
+	}
+	if got, want := dump(t, db, `SELECT name, period, plan, actual, spending_variance, spending_mark FROM variance_lines ORDER BY name`),
+		`"2026-06"|"2026-06"|""|float64:79000.5|float64:-12.25|"F"`+"\n"+
+			`"2026-06 plan-2026-q2"|"2026-06"|"plan-2026-q2"|float64:79000.5|float64:-12.25|"F"`+"\n"; got != want {
+		t.Errorf("variance_lines after the migration:\n%s\nwant\n%s", got, want)
 	}
 }
