@@ -6,6 +6,10 @@
 -- postings in it, README "The method"), and accounts outside the analysis
 -- were there. It now holds one row per cost object and period as the latest
 -- analysis sees them; the driver values have views of their own.
+--
+-- flexible_budget and spending_variances gave the formulas' unrounded
+-- floats; they now give money with the currency's decimals. A variance
+-- report is kept under the name it was saved with (variance_lines.name).
 
 -- Each cost object in scope: the objects analysed with the account scope
 -- and grain of the latest analysis (a view cannot read the config, and the
