@@ -55,10 +55,10 @@ func (o *outputFlags) write(out io.Writer, render func(io.Writer) error) error {
 }
 
 func (a *app) budgetCommand() *cobra.Command {
-	var planPath string
+	var planPath, save string
 	var out outputFlags
 	cmd := &cobra.Command{
-		Use:   "budget --plan FILE",
+		Use:   "budget --plan FILE [--save NAME]",
 		Short: "Budget each cost from its formula at the planned activity, with prediction intervals",
 		Long: `budget reads planned activity per period (a CSV or XLSX file with the columns
 period, driver, value and optionally cost_center, or period and one column per
@@ -69,8 +69,10 @@ cost centre and overall add the objects' variances, assuming their deviations
 are independent. A driver with a lag takes the period before from the plan or,
 failing that, from the actual activity in the store.
 
-The plan and the budget are kept in the store (tables plans and budget_lines,
-view flexible_budget); budget writes nothing else, so it runs beside a daemon.`,
+Without --save, budget is a trial run and writes nothing. With --save NAME the
+plan and the budget are kept in the store under NAME (tables plans and
+budget_lines, view flexible_budget), replacing what was saved under NAME
+before; budget writes nothing else, so it runs beside a daemon.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if planPath == "" {
@@ -79,21 +81,25 @@ view flexible_budget); budget writes nothing else, so it runs beside a daemon.`,
 			if err := out.check(); err != nil {
 				return err
 			}
+			if err := checkSaveName(cmd, save); err != nil {
+				return err
+			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				return a.budget(cmd.Context(), e, db, planPath, out)
+				return a.budget(cmd.Context(), e, db, planPath, save, out)
 			})
 		},
 	}
 	cmd.Flags().StringVar(&planPath, "plan", "", "planned activity, CSV or XLSX")
+	cmd.Flags().StringVar(&save, "save", "", "keep the budget in the store under this name, replacing one saved under it before")
 	out.add(cmd)
 	return cmd
 }
 
 func (a *app) varianceCommand() *cobra.Command {
-	var period, planPath string
+	var period, planPath, save string
 	var out outputFlags
 	cmd := &cobra.Command{
-		Use:   "variance --period P [--plan FILE]",
+		Use:   "variance --period P [--plan FILE] [--save NAME]",
 		Short: "Compare a closed period's actual costs with the flexible budget (and a plan's static budget)",
 		Long: `variance compares each cost object's actual cost in a closed period with its
 flexible budget, the formula in force in that period at the actual activity:
@@ -103,8 +109,10 @@ interval. With --plan, the formula at the planned activity is the static
 budget: activity variance = flexible − static budget, so that the two
 variances add up to actual − static budget.
 
-The report is kept in the store (table variance_lines, view
-spending_variances); variance writes nothing else, so it runs beside a daemon.`,
+Without --save, variance writes nothing. With --save NAME the report is kept
+in the store under NAME (table variance_lines, view spending_variances),
+replacing what was saved under NAME before; variance writes nothing else, so
+it runs beside a daemon.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if period == "" {
@@ -113,15 +121,42 @@ spending_variances); variance writes nothing else, so it runs beside a daemon.`,
 			if err := out.check(); err != nil {
 				return err
 			}
+			if err := checkSaveName(cmd, save); err != nil {
+				return err
+			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				return a.variance(cmd.Context(), e, db, period, planPath, out)
+				return a.variance(cmd.Context(), e, db, period, planPath, save, out)
 			})
 		},
 	}
 	cmd.Flags().StringVar(&period, "period", "", "the closed period to report on")
 	cmd.Flags().StringVar(&planPath, "plan", "", "planned activity, CSV or XLSX: adds the static budget and the activity variance")
+	cmd.Flags().StringVar(&save, "save", "", "keep the report in the store under this name, replacing one saved under it before")
 	out.add(cmd)
 	return cmd
+}
+
+// checkSaveName refuses a --save given without a name, which would
+// otherwise be a trial run that the user meant to keep.
+func checkSaveName(cmd *cobra.Command, save string) error {
+	if cmd.Flags().Changed("save") && strings.TrimSpace(save) == "" {
+		return errors.New("--save needs a name to keep the result under, such as --save q3-draft")
+	}
+	return nil
+}
+
+// savedNote says on standard error, under a table (a person reads it),
+// whether a budget or variance report was kept and under which name; CSV,
+// JSON and XLSX, which programs read, come without it.
+func (a *app) savedNote(what, save, view string, out outputFlags) {
+	if out.format != "table" {
+		return
+	}
+	if save == "" {
+		fmt.Fprintf(a.errw, "%s: a trial run, not kept in the store (--save NAME keeps it)\n", what)
+		return
+	}
+	fmt.Fprintf(a.errw, "%s: kept in the store under the name %s (view %s)\n", what, report.TerminalText(save), view)
 }
 
 // writeXLSX writes cells to one sheet of a new workbook, with the notes and
@@ -155,13 +190,15 @@ func writeXLSX(w io.Writer, sheet string, cells [][]any) error {
 	return err
 }
 
-// budget budgets a plan and writes it in the chosen format.
-func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPath string, out outputFlags) error {
-	res, err := pipeline.Budget(ctx, e, db, planPath)
+// budget budgets a plan, keeps it under the name save unless that is "",
+// and writes it in the chosen format.
+func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPath, save string, out outputFlags) error {
+	res, err := pipeline.Budget(ctx, e, db, planPath, save)
 	if err != nil {
 		return err
 	}
 	rows := report.BudgetRows(res.Lines, res.Names)
+	defer a.savedNote("budget", save, "flexible_budget", out)
 	return out.write(a.out, func(w io.Writer) error {
 		switch out.format {
 		case "json":
@@ -175,10 +212,11 @@ func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPa
 	})
 }
 
-// variance reports a closed period's variances in the chosen format; the
-// objects left out are said on standard error.
-func (a *app) variance(ctx context.Context, e *pipeline.Env, db *sqlite.DB, period, planPath string, out outputFlags) error {
-	res, err := pipeline.Variance(ctx, e, db, period, planPath)
+// variance reports a closed period's variances, keeps them under the name
+// save unless that is "", and writes them in the chosen format; the objects
+// left out are said on standard error.
+func (a *app) variance(ctx context.Context, e *pipeline.Env, db *sqlite.DB, period, planPath, save string, out outputFlags) error {
+	res, err := pipeline.Variance(ctx, e, db, period, planPath, save)
 	for _, note := range res.LeftOut {
 		fmt.Fprintln(a.errw, "variance: "+report.TerminalText(note))
 	}
@@ -186,6 +224,7 @@ func (a *app) variance(ctx context.Context, e *pipeline.Env, db *sqlite.DB, peri
 		return err
 	}
 	rows := report.VarianceRows(res.Lines, res.Names)
+	defer a.savedNote("variance", save, "spending_variances", out)
 	return out.write(a.out, func(w io.Writer) error {
 		switch out.format {
 		case "json":

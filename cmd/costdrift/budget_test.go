@@ -66,7 +66,7 @@ func TestBudgetOfTheDemoPlan(t *testing.T) {
 	cfg := filepath.Join(dir, "costdrift.yaml")
 	plan := filepath.Join(dir, "plans", "plan-2026-q3.csv")
 	var rows []report.BudgetRow
-	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "budget", "--plan", plan, "--format", "json")), &rows); err != nil {
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "budget", "--plan", plan, "--format", "json", "--save", "plan-2026-q3")), &rows); err != nil {
 		t.Fatal(err)
 	}
 	// 13 objects, 3 cost centres and a total, for 3 months.
@@ -228,7 +228,7 @@ func TestVarianceOfTheDemoMonth(t *testing.T) {
 	cfg := filepath.Join(dir, "costdrift.yaml")
 	plan := filepath.Join(dir, "plans", "plan-2026-q2.csv")
 	var rows []report.VarianceRow
-	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "variance", "--period", "2026-06", "--plan", plan, "--format", "json")), &rows); err != nil {
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "variance", "--period", "2026-06", "--plan", plan, "--format", "json", "--save", "2026-06")), &rows); err != nil {
 		t.Fatal(err)
 	}
 	if len(rows) != 13+3+1 {

@@ -8,6 +8,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -112,13 +113,17 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		return err
 	}
 
+	// The budget and the variance report are kept under the plan's and the
+	// period's names, for the queries printed below.
 	next, closed := filepath.Join(dir, files.PlanNext), filepath.Join(dir, files.PlanClosed)
-	fmt.Fprintf(a.out, "\nThe company's plan for the next quarter, budgeted with the formulas (costdrift budget --plan %s):\n\n", next)
-	if err := a.budget(ctx, e, db, next, outputFlags{format: "table"}); err != nil {
+	nextName := strings.TrimSuffix(filepath.Base(next), filepath.Ext(next))
+	fmt.Fprintf(a.out, "\nThe company's plan for the next quarter, budgeted with the formulas (costdrift budget --plan %s --save %s):\n\n", next, nextName)
+	if err := a.budget(ctx, e, db, next, nextName, outputFlags{format: "table"}); err != nil {
 		return err
 	}
-	fmt.Fprintf(a.out, "\n%s against its flexible budget and the quarter's plan (costdrift variance --period %s --plan %s):\n\n", run.WindowTo, run.WindowTo, closed)
-	if err := a.variance(ctx, e, db, run.WindowTo, closed, outputFlags{format: "table"}); err != nil {
+	fmt.Fprintf(a.out, "\n%s against its flexible budget and the quarter's plan (costdrift variance --period %s --plan %s --save %s):\n\n",
+		run.WindowTo, run.WindowTo, closed, run.WindowTo)
+	if err := a.variance(ctx, e, db, run.WindowTo, closed, run.WindowTo, outputFlags{format: "table"}); err != nil {
 		return err
 	}
 	if e.Config.Mail.SMTP.Host == "" {
@@ -128,7 +133,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	fmt.Fprintf(a.out, "\nThe store is %s. Query it with sqlite3, for example:\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT object, class, driver, round(fixed_per_period, 2) AS fixed, round(variable_rate, 4) AS rate, round(r2, 3) AS r2 FROM current_behaviour\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())
-	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_series WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
+	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_with_drivers WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, cost_center, round(budget) AS budget, round(low95) AS low95, round(high95) AS high95 FROM flexible_budget WHERE line <> 'object'\"\n", db.Path())
 	return nil
 }

@@ -228,7 +228,7 @@ func TestDaemon(t *testing.T) {
 		// They take no lock: budget writes only its own tables.
 		plan := filepath.Join(dir, "plan.csv")
 		writeFile(t, plan, "period,driver,value\n2026-02,frames_built,120\n")
-		for _, args := range [][]string{{"budget", "--plan", plan, "--format", "json"}, {"status"}} {
+		for _, args := range [][]string{{"budget", "--plan", plan, "--format", "json", "--save", "plan"}, {"status"}} {
 			out, err := command(append([]string{"--config", cfg}, args...)...).CombinedOutput()
 			if err != nil {
 				t.Errorf("costdrift %s beside the daemon: %v\n%s", strings.Join(args, " "), err, out)

@@ -24,10 +24,11 @@ type BudgetResult struct {
 }
 
 // Budget budgets every current formula in scope at the planned activity
-// of the plan file at planPath, and keeps the plan and the budget in the
-// store (plans, budget_lines): nothing else is written, so it runs beside
-// a daemon.
-func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath string) (BudgetResult, error) {
+// of the plan file at planPath. With a name to save it under (save not
+// ""), it keeps the plan and the budget in the store (plans, budget_lines),
+// replacing what was saved under that name; nothing else is written, so it
+// runs beside a daemon. Without one it is a trial run and writes nothing.
+func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (BudgetResult, error) {
 	actual, known, err := storedActivity(ctx, db)
 	if err != nil {
 		return BudgetResult{}, err
@@ -50,8 +51,10 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath string) (Budget
 	lines := budget.Flexible(bs, plan.periods(), activityLookup(actual, plan.activityIndex, actual), e.Calendar.Shift)
 	lines = append(lines, budget.Totals(lines)...)
 	lines = orderBudget(lines)
-	if err := db.SaveBudget(ctx, plan.name, plan.values, lines, e.Now()); err != nil {
-		return BudgetResult{}, fmt.Errorf("budget: store: %w", err)
+	if save != "" {
+		if err := db.SaveBudget(ctx, save, plan.values, lines, e.Now()); err != nil {
+			return BudgetResult{}, fmt.Errorf("budget: store: %w", err)
+		}
 	}
 	names, err := db.AccountNames(ctx)
 	if err != nil {
@@ -85,9 +88,11 @@ type VarianceResult struct {
 
 // Variance compares each object's actual cost in a closed period with its
 // flexible budget and, with a plan (planPath not ""), the plan's static
-// budget, and keeps the report in the store (variance_lines): nothing else
-// is written, so it runs beside a daemon.
-func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath string) (VarianceResult, error) {
+// budget. With a name to save it under (save not ""), it keeps the report
+// in the store (variance_lines), replacing what was saved under that name;
+// nothing else is written, so it runs beside a daemon. Without one it
+// writes nothing.
+func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath, save string) (VarianceResult, error) {
 	res := VarianceResult{Period: period}
 	if _, err := e.Calendar.Parse(period); err != nil {
 		return res, fmt.Errorf("--period %q: %w", period, err)
@@ -150,12 +155,13 @@ func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath strin
 	}
 	lines = append(lines, budget.VarianceTotals(lines)...)
 	planName := ""
-	var planValues []costdrift.ActivityValue
 	if plan != nil {
-		planName, planValues = plan.name, plan.values
+		planName = plan.name
 	}
-	if err := db.SaveVariances(ctx, period, planName, planValues, lines, e.Now()); err != nil {
-		return res, fmt.Errorf("variance: store: %w", err)
+	if save != "" {
+		if err := db.SaveVariances(ctx, save, period, planName, lines, e.Now()); err != nil {
+			return res, fmt.Errorf("variance: store: %w", err)
+		}
 	}
 	names, err := db.AccountNames(ctx)
 	if err != nil {

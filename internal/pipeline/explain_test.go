@@ -62,7 +62,7 @@ func TestExplainPointsAndChartLayers(t *testing.T) {
 	t.Run("chart layers", func(t *testing.T) { checkChartLayers(t, cfg, store) })
 }
 
-// checkPoints compares the periods explain charts with the cost_series view
+// checkPoints compares the periods explain charts with the cost_series and cost_with_drivers views
 // read independently: each point's cost is the object's amount in its
 // period, its activity the driver's value lag months before.
 func checkPoints(t *testing.T, cfg, store, object, account, costCenter, driver string, lag, n int) {
@@ -96,9 +96,9 @@ func checkPoints(t *testing.T, cfg, store, object, account, costCenter, driver s
 	for _, p := range pts {
 		month, _ := time.Parse("2006-01", p.Period)
 		before := month.AddDate(0, -lag, 0).Format("2006-01")
-		cost := value(`SELECT amount FROM cost_series WHERE account = ? AND cost_center = ? AND driver = ? AND period = ?`,
-			account, costCenter, driver, p.Period)
-		activity := value(`SELECT driver_value FROM cost_series WHERE account = ? AND cost_center = ? AND driver = ? AND period = ?`,
+		cost := value(`SELECT amount FROM cost_series WHERE account = ? AND cost_center = ? AND period = ?`,
+			account, costCenter, p.Period)
+		activity := value(`SELECT driver_value FROM cost_with_drivers WHERE account = ? AND cost_center = ? AND driver = ? AND period = ?`,
 			account, costCenter, driver, before)
 		if math.Abs(p.Cost-cost) > 0.005 || p.Activity != activity {
 			t.Errorf("%s %s: point (%v, %v), want cost %v beside %s of %s, %v", object, p.Period, p.Activity, p.Cost, cost, driver, before, activity)
@@ -200,7 +200,7 @@ func checkChartLayers(t *testing.T, cfg, store string) {
 	}
 	defer view.Close()
 	var mean float64
-	if err := view.QueryRow(`SELECT AVG(driver_value) FROM cost_series WHERE account = '6500' AND cost_center = 'WELD'
+	if err := view.QueryRow(`SELECT AVG(driver_value) FROM cost_with_drivers WHERE account = '6500' AND cost_center = 'WELD'
 		AND driver = 'orders' AND period BETWEEN '2023-08' AND '2026-06'`).Scan(&mean); err != nil {
 		t.Fatal(err)
 	}

@@ -290,6 +290,10 @@ func seriesData(t *testing.T, db *DB) {
 	}})
 }
 
+// TestCostSeriesView: before any analysis, cost_series holds every account
+// and cost centre of the ledger in every period the ledger has postings
+// (0 where the object has none); cost_with_drivers sets each driver's value
+// beside it.
 func TestCostSeriesView(t *testing.T) {
 	db, _ := mustOpen(t)
 	seriesData(t, db)
@@ -312,11 +316,15 @@ func TestCostSeriesView(t *testing.T) {
 		{"2025-01", "6200", "WELD", 123456, 1234.56, "orders", valid(88), "order"},                // no own orders: company
 		{"2025-01", "6500", "", 250000, 2500, "machine_hours", valid(900), "machine hour"},
 		{"2025-01", "6500", "", 250000, 2500, "orders", valid(88), "order"},
+		{"2025-02", "6200", "PAINT", 0, 0, "machine_hours", valid(850), "machine hour"}, // no postings while the ledger has some: 0
+		{"2025-02", "6200", "PAINT", 0, 0, "orders", sql.NullFloat64{}, ""},
 		{"2025-02", "6200", "WELD", -1001, -10.01, "machine_hours", valid(850), "machine hour"}, // own series has no 2025-02
 		{"2025-02", "6200", "WELD", -1001, -10.01, "orders", sql.NullFloat64{}, ""},             // no value at all: NULL
+		{"2025-02", "6500", "", 0, 0, "machine_hours", valid(850), "machine hour"},
+		{"2025-02", "6500", "", 0, 0, "orders", sql.NullFloat64{}, ""},
 	}
 	rows, err := db.SQL().Query(`SELECT period, account, cost_center, amount_minor, amount, driver, driver_value, COALESCE(driver_unit, '')
-		FROM cost_series ORDER BY period, account, cost_center, driver`)
+		FROM cost_with_drivers ORDER BY period, account, cost_center, driver`)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -334,7 +342,7 @@ func TestCostSeriesView(t *testing.T) {
 	}
 	const tol = 1e-9 // amount is one division of exact integers
 	if len(got) != len(want) {
-		t.Fatalf("cost_series has %d rows, want %d:\n%+v", len(got), len(want), got)
+		t.Fatalf("cost_with_drivers has %d rows, want %d:\n%+v", len(got), len(want), got)
 	}
 	for i := range want {
 		g, w := got[i], want[i]
@@ -355,7 +363,7 @@ func TestCostSeriesAmountInYen(t *testing.T) {
 	db, _ := mustOpenAt(t, filepath.Join(t.TempDir(), "yen.db"), jpy)
 	load(t, db, "gl", costdrift.RoleLedger, batch{lines: []costdrift.LedgerLine{ledgerLine("gl", "E1", 1, "2025-01-15", "6200", "", 15000, "")}})
 	load(t, db, "ops", costdrift.RoleActivity, batch{activity: []costdrift.ActivityValue{activityValue("ops", "2025-01", "orders", "", 3, "")}})
-	if got := dump(t, db, `SELECT amount_minor, amount, driver_value FROM cost_series`); got != "int64:15000|float64:15000|float64:3\n" {
+	if got := dump(t, db, `SELECT amount_minor, amount, driver_value FROM cost_with_drivers`); got != "int64:15000|float64:15000|float64:3\n" {
 		t.Errorf("cost_series in JPY: %s", got)
 	}
 }
