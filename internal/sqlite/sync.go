@@ -187,6 +187,10 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 			}
 		}
 		loadedBefore := run.RowsLoaded
+		rejectsFrom, err := lastRejectID(ctx, tx)
+		if err != nil {
+			return err
+		}
 		w, err := newWriter(ctx, tx, run, modeFile, id)
 		if err != nil {
 			return err
@@ -210,6 +214,9 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 		rows := run.RowsLoaded - loadedBefore
 		if _, err := tx.ExecContext(ctx, `UPDATE source_files SET size = ?, sha256 = ?, rows = ?, loaded_at = ?, sync_run_id = ? WHERE id = ?`,
 			file.Size, file.SHA256, rows, db.now(), run.ID, id); err != nil {
+			return err
+		}
+		if err := recordPeriods(ctx, tx, run, id, rejectsFrom); err != nil {
 			return err
 		}
 		if run.Role == costdrift.RoleLedger {
@@ -312,6 +319,9 @@ func (db *DB) ForgetFile(ctx context.Context, source, path string) (removed, giv
 			return err
 		}
 		givenBack = n
+		if _, err := tx.ExecContext(ctx, `DELETE FROM source_periods WHERE source_file_id = ?`, id); err != nil {
+			return err
+		}
 		_, err = tx.ExecContext(ctx, `DELETE FROM source_files WHERE id = ?`, id)
 		return err
 	})
