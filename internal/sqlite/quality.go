@@ -4,6 +4,7 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
+	"strings"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -69,8 +70,13 @@ func recordPeriods(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, file
 	return nil
 }
 
-// loadRejects counts a load's rejects and finds its most frequent kind of
-// reason, returning the first reason of that kind as written.
+// exactRepeat begins the reason of a row that repeats an earlier row of the
+// same load exactly: it is rejected, but nothing of it is missing.
+const exactRepeat = "duplicate key repeating an earlier row exactly"
+
+// loadRejects counts a load's rejects, but for exact repeats, and finds
+// their most frequent kind of reason, returning the first reason of that
+// kind as written.
 func loadRejects(ctx context.Context, tx *sql.Tx, runID, after int64) (int, string, error) {
 	rows, err := tx.QueryContext(ctx, `SELECT reason FROM rejects WHERE sync_run_id = ? AND id > ? ORDER BY id`, runID, after)
 	if err != nil {
@@ -84,6 +90,9 @@ func loadRejects(ctx context.Context, tx *sql.Tx, runID, after int64) (int, stri
 		var r string
 		if err := rows.Scan(&r); err != nil {
 			return 0, "", err
+		}
+		if strings.HasPrefix(r, exactRepeat) {
+			continue
 		}
 		total++
 		k := ReasonKind(r)

@@ -488,7 +488,7 @@ func (w *writer) store(table string, key, values []any, location string) error {
 		// The key goes in the location, so that reasons group by kind.
 		reason := "duplicate key with different values inside one load; the first row was kept"
 		if sameValues(stored[1:], values) {
-			reason = "duplicate key repeating an earlier row exactly; it was counted once"
+			reason = exactRepeat + "; it was counted once"
 		}
 		location = location + " (key " + keyText(key) + ")"
 		return w.Reject(costdrift.Reject{Source: w.run.Source, Location: location, Reason: reason, Raw: rawText(key, values)})
