@@ -13,7 +13,7 @@ CREATE TABLE source_periods (
     source         TEXT NOT NULL,
     period         TEXT NOT NULL,                 -- '' = unknown: no row of the file was stored
     rows_stored    INTEGER NOT NULL,
-    rows_rejected  INTEGER NOT NULL,
+    rows_rejected  INTEGER NOT NULL,              -- but rows repeating an earlier row exactly: nothing of them is missing
     reason         TEXT NOT NULL DEFAULT '',      -- the file's most frequent reject reason, one example of it
     sync_run_id    INTEGER NOT NULL REFERENCES sync_runs (id),
     PRIMARY KEY (source_file_id, period)
