@@ -62,6 +62,19 @@ func printAnalysis(out io.Writer, res *pipeline.AnalysisResult) {
 	for _, s := range res.Skipped {
 		fmt.Fprintf(out, "analyze: %s skipped: %s\n", report.TerminalText(s.Object), report.TerminalText(s.Err.Error()))
 	}
+	if len(res.HeldBack) > 0 {
+		for _, q := range res.HeldBack {
+			period := q.Period
+			if period == "" {
+				period = "a file rejected whole"
+			}
+			fmt.Fprintf(out, "analyze: source %s, %s: %d of %d rows rejected, most in %s: %s\n", report.TerminalText(q.Source),
+				report.TerminalText(period), q.Rejected, q.Read, report.TerminalText(q.File), report.TerminalText(q.Reason))
+		}
+		fmt.Fprintf(out, "analyze: all %d cost objects held back, each keeps its last analysis, until these periods are clean (costdrift alerts list --kind data_quality; README, When a sync goes wrong)\n",
+			res.Run.Skipped)
+		return
+	}
 	run := res.Run
 	var counts []string
 	for c, n := range res.Classes {

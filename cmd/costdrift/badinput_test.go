@@ -162,8 +162,11 @@ func TestBadInputCorpusAmounts(t *testing.T) {
 		// total and stopped the analysis of every object.
 		{"", corpusCase{"amount beyond the bound", h + good + "O1,1,2026-01-05,6100,WELD,9999999999999999.99,x\n", 1, 1,
 			`bad amount: amount "9999999999999999.99" ` + bound, false}},
+		// Ten of eleven rows rejected: the file is mostly rejected, so the
+		// sync fails, naming it and the reason (README, When a sync goes
+		// wrong); its good row is stored.
 		{"", corpusCase{"ten amounts beyond the bound", h + good + tenHuge.String(), 1, 10,
-			`bad amount: amount "9999999999999999.99" ` + bound, false}},
+			`10 of 11 rows rejected, mostly: bad amount: amount "9999999999999999.99" ` + bound, true}},
 		{thousandsComma, corpusCase{"grouped amount beyond the bound", h + good + "O2,1,2026-01-05,6100,WELD,\"(100,000,000,000,000.00)\",x\n", 1, 1,
 			`bad amount: amount "(100,000,000,000,000.00)" is out of range: costdrift stores at most 99,999,999,999,999.99 EUR either side of zero`, false}},
 		{"", corpusCase{"the largest amount", h + good + "O3,1,2026-01-05,6100,WELD,-99999999999999.99,x\n", 2, 0, "", false}},

@@ -33,9 +33,12 @@ func TestRereadAfterDateFormat(t *testing.T) {
 		"A1,1,15/01/2026,6100,WELD,4200.00\nA1,2,15/01/2026,2000,,-4200.00\n"+
 		"A2,1,05/02/2026,6200,WELD,310.00\nA2,2,05/02/2026,2000,,-310.00\n")
 	store := filepath.Join(dir, "costdrift.db")
-	out := mustRun(t, "--config", cfg, "sync")
-	if !strings.Contains(out, "files: 1 read, 0 unchanged | rows: 4 read, 0 stored, 0 replaced, 4 rejected") {
-		t.Fatalf("first sync:\n%s", out)
+	// Every row rejected: the sync fails, naming the file (README, When a
+	// sync goes wrong).
+	out, err := run(t, "--config", cfg, "sync")
+	if err == nil || !strings.Contains(err.Error(), "4 of 4 rows rejected") ||
+		!strings.Contains(out, "files: 1 read, 0 unchanged | rows: 4 read, 0 stored, 0 replaced, 4 rejected") {
+		t.Fatalf("first sync: %v\n%s", err, out)
 	}
 	want := `bad date "15/01/2026": want YYYY-MM-DD; set date_format (e.g. DD/MM/YYYY)`
 	if n := count(t, store, "SELECT COUNT(*) FROM rejects WHERE reason = '"+strings.ReplaceAll(want, "'", "''")+"'"); n != 2 {
@@ -104,9 +107,9 @@ func TestRereadAfterNotation(t *testing.T) {
 			"A1;1;2026-01-05;6100;WELD;1.234,50\nA1;2;2026-01-05;2000;;-1.234,50\n"+
 			"A2;1;2026-01-09;6200;WELD;310,25\nA2;2;2026-01-09;2000;;-310,25\n")
 		store := filepath.Join(dir, "costdrift.db")
-		out := mustRun(t, "--config", cfg, "sync")
-		if !strings.Contains(out, "rows: 4 read, 0 stored, 0 replaced, 4 rejected") {
-			t.Fatalf("first sync:\n%s", out)
+		out, err := run(t, "--config", cfg, "sync")
+		if err == nil || !strings.Contains(err.Error(), "4 of 4 rows rejected") || !strings.Contains(out, "rows: 4 read, 0 stored, 0 replaced, 4 rejected") {
+			t.Fatalf("first sync: %v\n%s", err, out)
 		}
 		for _, want := range []string{
 			`bad amount: amount "1.234,50" has a ','; declare decimal_comma or thousands_separator for this source (with decimal_comma: true and thousands_separator "." it reads as 1234.50)`,

@@ -9,9 +9,10 @@ import (
 )
 
 // AnalysisKinds are the kinds evaluated after every analysis: behaviour
-// changes, spending, activity range and data gaps.
+// changes, spending, activity range, data gaps, stale sources and data
+// quality.
 var AnalysisKinds = append(append([]costdrift.AlertKind{}, BehaviourKinds...),
-	costdrift.AlertSpendingOutlier, costdrift.AlertOutOfRange, costdrift.AlertDataGap, costdrift.AlertStaleSource)
+	costdrift.AlertSpendingOutlier, costdrift.AlertOutOfRange, costdrift.AlertDataGap, costdrift.AlertStaleSource, costdrift.AlertDataQuality)
 
 // OutOfRangeMargin: activity more than this share beyond the relevant range
 // (of the range's end) puts a formula outside what it was fitted on.

@@ -103,6 +103,9 @@ type Analysis struct {
 	// counts; BootstrapReplicates the resamples of its p-value.
 	BreakAlpha          float64 `mapstructure:"break_alpha"`
 	BootstrapReplicates int     `mapstructure:"bootstrap_replicates"`
+	// MaxRejectedShare is the share of a source's rows in a period that may
+	// be rejected before analysis holds back (README, When a sync goes wrong).
+	MaxRejectedShare float64 `mapstructure:"max_rejected_share"`
 }
 
 // Alerts holds the alert routing.

@@ -74,6 +74,12 @@ type AlertEvidence struct {
 	NewestPeriod        *string `json:"newest_period"`
 	ClosedPeriodsBehind *int    `json:"closed_periods_behind"`
 
+	// data_quality: the rows of a source in a period, those rejected, and
+	// the file with the most rejects (Reason holds its main reason).
+	RowsRead     *int    `json:"rows_read"`
+	RowsRejected *int    `json:"rows_rejected"`
+	File         *string `json:"file"`
+
 	// Other holds the entries no field took, as JSON reads them.
 	Other map[string]any `json:"-"`
 }

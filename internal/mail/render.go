@@ -293,6 +293,9 @@ func evidenceRows(ev costdrift.AlertEvidence) []row {
 		{"last error", value(ev.Error), text},
 		{"newest period", value(ev.NewestPeriod), text},
 		{"closed periods behind", value(ev.ClosedPeriodsBehind), text},
+		{"rows read", value(ev.RowsRead), text},
+		{"rows rejected", value(ev.RowsRejected), text},
+		{"file", value(ev.File), text},
 	} {
 		if e.value == nil {
 			continue

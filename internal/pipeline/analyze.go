@@ -29,6 +29,10 @@ type AnalysisResult struct {
 	// Skipped lists the objects that could not be analysed; each keeps its
 	// previous behaviour and is tried again at the next analysis.
 	Skipped []SkippedObject
+	// HeldBack lists the source periods with too many rows rejected: while
+	// there are any, no object is analysed (Run is then not stored) and only
+	// the rules on sources and data quality are evaluated.
+	HeldBack []alerts.PeriodQuality
 
 	// What the alert rules evaluate after the analysis: every object in
 	// scope (not only those refitted), and the activity read.
@@ -63,6 +67,10 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	if err != nil {
 		return nil, fmt.Errorf("analyze: read activity: %w", err)
 	}
+	if len(activity) == 0 {
+		// Without drivers every cost would be called unexplained.
+		return nil, fmt.Errorf("analyze: the store holds no activity data, so no cost can be explained by a driver; add an activity source (sources.activity in %s) and run costdrift sync", e.Config.File)
+	}
 	minor := int64(1)
 	for range e.Currency.Exponent {
 		minor *= 10
@@ -80,6 +88,19 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	inputs := analyze.InputHashes(&panel, string(settings))
 	total := len(panel.Objects)
 	whole := panel // every object in scope, for the rules on data gaps
+	q, err := quality(ctx, e, db)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	// A rejected row may belong to any object, so a source period with too
+	// many rejects holds every object back: costs or drivers counted from
+	// part of a period would read as a change in behaviour.
+	if held := heldBack(q, cfg.MaxRejectedShare, panel.Periods[0]); len(held) > 0 {
+		return &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: panel.PeriodsWithPostings, HeldBack: held,
+			panel: whole, activity: activity,
+			Run: &costdrift.AnalysisRun{Skipped: total, StartedAt: started, FinishedAt: e.Now(), Grain: costdrift.Grain(cfg.Grain),
+				WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings)}}, nil
+	}
 	if !all {
 		previous, err := db.ObjectInputs(ctx)
 		if err != nil {
@@ -146,6 +167,13 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 // behaviour changes, spending outliers, activity out of range, data gaps
 // and stale ledger sources.
 func Raise(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisResult) (sqlite.AlertChanges, error) {
+	if len(res.HeldBack) > 0 {
+		changes, err := raiseHeldBack(ctx, e, db, res.Run.WindowTo)
+		if err != nil {
+			return changes, fmt.Errorf("analyze: alerts: %w", err)
+		}
+		return changes, nil
+	}
 	changes, err := raiseAnalysisAlerts(ctx, e, db, &res.panel, res.activity, res.Run.WindowTo)
 	if err != nil {
 		return changes, fmt.Errorf("analyze: alerts: %w", err)
@@ -176,7 +204,28 @@ func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, panel *cost
 		return sqlite.AlertChanges{}, err
 	}
 	raised = append(raised, alerts.StaleSource(states)...)
+	q, err := quality(ctx, e, db)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	raised = append(raised, alerts.DataQuality(q, e.Config.Analysis.MaxRejectedShare)...)
 	return db.ApplyAlerts(ctx, raised, alerts.AnalysisKinds, period)
+}
+
+// raiseHeldBack evaluates, for an analysis held back, only the rules that
+// do not read behaviours or the panel: the alerts on objects stay as the
+// last analysis left them, neither raised from partial data nor resolved.
+func raiseHeldBack(ctx context.Context, e *Env, db *sqlite.DB, period string) (sqlite.AlertChanges, error) {
+	states, err := sourceStates(ctx, e, db)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	q, err := quality(ctx, e, db)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	raised := append(alerts.StaleSource(states), alerts.DataQuality(q, e.Config.Analysis.MaxRejectedShare)...)
+	return db.ApplyAlerts(ctx, raised, []costdrift.AlertKind{costdrift.AlertStaleSource, costdrift.AlertDataQuality}, period)
 }
 
 // newestActivity finds, for each behaviour with a driver, the newest value

@@ -50,6 +50,11 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 			return results, err
 		}
 		notes, err := syncSource(ctx, e, db, j.role, j.src, &run)
+		if err == nil && j.role == costdrift.RoleActivity && run.Files > 0 {
+			var warnings []string
+			warnings, err = driverWarnings(ctx, db, j.src.Name)
+			run.Warnings = append(run.Warnings, warnings...)
+		}
 		// Recorded even when ctx was cancelled (a stopping daemon), so that
 		// sync_runs does not claim the run is still going.
 		if ferr := db.FinishSync(context.WithoutCancel(ctx), &run, err); ferr != nil && err == nil {
@@ -72,6 +77,12 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 		}
 		failed = append(failed, fmt.Sprintf("source %s failed: %v", j.src.Name, err))
 	}
+	// A file mostly rejected fails the sync, though its good rows are
+	// stored: the data-quality alert holds the analysis back meanwhile.
+	partial, qerr := mostlyRejected(ctx, db, results)
+	if qerr != nil {
+		partial = append(partial, fmt.Sprintf("reading what the files rejected: %v", qerr))
+	}
 	var alertErr error
 	if err := raiseSourceAlerts(ctx, e, db); err != nil {
 		alertErr = fmt.Errorf("raising source alerts: %w", err)
@@ -84,6 +95,12 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 		err = fmt.Errorf("%d of %d sources failed: %s", len(failed), len(jobs), strings.Join(failed, "; "))
 	}
 	switch {
+	case len(partial) > 0 && err != nil:
+		err = fmt.Errorf("%w; %s", err, strings.Join(partial, "; "))
+	case len(partial) > 0:
+		err = errors.New(strings.Join(partial, "; "))
+	}
+	switch {
 	case err != nil && alertErr != nil:
 		return results, fmt.Errorf("%w; %w", err, alertErr)
 	case alertErr != nil:
@@ -93,13 +110,19 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 }
 
 // raiseSourceAlerts raises source_failure for every source whose latest sync
-// failed, and resolves it for those that synced again.
+// failed, and resolves it for those that synced again; and data_quality for
+// every source period with too many rows rejected.
 func raiseSourceAlerts(ctx context.Context, e *Env, db *sqlite.DB) error {
 	states, err := sourceStates(ctx, e, db)
 	if err != nil {
 		return err
 	}
-	_, err = db.ApplyAlerts(ctx, alerts.SourceFailure(states), []costdrift.AlertKind{costdrift.AlertSourceFailure}, e.Calendar.Period(db.Now()))
+	q, err := quality(ctx, e, db)
+	if err != nil {
+		return err
+	}
+	raised := append(alerts.SourceFailure(states), alerts.DataQuality(q, e.Config.Analysis.MaxRejectedShare)...)
+	_, err = db.ApplyAlerts(ctx, raised, []costdrift.AlertKind{costdrift.AlertSourceFailure, costdrift.AlertDataQuality}, e.Calendar.Period(db.Now()))
 	return err
 }
 

@@ -200,6 +200,10 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 			}
 		}
 		loadedBefore := run.RowsLoaded
+		rejectsFrom, err := lastRejectID(ctx, tx)
+		if err != nil {
+			return err
+		}
 		w, err := newWriter(ctx, tx, run, modeFile, id)
 		if err != nil {
 			return err
@@ -224,6 +228,9 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 		if _, err := tx.ExecContext(ctx, `UPDATE source_files SET size = ?, sha256 = ?, rows = ?, loaded_at = ?, sync_run_id = ?,
 			reading_settings = ? WHERE id = ?`,
 			file.Size, file.SHA256, rows, db.now(), run.ID, nullString(file.Settings), id); err != nil {
+			return err
+		}
+		if err := recordPeriods(ctx, tx, run, id, rejectsFrom); err != nil {
 			return err
 		}
 		if run.Role == costdrift.RoleLedger {
@@ -326,6 +333,9 @@ func (db *DB) ForgetFile(ctx context.Context, source, path string) (removed, giv
 			return err
 		}
 		givenBack = n
+		if _, err := tx.ExecContext(ctx, `DELETE FROM source_periods WHERE source_file_id = ?`, id); err != nil {
+			return err
+		}
 		_, err = tx.ExecContext(ctx, `DELETE FROM source_files WHERE id = ?`, id)
 		return err
 	})
@@ -492,7 +502,7 @@ func (w *writer) store(table string, key, values []any, location string) error {
 		// The key goes in the location, so that reasons group by kind.
 		reason := "duplicate key with different values inside one load; the first row was kept"
 		if sameValues(stored[1:], values) {
-			reason = "duplicate key repeating an earlier row exactly; it was counted once"
+			reason = exactRepeat + "; it was counted once"
 		}
 		location = location + " (key " + keyText(key) + ")"
 		return w.Reject(costdrift.Reject{Source: w.run.Source, Location: location, Reason: reason, Raw: rawText(key, values)})
