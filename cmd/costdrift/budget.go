@@ -199,16 +199,11 @@ func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPa
 	}
 	rows := report.BudgetRows(res.Lines, res.Names)
 	defer a.savedNote("budget", save, "flexible_budget", out)
-	return out.write(a.out, func(w io.Writer) error {
-		switch out.format {
-		case "json":
-			return report.BudgetJSON(w, rows)
-		case "csv":
-			return report.BudgetCSV(w, rows)
-		case "xlsx":
-			return writeXLSX(w, "budget", report.BudgetCells(rows))
-		}
-		return report.BudgetTable(w, rows, e.Currency.Code, res.Plan)
+	return out.render(a.out, formats{sheet: "budget",
+		json:  func(w io.Writer) error { return report.BudgetJSON(w, rows) },
+		csv:   func(w io.Writer) error { return report.BudgetCSV(w, rows) },
+		cells: func() [][]any { return report.BudgetCells(rows) },
+		table: func(w io.Writer) error { return report.BudgetTable(w, rows, e.Currency.Code, res.Plan) },
 	})
 }
 
@@ -225,15 +220,33 @@ func (a *app) variance(ctx context.Context, e *pipeline.Env, db *sqlite.DB, peri
 	}
 	rows := report.VarianceRows(res.Lines, res.Names)
 	defer a.savedNote("variance", save, "spending_variances", out)
-	return out.write(a.out, func(w io.Writer) error {
-		switch out.format {
+	return out.render(a.out, formats{sheet: "variance",
+		json:  func(w io.Writer) error { return report.VarianceJSON(w, rows) },
+		csv:   func(w io.Writer) error { return report.VarianceCSV(w, rows) },
+		cells: func() [][]any { return report.VarianceCells(rows) },
+		table: func(w io.Writer) error { return report.VarianceTable(w, rows, e.Currency.Code, period, res.Plan) },
+	})
+}
+
+// formats is one result rendered in each output format: JSON, CSV, the
+// cells of an XLSX sheet, and the table for a terminal.
+type formats struct {
+	sheet            string
+	json, csv, table func(io.Writer) error
+	cells            func() [][]any
+}
+
+// render writes the result in the chosen format, to --output or to out.
+func (o *outputFlags) render(out io.Writer, f formats) error {
+	return o.write(out, func(w io.Writer) error {
+		switch o.format {
 		case "json":
-			return report.VarianceJSON(w, rows)
+			return f.json(w)
 		case "csv":
-			return report.VarianceCSV(w, rows)
+			return f.csv(w)
 		case "xlsx":
-			return writeXLSX(w, "variance", report.VarianceCells(rows))
+			return writeXLSX(w, f.sheet, f.cells())
 		}
-		return report.VarianceTable(w, rows, e.Currency.Code, period, res.Plan)
+		return f.table(w)
 	})
 }
