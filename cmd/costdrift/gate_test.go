@@ -1,6 +1,7 @@
 package main
 
 import (
+	"database/sql"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -247,5 +248,71 @@ func TestMisspeltDriverIsWarnedAbout(t *testing.T) {
 	}
 	if strings.Contains(out, "driver machine_hours has values") || strings.Contains(out, "driver frames_built") {
 		t.Errorf("sync warns of a driver present in every period:\n%s", out)
+	}
+}
+
+// A database source is gated like a file: a query whose rows are mostly
+// rejected fails the sync, raises one data_quality alert that names the
+// query, and holds the analysis back; once the source's setting is fixed,
+// the next sync reads it again and the alert resolves.
+func TestQuerySourceIsGated(t *testing.T) {
+	cfg, dir := setup(t, "")
+	books := filepath.Join(dir, "books.db")
+	src, err := sql.Open("sqlite3", books)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer src.Close()
+	if _, err := src.Exec(`CREATE TABLE journal (entry TEXT, pos INTEGER, day TEXT, account TEXT, amount TEXT)`); err != nil {
+		t.Fatal(err)
+	}
+	// 2026-01 clean; in 2026-02 four of five amounts carry a thousands
+	// separator the source does not declare.
+	for _, r := range []string{"('J1', 1, '2026-01-05', '6100', '420.00')", "('J2', 1, '2026-01-09', '6200', '310.00')",
+		"('J3', 1, '2026-02-05', '6100', '4,200.00')", "('J4', 1, '2026-02-06', '6200', '1,310.50')",
+		"('J5', 1, '2026-02-07', '6300', '2,012.25')", "('J6', 1, '2026-02-09', '6400', '99.00')", "('J7', 1, '2026-02-10', '6400', '5,000.00')"} {
+		if _, err := src.Exec(`INSERT INTO journal VALUES ` + r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := os.WriteFile(filepath.Join(dir, "books.dsn"), []byte(books+"\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	raw, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	gl := "    - name: gl\n      kind: csv\n      path: data/gl/*.csv\n"
+	query := "    - {name: gl, kind: sql, driver: sqlite, dsn_file: books.dsn, columns: {entry_id: entry, line: pos, date: day}, " +
+		"query: \"SELECT entry, pos, day, account, amount FROM journal\"}\n"
+	if !strings.Contains(string(raw), gl) {
+		t.Fatalf("the starter config changed: update this test")
+	}
+	if err := os.WriteFile(cfg, []byte(strings.Replace(string(raw), gl, query, 1)), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	store := filepath.Join(dir, "costdrift.db")
+	out, err := run(t, "--config", cfg, "sync")
+	if err == nil || !strings.Contains(err.Error(), "source gl: the query: 4 of 7 rows rejected") {
+		t.Fatalf("sync of a mostly rejected query: %v\n%s", err, out)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE kind = 'data_quality' AND status = 'open' AND object = 'gl'
+		AND period = '2026-02' AND message LIKE '%the query%'`); n != 1 {
+		t.Errorf("%d open data_quality alerts for gl 2026-02 naming the query, want 1", n)
+	}
+	if n := count(t, store, `SELECT rows_stored * 10 + rows_rejected FROM source_periods WHERE source = 'gl' AND period = '2026-02' AND source_file_id IS NULL`); n != 14 {
+		t.Errorf("source_periods for the query in 2026-02: %d, want 1 stored and 4 rejected", n)
+	}
+	fixed := strings.Replace(query, "dsn_file: books.dsn,", "dsn_file: books.dsn, thousands_separator: \",\",", 1)
+	raw, _ = os.ReadFile(cfg)
+	if err := os.WriteFile(cfg, []byte(strings.Replace(string(raw), query, fixed, 1)), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	out = mustRun(t, "--config", cfg, "sync")
+	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE kind = 'data_quality' AND status = 'resolved'"); n != 1 {
+		t.Errorf("the data_quality alert is not resolved after the fix:\n%s", out)
+	}
+	if n := count(t, store, "SELECT SUM(amount_minor) FROM gl_lines WHERE source = 'gl'"); n != 42000+31000+420000+131050+201225+9900+500000 {
+		t.Errorf("ledger total after the fix = %d", n)
 	}
 }

@@ -29,41 +29,90 @@ func recordPeriods(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, file
 	if table == "" {
 		return nil // accounts have no period
 	}
-	rows, err := tx.QueryContext(ctx, `SELECT period, COUNT(*) FROM `+table+` WHERE source_file_id = ? GROUP BY period ORDER BY period`, fileID)
+	stored, err := periodCounts(ctx, tx, `SELECT period, COUNT(*) FROM `+table+` WHERE source_file_id = ? GROUP BY period ORDER BY period`, fileID)
 	if err != nil {
 		return err
 	}
-	stored := map[string]int{}
-	newest := ""
-	for rows.Next() {
-		var p string
-		var n int
-		if err := rows.Scan(&p, &n); err != nil {
-			rows.Close()
+	return insertPeriods(ctx, tx, run, fileID, stored, rejectsFrom)
+}
+
+// recordQueryPeriods is recordPeriods for a database source, whose rows
+// have no file: a full refresh replaces the counts of every period, a
+// watermark read those of the periods it stored rows in, each period
+// counted whole. The load's rejects count against the newest of them.
+func recordQueryPeriods(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, full bool, rejectsFrom int64) error {
+	table := map[costdrift.Role]string{costdrift.RoleLedger: "gl_lines", costdrift.RoleActivity: "activity"}[run.Role]
+	if table == "" {
+		return nil
+	}
+	own := `source = ? AND source_file_id IS NULL`
+	if full {
+		if _, err := tx.ExecContext(ctx, `DELETE FROM source_periods WHERE `+own, run.Source); err != nil {
 			return err
 		}
-		stored[p] = n
-		newest = p
-	}
-	if err := rows.Close(); err != nil {
+	} else if _, err := tx.ExecContext(ctx, `DELETE FROM source_periods WHERE `+own+` AND (period = '' OR period IN
+		(SELECT DISTINCT period FROM `+table+` WHERE source = ? AND sync_run_id = ?))`, run.Source, run.Source, run.ID); err != nil {
 		return err
 	}
+	q := `SELECT period, COUNT(*) FROM ` + table + ` WHERE ` + own + ` GROUP BY period ORDER BY period`
+	args := []any{run.Source}
+	if !full {
+		q = `SELECT period, COUNT(*) FROM ` + table + ` WHERE ` + own + ` AND period IN
+			(SELECT DISTINCT period FROM ` + table + ` WHERE source = ? AND sync_run_id = ?) GROUP BY period ORDER BY period`
+		args = append(args, run.Source, run.ID)
+	}
+	stored, err := periodCounts(ctx, tx, q, args...)
+	if err != nil {
+		return err
+	}
+	return insertPeriods(ctx, tx, run, 0, stored, rejectsFrom)
+}
+
+// periodCounts runs a query of period and count, in period order.
+func periodCounts(ctx context.Context, tx *sql.Tx, query string, args ...any) ([]periodCount, error) {
+	rows, err := tx.QueryContext(ctx, query, args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []periodCount
+	for rows.Next() {
+		var c periodCount
+		if err := rows.Scan(&c.period, &c.n); err != nil {
+			return nil, err
+		}
+		out = append(out, c)
+	}
+	return out, rows.Err()
+}
+
+type periodCount struct {
+	period string
+	n      int
+}
+
+// insertPeriods records the rows stored per period, with the load's
+// rejects (those after rejectsFrom) counted against the newest period, or
+// against ” when nothing was stored. fileID 0 is a database source.
+func insertPeriods(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID int64, stored []periodCount, rejectsFrom int64) error {
 	rejected, reason, err := loadRejects(ctx, tx, run.ID, rejectsFrom)
 	if err != nil {
 		return err
 	}
-	if rejected > 0 {
-		if _, ok := stored[newest]; !ok {
-			stored[newest] = 0 // newest is "": nothing stored
-		}
+	if rejected > 0 && len(stored) == 0 {
+		stored = []periodCount{{period: ""}}
 	}
-	for p, n := range stored {
+	var file any
+	if fileID != 0 {
+		file = fileID
+	}
+	for i, c := range stored {
 		r, why := 0, ""
-		if p == newest {
+		if i == len(stored)-1 {
 			r, why = rejected, reason
 		}
 		if _, err := tx.ExecContext(ctx, `INSERT INTO source_periods (source_file_id, source, period, rows_stored, rows_rejected, reason, sync_run_id)
-			VALUES (?, ?, ?, ?, ?, ?, ?)`, fileID, run.Source, p, n, r, why, run.ID); err != nil {
+			VALUES (?, ?, ?, ?, ?, ?, ?)`, file, run.Source, c.period, c.n, r, why, run.ID); err != nil {
 			return err
 		}
 	}
@@ -107,11 +156,12 @@ func loadRejects(ctx context.Context, tx *sql.Tx, runID, after int64) (int, stri
 	return total, example[top], rows.Err()
 }
 
-// SourcePeriods lists what every loaded file delivered per period, by
-// source, period and file.
+// SourcePeriods lists what every loaded file, and every database source's
+// query, delivered per period, by source, period and file; a query is
+// named "the query" where a file gives its path.
 func (db *DB) SourcePeriods(ctx context.Context) ([]costdrift.SourcePeriod, error) {
-	rows, err := db.db.QueryContext(ctx, `SELECT p.source, f.path, p.period, p.rows_stored, p.rows_rejected, p.reason, p.sync_run_id
-		FROM source_periods p JOIN source_files f ON f.id = p.source_file_id ORDER BY p.source, p.period, f.path`)
+	rows, err := db.db.QueryContext(ctx, `SELECT p.source, IFNULL(f.path, 'the query'), p.period, p.rows_stored, p.rows_rejected, p.reason, p.sync_run_id
+		FROM source_periods p LEFT JOIN source_files f ON f.id = p.source_file_id ORDER BY p.source, p.period, 2`)
 	if err != nil {
 		return nil, fmt.Errorf("read source periods: %w", err)
 	}

@@ -99,6 +99,10 @@ func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, 
 		if full {
 			mode = modeRefresh
 		}
+		rejectsFrom, err := lastRejectID(ctx, tx)
+		if err != nil {
+			return err
+		}
 		w, err := newWriter(ctx, tx, run, mode, 0)
 		if err != nil {
 			return err
@@ -112,6 +116,9 @@ func (db *DB) LoadQuery(ctx context.Context, run *costdrift.SyncRun, full bool, 
 			if err := w.dropUnseen(); err != nil {
 				return err
 			}
+		}
+		if err := recordQueryPeriods(ctx, tx, run, full, rejectsFrom); err != nil {
+			return err
 		}
 		if mark != "" {
 			_, err = tx.ExecContext(ctx, `INSERT INTO source_watermarks (source, value, updated_at, reading_settings) VALUES (?, ?, ?, ?)
