@@ -316,3 +316,45 @@ func TestQuerySourceIsGated(t *testing.T) {
 		t.Errorf("ledger total after the fix = %d", n)
 	}
 }
+
+// An activity source read by a query is checked for odd drivers as a file
+// is: a name one letter off a known one, seen in one period only.
+func TestQueryActivityDriversAreWarnedAbout(t *testing.T) {
+	cfg, dir := setup(t, header+"E1,1,2026-01-05,6100,WELD,4200.00\n")
+	books := filepath.Join(dir, "ops.db")
+	src, err := sql.Open("sqlite3", books)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer src.Close()
+	if _, err := src.Exec(`CREATE TABLE hours (month TEXT, name TEXT, qty REAL);
+		INSERT INTO hours VALUES ('2026-01', 'machine_hours', 410), ('2026-02', 'machine_hours', 388), ('2026-03', 'machine_hour', 402),
+			('2026-01', 'frames_built', 900), ('2026-02', 'frames_built', 950), ('2026-03', 'frames_built', 925)`); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "ops.dsn"), []byte(books+"\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	raw, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ops := "    - name: ops\n      kind: csv\n      path: data/activity.csv\n"
+	query := "    - {name: ops, kind: sql, driver: sqlite, dsn_file: ops.dsn, columns: {period: month, driver: name, value: qty}, " +
+		"query: \"SELECT month, name, qty FROM hours\"}\n"
+	if !strings.Contains(string(raw), ops) {
+		t.Fatalf("the starter config changed: update this test")
+	}
+	if err := os.WriteFile(cfg, []byte(strings.Replace(string(raw), ops, query, 1)), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	out := mustRun(t, "--config", cfg, "sync")
+	for _, want := range []string{
+		"warning: drivers machine_hour and machine_hours differ by 1 letter(s)",
+		"warning: driver machine_hour has values in 1 of the source's 3 periods",
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("sync output lacks %q:\n%s", want, out)
+		}
+	}
+}

@@ -50,7 +50,7 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 			return results, err
 		}
 		notes, err := syncSource(ctx, e, db, j.role, j.src, &run)
-		if err == nil && j.role == costdrift.RoleActivity && run.Files > 0 {
+		if err == nil && j.role == costdrift.RoleActivity && (run.Files > 0 || sourceKinds[j.src.Kind].query != nil && run.RowsLoaded > 0) {
 			var warnings []string
 			warnings, err = driverWarnings(ctx, db, j.src.Name)
 			run.Warnings = append(run.Warnings, warnings...)
