@@ -175,3 +175,55 @@ func TestBadInputCorpusAmounts(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) { checkCorpusCase(t, tc.corpusCase, tc.keys) })
 	}
 }
+
+// The corpus's cases beyond a ledger's rows: activity with a misspelt
+// driver, no activity at all, and a ledger fixed by a setting rather than
+// by editing it. Each says what is wrong and what to do (README, When a
+// sync goes wrong).
+func TestBadInputCorpusBeyondRows(t *testing.T) {
+	const ledger = header + "E1,1,2026-01-05,6100,WELD,4200.00\nE2,1,2026-02-05,6100,WELD,4200.00\nE3,1,2026-03-05,6100,WELD,4200.00\n"
+	t.Run("misspelt driver", func(t *testing.T) {
+		cfg, dir := setup(t, ledger)
+		writeFile(t, filepath.Join(dir, "data", "activity.csv"), "period,driver,value\n2026-01,frames_built,100\n2026-02,frames_built,110\n"+
+			"2026-03,frames_built,105\n2026-01,machine_hours,40\n2026-02,machine_hours,44\n2026-03,machine_hour,42\n")
+		out := mustRun(t, "--config", cfg, "sync")
+		for _, want := range []string{"warning: drivers machine_hour and machine_hours differ by 1 letter(s)",
+			"warning: driver machine_hour has values in 1 of the source's 3 periods"} {
+			if !strings.Contains(out, want) {
+				t.Errorf("sync output lacks %q:\n%s", want, out)
+			}
+		}
+	})
+	t.Run("no activity", func(t *testing.T) {
+		cfg, dir := setup(t, ledger)
+		writeFile(t, filepath.Join(dir, "data", "activity.csv"), "period,driver,value\n")
+		mustRun(t, "--config", cfg, "sync")
+		_, err := run(t, "--config", cfg, "analyze")
+		if err == nil || !strings.Contains(err.Error(), "no activity data") || !strings.Contains(err.Error(), "sources.activity") {
+			t.Errorf("analyze without activity: %v", err)
+		}
+		if n := count(t, filepath.Join(dir, "costdrift.db"), "SELECT COUNT(*) FROM analysis_runs"); n != 0 {
+			t.Errorf("%d analyses stored without activity, want 0", n)
+		}
+	})
+	t.Run("setting changed", func(t *testing.T) {
+		dayFirst := strings.NewReplacer("2026-01-05", "05/01/2026", "2026-02-05", "05/02/2026", "2026-03-05", "05/03/2026").Replace(ledger)
+		cfg, dir := setup(t, dayFirst)
+		if _, err := run(t, "--config", cfg, "sync"); err == nil || !strings.Contains(err.Error(), "set date_format (e.g. DD/MM/YYYY)") {
+			t.Fatalf("a ledger of day-first dates: %v, want the sync to fail naming date_format", err)
+		}
+		text, err := os.ReadFile(cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		const gl = "      path: data/gl/*.csv\n"
+		writeFile(t, cfg, strings.Replace(string(text), gl, gl+"      date_format: DD/MM/YYYY\n", 1))
+		out := mustRun(t, "--config", cfg, "sync")
+		if !strings.Contains(out, "gl.csv read again: its reading settings changed (date_format)") {
+			t.Errorf("the sync after the setting changed does not say it read the file again:\n%s", out)
+		}
+		if n := count(t, filepath.Join(dir, "costdrift.db"), "SELECT COUNT(*) FROM gl_lines"); n != 3 {
+			t.Errorf("%d lines stored once date_format is set, want 3", n)
+		}
+	})
+}
