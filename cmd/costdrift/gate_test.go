@@ -257,40 +257,15 @@ func TestMisspeltDriverIsWarnedAbout(t *testing.T) {
 // the next sync reads it again and the alert resolves.
 func TestQuerySourceIsGated(t *testing.T) {
 	cfg, dir := setup(t, "")
-	books := filepath.Join(dir, "books.db")
-	src, err := sql.Open("sqlite3", books)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer src.Close()
-	if _, err := src.Exec(`CREATE TABLE journal (entry TEXT, pos INTEGER, day TEXT, account TEXT, amount TEXT)`); err != nil {
-		t.Fatal(err)
-	}
 	// 2026-01 clean; in 2026-02 four of five amounts carry a thousands
 	// separator the source does not declare.
-	for _, r := range []string{"('J1', 1, '2026-01-05', '6100', '420.00')", "('J2', 1, '2026-01-09', '6200', '310.00')",
-		"('J3', 1, '2026-02-05', '6100', '4,200.00')", "('J4', 1, '2026-02-06', '6200', '1,310.50')",
-		"('J5', 1, '2026-02-07', '6300', '2,012.25')", "('J6', 1, '2026-02-09', '6400', '99.00')", "('J7', 1, '2026-02-10', '6400', '5,000.00')"} {
-		if _, err := src.Exec(`INSERT INTO journal VALUES ` + r); err != nil {
-			t.Fatal(err)
-		}
-	}
-	if err := os.WriteFile(filepath.Join(dir, "books.dsn"), []byte(books+"\n"), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	raw, err := os.ReadFile(cfg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	gl := "    - name: gl\n      kind: csv\n      path: data/gl/*.csv\n"
+	querySource(t, dir, "books", `CREATE TABLE journal (entry TEXT, pos INTEGER, day TEXT, account TEXT, amount TEXT);
+		INSERT INTO journal VALUES ('J1', 1, '2026-01-05', '6100', '420.00'), ('J2', 1, '2026-01-09', '6200', '310.00'),
+			('J3', 1, '2026-02-05', '6100', '4,200.00'), ('J4', 1, '2026-02-06', '6200', '1,310.50'),
+			('J5', 1, '2026-02-07', '6300', '2,012.25'), ('J6', 1, '2026-02-09', '6400', '99.00'), ('J7', 1, '2026-02-10', '6400', '5,000.00')`)
 	query := "    - {name: gl, kind: sql, driver: sqlite, dsn_file: books.dsn, columns: {entry_id: entry, line: pos, date: day}, " +
 		"query: \"SELECT entry, pos, day, account, amount FROM journal\"}\n"
-	if !strings.Contains(string(raw), gl) {
-		t.Fatalf("the starter config changed: update this test")
-	}
-	if err := os.WriteFile(cfg, []byte(strings.Replace(string(raw), gl, query, 1)), 0o600); err != nil {
-		t.Fatal(err)
-	}
+	replaceInConfig(t, cfg, "    - name: gl\n      kind: csv\n      path: data/gl/*.csv\n", query)
 	store := filepath.Join(dir, "costdrift.db")
 	out, err := run(t, "--config", cfg, "sync")
 	if err == nil || !strings.Contains(err.Error(), "source gl: the query: 4 of 7 rows rejected") {
@@ -303,11 +278,7 @@ func TestQuerySourceIsGated(t *testing.T) {
 	if n := count(t, store, `SELECT rows_stored * 10 + rows_rejected FROM source_periods WHERE source = 'gl' AND period = '2026-02' AND source_file_id IS NULL`); n != 14 {
 		t.Errorf("source_periods for the query in 2026-02: %d, want 1 stored and 4 rejected", n)
 	}
-	fixed := strings.Replace(query, "dsn_file: books.dsn,", "dsn_file: books.dsn, thousands_separator: \",\",", 1)
-	raw, _ = os.ReadFile(cfg)
-	if err := os.WriteFile(cfg, []byte(strings.Replace(string(raw), query, fixed, 1)), 0o600); err != nil {
-		t.Fatal(err)
-	}
+	replaceInConfig(t, cfg, query, strings.Replace(query, "dsn_file: books.dsn,", "dsn_file: books.dsn, thousands_separator: \",\",", 1))
 	out = mustRun(t, "--config", cfg, "sync")
 	if n := count(t, store, "SELECT COUNT(*) FROM alerts WHERE kind = 'data_quality' AND status = 'resolved'"); n != 1 {
 		t.Errorf("the data_quality alert is not resolved after the fix:\n%s", out)
@@ -321,33 +292,12 @@ func TestQuerySourceIsGated(t *testing.T) {
 // is: a name one letter off a known one, seen in one period only.
 func TestQueryActivityDriversAreWarnedAbout(t *testing.T) {
 	cfg, dir := setup(t, header+"E1,1,2026-01-05,6100,WELD,4200.00\n")
-	books := filepath.Join(dir, "ops.db")
-	src, err := sql.Open("sqlite3", books)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer src.Close()
-	if _, err := src.Exec(`CREATE TABLE hours (month TEXT, name TEXT, qty REAL);
+	querySource(t, dir, "ops", `CREATE TABLE hours (month TEXT, name TEXT, qty REAL);
 		INSERT INTO hours VALUES ('2026-01', 'machine_hours', 410), ('2026-02', 'machine_hours', 388), ('2026-03', 'machine_hour', 402),
-			('2026-01', 'frames_built', 900), ('2026-02', 'frames_built', 950), ('2026-03', 'frames_built', 925)`); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "ops.dsn"), []byte(books+"\n"), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	raw, err := os.ReadFile(cfg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	ops := "    - name: ops\n      kind: csv\n      path: data/activity.csv\n"
-	query := "    - {name: ops, kind: sql, driver: sqlite, dsn_file: ops.dsn, columns: {period: month, driver: name, value: qty}, " +
-		"query: \"SELECT month, name, qty FROM hours\"}\n"
-	if !strings.Contains(string(raw), ops) {
-		t.Fatalf("the starter config changed: update this test")
-	}
-	if err := os.WriteFile(cfg, []byte(strings.Replace(string(raw), ops, query, 1)), 0o600); err != nil {
-		t.Fatal(err)
-	}
+			('2026-01', 'frames_built', 900), ('2026-02', 'frames_built', 950), ('2026-03', 'frames_built', 925)`)
+	replaceInConfig(t, cfg, "    - name: ops\n      kind: csv\n      path: data/activity.csv\n",
+		"    - {name: ops, kind: sql, driver: sqlite, dsn_file: ops.dsn, columns: {period: month, driver: name, value: qty}, "+
+			"query: \"SELECT month, name, qty FROM hours\"}\n")
 	out := mustRun(t, "--config", cfg, "sync")
 	for _, want := range []string{
 		"warning: drivers machine_hour and machine_hours differ by 1 letter(s)",
@@ -357,4 +307,35 @@ func TestQueryActivityDriversAreWarnedAbout(t *testing.T) {
 			t.Errorf("sync output lacks %q:\n%s", want, out)
 		}
 	}
+}
+
+// querySource makes an SQLite database NAME.db in dir with the statements
+// run in it, and the owner-only connection file NAME.dsn a sql source of
+// the config names.
+func querySource(t *testing.T, dir, name, statements string) {
+	t.Helper()
+	path := filepath.Join(dir, name+".db")
+	db, err := sql.Open("sqlite3", path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	if _, err := db.Exec(statements); err != nil {
+		t.Fatal(err)
+	}
+	writeFile(t, filepath.Join(dir, name+".dsn"), path+"\n")
+}
+
+// replaceInConfig replaces the text old of the config file by new; old
+// must be there.
+func replaceInConfig(t *testing.T, cfg, old, new string) {
+	t.Helper()
+	raw, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(raw), old) {
+		t.Fatalf("the config has no %q: the starter changed, update this test", old)
+	}
+	writeFile(t, cfg, strings.Replace(string(raw), old, new, 1))
 }
