@@ -4,6 +4,7 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
+	"slices"
 	"strings"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -21,18 +22,21 @@ func lastRejectID(ctx context.Context, tx *sql.Tx) (int64, error) {
 // period: its stored rows by period, and its rejects (those after
 // rejectsFrom) counted against its newest period, with the most frequent
 // reason.
-func recordPeriods(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID, rejectsFrom int64) error {
+func recordPeriods(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, fileID int64, periods map[string]int, rejectsFrom int64) error {
 	if _, err := tx.ExecContext(ctx, `DELETE FROM source_periods WHERE source_file_id = ?`, fileID); err != nil {
 		return err
 	}
-	table := map[costdrift.Role]string{costdrift.RoleLedger: "gl_lines", costdrift.RoleActivity: "activity"}[run.Role]
-	if table == "" {
+	if run.Role != costdrift.RoleLedger && run.Role != costdrift.RoleActivity {
 		return nil // accounts have no period
 	}
-	stored, err := periodCounts(ctx, tx, `SELECT period, COUNT(*) FROM `+table+` WHERE source_file_id = ? GROUP BY period ORDER BY period`, fileID)
-	if err != nil {
-		return err
+	// The load counted what it stored, by period: the file's rows, since
+	// its old rows were removed before it. Counted there, not read back,
+	// so that a large file is not read again from the store.
+	stored := make([]periodCount, 0, len(periods))
+	for p, n := range periods {
+		stored = append(stored, periodCount{period: p, n: n})
 	}
+	slices.SortFunc(stored, func(a, b periodCount) int { return strings.Compare(a.period, b.period) })
 	return insertPeriods(ctx, tx, run, fileID, stored, rejectsFrom)
 }
 

@@ -237,7 +237,7 @@ func (db *DB) LoadFile(ctx context.Context, run *costdrift.SyncRun, file costdri
 			file.Size, file.SHA256, rows, db.now(), run.ID, nullString(file.Settings), id); err != nil {
 			return err
 		}
-		if err := recordPeriods(ctx, tx, run, id, rejectsFrom); err != nil {
+		if err := recordPeriods(ctx, tx, run, id, w.periods, rejectsFrom); err != nil {
 			return err
 		}
 		if run.Role == costdrift.RoleLedger {
@@ -377,6 +377,9 @@ type writer struct {
 	batchInsert string
 	batchArgs   []any
 	balance     balance
+	// periods counts the ledger lines or activity values stored, by
+	// period: what a file delivered per period (recordPeriods).
+	periods map[string]int
 }
 
 var tableSQL = map[string]struct{ insert, upsertWhere, seen, lookup, takeOver string }{
@@ -416,7 +419,7 @@ var tableSQL = map[string]struct{ insert, upsertWhere, seen, lookup, takeOver st
 }
 
 func newWriter(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, mode writeMode, fileID int64) (*writer, error) {
-	w := &writer{ctx: ctx, tx: tx, run: run, mode: mode, stmts: map[string]*sql.Stmt{}}
+	w := &writer{ctx: ctx, tx: tx, run: run, mode: mode, stmts: map[string]*sql.Stmt{}, periods: map[string]int{}}
 	if fileID != 0 {
 		w.fileID = fileID
 	}
@@ -573,11 +576,14 @@ func (w *writer) LedgerLine(l costdrift.LedgerLine) error {
 }
 
 func (w *writer) storeLine(l costdrift.LedgerLine) error {
-	rejected := w.run.RowsRejected
+	rejected, loaded := w.run.RowsRejected, w.run.RowsLoaded
 	err := w.store("gl", []any{l.EntryID, l.Line}, []any{l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description},
 		fmt.Sprintf("entry %s line %d", l.EntryID, l.Line))
 	if err == nil && w.run.RowsRejected == rejected {
 		w.balance.add(l)
+	}
+	if w.run.RowsLoaded > loaded {
+		w.periods[l.Period]++
 	}
 	return err
 }
@@ -720,14 +726,22 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	}
 	w.run.RowsLoaded += len(batch)
 	for _, l := range batch {
+		w.periods[l.Period]++
+	}
+	for _, l := range batch {
 		w.balance.add(l)
 	}
 	return nil
 }
 
 func (w *writer) Activity(a costdrift.ActivityValue) error {
-	return w.store("activity", []any{a.Period, a.Driver, a.CostCenter}, []any{a.Value, a.Unit},
+	loaded := w.run.RowsLoaded
+	err := w.store("activity", []any{a.Period, a.Driver, a.CostCenter}, []any{a.Value, a.Unit},
 		fmt.Sprintf("%s %s %s", a.Period, a.Driver, a.CostCenter))
+	if w.run.RowsLoaded > loaded {
+		w.periods[a.Period]++
+	}
+	return err
 }
 
 func (w *writer) Account(a costdrift.Account) error {
