@@ -67,13 +67,7 @@ func partialMonth(t *testing.T, dir string, spoil int) (clean, spoilt string) {
 // partial month would cause; once the setting is fixed and the file read
 // again, the alert resolves and the objects are analysed over the month.
 func TestPartialMonthIsHeldBack(t *testing.T) {
-	dir := t.TempDir()
-	mustRun(t, "demo", "--dir", dir)
-	cfg := filepath.Join(dir, "costdrift.yaml")
-	store := filepath.Join(dir, "costdrift.db")
-	if err := os.Remove(store); err != nil {
-		t.Fatal(err)
-	}
+	dir, cfg, store := demoWithoutStore(t)
 	_, spoilt := partialMonth(t, dir, 27) // 27 of June's 44 lines: 61 %
 	mustRun(t, "--config", cfg, "sync")
 	mustRun(t, "--config", cfg, "analyze")
@@ -156,13 +150,7 @@ func TestPartialMonthIsHeldBack(t *testing.T) {
 // A month whose every date is in another order is rejected whole: its
 // period is not known, so the source as a whole holds the analysis back.
 func TestFileRejectedWholeHoldsBack(t *testing.T) {
-	dir := t.TempDir()
-	mustRun(t, "demo", "--dir", dir)
-	cfg := filepath.Join(dir, "costdrift.yaml")
-	store := filepath.Join(dir, "costdrift.db")
-	if err := os.Remove(store); err != nil {
-		t.Fatal(err)
-	}
+	dir, cfg, store := demoWithoutStore(t)
 	clean, _ := partialMonth(t, dir, 0)
 	mustRun(t, "--config", cfg, "sync")
 	mustRun(t, "--config", cfg, "analyze")
@@ -199,13 +187,7 @@ func TestFileRejectedWholeHoldsBack(t *testing.T) {
 // No activity at all: analyze stops and says what to add, rather than
 // calling every cost unexplained.
 func TestAnalyzeWithoutActivityStops(t *testing.T) {
-	dir := t.TempDir()
-	mustRun(t, "demo", "--dir", dir)
-	cfg := filepath.Join(dir, "costdrift.yaml")
-	store := filepath.Join(dir, "costdrift.db")
-	if err := os.Remove(store); err != nil {
-		t.Fatal(err)
-	}
+	dir, cfg, store := demoWithoutStore(t)
 	if err := os.WriteFile(filepath.Join(dir, "data", "activity.csv"), []byte("period,driver,value,cost_center,unit\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
@@ -338,4 +320,17 @@ func replaceInConfig(t *testing.T, cfg, old, new string) {
 		t.Fatalf("the config has no %q: the starter changed, update this test", old)
 	}
 	writeFile(t, cfg, strings.Replace(string(raw), old, new, 1))
+}
+
+// demoWithoutStore writes the invented company's books and config into a new
+// folder, without a store yet, and returns the folder, config and store.
+func demoWithoutStore(t *testing.T) (dir, cfg, store string) {
+	t.Helper()
+	dir = t.TempDir()
+	mustRun(t, "demo", "--dir", dir)
+	store = filepath.Join(dir, "costdrift.db")
+	if err := os.Remove(store); err != nil {
+		t.Fatal(err)
+	}
+	return dir, filepath.Join(dir, "costdrift.yaml"), store
 }
