@@ -6,13 +6,12 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"regexp"
 	"strings"
 	"sync"
 	"sync/atomic"
 	"time"
-
-	"github.com/mattn/go-sqlite3"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -376,7 +375,11 @@ type writer struct {
 	pending     []costdrift.LedgerLine // ledger lines of a file not yet stored
 	batchInsert string
 	batchArgs   []any
-	balance     balance
+	// rowByRow says the store's rowids do not ascend from the largest (it
+	// holds the largest rowid SQLite can give), so that a batch INSERT
+	// cannot tell which lines it stored: every line goes row by row.
+	rowByRow bool
+	balance  balance
 	// periods counts the ledger lines or activity values stored, by
 	// period: what a file delivered per period (recordPeriods).
 	periods map[string]int
@@ -425,6 +428,15 @@ func newWriter(ctx context.Context, tx *sql.Tx, run *costdrift.SyncRun, mode wri
 	}
 	if run.Reasons == nil {
 		run.Reasons = map[string]int{}
+	}
+	if mode == modeFile {
+		// SQLite gives a new row the largest rowid plus one, unless the
+		// largest is the maximum already: then a free one at random.
+		var top int64
+		if err := tx.QueryRowContext(ctx, `SELECT IFNULL(MAX(rowid), 0) FROM gl_lines`).Scan(&top); err != nil {
+			return nil, err
+		}
+		w.rowByRow = top > math.MaxInt64/2
 	}
 	if mode == modeRefresh {
 		for _, q := range []string{
@@ -661,21 +673,42 @@ func (b *balance) close() {
 const ledgerBatch = 100
 
 // flush stores the pending ledger lines of a file with one multi-row
-// INSERT. The keys it returns are the lines that were new; any other line
-// met a stored key (a repeat inside the file, or a line another file
-// loaded) and takes the row-by-row path that decides between the two.
+// INSERT. The lines it could not store met a stored key (a repeat inside
+// the file, or a line another file loaded) and take the row-by-row path
+// that decides between the two.
 func (w *writer) flush() error {
 	batch := w.pending
 	w.pending = w.pending[:0]
 	return w.storeBatch(batch)
 }
 
+// storeBatches stores ledger lines of a file in batches of ledgerBatch, in
+// order; the last may be short.
+func (w *writer) storeBatches(lines []costdrift.LedgerLine) error {
+	for len(lines) > 0 {
+		n := min(len(lines), ledgerBatch)
+		if err := w.storeBatch(lines[:n]); err != nil {
+			return err
+		}
+		lines = lines[n:]
+	}
+	return nil
+}
+
 // storeBatch stores ledger lines of a file, a full batch with one INSERT.
+//
+// The INSERT skips a line whose key is stored already (OR IGNORE) rather
+// than failing: a statement that may fail part way must keep a journal of
+// every page it changes, to undo them, and that journal, written for each
+// batch to a temporary file, was most of the system time of a large load.
+// (The ledger's foreign keys are checked at commit, schema 16, for the
+// same reason.) The lines stored take the rowids after the largest before
+// the statement, which tells them from the lines it skipped.
 func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	if len(batch) == 0 {
 		return nil
 	}
-	if len(batch) < ledgerBatch {
+	if len(batch) < ledgerBatch || w.rowByRow {
 		for _, l := range batch {
 			if err := w.storeLine(l); err != nil {
 				return err
@@ -690,7 +723,7 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 		// source name is quoted as an SQL string; the ids are integers.
 		row := fmt.Sprintf("(%s,?,?,?,?,?,?,?,?,%d,%d)", quoteSQL(w.run.Source), w.run.ID, w.fileID)
 		var b strings.Builder
-		b.WriteString(`INSERT INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id, source_file_id) VALUES `)
+		b.WriteString(`INSERT OR IGNORE INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id, source_file_id) VALUES `)
 		for i := 0; i < ledgerBatch; i++ {
 			if i > 0 {
 				b.WriteByte(',')
@@ -708,28 +741,80 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	if err != nil {
 		return err
 	}
-	// A plain INSERT: a key that is stored already makes SQLite refuse
-	// the whole statement (and undo it), and the batch then takes the
-	// row-by-row path that tells a repeat inside the file from a line
-	// another file loaded. New files, the bulk of a sync, never get there.
 	if err := insertRows(w.ctx, s, args); err != nil {
-		var se sqlite3.Error
-		if !errors.As(err, &se) || se.ExtendedCode != sqlite3.ErrConstraintUnique {
-			return err
-		}
+		return err
+	}
+	stored, last, err := w.lastInsert()
+	if err != nil {
+		return err
+	}
+	if stored == int64(len(batch)) {
+		// Every line was new: the bulk of a sync.
+		w.run.RowsLoaded += len(batch)
 		for _, l := range batch {
-			if err := w.storeLine(l); err != nil {
-				return err
-			}
+			w.periods[l.Period]++
+			w.balance.add(l)
 		}
 		return nil
 	}
-	w.run.RowsLoaded += len(batch)
-	for _, l := range batch {
-		w.periods[l.Period]++
+	return w.settleBatch(batch, stored, last)
+}
+
+// lastInsert says how many rows the last INSERT stored and the rowid of the
+// last of them.
+func (w *writer) lastInsert() (stored, last int64, err error) {
+	s, err := w.stmt(`SELECT changes(), last_insert_rowid()`)
+	if err != nil {
+		return 0, 0, err
+	}
+	err = s.QueryRowContext(w.ctx).Scan(&stored, &last)
+	return stored, last, err
+}
+
+// settleBatch finishes a batch whose INSERT skipped some lines: in the
+// batch's order, a line the INSERT stored is counted, and any other takes
+// the row-by-row path, which rejects a repeat inside the file (the first
+// line of a key, stored, came before it) and takes over a line another
+// file loaded, exactly as if the batch had gone row by row.
+func (w *writer) settleBatch(batch []costdrift.LedgerLine, stored, last int64) error {
+	type key struct {
+		entry string
+		line  int
+	}
+	fresh := make(map[key]bool, stored)
+	if stored > 0 {
+		rows, err := w.tx.QueryContext(w.ctx, `SELECT entry_id, line FROM gl_lines WHERE rowid > ? AND rowid <= ?`, last-stored, last)
+		if err != nil {
+			return err
+		}
+		for rows.Next() {
+			var k key
+			if err := rows.Scan(&k.entry, &k.line); err != nil {
+				rows.Close()
+				return err
+			}
+			fresh[k] = true
+		}
+		if err := rows.Close(); err != nil {
+			return err
+		}
+		if len(fresh) != int(stored) {
+			return fmt.Errorf("batch of %d lines: %d stored, but %d found under their rowids", len(batch), stored, len(fresh))
+		}
 	}
 	for _, l := range batch {
-		w.balance.add(l)
+		k := key{l.EntryID, l.Line}
+		if fresh[k] {
+			// Only the first line of a key was stored by the INSERT.
+			delete(fresh, k)
+			w.run.RowsLoaded++
+			w.periods[l.Period]++
+			w.balance.add(l)
+			continue
+		}
+		if err := w.storeLine(l); err != nil {
+			return err
+		}
 	}
 	return nil
 }
@@ -885,8 +970,8 @@ func (p *pipeline) submit(job func() error) error {
 func (p *pipeline) finish() error {
 	p.once.Do(func() {
 		if len(p.pending) > 0 && !p.failed.Load() {
-			batch := p.pending
-			p.jobs <- func() error { return p.w.storeBatch(batch) }
+			lines := p.pending
+			p.jobs <- func() error { return p.w.storeBatches(lines) }
 		}
 		close(p.jobs)
 		<-p.done
@@ -894,14 +979,19 @@ func (p *pipeline) finish() error {
 	return p.err
 }
 
+// handOver is how many ledger lines the pipeline hands to the storing
+// goroutine at a time: a few batches, so that the two goroutines wake each
+// other a few thousand times in a million lines rather than ten thousand.
+const handOver = 10 * ledgerBatch
+
 func (p *pipeline) LedgerLine(l costdrift.LedgerLine) error {
 	p.pending = append(p.pending, l)
-	if len(p.pending) < ledgerBatch {
+	if len(p.pending) < handOver {
 		return nil
 	}
-	batch := p.pending
-	p.pending = make([]costdrift.LedgerLine, 0, ledgerBatch)
-	return p.submit(func() error { return p.w.storeBatch(batch) })
+	lines := p.pending
+	p.pending = make([]costdrift.LedgerLine, 0, handOver)
+	return p.submit(func() error { return p.w.storeBatches(lines) })
 }
 
 func (p *pipeline) Activity(a costdrift.ActivityValue) error {
