@@ -16,6 +16,8 @@ type Ledger struct {
 	// numbers holds the last number given in each entry to a line without
 	// one; nil when every line must carry its number.
 	numbers map[string]int
+	// The last date read as text, and the posting date and period it gave.
+	lastDate, lastPosted, lastPeriod string
 }
 
 // NewLedger reads rows bound by b (Bind with LedgerColumns, or columns
@@ -75,15 +77,23 @@ func (lr *Ledger) Line(row *Row) (costdrift.LedgerLine, string) {
 	}
 
 	date := &row[Date]
-	day, why := r.Date(date)
-	if why != "" {
-		return l, why
-	}
-	if date.form == textForm && r.layout() == isoDate {
-		// Parsed by that layout, the text is the day as PostedOn writes it.
-		l.PostedOn, l.Period = date.text, r.Period(day)
+	if date.form == textForm && date.text != "" && date.text == lr.lastDate {
+		// The lines of an entry mostly share their date.
+		l.PostedOn, l.Period = lr.lastPosted, lr.lastPeriod
 	} else {
-		r.Posting(&l, day)
+		day, why := r.Date(date)
+		if why != "" {
+			return l, why
+		}
+		if date.form == textForm && r.layout() == isoDate {
+			// Parsed by that layout, the text is the day as PostedOn writes it.
+			l.PostedOn, l.Period = date.text, r.Period(day)
+		} else {
+			r.Posting(&l, day)
+		}
+		if date.form == textForm {
+			lr.lastDate, lr.lastPosted, lr.lastPeriod = date.text, l.PostedOn, l.Period
+		}
 	}
 
 	if l.AmountMinor, why = lr.amount(row); why != "" {

@@ -207,6 +207,14 @@ func (c Currency) Parse(s string, n Notation) (int64, error) {
 	if text == "" {
 		return 0, errors.New("empty amount")
 	}
+	if minor, ok := c.parsePlain(text, n); ok {
+		return minor, nil
+	}
+	return c.parse(text, n)
+}
+
+// parse is Parse's general path, for a trimmed, non-empty text.
+func (c Currency) parse(text string, n Notation) (int64, error) {
 	marks := text
 	if n.ThousandsSeparator != "" {
 		marks = strings.ReplaceAll(marks, n.ThousandsSeparator, "")
@@ -247,6 +255,45 @@ func (c Currency) Parse(s string, n Notation) (int64, error) {
 		return 0, c.OutOfRange(fmt.Sprintf("amount %q", text), n)
 	}
 	return minor.IntPart(), nil
+}
+
+// parsePlain reads the common form of an amount without the general
+// parser's allocations: an optional minus, digits, and a decimal point
+// followed by at most the currency's decimals, in a notation without a
+// thousands separator or a decimal comma. Anything else, and any amount
+// that is not fine, is left to the general path (ok false), which gives
+// the same value for every text this accepts.
+func (c Currency) parsePlain(text string, n Notation) (minor int64, ok bool) {
+	if n.DecimalComma || n.ThousandsSeparator != "" {
+		return 0, false
+	}
+	s := text
+	neg := len(s) > 0 && s[0] == '-'
+	if neg {
+		s = s[1:]
+	}
+	whole, frac, point := strings.Cut(s, ".")
+	if whole == "" || (point && frac == "") || len(frac) > int(c.Exponent) || len(whole)+int(c.Exponent) > 16 {
+		return 0, false
+	}
+	for _, part := range []string{whole, frac} {
+		for i := 0; i < len(part); i++ {
+			if part[i] < '0' || part[i] > '9' {
+				return 0, false
+			}
+			minor = minor*10 + int64(part[i]-'0')
+		}
+	}
+	for range int(c.Exponent) - len(frac) {
+		minor *= 10
+	}
+	if minor > MaxMinor {
+		return 0, false
+	}
+	if neg {
+		minor = -minor
+	}
+	return minor, true
 }
 
 // Units converts minor units to currency units for arithmetic in the

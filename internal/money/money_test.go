@@ -2,7 +2,9 @@ package money
 
 import (
 	"errors"
+	"fmt"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 )
@@ -273,5 +275,50 @@ func TestNotationValidate(t *testing.T) {
 		if got, err := eur.Parse("1", n); err == nil {
 			t.Errorf("Parse(1, %+v) = %d, want the notation's error", n, got)
 		}
+	}
+}
+
+// The plain-amount path must give what the general path gives, for every
+// text it takes; it must leave the others (a thousands separator, a decimal
+// comma, brackets, too many decimals, an amount past the bound) to it.
+func TestParsePlainAgrees(t *testing.T) {
+	texts := []string{"0", "-0", "7", "0.5", "-0.01", "1234.50", "-1234.5", "000012.30", "99999999999999.99",
+		"-99999999999999.99", "100000000000000.00", "9999999999999999", "5", "5.", ".5", "-", "1.234", "1,5", "(3.10)",
+		"3.10-", "+3.10", "1e3", "12a", "1.2.3", "--1"}
+	r := rand.New(rand.NewPCG(3, 4))
+	for range 5000 {
+		texts = append(texts, fmt.Sprintf("%d.%02d", r.Int64N(1e13)-5e12, r.IntN(100)), fmt.Sprint(r.Int64N(1e13)))
+	}
+	taken := 0
+	for _, cur := range []Currency{{"EUR", 2}, {"JPY", 0}, {"KWD", 3}} {
+		for _, n := range []Notation{{}, {DecimalComma: true}, {ThousandsSeparator: ","}} {
+			for _, text := range texts {
+				fast, ok := cur.parsePlain(text, n)
+				if !ok {
+					continue
+				}
+				taken++
+				slow, err := cur.parse(text, n)
+				if err != nil || slow != fast {
+					t.Errorf("%s %+v %q: plain path %d, general path %d (%v)", cur.Code, n, text, fast, slow, err)
+				}
+			}
+		}
+	}
+	for _, c := range []struct {
+		cur  Currency
+		n    Notation
+		text string
+	}{
+		{Currency{"EUR", 2}, Notation{DecimalComma: true}, "12"}, {Currency{"EUR", 2}, Notation{ThousandsSeparator: "."}, "12"},
+		{Currency{"EUR", 2}, Notation{}, "1.234"}, {Currency{"JPY", 0}, Notation{}, "1.5"},
+		{Currency{"EUR", 2}, Notation{}, "100000000000000.00"}, {Currency{"EUR", 2}, Notation{}, "(3.10)"},
+	} {
+		if _, ok := c.cur.parsePlain(c.text, c.n); ok {
+			t.Errorf("%s %+v %q: taken by the plain path, want the general one", c.cur.Code, c.n, c.text)
+		}
+	}
+	if taken < 10000 {
+		t.Errorf("the plain path took %d texts; the check needs the common ones to go through it", taken)
 	}
 }
