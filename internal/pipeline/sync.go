@@ -9,6 +9,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"runtime"
 	"runtime/debug"
 	"sort"
 	"strings"
@@ -37,6 +38,14 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 	// the live heap instead of twice cuts the collector's share of a large
 	// load by a third, and memory stays bounded by the batch, not the file.
 	defer debug.SetGCPercent(debug.SetGCPercent(syncGCPercent))
+	// Five times a live heap that holds a large buffer (the balance
+	// check's filter of a file of many unbalanced entries) is more than
+	// the sync needs: the limit has the collector run sooner then. It
+	// is counted from what the process holds already (a daemon's), so
+	// that the collector does not run without end.
+	var held runtime.MemStats
+	runtime.ReadMemStats(&held)
+	defer debug.SetMemoryLimit(debug.SetMemoryLimit(int64(held.HeapAlloc) + syncMemoryHeadroom))
 	jobs := e.sources()
 	if len(jobs) == 0 {
 		return nil, fmt.Errorf("no sources configured: add sources.ledger in %s", e.Config.File)
@@ -260,6 +269,11 @@ func syncQuery(ctx context.Context, e *Env, db *sqlite.DB, role costdrift.Role, 
 // syncGCPercent is the garbage collector's target during a sync (Go's
 // default is 100).
 const syncGCPercent = 400
+
+// syncMemoryHeadroom is how much memory the Go runtime may take during a
+// sync beyond what it held before (SQLite's page cache is apart from it);
+// it is a target, not a cap: a larger live heap still gets memory.
+const syncMemoryHeadroom = 64 << 20
 
 // progressMinBytes is the size from which a file shows a progress line.
 const progressMinBytes = 20 << 20

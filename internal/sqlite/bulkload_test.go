@@ -148,3 +148,45 @@ func TestLoadFileNearLargestRowid(t *testing.T) {
 		t.Errorf("E010 and MOVED = %q, want the first row's 10 and the new file's 222", got)
 	}
 }
+
+// A file of more unbalanced entries than the check follows one by one
+// counts them from the runs of lines it stored when every entry's lines
+// came together, and asks the store when an unbalanced entry comes back
+// later in the file: the count is the file's entries whose lines do not
+// sum to zero either way.
+func TestBalanceCheckOfManyEntriesThatComeBack(t *testing.T) {
+	oneSided := func() []costdrift.LedgerLine {
+		var lines []costdrift.LedgerLine
+		for i := range maxSuspects + 5 {
+			lines = append(lines, ledgerLine("gl", fmt.Sprintf("E%d", i), 1, "2025-01-31", "6200", "PAINT", 100, ""))
+		}
+		return lines
+	}
+	together := oneSided()
+	// B balances, then comes back unbalanced: one entry that does not
+	// balance, counted once.
+	together = append(together,
+		ledgerLine("gl", "B", 1, "2025-01-31", "6200", "", 70, ""), ledgerLine("gl", "B", 2, "2025-01-31", "2000", "", -70, ""),
+		ledgerLine("gl", "X", 1, "2025-01-31", "6200", "", 0, ""),
+		ledgerLine("gl", "B", 3, "2025-01-31", "6200", "", 5, ""))
+	apart := oneSided()
+	// E3 and E4 come back: E3's second line takes its 100 back, E4's adds
+	// to it.
+	apart = append(apart,
+		ledgerLine("gl", "E3", 2, "2025-01-31", "2000", "", -100, ""),
+		ledgerLine("gl", "E4", 2, "2025-01-31", "2000", "", 50, ""))
+	for _, c := range []struct {
+		name  string
+		lines []costdrift.LedgerLine
+		want  string
+	}{
+		{"together", together, ": 10006 entries do not balance"},
+		{"apart", apart, ": 10004 entries do not balance"},
+	} {
+		db, _ := mustOpen(t)
+		run := loadFile(t, db, "/gl.csv", c.lines)
+		if len(run.Warnings) != 1 || !strings.Contains(run.Warnings[0], c.want) {
+			t.Errorf("%s: warnings %q, want %q", c.name, run.Warnings, c.want)
+		}
+	}
+}
