@@ -751,9 +751,11 @@ func (b *balance) closedUnbalanced(entry string) bool {
 }
 
 // ledgerBatch is how many ledger lines one INSERT carries. Fewer round
-// trips through database/sql and cgo make a file load several times faster;
-// 100 rows × 11 columns stays far below SQLite's limit on bound values.
-const ledgerBatch = 100
+// trips through database/sql and cgo make a file load several times faster,
+// and each call into SQLite long enough to hand its thread's Go processor
+// over costs a few context switches, fewer with fewer calls; 500 rows × 8
+// bound values stay far below SQLite's limit of 32,766.
+const ledgerBatch = 500
 
 // flush stores the pending ledger lines of a file with one multi-row
 // INSERT. The lines it could not store met a stored key (a repeat inside
@@ -778,7 +780,7 @@ func (w *writer) storeBatches(lines []costdrift.LedgerLine) error {
 	return nil
 }
 
-// storeBatch stores ledger lines of a file, a full batch with one INSERT.
+// storeBatch stores ledger lines of a file, a batch with one INSERT.
 //
 // The INSERT skips a line whose key is stored already (OR IGNORE) rather
 // than failing: a statement that may fail part way must keep a journal of
@@ -791,7 +793,7 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	if len(batch) == 0 {
 		return nil
 	}
-	if len(batch) < ledgerBatch || w.rowByRow {
+	if len(batch) < 2 || w.rowByRow {
 		for _, l := range batch {
 			if err := w.storeLine(l); err != nil {
 				return err
@@ -800,27 +802,19 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 		return nil
 	}
 	if w.batchInsert == "" {
-		// The source, run and file are the same for every line of the
-		// batch: written into the statement once, they are not bound a
-		// hundred times (each bound value is a call into SQLite). The
-		// source name is quoted as an SQL string; the ids are integers.
-		row := fmt.Sprintf("(%s,?,?,?,?,?,?,?,?,%d,%d)", quoteSQL(w.run.Source), w.run.ID, w.fileID)
-		var b strings.Builder
-		b.WriteString(`INSERT OR IGNORE INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id, source_file_id) VALUES `)
-		for i := 0; i < ledgerBatch; i++ {
-			if i > 0 {
-				b.WriteByte(',')
-			}
-			b.WriteString(row)
-		}
-		w.batchInsert = b.String()
+		w.batchInsert = w.insertSQL(ledgerBatch)
 		w.batchArgs = make([]any, 0, ledgerBatch*8)
+	}
+	// The last batch of a file is short: it has a statement of its own.
+	query := w.batchInsert
+	if len(batch) != ledgerBatch {
+		query = w.insertSQL(len(batch))
 	}
 	args := w.batchArgs[:0]
 	for _, l := range batch {
 		args = append(args, l.EntryID, l.Line, l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description)
 	}
-	s, err := w.stmt(w.batchInsert)
+	s, err := w.stmt(query)
 	if err != nil {
 		return err
 	}
@@ -841,6 +835,24 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 		return nil
 	}
 	return w.settleBatch(batch, stored, last)
+}
+
+// insertSQL is the INSERT of n ledger lines of the writer's file. The
+// source, run and file are the same for every line: written into the
+// statement once, they are not bound for each line (each bound value is a
+// call into SQLite). The source name is quoted as an SQL string; the ids
+// are integers.
+func (w *writer) insertSQL(n int) string {
+	row := fmt.Sprintf("(%s,?,?,?,?,?,?,?,?,%d,%d)", quoteSQL(w.run.Source), w.run.ID, w.fileID)
+	var b strings.Builder
+	b.WriteString(`INSERT OR IGNORE INTO gl_lines (source, entry_id, line, posted_on, period, account, cost_center, amount_minor, description, sync_run_id, source_file_id) VALUES `)
+	for i := range n {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteString(row)
+	}
+	return b.String()
 }
 
 // lastInsert says how many rows the last INSERT stored and the rowid of the
@@ -1063,9 +1075,9 @@ func (p *pipeline) finish() error {
 }
 
 // handOver is how many ledger lines the pipeline hands to the storing
-// goroutine at a time: a few batches, so that the two goroutines wake each
-// other a few thousand times in a million lines rather than ten thousand.
-const handOver = 10 * ledgerBatch
+// goroutine at a time: two batches, so that the two goroutines wake each
+// other a thousand times in a million lines rather than ten thousand.
+const handOver = 2 * ledgerBatch
 
 func (p *pipeline) LedgerLine(l costdrift.LedgerLine) error {
 	p.pending = append(p.pending, l)
