@@ -764,20 +764,35 @@ const ledgerBatch = 500
 func (w *writer) flush() error {
 	batch := w.pending
 	w.pending = w.pending[:0]
-	return w.storeBatch(batch)
+	return w.storeBatch(batch, nil)
 }
 
 // storeBatches stores ledger lines of a file in batches of ledgerBatch, in
-// order; the last may be short.
-func (w *writer) storeBatches(lines []costdrift.LedgerLine) error {
+// order; the last may be short. args are the lines' values as the INSERT
+// binds them (batchValues), or nil.
+func (w *writer) storeBatches(lines []costdrift.LedgerLine, args []any) error {
 	for len(lines) > 0 {
 		n := min(len(lines), ledgerBatch)
-		if err := w.storeBatch(lines[:n]); err != nil {
+		var a []any
+		if args != nil {
+			a, args = args[:n*valuesPerLine], args[n*valuesPerLine:]
+		}
+		if err := w.storeBatch(lines[:n], a); err != nil {
 			return err
 		}
 		lines = lines[n:]
 	}
 	return nil
+}
+
+// valuesPerLine is how many values the batch INSERT binds for a line.
+const valuesPerLine = 8
+
+// batchValues appends a line's values as the batch INSERT binds them.
+// Putting each in an interface takes an allocation or two: the pipeline
+// does it on the reading goroutine, not on the one that waits for SQLite.
+func batchValues(args []any, l costdrift.LedgerLine) []any {
+	return append(args, l.EntryID, l.Line, l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description)
 }
 
 // storeBatch stores ledger lines of a file, a batch with one INSERT.
@@ -789,7 +804,7 @@ func (w *writer) storeBatches(lines []costdrift.LedgerLine) error {
 // (The ledger's foreign keys are checked at commit, schema 16, for the
 // same reason.) The lines stored take the rowids after the largest before
 // the statement, which tells them from the lines it skipped.
-func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
+func (w *writer) storeBatch(batch []costdrift.LedgerLine, args []any) error {
 	if len(batch) == 0 {
 		return nil
 	}
@@ -803,16 +818,18 @@ func (w *writer) storeBatch(batch []costdrift.LedgerLine) error {
 	}
 	if w.batchInsert == "" {
 		w.batchInsert = w.insertSQL(ledgerBatch)
-		w.batchArgs = make([]any, 0, ledgerBatch*8)
+		w.batchArgs = make([]any, 0, ledgerBatch*valuesPerLine)
 	}
 	// The last batch of a file is short: it has a statement of its own.
 	query := w.batchInsert
 	if len(batch) != ledgerBatch {
 		query = w.insertSQL(len(batch))
 	}
-	args := w.batchArgs[:0]
-	for _, l := range batch {
-		args = append(args, l.EntryID, l.Line, l.PostedOn, l.Period, l.Account, l.CostCenter, l.AmountMinor, l.Description)
+	if args == nil {
+		args = w.batchArgs[:0]
+		for _, l := range batch {
+			args = batchValues(args, l)
+		}
 	}
 	s, err := w.stmt(query)
 	if err != nil {
@@ -1028,6 +1045,7 @@ func (db *DB) SyncRuns(ctx context.Context, limit int) ([]costdrift.SyncRun, err
 type pipeline struct {
 	w       *writer
 	pending []costdrift.LedgerLine
+	args    []any // pending's values as the batch INSERT binds them
 	jobs    chan func() error
 	done    chan struct{}
 	err     error // the first error of a job; read after done
@@ -1066,7 +1084,8 @@ func (p *pipeline) finish() error {
 	p.once.Do(func() {
 		if len(p.pending) > 0 && !p.failed.Load() {
 			lines := p.pending
-			p.jobs <- func() error { return p.w.storeBatches(lines) }
+			args := p.args
+			p.jobs <- func() error { return p.w.storeBatches(lines, args) }
 		}
 		close(p.jobs)
 		<-p.done
@@ -1081,12 +1100,14 @@ const handOver = 2 * ledgerBatch
 
 func (p *pipeline) LedgerLine(l costdrift.LedgerLine) error {
 	p.pending = append(p.pending, l)
+	p.args = batchValues(p.args, l)
 	if len(p.pending) < handOver {
 		return nil
 	}
-	lines := p.pending
+	lines, args := p.pending, p.args
 	p.pending = make([]costdrift.LedgerLine, 0, handOver)
-	return p.submit(func() error { return p.w.storeBatches(lines) })
+	p.args = make([]any, 0, handOver*valuesPerLine)
+	return p.submit(func() error { return p.w.storeBatches(lines, args) })
 }
 
 func (p *pipeline) Activity(a costdrift.ActivityValue) error {
