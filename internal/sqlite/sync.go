@@ -744,10 +744,12 @@ func (b *balance) close() {
 // unbalanced already: exactly while the suspects are few, by the filter
 // once they are many.
 func (b *balance) closedUnbalanced(entry string) bool {
-	if _, ok := b.suspects[entry]; ok {
-		return true
+	if b.overflow {
+		// The filter holds the suspects too.
+		return b.mayHaveClosedUnbalanced(entry)
 	}
-	return b.overflow && b.mayHaveClosedUnbalanced(entry)
+	_, ok := b.suspects[entry]
+	return ok
 }
 
 // ledgerBatch is how many ledger lines one INSERT carries. Fewer round
