@@ -27,7 +27,7 @@ mailpit: ## install the SMTP server the alert-mail tests run against, into $(go 
 crosscheck: ## regenerate the statsmodels/SciPy/R check values, compare with the committed ones, run the Go checks
 	bash scripts/crosscheck/run.sh
 
-bench-sync: ## sync of a 1,000,000-line ledger against the sqlite3 shell's .import, side by side
+bench-sync: ## sync of 1,000,000-line ledgers of three shapes against the sqlite3 shell's .import, side by side
 	bash scripts/bench-sync.sh 1000000
 
 bench-analyze: ## analysis of 10,000 objects x 30 drivers x 2 lags against a statsmodels loop and a numpy floor
