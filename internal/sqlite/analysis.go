@@ -711,11 +711,7 @@ func nullString(s string) any {
 // least once, the behaviour its current one replaced: class, driver, lag
 // and formula.
 func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behaviour, error) {
-	rows, err := db.q().QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(lag, 0),
-		fixed_per_period, variable_rate, COALESCE(valid_from_period, since, '')
-		FROM behaviour_history h
-		WHERE valid_to_run_at IS NOT NULL
-		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`)
+	rows, err := db.q().QueryContext(ctx, previousBehaviourQuery)
 	if err != nil {
 		return nil, err
 	}
@@ -734,6 +730,12 @@ func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behav
 	}
 	return out, rows.Err()
 }
+
+const previousBehaviourQuery = `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(lag, 0),
+		fixed_per_period, variable_rate, COALESCE(valid_from_period, since, '')
+		FROM behaviour_history h
+		WHERE valid_to_run_at IS NOT NULL
+		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`
 
 // NewestPeriods returns, per source, the newest period of its ledger lines
 // and activity.

@@ -3,6 +3,7 @@ package sqlite
 import (
 	"context"
 	"reflect"
+	"strings"
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -102,5 +103,38 @@ func TestAnalysisWriterBatchesAreOneTransaction(t *testing.T) {
 	}
 	if got := dump(t, db, `SELECT objects FROM analysis_runs`); got != "int64:2\n" {
 		t.Errorf("the run counts %s objects, want 2", got)
+	}
+}
+
+// The rules after an analysis read every object's latest closed behaviour:
+// the lookup of an object's rows must search an index by object, not scan
+// every object's rows for each one (a time growing with the square of the
+// number of objects; minutes at 100,000).
+func TestPreviousBehaviourSearchesByObject(t *testing.T) {
+	db, _ := mustOpen(t)
+	rows, err := db.SQL().Query(`EXPLAIN QUERY PLAN ` + previousBehaviourQuery)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var plan []string
+	for rows.Next() {
+		var id, parent, unused int
+		var detail string
+		if err := rows.Scan(&id, &parent, &unused, &detail); err != nil {
+			t.Fatal(err)
+		}
+		plan = append(plan, detail)
+	}
+	// SQLite's plan (https://sqlite.org/eqp.html): the correlated
+	// subquery is a SEARCH of p using an index on object, not a SCAN.
+	found := false
+	for _, step := range plan {
+		if strings.HasPrefix(step, "SEARCH p USING") && strings.Contains(step, "(object=?") && !strings.Contains(step, "AUTOMATIC") {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("the latest closed row of each object is not looked up by an index on object; plan:\n%s", strings.Join(plan, "\n"))
 	}
 }
