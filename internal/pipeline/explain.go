@@ -60,7 +60,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 		return ex, nil, nil
 	}
 	maxLag := widestLag(oa.Settings, b.Lag)
-	pts, err := analysedPoints(ctx, e, db, oa, maxLag)
+	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, maxLag)
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
@@ -271,7 +271,7 @@ func editDistance(a, b string) int {
 // value lag periods before, read as the analysis reads it (the cost centre's
 // own series, else the company-wide one). Periods without a driver value
 // are left out, as the analysis leaves them out.
-func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysis, maxLag int) ([]chart.Point, error) {
+func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, costsOf costReader, oa sqlite.ObjectAnalysis, maxLag int) ([]chart.Point, error) {
 	b, run := oa.Behaviour, oa.Run
 	for _, p := range []string{run.WindowFrom, run.WindowTo} {
 		if _, err := e.Calendar.Parse(p); err != nil {
@@ -279,7 +279,7 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.Object
 		}
 	}
 	accountGrain := run.Grain == costdrift.GrainAccount
-	costs, ledger, err := db.CostPerPeriod(ctx, b.Object, accountGrain, run.WindowFrom, run.WindowTo)
+	costs, ledger, err := costsOf(ctx, b.Object, accountGrain, run.WindowFrom, run.WindowTo)
 	if err != nil {
 		return nil, err
 	}
@@ -301,6 +301,10 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.Object
 	}
 	return pts, nil
 }
+
+// costReader reads one object's cost per period and the periods in which
+// the ledger has postings, as sqlite.DB.CostPerPeriod does.
+type costReader func(ctx context.Context, o costdrift.CostObject, allCostCenters bool, first, last string) (map[string]int64, map[string]bool, error)
 
 // lagged returns a driver's values keyed by the cost period they explain:
 // the value of period p − lag under key p.

@@ -138,3 +138,46 @@ func TestPreviousBehaviourSearchesByObject(t *testing.T) {
 		t.Errorf("the latest closed row of each object is not looked up by an index on object; plan:\n%s", strings.Join(plan, "\n"))
 	}
 }
+
+// CostsPerPeriod reads many objects' costs in one pass and gives each the
+// same costs, ledger periods and overflow error as CostPerPeriod reading it
+// alone, at either grain.
+func TestCostsPerPeriodIsCostPerPeriod(t *testing.T) {
+	db, _ := mustOpen(t)
+	loadFile(t, db, "/gl.csv", []costdrift.LedgerLine{
+		ledgerLine("gl", "E1", 1, "2025-01-31", "6200", "WELD", 100, ""),
+		ledgerLine("gl", "E1", 2, "2025-01-31", "6200", "PAINT", 200, ""),
+		ledgerLine("gl", "E2", 1, "2025-02-28", "6200", "WELD", 300, ""),
+		ledgerLine("gl", "E2", 2, "2025-02-28", "6100", "", 400, ""),
+		ledgerLine("gl", "E3", 1, "2025-03-31", "6100", "", 500, ""),
+		ledgerLine("gl", "E4", 1, "2025-03-31", "6300", "", 9_000_000_000_000_000_000, ""),
+		ledgerLine("gl", "E4", 2, "2025-03-31", "6300", "", 9_000_000_000_000_000_000, ""),
+		ledgerLine("gl", "E5", 1, "2025-04-30", "6100", "", 50, ""),
+	})
+	ctx := context.Background()
+	objects := []costdrift.CostObject{{Account: "6100"}, {Account: "6200", CostCenter: "WELD"}, {Account: "6200", CostCenter: "PAINT"},
+		{Account: "6300"}, {Account: "6400"}}
+	for _, all := range []bool{false, true} {
+		lc, err := db.CostsPerPeriod(ctx, objects, all, "2025-01", "2025-04")
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, o := range objects {
+			for _, window := range [][2]string{{"2025-01", "2025-04"}, {"2025-02", "2025-03"}} {
+				wantCosts, wantLedger, wantErr := db.CostPerPeriod(ctx, o, all, window[0], window[1])
+				costs, ledger, err := lc.CostPerPeriod(ctx, o, all, window[0], window[1])
+				if fmtErr(err) != fmtErr(wantErr) || !reflect.DeepEqual(costs, wantCosts) || !reflect.DeepEqual(ledger, wantLedger) {
+					t.Errorf("%s (all cost centres %v) %v: %v %v %v; CostPerPeriod gives %v %v %v", o, all, window, costs, ledger, err,
+						wantCosts, wantLedger, wantErr)
+				}
+			}
+		}
+	}
+}
+
+func fmtErr(err error) string {
+	if err == nil {
+		return ""
+	}
+	return err.Error()
+}
