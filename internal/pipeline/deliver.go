@@ -4,7 +4,9 @@ import (
 	"bytes"
 	"context"
 	"fmt"
+	"runtime"
 	"strings"
+	"sync"
 	"time"
 
 	gomail "github.com/wneessen/go-mail"
@@ -220,14 +222,34 @@ func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.A
 			readers[g] = lc.CostPerPeriod
 		}
 	}
-	for _, al := range alerts {
-		oa, ok := analyses[al.ID]
-		if !ok {
-			continue
+	// Drawing a chart takes far longer than reading its data: on every
+	// core.
+	charts := make([][]byte, len(alerts))
+	work := make(chan int)
+	var wg sync.WaitGroup
+	for range runtime.GOMAXPROCS(0) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range work {
+				oa := analyses[alerts[i].ID]
+				charts[i] = alertChart(ctx, e, db, readers[oa.Run.Grain == costdrift.GrainAccount], alerts[i], oa, names)
+			}
+		}()
+	}
+	for i, al := range alerts {
+		if _, ok := analyses[al.ID]; ok {
+			work <- i
 		}
-		it := out[al.ID]
-		it.Chart = alertChart(ctx, e, db, readers[oa.Run.Grain == costdrift.GrainAccount], al, oa, names)
-		out[al.ID] = it
+	}
+	close(work)
+	wg.Wait()
+	for i, al := range alerts {
+		if charts[i] != nil {
+			it := out[al.ID]
+			it.Chart = charts[i]
+			out[al.ID] = it
+		}
 	}
 	return out
 }
