@@ -340,10 +340,21 @@ func meanOf(v []float64) float64 {
 	return s / float64(len(v))
 }
 
+// minMax returns the smallest and largest value, NaN when any is NaN. It
+// runs for every candidate of every object, where math.Min and math.Max,
+// which also order −0 below +0, took a twentieth of the analysis.
 func minMax(v []float64) (float64, float64) {
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, x := range v {
-		lo, hi = math.Min(lo, x), math.Max(hi, x)
+		if x != x {
+			return math.NaN(), math.NaN()
+		}
+		if x < lo {
+			lo = x
+		}
+		if x > hi {
+			hi = x
+		}
 	}
 	return lo, hi
 }
