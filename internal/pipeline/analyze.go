@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"slices"
+	"sync"
 
 	"github.com/costdrift/costdrift/internal/alerts"
 	"github.com/costdrift/costdrift/internal/analyze"
@@ -139,15 +140,18 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, previous: previous,
 		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
-		window: window, drivers: drivers, saved: make(chan batch, 1), done: make(chan error, 1)}
+		window: window, drivers: drivers,
+		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
+	go s.analyse()
 	go s.save()
 	err = db.EachObjectCosts(ctx, accountGrain, window.From(), window.To(), s.read)
 	if err == nil {
 		err = s.flush()
 	}
-	close(s.saved)
-	if werr := <-s.done; err == nil {
-		err = werr
+	close(s.jobs)
+	<-s.finished
+	if err == nil {
+		err = s.failed()
 	}
 	if err == nil {
 		err = ctx.Err()
@@ -163,9 +167,11 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	return res, nil
 }
 
-// stream is one analysis on its way through the ledger: the objects read
-// since the last batch, and the writer that stores each batch's results
-// while the next batch is fitted.
+// stream is one analysis on its way through the ledger, in three stages
+// that run at the same time: the objects are read from the store (with
+// their prior behaviour) a batch at a time, the batch before is fitted on
+// every core, and the one before that stored. A stage that fails stops the
+// others.
 type stream struct {
 	ctx      context.Context
 	db       *sqlite.DB
@@ -186,14 +192,43 @@ type stream struct {
 	// analysis; stored counts those stored (set by save alone).
 	total, analysed, stored int
 
-	saved chan batch
-	done  chan error
+	jobs     chan job   // read → analyse
+	saved    chan batch // analyse → save
+	stop     chan struct{}
+	once     sync.Once
+	err      error // the first stage's error, set once before stop closes
+	finished chan struct{}
+}
+
+// job is one batch to fit.
+type job struct {
+	panel    costdrift.Panel
+	settings analyze.Settings
+	inputs   []string
 }
 
 // batch is what one batch's analysis leaves to store.
 type batch struct {
 	results []analyze.Result
 	inputs  []string
+}
+
+// fail stops every stage with err, the first error only.
+func (s *stream) fail(err error) {
+	s.once.Do(func() {
+		s.err = err
+		close(s.stop)
+	})
+}
+
+// failed returns the error a stage stopped the stream with, if any.
+func (s *stream) failed() error {
+	select {
+	case <-s.stop:
+		return s.err
+	default:
+		return nil
+	}
 }
 
 // read takes one object's cost totals from the store.
@@ -215,14 +250,14 @@ func (s *stream) read(totals []costdrift.CostTotal) error {
 	return s.flush()
 }
 
-// flush raises the data gaps of the objects read, analyses those that
-// changed over the machine's cores and hands their results to the writer.
+// flush raises the data gaps of the objects read, reads the prior
+// behaviour of those that changed and hands them to be fitted.
 func (s *stream) flush() error {
 	defer func() { s.objects, s.changed, s.inputs = nil, nil, nil }()
 	read := s.window.Panel(s.objects, s.drivers)
 	s.res.gaps = append(s.res.gaps, alerts.DataGap(&read, s.names)...)
 	if len(s.changed) == 0 {
-		return nil
+		return s.failed()
 	}
 	s.analysed += len(s.changed)
 	objects := make([]costdrift.ObjectSeries, len(s.changed))
@@ -240,17 +275,30 @@ func (s *stream) flush() error {
 	}
 	settings := s.settings
 	settings.Prior = prior
-	p := s.window.Panel(objects, s.drivers)
-	results, err := analyze.Panel(s.ctx, &p, settings)
-	if err != nil {
-		return err
-	}
 	select {
-	case s.saved <- batch{results: results, inputs: s.inputs}:
+	case s.jobs <- job{panel: s.window.Panel(objects, s.drivers), settings: settings, inputs: s.inputs}:
 		return nil
-	case err := <-s.done:
-		s.done <- err // for Analyze to read again
-		return err
+	case <-s.stop:
+		return s.err
+	}
+}
+
+// analyse fits each batch on every core and hands the results on.
+func (s *stream) analyse() {
+	defer close(s.saved)
+	for j := range s.jobs {
+		if s.failed() != nil {
+			continue // drain
+		}
+		results, err := analyze.Panel(s.ctx, &j.panel, j.settings)
+		if err != nil {
+			s.fail(err)
+			continue
+		}
+		select {
+		case s.saved <- batch{results: results, inputs: j.inputs}:
+		case <-s.stop:
+		}
 	}
 }
 
@@ -259,9 +307,9 @@ func (s *stream) flush() error {
 // whose analysis failed keeps its earlier analysis and input hash, so that
 // it is tried again.
 func (s *stream) save() {
-	var err error
+	defer close(s.finished)
 	for b := range s.saved {
-		if err != nil {
+		if s.failed() != nil {
 			continue // drain
 		}
 		var fits []costdrift.Fit
@@ -280,9 +328,10 @@ func (s *stream) save() {
 			s.res.Classes[r.Behaviour.Class]++
 		}
 		s.stored += len(behaviours)
-		err = s.w.Save(s.ctx, fits, behaviours, inputs)
+		if err := s.w.Save(s.ctx, fits, behaviours, inputs); err != nil {
+			s.fail(err)
+		}
 	}
-	s.done <- err
 }
 
 // Raise evaluates the rules that follow an analysis over every object in
