@@ -61,7 +61,13 @@ for round in $(seq "$rounds"); do
 done
 
 # The command, store to store. Sizes in bytes of the store and its -wal.
-store_bytes() { cat "$1"/costdrift.db "$1"/costdrift.db-wal 2>/dev/null | wc -c; }
+store_bytes() {
+  local sum=0 f
+  for f in "$1"/costdrift.db "$1"/costdrift.db-wal; do
+    [ -f "$f" ] && sum=$((sum + $(stat -c %s "$f")))
+  done
+  echo "$sum"
+}
 timed() { # label dir objects command...: one RESULT line from /usr/bin/time
   local label=$1 dir=$2 objects=$3
   shift 3
