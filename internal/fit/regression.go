@@ -175,6 +175,20 @@ func OLS(columns [][]float64, y []float64, intercept bool) (*Regression, error) 
 // measure how far the arithmetic itself gets on a design OLS refuses (NIST
 // Filip). Production code calls OLS.
 func ols(columns [][]float64, y []float64, intercept bool, rankTol, condLimit float64) (*Regression, error) {
+	return solve(columns, y, intercept, rankTol, condLimit, true)
+}
+
+// coefficients is OLS without the inference: the same coefficients,
+// residuals and RSS, bit for bit, but no standard errors, t and p-values,
+// R², F or leave-one-out error. Huber's reweighting fits need only the
+// coefficients, up to forty times per fit, and the p-values they never
+// read took half their time.
+func coefficients(columns [][]float64, y []float64, intercept bool) (*Regression, error) {
+	return solve(columns, y, intercept, rankTolerance, conditionLimit, false)
+}
+
+// solve is OLS; with infer false it skips finish.
+func solve(columns [][]float64, y []float64, intercept bool, rankTol, condLimit float64, infer bool) (*Regression, error) {
 	n, p := len(y), len(columns)
 	for j, c := range columns {
 		if len(c) != n {
@@ -334,7 +348,9 @@ func ols(columns [][]float64, y []float64, intercept bool, rankTol, condLimit fl
 	}
 	r.refine(columns, y, scale, rf, q1)
 	r.RSS = sumSquares(r.Residuals)
-	r.finish(tss)
+	if infer {
+		r.finish(tss)
+	}
 	return r, nil
 }
 
