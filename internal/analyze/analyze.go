@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -143,6 +144,9 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 	res.Fits = append(res.Fits, fitRecord(obj.Object, "", 0, costdrift.ModelConstant, constant, 0, 0))
 
 	cands := candidates(p, obj, s)
+	// Room for every fit the object gets: two per candidate, then the step
+	// fits and a two-driver fit, without growing the slice as they come.
+	res.Fits = slices.Grow(res.Fits, 2*len(cands)+StepCandidates+1)
 	for _, c := range cands {
 		c.linearIdx = len(res.Fits)
 		f := fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelLinear, c.linear, c.rangeMin, c.rangeMax)
