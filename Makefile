@@ -30,7 +30,7 @@ crosscheck: ## regenerate the statsmodels/SciPy/R check values, compare with the
 bench-sync: ## sync of 1,000,000-line ledgers of three shapes against the sqlite3 shell's .import, side by side
 	bash scripts/bench-sync.sh 1000000
 
-bench-analyze: ## analysis of 10,000 objects x 30 drivers x 2 lags against a statsmodels loop and a numpy floor
+bench-analyze: ## analysis of 10,000 objects x 30 drivers x 2 lags against a statsmodels loop and a numpy floor; the analyze command store to store at 10,000 and 100,000 objects
 	bash scripts/bench-analyze/run.sh
 
 SOAK_ROTATE ?= 20

@@ -3,6 +3,8 @@ package main
 import (
 	"fmt"
 	"io"
+	"os"
+	"runtime/pprof"
 	"sort"
 	"strings"
 
@@ -15,6 +17,7 @@ import (
 
 func (a *app) analyzeCommand() *cobra.Command {
 	var all bool
+	var cpuProfile string
 	cmd := &cobra.Command{
 		Use:   "analyze",
 		Short: "Fit every driver to every cost object and classify its behaviour",
@@ -24,6 +27,13 @@ changed since their last analysis are left as they were; --all refits them too.
 The alerts that follow are raised and mailed, as in a cycle of the daemon.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if cpuProfile != "" {
+				stop, err := startCPUProfile(cpuProfile)
+				if err != nil {
+					return err
+				}
+				defer stop()
+			}
 			return a.withStoreToWrite(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
 				_, err := a.analyze(cmd, e, db, all)
 				return err
@@ -31,7 +41,27 @@ The alerts that follow are raised and mailed, as in a cycle of the daemon.`,
 		},
 	}
 	cmd.Flags().BoolVar(&all, "all", false, "refit every object, changed or not")
+	// For developers timing the command as a user runs it (make
+	// bench-analyze); not a user's option, so not in --help.
+	cmd.Flags().StringVar(&cpuProfile, "cpuprofile", "", "write a CPU profile of the command to this file")
+	cmd.Flags().MarkHidden("cpuprofile")
 	return cmd
+}
+
+// startCPUProfile writes a CPU profile to path until stop is called.
+func startCPUProfile(path string) (stop func(), err error) {
+	f, err := os.Create(path)
+	if err != nil {
+		return nil, fmt.Errorf("cpu profile: %w", err)
+	}
+	if err := pprof.StartCPUProfile(f); err != nil {
+		f.Close()
+		return nil, fmt.Errorf("cpu profile: %w", err)
+	}
+	return func() {
+		pprof.StopCPUProfile()
+		f.Close()
+	}, nil
 }
 
 // analyze analyses, raises the alerts and mails them, printing each step.

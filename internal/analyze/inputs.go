@@ -20,6 +20,25 @@ const Version = 4
 // centre's own series, else the company-wide one). Equal hashes mean the
 // analysis would come out the same, so the object can be skipped.
 func InputHashes(p *costdrift.Panel, settings string) map[string]string {
+	h := NewInputHasher(p, settings)
+	out := make(map[string]string, len(p.Objects))
+	for i := range p.Objects {
+		out[p.Objects[i].Object.String()] = h.Hash(&p.Objects[i])
+	}
+	return out
+}
+
+// InputHasher hashes objects' inputs (InputHashes) against one panel's
+// window and drivers, whose hashes it computes once.
+type InputHasher struct {
+	p          *costdrift.Panel
+	settings   string
+	seriesHash []uint64
+}
+
+// NewInputHasher hashes the panel's driver series; the panel's objects
+// need not be set.
+func NewInputHasher(p *costdrift.Panel, settings string) *InputHasher {
 	seriesHash := make([]uint64, len(p.Drivers))
 	for i, d := range p.Drivers {
 		h := fnv.New64a()
@@ -27,40 +46,42 @@ func InputHashes(p *costdrift.Panel, settings string) map[string]string {
 		writeFloats(h, d.Values)
 		seriesHash[i] = h.Sum64()
 	}
-	out := make(map[string]string, len(p.Objects))
-	for _, o := range p.Objects {
-		chosen := map[string]int{}
-		for i, d := range p.Drivers {
-			switch {
-			case d.CostCenter == o.Object.CostCenter:
+	return &InputHasher{p: p, settings: settings, seriesHash: seriesHash}
+}
+
+// Hash is the input hash of one object over the hasher's panel.
+func (ih *InputHasher) Hash(o *costdrift.ObjectSeries) string {
+	p := ih.p
+	chosen := map[string]int{}
+	for i, d := range p.Drivers {
+		switch {
+		case d.CostCenter == o.Object.CostCenter:
+			chosen[d.Name] = i
+		case d.CostCenter == "":
+			if _, ok := chosen[d.Name]; !ok {
 				chosen[d.Name] = i
-			case d.CostCenter == "":
-				if _, ok := chosen[d.Name]; !ok {
-					chosen[d.Name] = i
-				}
 			}
 		}
-		names := make([]string, 0, len(chosen))
-		for n := range chosen {
-			names = append(names, n)
-		}
-		sort.Strings(names)
-		h := fnv.New64a()
-		var buf [8]byte
-		binary.LittleEndian.PutUint64(buf[:], Version)
-		h.Write(buf[:])
-		h.Write([]byte(settings + "\x00"))
-		for _, period := range p.Periods {
-			h.Write([]byte(period))
-		}
-		writeFloats(h, o.Cost)
-		for _, n := range names {
-			binary.LittleEndian.PutUint64(buf[:], seriesHash[chosen[n]])
-			h.Write(buf[:])
-		}
-		out[o.Object.String()] = hex.EncodeToString(h.Sum(nil))
 	}
-	return out
+	names := make([]string, 0, len(chosen))
+	for n := range chosen {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	h := fnv.New64a()
+	var buf [8]byte
+	binary.LittleEndian.PutUint64(buf[:], Version)
+	h.Write(buf[:])
+	h.Write([]byte(ih.settings + "\x00"))
+	for _, period := range p.Periods {
+		h.Write([]byte(period))
+	}
+	writeFloats(h, o.Cost)
+	for _, n := range names {
+		binary.LittleEndian.PutUint64(buf[:], ih.seriesHash[chosen[n]])
+		h.Write(buf[:])
+	}
+	return hex.EncodeToString(h.Sum(nil))
 }
 
 type writer interface{ Write([]byte) (int, error) }

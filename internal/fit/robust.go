@@ -209,7 +209,7 @@ func huber(columns [][]float64, y []float64, maxIterations int) (*HuberFit, erro
 			}
 			wy[i] = sw[i] * y[i]
 		}
-		r, err := OLS(design, wy, false)
+		r, err := coefficients(design, wy, false)
 		if err != nil {
 			return nil, fmt.Errorf("huber: weighted fit %d: %w", h.Iterations+1, err)
 		}

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"slices"
+	"sync"
 
 	"github.com/costdrift/costdrift/internal/alerts"
 	"github.com/costdrift/costdrift/internal/analyze"
@@ -34,9 +35,10 @@ type AnalysisResult struct {
 	// the rules on sources and data quality are evaluated.
 	HeldBack []alerts.PeriodQuality
 
-	// What the alert rules evaluate after the analysis: every object in
-	// scope (not only those refitted), and the activity read.
-	panel    costdrift.Panel
+	// What the alert rules evaluate after the analysis, over every object
+	// in scope (not only those refitted): the data gaps found as the
+	// objects were read, and the activity read.
+	gaps     []costdrift.Alert
 	activity []costdrift.ActivityValue
 }
 
@@ -48,10 +50,20 @@ type SkippedObject struct {
 	Stack  string
 }
 
-// Analyze builds the panel from the store, analyses every object in scope
-// whose data or settings changed since its last analysis (every one with
-// all), and stores the run, its fits and the behaviours in one
-// transaction. The alerts that follow are raised by Raise.
+// BatchObjects is how many cost objects an analysis reads, fits and stores
+// at a time: what it holds in memory depends on this, not on the number of
+// objects in the ledger.
+const BatchObjects = 500
+
+// batchObjects is BatchObjects; tests make it small to analyse in many batches.
+var batchObjects = BatchObjects
+
+// Analyze reads the ledger from the store object by object, analyses every
+// object in scope whose data or settings changed since its last analysis
+// (every one with all), and stores the run, the fits and the behaviours in
+// one transaction, written a batch of BatchObjects at a time while the next
+// batch is fitted. Once ctx ends, nothing is stored and ctx's error is
+// returned. The alerts that follow are raised by Raise.
 func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisResult, error) {
 	started := e.Now()
 	cfg := e.Config.Analysis
@@ -59,7 +71,7 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	if err != nil {
 		return nil, err // validated with the config
 	}
-	costs, err := db.CostTotals(ctx)
+	ledger, err := db.LedgerPeriods(ctx)
 	if err != nil {
 		return nil, fmt.Errorf("analyze: read ledger totals: %w", err)
 	}
@@ -75,90 +87,251 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	for range e.Currency.Exponent {
 		minor *= 10
 	}
-	panel, err := series.Build(costs, activity, series.Settings{
-		Grain: costdrift.Grain(cfg.Grain), Scope: scope, Window: cfg.Window, MaxLag: slices.Max(cfg.Lags),
-		Minor: minor, Calendar: e.Calendar, Now: e.Now(),
-	})
+	ss := series.Settings{Grain: costdrift.Grain(cfg.Grain), Scope: scope, Window: cfg.Window, MaxLag: slices.Max(cfg.Lags),
+		Minor: minor, Calendar: e.Calendar, Now: e.Now()}
+	window, err := series.NewWindow(ledger, ss)
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
 	}
+	drivers := series.Drivers(activity, window.Periods, ss)
 	settings, _ := json.Marshal(costdrift.AnalysisSettings{Grain: costdrift.Grain(cfg.Grain), Accounts: cfg.Accounts, Window: cfg.Window,
 		MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha, Currency: e.Currency.Code,
 		BreakAlpha: cfg.BreakAlpha, BootstrapReplicates: cfg.BootstrapReplicates, Seed: bootstrapSeed})
-	inputs := analyze.InputHashes(&panel, string(settings))
-	total := len(panel.Objects)
-	whole := panel // every object in scope, for the rules on data gaps
+	run := &costdrift.AnalysisRun{StartedAt: started, Grain: costdrift.Grain(cfg.Grain),
+		WindowFrom: window.From(), WindowTo: window.To(), Settings: string(settings)}
+	res := &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: window.WithPostings, activity: activity, Run: run}
 	q, err := quality(ctx, e, db)
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
 	}
+	accountGrain := costdrift.Grain(cfg.Grain) == costdrift.GrainAccount
 	// A rejected row may belong to any object, so a source period with too
 	// many rejects holds every object back: costs or drivers counted from
 	// part of a period would read as a change in behaviour.
-	if held := heldBack(q, cfg.MaxRejectedShare, panel.Periods[0]); len(held) > 0 {
-		return &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: panel.PeriodsWithPostings, HeldBack: held,
-			panel: whole, activity: activity,
-			Run: &costdrift.AnalysisRun{Skipped: total, StartedAt: started, FinishedAt: e.Now(), Grain: costdrift.Grain(cfg.Grain),
-				WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings)}}, nil
-	}
-	if !all {
-		previous, err := db.ObjectInputs(ctx)
+	if held := heldBack(q, cfg.MaxRejectedShare, window.From()); len(held) > 0 {
+		err := db.EachObjectCosts(ctx, accountGrain, window.From(), window.To(), func(totals []costdrift.CostTotal) error {
+			if _, ok := window.Object(totals); ok {
+				run.Skipped++
+			}
+			return nil
+		})
 		if err != nil {
+			return nil, fmt.Errorf("analyze: read ledger totals: %w", err)
+		}
+		run.FinishedAt, res.HeldBack = e.Now(), held
+		return res, nil
+	}
+	var previous map[string]string
+	if !all {
+		if previous, err = db.ObjectInputs(ctx); err != nil {
 			return nil, fmt.Errorf("analyze: %w", err)
 		}
-		changed := panel.Objects[:0:0]
-		for _, o := range panel.Objects {
-			if previous[o.Object.String()] != inputs[o.Object.String()] {
-				changed = append(changed, o)
-			}
-		}
-		panel.Objects = changed
+	}
+	names, err := db.AccountNames(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	as := analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
+		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed}
+
+	w, err := db.BeginAnalysis(ctx, run)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, previous: previous,
+		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
+		window: window, drivers: drivers,
+		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
+	go s.analyse()
+	go s.save()
+	err = db.EachObjectCosts(ctx, accountGrain, window.From(), window.To(), s.read)
+	if err == nil {
+		err = s.flush()
+	}
+	close(s.jobs)
+	<-s.finished
+	if err == nil {
+		err = s.failed()
+	}
+	if err == nil {
+		err = ctx.Err()
+	}
+	if err != nil {
+		w.Rollback()
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	run.FinishedAt, run.Objects, run.Skipped = e.Now(), s.stored, s.total-s.analysed
+	if err := w.Commit(ctx); err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	return res, nil
+}
+
+// stream is one analysis on its way through the ledger, in three stages
+// that run at the same time: the objects are read from the store (with
+// their prior behaviour) a batch at a time, the batch before is fitted on
+// every core, and the one before that stored. A stage that fails stops the
+// others.
+type stream struct {
+	ctx      context.Context
+	db       *sqlite.DB
+	w        *sqlite.AnalysisWriter
+	res      *AnalysisResult
+	settings analyze.Settings
+	names    map[string]string
+	previous map[string]string // input hash by object; nil to analyse all
+	hasher   *analyze.InputHasher
+	window   *series.Window
+	drivers  []costdrift.DriverSeries
+
+	objects []costdrift.ObjectSeries // every object in scope read since the last batch
+	changed []int                    // which of them to analyse
+	inputs  []string                 // their input hashes
+
+	// total counts the objects in scope, analysed those handed to the
+	// analysis; stored counts those stored (set by save alone).
+	total, analysed, stored int
+
+	jobs     chan job   // read → analyse
+	saved    chan batch // analyse → save
+	stop     chan struct{}
+	once     sync.Once
+	err      error // the first stage's error, set once before stop closes
+	finished chan struct{}
+}
+
+// job is one batch to fit.
+type job struct {
+	panel    costdrift.Panel
+	settings analyze.Settings
+	inputs   []string
+}
+
+// batch is what one batch's analysis leaves to store.
+type batch struct {
+	results []analyze.Result
+	inputs  []string
+}
+
+// fail stops every stage with err, the first error only.
+func (s *stream) fail(err error) {
+	s.once.Do(func() {
+		s.err = err
+		close(s.stop)
+	})
+}
+
+// failed returns the error a stage stopped the stream with, if any.
+func (s *stream) failed() error {
+	select {
+	case <-s.stop:
+		return s.err
+	default:
+		return nil
+	}
+}
+
+// read takes one object's cost totals from the store.
+func (s *stream) read(totals []costdrift.CostTotal) error {
+	o, ok := s.window.Object(totals)
+	if !ok {
+		return nil
+	}
+	s.total++
+	s.objects = append(s.objects, o)
+	hash := s.hasher.Hash(&o)
+	if s.previous == nil || s.previous[o.Object.String()] != hash {
+		s.changed = append(s.changed, len(s.objects)-1)
+		s.inputs = append(s.inputs, hash)
+	}
+	if len(s.objects) < batchObjects {
+		return nil
+	}
+	return s.flush()
+}
+
+// flush raises the data gaps of the objects read, reads the prior
+// behaviour of those that changed and hands them to be fitted.
+func (s *stream) flush() error {
+	defer func() { s.objects, s.changed, s.inputs = nil, nil, nil }()
+	read := s.window.Panel(s.objects, s.drivers)
+	s.res.gaps = append(s.res.gaps, alerts.DataGap(&read, s.names)...)
+	if len(s.changed) == 0 {
+		return s.failed()
+	}
+	s.analysed += len(s.changed)
+	objects := make([]costdrift.ObjectSeries, len(s.changed))
+	names := make([]string, len(s.changed))
+	for i, j := range s.changed {
+		objects[i] = s.objects[j]
+		names[i] = objects[i].Object.String()
 	}
 	// Each object's behaviour so far, so that a cost near a boundary keeps
-	// its class and driver unless the new evidence is clearly better.
-	before, err := db.CurrentBehaviour(ctx)
+	// its class and driver unless the new evidence is clearly better. The
+	// store is read outside the analysis's transaction, as it was before.
+	prior, err := s.db.CurrentBehaviourOf(s.ctx, names)
 	if err != nil {
-		return nil, fmt.Errorf("analyze: %w", err)
+		return err
 	}
-	prior := make(map[string]costdrift.Behaviour, len(before))
-	for _, b := range before {
-		prior[b.Object.String()] = b
+	settings := s.settings
+	settings.Prior = prior
+	select {
+	case s.jobs <- job{panel: s.window.Panel(objects, s.drivers), settings: settings, inputs: s.inputs}:
+		return nil
+	case <-s.stop:
+		return s.err
 	}
-	results, err := analyze.Panel(ctx, &panel, analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
-		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed, Prior: prior})
-	if err != nil {
-		return nil, fmt.Errorf("analyze: %w", err)
-	}
+}
 
-	res := &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: panel.PeriodsWithPostings,
-		panel: whole, activity: activity}
-	var fits []costdrift.Fit
-	behaviours := make([]costdrift.Behaviour, 0, len(results))
-	failed := map[string]bool{}
-	for _, r := range results {
-		if r.Err != nil {
-			failed[r.Behaviour.Object.String()] = true
-			res.Skipped = append(res.Skipped, SkippedObject{Object: r.Behaviour.Object.String(), Err: r.Err, Stack: r.Stack})
+// analyse fits each batch on every core and hands the results on.
+func (s *stream) analyse() {
+	defer close(s.saved)
+	for j := range s.jobs {
+		if s.failed() != nil {
+			continue // drain
+		}
+		results, err := analyze.Panel(s.ctx, &j.panel, j.settings)
+		if err != nil {
+			s.fail(err)
 			continue
 		}
-		fits = append(fits, r.Fits...)
-		behaviours = append(behaviours, r.Behaviour)
-		res.Classes[r.Behaviour.Class]++
-	}
-	run := &costdrift.AnalysisRun{Inputs: map[string]string{}, Skipped: total - len(panel.Objects),
-		StartedAt: started, FinishedAt: e.Now(), Grain: costdrift.Grain(cfg.Grain), Objects: len(behaviours),
-		WindowFrom: panel.Periods[0], WindowTo: panel.Periods[len(panel.Periods)-1], Settings: string(settings),
-	}
-	for _, o := range panel.Objects {
-		if !failed[o.Object.String()] {
-			run.Inputs[o.Object.String()] = inputs[o.Object.String()]
+		select {
+		case s.saved <- batch{results: results, inputs: j.inputs}:
+		case <-s.stop:
 		}
 	}
-	if err := db.SaveAnalysis(ctx, run, fits, behaviours); err != nil {
-		return nil, fmt.Errorf("analyze: %w", err)
+}
+
+// save stores each batch as it comes: the fits the store keeps
+// (analyze.Result.Stored), the behaviours and the input hashes. An object
+// whose analysis failed keeps its earlier analysis and input hash, so that
+// it is tried again.
+func (s *stream) save() {
+	defer close(s.finished)
+	for b := range s.saved {
+		if s.failed() != nil {
+			continue // drain
+		}
+		var fits []costdrift.Fit
+		behaviours := make([]costdrift.Behaviour, 0, len(b.results))
+		inputs := make(map[string]string, len(b.results))
+		for i := range b.results {
+			r := &b.results[i]
+			name := r.Behaviour.Object.String()
+			if r.Err != nil {
+				s.res.Skipped = append(s.res.Skipped, SkippedObject{Object: name, Err: r.Err, Stack: r.Stack})
+				continue
+			}
+			fits = append(fits, r.Stored()...)
+			behaviours = append(behaviours, r.Behaviour)
+			inputs[name] = b.inputs[i]
+			s.res.Classes[r.Behaviour.Class]++
+		}
+		s.stored += len(behaviours)
+		if err := s.w.Save(s.ctx, fits, behaviours, inputs); err != nil {
+			s.fail(err)
+		}
 	}
-	res.Run = run
-	return res, nil
 }
 
 // Raise evaluates the rules that follow an analysis over every object in
@@ -174,19 +347,17 @@ func Raise(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisResult) (sql
 		}
 		return changes, nil
 	}
-	changes, err := raiseAnalysisAlerts(ctx, e, db, &res.panel, res.activity, res.Run.WindowTo)
+	changes, err := raiseAnalysisAlerts(ctx, e, db, res.gaps, res.activity, res.Run.WindowTo)
 	if err != nil {
 		return changes, fmt.Errorf("analyze: alerts: %w", err)
 	}
 	return changes, nil
 }
 
-func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, panel *costdrift.Panel,
+// raiseAnalysisAlerts reads the current behaviours a batch at a time, so
+// that the rules over every object need not hold all of them.
+func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, gaps []costdrift.Alert,
 	activity []costdrift.ActivityValue, period string) (sqlite.AlertChanges, error) {
-	current, err := db.CurrentBehaviour(ctx)
-	if err != nil {
-		return sqlite.AlertChanges{}, err
-	}
 	previous, err := db.PreviousBehaviour(ctx)
 	if err != nil {
 		return sqlite.AlertChanges{}, err
@@ -195,10 +366,17 @@ func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, panel *cost
 	if err != nil {
 		return sqlite.AlertChanges{}, err
 	}
-	raised := alerts.Behaviour(current, previous, names)
-	raised = append(raised, alerts.Spending(current, names)...)
-	raised = append(raised, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
-	raised = append(raised, alerts.DataGap(panel, names)...)
+	var behaviour, spending, outOfRange []costdrift.Alert
+	err = db.EachCurrentBehaviour(ctx, batchObjects, func(current []costdrift.Behaviour) error {
+		behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
+		spending = append(spending, alerts.Spending(current, names)...)
+		outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
+		return nil
+	})
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	raised := append(append(append(behaviour, spending...), outOfRange...), gaps...)
 	states, err := sourceStates(ctx, e, db)
 	if err != nil {
 		return sqlite.AlertChanges{}, err

@@ -4,7 +4,9 @@ import (
 	"bytes"
 	"context"
 	"fmt"
+	"runtime"
 	"strings"
+	"sync"
 	"time"
 
 	gomail "github.com/wneessen/go-mail"
@@ -131,12 +133,19 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 	if err != nil {
 		return nil, fmt.Errorf("mail: %w", err)
 	}
-	details := map[int64]mail.Item{}
-	var batch []outgoing
+	// The alerts due to each recipient first, so that the charts of all
+	// of them are drawn from one read of the ledger.
+	type due struct {
+		to     string
+		alerts []costdrift.Alert
+	}
+	var dues []due
+	var needed []costdrift.Alert
+	seen := map[int64]bool{}
 	for _, r := range e.Config.Alerts.Recipients {
 		rcpt := mail.Recipient{Email: r.Email, CostCenters: r.CostCenters, Accounts: r.Accounts,
 			MinSeverity: costdrift.Severity(r.MinSeverity)}
-		var items []mail.Item
+		d := due{to: r.Email}
 		for _, al := range open {
 			o := objects[al.Object]
 			if !mail.RoutesObject(rcpt, al, o) {
@@ -150,36 +159,99 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 			if !mail.Due(al, prev, now) {
 				continue
 			}
-			it, ok := details[al.ID]
-			if !ok {
-				it = alertItem(ctx, e, db, al, o, names)
-				details[al.ID] = it
+			d.alerts = append(d.alerts, al)
+			if !seen[al.ID] {
+				seen[al.ID] = true
+				needed = append(needed, al)
 			}
-			items = append(items, it)
 		}
-		if len(items) == 0 {
+		dues = append(dues, d)
+	}
+	details := alertItems(ctx, e, db, needed, objects, names)
+	var batch []outgoing
+	for _, d := range dues {
+		if len(d.alerts) == 0 {
 			continue
 		}
-		msg, err := mail.Message(mail.Digest{To: r.Email, From: e.Config.Mail.SMTP.From, Items: items, Date: now, Cautions: report.Caution})
-		batch = append(batch, outgoing{to: r.Email, items: items, msg: msg, buildE: err})
+		items := make([]mail.Item, len(d.alerts))
+		for i, al := range d.alerts {
+			items[i] = details[al.ID]
+		}
+		msg, err := mail.Message(mail.Digest{To: d.to, From: e.Config.Mail.SMTP.From, Items: items, Date: now, Cautions: report.Caution})
+		batch = append(batch, outgoing{to: d.to, items: items, msg: msg, buildE: err})
 	}
 	return batch, nil
 }
 
-// alertItem is an alert as a digest shows it: an object's alert with the
+// alertItems is each alert as a digest shows it: an object's alert with the
 // object's account name, class, driver and chart, read from the store once.
-func alertItem(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, o costdrift.CostObject, names map[string]string) mail.Item {
-	it := mail.Item{Alert: al}
-	if mail.SourceKind(al.Kind) {
-		return it
+// The costs the charts draw are read for all objects in one pass over the
+// ledger, not one pass per chart.
+func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.Alert, objects map[string]costdrift.CostObject,
+	names map[string]string) map[int64]mail.Item {
+	out := make(map[int64]mail.Item, len(alerts))
+	analyses := map[int64]sqlite.ObjectAnalysis{}
+	charted := map[bool][]costdrift.CostObject{} // by account grain
+	from, to := map[bool]string{}, map[bool]string{}
+	for _, al := range alerts {
+		it := mail.Item{Alert: al}
+		if !mail.SourceKind(al.Kind) {
+			o := objects[al.Object]
+			it.Object, it.AccountName = o, names[o.Account]
+			if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
+				it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
+				if oa.Behaviour.Driver != "" {
+					analyses[al.ID] = oa
+					g := oa.Run.Grain == costdrift.GrainAccount
+					charted[g] = append(charted[g], oa.Behaviour.Object)
+					if from[g] == "" || oa.Run.WindowFrom < from[g] {
+						from[g] = oa.Run.WindowFrom
+					}
+					if oa.Run.WindowTo > to[g] {
+						to[g] = oa.Run.WindowTo
+					}
+				}
+			}
+		}
+		out[al.ID] = it
 	}
-	it.Object = o
-	it.AccountName = names[o.Account]
-	if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
-		it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
-		it.Chart = alertChart(ctx, e, db, al, oa, names)
+	readers := map[bool]costReader{}
+	for g, os := range charted {
+		readers[g] = db.CostPerPeriod // one object at a time, if the read of all fails
+		if lc, err := db.CostsPerPeriod(ctx, os, g, from[g], to[g]); err == nil {
+			readers[g] = lc.CostPerPeriod
+		}
 	}
-	return it
+	// Drawing a chart takes far longer than reading its data: on every
+	// core.
+	charts := make([][]byte, len(alerts))
+	work := make(chan int)
+	var wg sync.WaitGroup
+	for range runtime.GOMAXPROCS(0) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range work {
+				oa := analyses[alerts[i].ID]
+				charts[i] = alertChart(ctx, e, db, readers[oa.Run.Grain == costdrift.GrainAccount], alerts[i], oa, names)
+			}
+		}()
+	}
+	for i, al := range alerts {
+		if _, ok := analyses[al.ID]; ok {
+			work <- i
+		}
+	}
+	close(work)
+	wg.Wait()
+	for i, al := range alerts {
+		if charts[i] != nil {
+			it := out[al.ID]
+			it.Chart = charts[i]
+			out[al.ID] = it
+		}
+	}
+	return out
 }
 
 // sendDigests sends the digests through the configured server, or writes
@@ -272,7 +344,13 @@ func alertObjects(ctx context.Context, db *sqlite.DB, open []costdrift.Alert) (m
 	if len(open) == 0 {
 		return out, nil
 	}
-	current, err := db.CurrentBehaviour(ctx)
+	names := make([]string, 0, len(open))
+	for _, al := range open {
+		if !mail.SourceKind(al.Kind) {
+			names = append(names, al.Object)
+		}
+	}
+	current, err := db.CurrentBehaviourOf(ctx, names)
 	if err != nil {
 		return nil, err
 	}
@@ -301,13 +379,13 @@ func oneLineError(err error) string {
 // explain --chart`, with the formula before the change dashed when the
 // evidence has it on the same driver; nil when the store lacks the data
 // (no analysis, no driver, no points).
-func alertChart(ctx context.Context, e *Env, db *sqlite.DB, al costdrift.Alert, oa sqlite.ObjectAnalysis, names map[string]string) []byte {
+func alertChart(ctx context.Context, e *Env, db *sqlite.DB, costsOf costReader, al costdrift.Alert, oa sqlite.ObjectAnalysis, names map[string]string) []byte {
 	if oa.Behaviour.Driver == "" {
 		return nil
 	}
 	b := oa.Behaviour
 	maxLag := widestLag(oa.Settings, b.Lag)
-	pts, err := analysedPoints(ctx, e, db, oa, maxLag)
+	pts, err := analysedPoints(ctx, e, db, costsOf, oa, maxLag)
 	if err != nil {
 		return nil
 	}

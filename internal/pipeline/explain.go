@@ -9,9 +9,11 @@ import (
 	"sort"
 	"strings"
 
+	"github.com/costdrift/costdrift/internal/analyze"
 	"github.com/costdrift/costdrift/internal/chart"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/report"
+	"github.com/costdrift/costdrift/internal/series"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -38,6 +40,10 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
+	note, err := refitLines(ctx, e, db, &oa)
+	if err != nil {
+		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
+	}
 	ex := report.Explain(report.ExplainInput{
 		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
 		ActivityPeriod: func(p string, lag int) string {
@@ -47,11 +53,14 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 			return e.Calendar.Shift(p, -lag)
 		},
 	})
+	if note != "" {
+		ex.Notes = append(ex.Notes, note)
+	}
 	if b.Driver == "" {
 		return ex, nil, nil
 	}
 	maxLag := widestLag(oa.Settings, b.Lag)
-	pts, err := analysedPoints(ctx, e, db, oa, maxLag)
+	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, maxLag)
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
@@ -66,6 +75,102 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 		return ex, nil, fmt.Errorf("explain %s: chart: %w", object, err)
 	}
 	return ex, &sc, nil
+}
+
+// refitLines adds to the stored fits the straight lines the store does not
+// keep (analyze.StoredLines): every driver-lag candidate is fitted again on
+// the object's data as the store holds them now, over the periods the
+// stored fits were made on (the run's window, or the periods from a break
+// on). The stored fits stay as they are; a candidate fitted again is added
+// only when the lines the store kept come out the same, so that the table
+// is the analysis's. Otherwise the note says why the table is short.
+func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis) (string, error) {
+	b := oa.Behaviour
+	stored := map[[2]string]*costdrift.Fit{}
+	for i, f := range oa.Fits {
+		if f.Model == costdrift.ModelLinear {
+			stored[[2]string{f.Driver, fmt.Sprint(f.Lag)}] = &oa.Fits[i]
+		}
+	}
+	if b.Diagnostics == nil || len(stored) >= b.Diagnostics.Candidates || len(oa.Settings.Lags) == 0 {
+		return "", nil
+	}
+	run := oa.Run
+	for _, p := range []string{run.WindowFrom, run.WindowTo} {
+		if _, err := e.Calendar.Parse(p); err != nil {
+			return "", fmt.Errorf("analysis run %d window: %w", run.ID, err)
+		}
+	}
+	scope, err := costdrift.ParseAccountScope(oa.Settings.Accounts)
+	if err != nil {
+		scope = costdrift.AccountScope{}
+	}
+	minor := int64(1)
+	for range e.Currency.Exponent {
+		minor *= 10
+	}
+	ss := series.Settings{Grain: run.Grain, Scope: scope, Window: oa.Settings.Window, MaxLag: slices.Max(oa.Settings.Lags),
+		Minor: minor, Calendar: e.Calendar, Now: e.Now()}
+	accountGrain := run.Grain == costdrift.GrainAccount
+	totals, err := db.ObjectCostTotals(ctx, b.Object, accountGrain, run.WindowFrom, run.WindowTo)
+	if err != nil {
+		return "", err
+	}
+	ledger, err := db.LedgerPeriods(ctx)
+	if err != nil {
+		return "", err
+	}
+	activity, err := db.Activity(ctx)
+	if err != nil {
+		return "", err
+	}
+	as := analyze.Settings{MinPeriods: oa.Settings.MinPeriods, Lags: oa.Settings.Lags, Alpha: oa.Settings.Alpha}
+	// A behaviour refitted from a break on was fitted on the periods since.
+	froms := []string{run.WindowFrom}
+	if b.Break != nil && !b.Break.Provisional && b.Break.Period > run.WindowFrom && b.Break.Period <= run.WindowTo {
+		froms = []string{b.Break.Period, run.WindowFrom}
+	}
+	for _, from := range froms {
+		w := series.WindowOf(from, run.WindowTo, ledger, ss)
+		obj, ok := w.Object(totals)
+		if !ok || obj.Unusable != "" {
+			continue
+		}
+		p := w.Panel([]costdrift.ObjectSeries{obj}, series.Drivers(activity, w.Periods, ss))
+		lines := analyze.Lines(&p, &p.Objects[0], as)
+		if len(lines) != b.Diagnostics.Candidates || !sameLines(lines, stored) {
+			continue
+		}
+		for _, f := range lines {
+			if stored[[2]string{f.Driver, fmt.Sprint(f.Lag)}] == nil {
+				oa.Fits = append(oa.Fits, f)
+			}
+		}
+		return "", nil
+	}
+	return fmt.Sprintf("the store keeps the straight lines of the best %d of the %d driver-lag candidates; the others could not be fitted again as the analysis fitted them, since the ledger or activity of %s changed since analysis run %d: run `costdrift analyze` to refresh them",
+		len(stored), b.Diagnostics.Candidates, b.Object, run.ID), nil
+}
+
+// sameLines reports whether every stored line was fitted again on the same
+// number of periods with the same coefficients (to rounding).
+func sameLines(lines []costdrift.Fit, stored map[[2]string]*costdrift.Fit) bool {
+	found := 0
+	for _, f := range lines {
+		s := stored[[2]string{f.Driver, fmt.Sprint(f.Lag)}]
+		if s == nil {
+			continue
+		}
+		found++
+		if s.N != f.N || !near(s.Slope, f.Slope) || !near(s.Intercept, f.Intercept) {
+			return false
+		}
+	}
+	return found == len(stored)
+}
+
+func near(a, b float64) bool {
+	return a == b || math.Abs(a-b) <= 1e-9*math.Max(math.Abs(a), math.Abs(b))
 }
 
 // widestLag is the largest lag the run tried, at least lag: the driver's
@@ -166,7 +271,7 @@ func editDistance(a, b string) int {
 // value lag periods before, read as the analysis reads it (the cost centre's
 // own series, else the company-wide one). Periods without a driver value
 // are left out, as the analysis leaves them out.
-func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysis, maxLag int) ([]chart.Point, error) {
+func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, costsOf costReader, oa sqlite.ObjectAnalysis, maxLag int) ([]chart.Point, error) {
 	b, run := oa.Behaviour, oa.Run
 	for _, p := range []string{run.WindowFrom, run.WindowTo} {
 		if _, err := e.Calendar.Parse(p); err != nil {
@@ -174,7 +279,7 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.Object
 		}
 	}
 	accountGrain := run.Grain == costdrift.GrainAccount
-	costs, ledger, err := db.CostPerPeriod(ctx, b.Object, accountGrain, run.WindowFrom, run.WindowTo)
+	costs, ledger, err := costsOf(ctx, b.Object, accountGrain, run.WindowFrom, run.WindowTo)
 	if err != nil {
 		return nil, err
 	}
@@ -196,6 +301,10 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.Object
 	}
 	return pts, nil
 }
+
+// costReader reads one object's cost per period and the periods in which
+// the ledger has postings, as sqlite.DB.CostPerPeriod does.
+type costReader func(ctx context.Context, o costdrift.CostObject, allCostCenters bool, first, last string) (map[string]int64, map[string]bool, error)
 
 // lagged returns a driver's values keyed by the cost period they explain:
 // the value of period p − lag under key p.

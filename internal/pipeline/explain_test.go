@@ -73,7 +73,7 @@ func checkPoints(t *testing.T, cfg, store, object, account, costCenter, driver s
 	if err != nil {
 		t.Fatal(err)
 	}
-	pts, err := analysedPoints(ctx, e, db, oa, 1)
+	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -145,7 +145,7 @@ func checkChartLayers(t *testing.T, cfg, store string) {
 		if change != nil {
 			change(&oa)
 		}
-		pts, err := analysedPoints(ctx, e, db, oa, 1)
+		pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, 1)
 		if err != nil {
 			t.Fatal(err)
 		}

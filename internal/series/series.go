@@ -36,82 +36,159 @@ var ErrNoClosedPeriod = errors.New("the ledger has no postings in a closed perio
 // at account_cost_center grain) that posted anything in the window. A total
 // beyond int64 (CostTotal.Overflow) is unknown too, and makes its object
 // Unusable, naming the periods; the other objects are built as usual.
+//
+// Build holds every object at once; an analysis of a large ledger reads the
+// same panel object by object with Window, Drivers and Objects.
 func Build(costs []costdrift.CostTotal, activity []costdrift.ActivityValue, s Settings) (costdrift.Panel, error) {
-	ledgerPeriods := map[string]bool{}
-	end := ""
+	var ledger []string
+	seen := map[string]bool{}
 	for _, c := range costs {
-		ledgerPeriods[c.Period] = true
-		if c.Period > end && s.Calendar.Closed(c.Period, s.Now) {
-			end = c.Period
+		if !seen[c.Period] {
+			seen[c.Period] = true
+			ledger = append(ledger, c.Period)
+		}
+	}
+	w, err := NewWindow(ledger, s)
+	if err != nil {
+		return costdrift.Panel{}, err
+	}
+	// Objects wants each object's totals together, in the order the store
+	// hands them out.
+	sorted := slices.Clone(costs)
+	slices.SortStableFunc(sorted, func(a, b costdrift.CostTotal) int {
+		if c := strings.Compare(a.Account, b.Account); c != 0 {
+			return c
+		}
+		if s.Grain == costdrift.GrainAccountCostCenter {
+			return strings.Compare(a.CostCenter, b.CostCenter)
+		}
+		return 0
+	})
+	objects := make([]costdrift.ObjectSeries, 0)
+	var one []costdrift.CostTotal
+	flush := func() {
+		if o, ok := w.Object(one); ok {
+			objects = append(objects, o)
+		}
+		one = one[:0]
+	}
+	for _, c := range sorted {
+		if len(one) > 0 && (c.Account != one[0].Account || (s.Grain == costdrift.GrainAccountCostCenter && c.CostCenter != one[0].CostCenter)) {
+			flush()
+		}
+		one = append(one, c)
+	}
+	flush()
+	return w.Panel(objects, Drivers(activity, w.Periods, s)), nil
+}
+
+// Window is the analysis window: its periods, the periods in which the
+// ledger as a whole has postings, and the settings that turn an object's
+// cost totals into its series.
+type Window struct {
+	Periods []string
+	// WithPostings counts the window's periods in which the ledger has
+	// postings.
+	WithPostings int
+	index        map[string]int
+	ledger       []bool // by window position: the ledger has postings then
+	s            Settings
+}
+
+// NewWindow finds the window from the periods in which the ledger has
+// postings (in any order): it ends at the newest closed one and reaches
+// back Window periods.
+func NewWindow(ledgerPeriods []string, s Settings) (*Window, error) {
+	end := ""
+	for _, p := range ledgerPeriods {
+		if p > end && s.Calendar.Closed(p, s.Now) {
+			end = p
 		}
 	}
 	if end == "" {
-		return costdrift.Panel{}, ErrNoClosedPeriod
+		return nil, ErrNoClosedPeriod
 	}
-	periods := s.Calendar.Between(s.Calendar.Shift(end, -(s.Window-1)), end)
-	index := make(map[string]int, len(periods))
-	withPostings := 0
-	for i, p := range periods {
-		index[p] = i
-		if ledgerPeriods[p] {
-			withPostings++
+	return WindowOf(s.Calendar.Shift(end, -(s.Window-1)), end, ledgerPeriods, s), nil
+}
+
+// WindowOf is the window from one period to another, such as the window of
+// an analysis run stored earlier.
+func WindowOf(from, to string, ledgerPeriods []string, s Settings) *Window {
+	w := &Window{Periods: s.Calendar.Between(from, to), s: s}
+	w.index = make(map[string]int, len(w.Periods))
+	w.ledger = make([]bool, len(w.Periods))
+	for i, p := range w.Periods {
+		w.index[p] = i
+	}
+	for _, p := range ledgerPeriods {
+		if i, ok := w.index[p]; ok && !w.ledger[i] {
+			w.ledger[i] = true
+			w.WithPostings++
 		}
 	}
+	return w
+}
 
-	series := map[costdrift.CostObject][]float64{}
-	overflow := map[costdrift.CostObject][]string{}
-	for _, c := range costs {
-		i, ok := index[c.Period]
-		if !ok || !s.Scope.Contains(c.Account) {
+// From and To are the window's first and last periods.
+func (w *Window) From() string { return w.Periods[0] }
+func (w *Window) To() string   { return w.Periods[len(w.Periods)-1] }
+
+// Object makes one object's series from its cost totals: every total of
+// one account (at account grain) or one account and cost centre, in any
+// period. It reports false when the object is out of scope or posted
+// nothing in the window.
+func (w *Window) Object(totals []costdrift.CostTotal) (costdrift.ObjectSeries, bool) {
+	if len(totals) == 0 || !w.s.Scope.Contains(totals[0].Account) {
+		return costdrift.ObjectSeries{}, false
+	}
+	o := costdrift.CostObject{Account: totals[0].Account}
+	if w.s.Grain == costdrift.GrainAccountCostCenter {
+		o.CostCenter = totals[0].CostCenter
+	}
+	var v []float64
+	var overflow []string
+	for _, c := range totals {
+		i, ok := w.index[c.Period]
+		if !ok {
 			continue
 		}
-		o := costdrift.CostObject{Account: c.Account}
-		if s.Grain == costdrift.GrainAccountCostCenter {
-			o.CostCenter = c.CostCenter
-		}
-		v, ok := series[o]
-		if !ok {
-			v = make([]float64, len(periods))
-			series[o] = v
+		if v == nil {
+			v = make([]float64, len(w.Periods))
 		}
 		if c.Overflow {
 			v[i] = math.NaN() // and stays NaN whatever else the object adds
-			overflow[o] = append(overflow[o], c.Period)
+			overflow = append(overflow, c.Period)
 			continue
 		}
-		v[i] += float64(c.AmountMinor) / float64(s.Minor)
+		v[i] += float64(c.AmountMinor) / float64(w.s.Minor)
 	}
-	objects := make([]costdrift.ObjectSeries, 0, len(series))
-	for o, v := range series {
-		for i, p := range periods {
-			if !ledgerPeriods[p] {
-				v[i] = math.NaN()
-			}
-		}
-		object := costdrift.ObjectSeries{Object: o, Cost: v}
-		if ps := overflow[o]; len(ps) > 0 {
-			// At account grain, several cost centres may overflow in one period.
-			slices.Sort(ps)
-			object.Unusable = fmt.Sprintf("its lines in %s add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces",
-				strings.Join(slices.Compact(ps), ", "))
-		}
-		objects = append(objects, object)
+	if v == nil {
+		return costdrift.ObjectSeries{}, false
 	}
-	sort.Slice(objects, func(i, j int) bool {
-		a, b := objects[i].Object, objects[j].Object
-		if a.Account != b.Account {
-			return a.Account < b.Account
+	for i := range v {
+		if !w.ledger[i] {
+			v[i] = math.NaN()
 		}
-		return a.CostCenter < b.CostCenter
-	})
+	}
+	object := costdrift.ObjectSeries{Object: o, Cost: v}
+	if len(overflow) > 0 {
+		// At account grain, several cost centres may overflow in one period.
+		slices.Sort(overflow)
+		object.Unusable = fmt.Sprintf("its lines in %s add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces",
+			strings.Join(slices.Compact(overflow), ", "))
+	}
+	return object, true
+}
 
-	return costdrift.Panel{
-		Periods:             periods,
-		MaxLag:              s.MaxLag,
-		Objects:             objects,
-		Drivers:             drivers(activity, periods, s),
-		PeriodsWithPostings: withPostings,
-	}, nil
+// Panel is the window's panel of the objects given, which share drivers.
+func (w *Window) Panel(objects []costdrift.ObjectSeries, drivers []costdrift.DriverSeries) costdrift.Panel {
+	return costdrift.Panel{Periods: w.Periods, MaxLag: w.s.MaxLag, Objects: objects, Drivers: drivers, PeriodsWithPostings: w.WithPostings}
+}
+
+// Drivers lays each activity series over the window's periods and the
+// MaxLag periods before them.
+func Drivers(activity []costdrift.ActivityValue, periods []string, s Settings) []costdrift.DriverSeries {
+	return drivers(activity, periods, s)
 }
 
 // drivers lays each activity series over the window and its lead-in. At

@@ -79,42 +79,124 @@ func (db *DB) AccountNames(ctx context.Context) (map[string]string, error) {
 // SaveAnalysis stores an analysis in one transaction: the run, every fit,
 // and each object's behaviour. A behaviour with the same class, driver and
 // lag as the object's open history row refreshes that row; a different one
-// closes it and opens a new one.
+// closes it and opens a new one. It is BeginAnalysis, one Save and Commit.
 func (db *DB) SaveAnalysis(ctx context.Context, run *costdrift.AnalysisRun, fits []costdrift.Fit, behaviours []costdrift.Behaviour) error {
-	return db.inTx(ctx, func(tx *sql.Tx) error {
-		res, err := tx.ExecContext(ctx, `INSERT INTO analysis_runs (started_at, finished_at, window_from, window_to, grain, objects, settings)
-			VALUES (?, ?, ?, ?, ?, ?, ?)`, run.StartedAt.UTC().Format(time.RFC3339), run.FinishedAt.UTC().Format(time.RFC3339),
-			nullString(run.WindowFrom), nullString(run.WindowTo), string(run.Grain), run.Objects, run.Settings)
-		if err != nil {
-			return fmt.Errorf("save analysis run: %w", err)
-		}
-		run.ID, _ = res.LastInsertId()
-		if err := insertFits(ctx, tx, run.ID, fits); err != nil {
+	w, err := db.BeginAnalysis(ctx, run)
+	if err != nil {
+		return err
+	}
+	if err := w.Save(ctx, fits, behaviours, run.Inputs); err != nil {
+		w.Rollback()
+		return err
+	}
+	return w.Commit(ctx)
+}
+
+// AnalysisWriter stores one analysis batch by batch, in one transaction:
+// a reader sees the whole analysis or none of it, however many batches it
+// was written in.
+type AnalysisWriter struct {
+	tx        *sql.Tx
+	run       *costdrift.AnalysisRun
+	now       string
+	fits      *sql.Stmt
+	dropFits  *sql.Stmt
+	setInputs *sql.Stmt
+	open      *sql.Stmt
+}
+
+// BeginAnalysis starts storing an analysis: the run's row is written now,
+// its count of objects and finishing time at Commit.
+func (db *DB) BeginAnalysis(ctx context.Context, run *costdrift.AnalysisRun) (*AnalysisWriter, error) {
+	tx, err := db.db.BeginTx(ctx, nil)
+	if err != nil {
+		return nil, err
+	}
+	w := &AnalysisWriter{tx: tx, run: run, now: db.now()}
+	if err := w.prepare(ctx); err != nil {
+		w.Rollback()
+		return nil, err
+	}
+	return w, nil
+}
+
+func (w *AnalysisWriter) prepare(ctx context.Context) error {
+	run := w.run
+	res, err := w.tx.ExecContext(ctx, `INSERT INTO analysis_runs (started_at, finished_at, window_from, window_to, grain, objects, settings)
+		VALUES (?, ?, ?, ?, ?, ?, ?)`, run.StartedAt.UTC().Format(time.RFC3339), run.FinishedAt.UTC().Format(time.RFC3339),
+		nullString(run.WindowFrom), nullString(run.WindowTo), string(run.Grain), run.Objects, run.Settings)
+	if err != nil {
+		return fmt.Errorf("save analysis run: %w", err)
+	}
+	run.ID, _ = res.LastInsertId()
+	if w.fits, err = w.tx.PrepareContext(ctx, insertFit); err != nil {
+		return err
+	}
+	// The fits of the object's previous analysis go: fits holds each
+	// object's latest candidates, behaviour_history the formulas over
+	// time, so that a daemon's store does not grow with every analysis.
+	if w.dropFits, err = w.tx.PrepareContext(ctx, `DELETE FROM fits WHERE object = ?1 AND analysis_run_id <> ?2
+		AND analysis_run_id = (SELECT analysis_run_id FROM object_inputs WHERE object = ?1)`); err != nil {
+		return err
+	}
+	if w.setInputs, err = w.tx.PrepareContext(ctx, `INSERT INTO object_inputs (object, input_hash, analysis_run_id) VALUES (?, ?, ?)
+		ON CONFLICT (object) DO UPDATE SET input_hash = excluded.input_hash, analysis_run_id = excluded.analysis_run_id`); err != nil {
+		return err
+	}
+	w.open, err = w.tx.PrepareContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag, COALESCE(since, ''), COALESCE(until, ''), COALESCE(pending, '')
+		FROM behaviour_history WHERE object = ? AND valid_to_run_at IS NULL`)
+	return err
+}
+
+// Save stores a batch: its fits, its behaviours and the input hash of each
+// object analysed (by object name), whose earlier fits it drops.
+func (w *AnalysisWriter) Save(ctx context.Context, fits []costdrift.Fit, behaviours []costdrift.Behaviour, inputs map[string]string) error {
+	runID := w.run.ID
+	for _, f := range fits {
+		if err := w.insertFit(ctx, f); err != nil {
 			return err
 		}
-		now := db.now()
-		for i := range behaviours {
-			if err := saveBehaviour(ctx, tx, run.ID, now, &behaviours[i]); err != nil {
-				return fmt.Errorf("save behaviour %s: %w", behaviours[i].Object, err)
-			}
+	}
+	for i := range behaviours {
+		if err := saveBehaviour(ctx, w.tx, w.open, runID, w.now, &behaviours[i]); err != nil {
+			return fmt.Errorf("save behaviour %s: %w", behaviours[i].Object, err)
 		}
-		for object, hash := range run.Inputs {
-			// The fits of the object's previous analysis go: fits holds
-			// each object's latest candidates, behaviour_history the
-			// formulas over time, so that a daemon's store does not grow
-			// with every analysis.
-			if _, err := tx.ExecContext(ctx, `DELETE FROM fits WHERE object = ? AND analysis_run_id <> ?
-				AND analysis_run_id = (SELECT analysis_run_id FROM object_inputs WHERE object = ?)`, object, run.ID, object); err != nil {
-				return fmt.Errorf("drop the earlier fits of %s: %w", object, err)
-			}
-			if _, err := tx.ExecContext(ctx, `INSERT INTO object_inputs (object, input_hash, analysis_run_id) VALUES (?, ?, ?)
-				ON CONFLICT (object) DO UPDATE SET input_hash = excluded.input_hash, analysis_run_id = excluded.analysis_run_id`,
-				object, hash, run.ID); err != nil {
-				return fmt.Errorf("save inputs of %s: %w", object, err)
-			}
+	}
+	for object, hash := range inputs {
+		if _, err := w.dropFits.ExecContext(ctx, object, runID); err != nil {
+			return fmt.Errorf("drop the earlier fits of %s: %w", object, err)
 		}
-		return nil
-	})
+		if _, err := w.setInputs.ExecContext(ctx, object, hash, runID); err != nil {
+			return fmt.Errorf("save inputs of %s: %w", object, err)
+		}
+	}
+	return nil
+}
+
+// Commit writes the run's count of objects and finishing time and commits
+// the analysis.
+func (w *AnalysisWriter) Commit(ctx context.Context) error {
+	if _, err := w.tx.ExecContext(ctx, `UPDATE analysis_runs SET objects = ?, finished_at = ? WHERE id = ?`,
+		w.run.Objects, w.run.FinishedAt.UTC().Format(time.RFC3339), w.run.ID); err != nil {
+		w.Rollback()
+		return fmt.Errorf("save analysis run: %w", err)
+	}
+	w.close()
+	return w.tx.Commit()
+}
+
+// Rollback drops everything the writer stored.
+func (w *AnalysisWriter) Rollback() {
+	w.close()
+	w.tx.Rollback()
+}
+
+func (w *AnalysisWriter) close() {
+	for _, s := range []*sql.Stmt{w.fits, w.dropFits, w.setInputs, w.open} {
+		if s != nil {
+			s.Close()
+		}
+	}
 }
 
 // ObjectInputs returns the input hash of every object's latest analysis.
@@ -135,30 +217,25 @@ func (db *DB) ObjectInputs(ctx context.Context) (map[string]string, error) {
 	return out, rows.Err()
 }
 
-func insertFits(ctx context.Context, tx *sql.Tx, runID int64, fits []costdrift.Fit) error {
-	stmt, err := tx.PrepareContext(ctx, `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
+const insertFit = `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
 		intercept, intercept_se, intercept_p, slope, slope_se, slope_t, slope_p, slope_adjusted_p, r2, residual_se, press, aicc,
 		range_min, range_max, significant, implausible, chosen, rank,
 		levels, driver2, lag2, slope2, slope2_se, slope2_p, vif, durbin_watson, robust_intercept, robust_slope, outliers)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
-	if err != nil {
-		return err
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`
+
+func (w *AnalysisWriter) insertFit(ctx context.Context, f costdrift.Fit) error {
+	var rank any
+	if f.PlausibleRanked > 0 {
+		rank = f.PlausibleRanked
 	}
-	defer stmt.Close()
-	for _, f := range fits {
-		var rank any
-		if f.PlausibleRanked > 0 {
-			rank = f.PlausibleRanked
-		}
-		_, err := stmt.ExecContext(ctx, runID, f.Object.String(), f.Object.Account, f.Object.CostCenter, f.Driver, f.Lag, string(f.Model), f.N,
-			num(f.Intercept), num(f.InterceptSE), num(f.InterceptP), num(f.Slope), num(f.SlopeSE), num(f.SlopeT), num(f.SlopeP),
-			num(f.SlopeAdjustedP), num(f.R2), num(f.ResidualSE), num(f.PRESS), num(f.AICc), num(f.RangeMin), num(f.RangeMax),
-			f.Significant, f.Implausible, f.Chosen, rank,
-			jsonOrNull(f.Levels), nullString(f.Driver2), lag2(f), num2(f, f.Slope2), num2(f, f.Slope2SE), num2(f, f.Slope2P), num2(f, f.VIF),
-			diagNum(f, f.DurbinWatson), diagNum(f, f.RobustIntercept), diagNum(f, f.RobustSlope), jsonOrNull(f.Outliers))
-		if err != nil {
-			return fmt.Errorf("save fit %s %s lag %d %s: %w", f.Object, f.Driver, f.Lag, f.Model, err)
-		}
+	_, err := w.fits.ExecContext(ctx, w.run.ID, f.Object.String(), f.Object.Account, f.Object.CostCenter, f.Driver, f.Lag, string(f.Model), f.N,
+		num(f.Intercept), num(f.InterceptSE), num(f.InterceptP), num(f.Slope), num(f.SlopeSE), num(f.SlopeT), num(f.SlopeP),
+		num(f.SlopeAdjustedP), num(f.R2), num(f.ResidualSE), num(f.PRESS), num(f.AICc), num(f.RangeMin), num(f.RangeMax),
+		f.Significant, f.Implausible, f.Chosen, rank,
+		jsonOrNull(f.Levels), nullString(f.Driver2), lag2(f), num2(f, f.Slope2), num2(f, f.Slope2SE), num2(f, f.Slope2P), num2(f, f.VIF),
+		diagNum(f, f.DurbinWatson), diagNum(f, f.RobustIntercept), diagNum(f, f.RobustSlope), jsonOrNull(f.Outliers))
+	if err != nil {
+		return fmt.Errorf("save fit %s %s lag %d %s: %w", f.Object, f.Driver, f.Lag, f.Model, err)
 	}
 	return nil
 }
@@ -210,12 +287,11 @@ func diagNum(f costdrift.Fit, v float64) any {
 //     until the next analysis sees it again; only then does it replace the
 //     open row. A change seen once and then not again is dropped, so the
 //     behaviour never flaps.
-func saveBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour) error {
+func saveBehaviour(ctx context.Context, tx *sql.Tx, open *sql.Stmt, runID int64, now string, b *costdrift.Behaviour) error {
 	var id int64
 	var class, driver, since, until, pendingText string
 	var lag sql.NullInt64
-	err := tx.QueryRowContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag, COALESCE(since, ''), COALESCE(until, ''), COALESCE(pending, '')
-		FROM behaviour_history WHERE object = ? AND valid_to_run_at IS NULL`, b.Object.String()).Scan(&id, &class, &driver, &lag, &since, &until, &pendingText)
+	err := open.QueryRowContext(ctx, b.Object.String()).Scan(&id, &class, &driver, &lag, &since, &until, &pendingText)
 	switch {
 	case errors.Is(err, sql.ErrNoRows):
 		id = 0
@@ -424,6 +500,17 @@ func (db *DB) BehaviourIn(ctx context.Context, period string) ([]costdrift.Behav
 
 // behaviours reads the behaviour rows that match where, by object.
 func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]costdrift.Behaviour, error) {
+	var out []costdrift.Behaviour
+	err := db.eachBehaviour(ctx, where, func(b costdrift.Behaviour) error {
+		out = append(out, b)
+		return nil
+	}, args...)
+	return out, err
+}
+
+// eachBehaviour hands fn the behaviour rows that match where, by object,
+// one at a time.
+func (db *DB) eachBehaviour(ctx context.Context, where string, fn func(costdrift.Behaviour) error, args ...any) error {
 	rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
@@ -431,10 +518,9 @@ func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]cost
 		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, '')
 		FROM behaviour_history WHERE `+where+` ORDER BY account, cost_center`, args...)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	defer rows.Close()
-	var out []costdrift.Behaviour
 	for rows.Next() {
 		var b costdrift.Behaviour
 		var class, steps, highLow string
@@ -446,41 +532,41 @@ func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]cost
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
 			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction); err != nil {
-			return nil, err
+			return err
 		}
 		if prediction != "" {
 			b.Prediction = &costdrift.PredictionTerms{}
 			if err := json.Unmarshal([]byte(prediction), b.Prediction); err != nil {
-				return nil, fmt.Errorf("behaviour %s: prediction: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: prediction: %w", b.Object, err)
 			}
 		}
 		if spending != "" {
 			if err := json.Unmarshal([]byte(spending), &b.Spending); err != nil {
-				return nil, fmt.Errorf("behaviour %s: spending: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: spending: %w", b.Object, err)
 			}
 		}
 		if brk != "" {
 			b.Break = &costdrift.Break{}
 			if err := json.Unmarshal([]byte(brk), b.Break); err != nil {
-				return nil, fmt.Errorf("behaviour %s: break: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: break: %w", b.Object, err)
 			}
 		}
 		if pending != "" {
 			b.Pending = &costdrift.Pending{}
 			if err := json.Unmarshal([]byte(pending), b.Pending); err != nil {
-				return nil, fmt.Errorf("behaviour %s: pending: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: pending: %w", b.Object, err)
 			}
 		}
 		b.Lag2, b.VariableRate2 = int(lag2.Int64), rate2.Float64
 		if outliers != "" {
 			if err := json.Unmarshal([]byte(outliers), &b.Outliers); err != nil {
-				return nil, fmt.Errorf("behaviour %s: outliers: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: outliers: %w", b.Object, err)
 			}
 		}
 		if diagnostics != "" {
 			var d diagnosticsJSON
 			if err := json.Unmarshal([]byte(diagnostics), &d); err != nil {
-				return nil, fmt.Errorf("behaviour %s: diagnostics: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: diagnostics: %w", b.Object, err)
 			}
 			b.Diagnostics = d.domain()
 		}
@@ -490,20 +576,22 @@ func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]cost
 		b.RangeMin, b.RangeMax, b.MeanCost, b.CV = orNaN(lo), orNaN(hi), orNaN(mean), orNaN(cv)
 		if steps != "" {
 			if err := json.Unmarshal([]byte(steps), &b.Steps); err != nil {
-				return nil, fmt.Errorf("behaviour %s: steps: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: steps: %w", b.Object, err)
 			}
 		}
 		if highLow != "" {
 			var h highLowJSON
 			if err := json.Unmarshal([]byte(highLow), &h); err != nil {
-				return nil, fmt.Errorf("behaviour %s: high_low: %w", b.Object, err)
+				return fmt.Errorf("behaviour %s: high_low: %w", b.Object, err)
 			}
 			hl := costdrift.HighLow(h)
 			b.HighLow = &hl
 		}
-		out = append(out, b)
+		if err := fn(b); err != nil {
+			return err
+		}
 	}
-	return out, rows.Err()
+	return rows.Err()
 }
 
 // diagnosticsJSON is the stored form of costdrift.Diagnostics: unknown
@@ -623,11 +711,7 @@ func nullString(s string) any {
 // least once, the behaviour its current one replaced: class, driver, lag
 // and formula.
 func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behaviour, error) {
-	rows, err := db.q().QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(lag, 0),
-		fixed_per_period, variable_rate, COALESCE(valid_from_period, since, '')
-		FROM behaviour_history h
-		WHERE valid_to_run_at IS NOT NULL
-		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`)
+	rows, err := db.q().QueryContext(ctx, previousBehaviourQuery)
 	if err != nil {
 		return nil, err
 	}
@@ -646,6 +730,12 @@ func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behav
 	}
 	return out, rows.Err()
 }
+
+const previousBehaviourQuery = `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(lag, 0),
+		fixed_per_period, variable_rate, COALESCE(valid_from_period, since, '')
+		FROM behaviour_history h
+		WHERE valid_to_run_at IS NOT NULL
+		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`
 
 // NewestPeriods returns, per source, the newest period of its ledger lines
 // and activity.

@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -206,27 +207,139 @@ func (db *DB) CostPerPeriod(ctx context.Context, o costdrift.CostObject, allCost
 		}
 		v, ok := joinParts(billions, rest)
 		if !ok {
-			return nil, nil, fmt.Errorf("the lines of %s in %s add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces", o, p)
+			return nil, nil, overflowError(o, p)
 		}
 		costs[p] = v
 	}
 	if err := rows.Err(); err != nil {
 		return nil, nil, err
 	}
-	rows, err = db.db.QueryContext(ctx, `SELECT DISTINCT period FROM gl_lines WHERE period BETWEEN ? AND ?`, first, last)
+	ledger, err := db.ledgerPeriodsIn(ctx, first, last)
+	return costs, ledger, err
+}
+
+func overflowError(o costdrift.CostObject, period string) error {
+	return fmt.Errorf("the lines of %s in %s add up to more than an int64 of minor units holds; they include amounts beyond the bound sync enforces", o, period)
+}
+
+// ledgerPeriodsIn returns the periods first to last in which the ledger has
+// postings.
+func (db *DB) ledgerPeriodsIn(ctx context.Context, first, last string) (map[string]bool, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT DISTINCT period FROM gl_lines WHERE period BETWEEN ? AND ?`, first, last)
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
 	defer rows.Close()
 	ledger := map[string]bool{}
 	for rows.Next() {
 		var p string
 		if err := rows.Scan(&p); err != nil {
-			return nil, nil, err
+			return nil, err
 		}
 		ledger[p] = true
 	}
-	return costs, ledger, rows.Err()
+	return ledger, rows.Err()
+}
+
+// LedgerCosts are the costs of several objects per period, read in one
+// pass over the ledger (CostsPerPeriod), for those who need many objects'
+// costs: reading them one object at a time reads the whole ledger each
+// time.
+type LedgerCosts struct {
+	first, last string
+	totals      map[costdrift.CostObject]map[string]costdrift.CostTotal
+	ledger      map[string]bool
+}
+
+// CostsPerPeriod reads the costs of the objects in the periods first to
+// last, as CostPerPeriod reads one object's: per account and cost centre,
+// or with allCostCenters per account over its cost centres.
+func (db *DB) CostsPerPeriod(ctx context.Context, objects []costdrift.CostObject, allCostCenters bool, first, last string) (*LedgerCosts, error) {
+	lc := &LedgerCosts{first: first, last: last, totals: map[costdrift.CostObject]map[string]costdrift.CostTotal{}}
+	// A chunk of objects per pass; SQLite takes up to 32,766 parameters.
+	const chunk = 2000
+	for len(objects) > 0 {
+		n := min(chunk, len(objects))
+		args := []any{first, last}
+		var query string
+		if allCostCenters {
+			query = `SELECT account, '', period, ` + sumParts + ` FROM gl_lines
+				WHERE period BETWEEN ? AND ? AND account IN (` + placeholders(n) + `) GROUP BY account, period`
+			for _, o := range objects[:n] {
+				args = append(args, o.Account)
+			}
+		} else {
+			query = `SELECT account, cost_center, period, ` + sumParts + ` FROM gl_lines
+				WHERE period BETWEEN ? AND ? AND (account, cost_center) IN (VALUES ` +
+				strings.TrimSuffix(strings.Repeat("(?, ?), ", n), ", ") + `) GROUP BY account, cost_center, period`
+			for _, o := range objects[:n] {
+				args = append(args, o.Account, o.CostCenter)
+			}
+		}
+		rows, err := db.db.QueryContext(ctx, query, args...)
+		if err != nil {
+			return nil, err
+		}
+		for rows.Next() {
+			var c costdrift.CostTotal
+			var billions, rest int64
+			if err := rows.Scan(&c.Account, &c.CostCenter, &c.Period, &billions, &rest); err != nil {
+				rows.Close()
+				return nil, err
+			}
+			var ok bool
+			c.AmountMinor, ok = joinParts(billions, rest)
+			c.Overflow = !ok
+			o := costdrift.CostObject{Account: c.Account, CostCenter: c.CostCenter}
+			if lc.totals[o] == nil {
+				lc.totals[o] = map[string]costdrift.CostTotal{}
+			}
+			lc.totals[o][c.Period] = c
+		}
+		rows.Close()
+		if err := rows.Err(); err != nil {
+			return nil, err
+		}
+		objects = objects[n:]
+	}
+	var err error
+	lc.ledger, err = db.ledgerPeriodsIn(ctx, first, last)
+	return lc, err
+}
+
+// CostPerPeriod is sqlite.DB.CostPerPeriod on the costs read: an object
+// read with allCostCenters is named by its account alone.
+func (lc *LedgerCosts) CostPerPeriod(_ context.Context, o costdrift.CostObject, allCostCenters bool, first, last string) (map[string]int64, map[string]bool, error) {
+	if first < lc.first || last > lc.last {
+		return nil, nil, fmt.Errorf("costs of %s in %s to %s: only %s to %s were read", o, first, last, lc.first, lc.last)
+	}
+	key := o
+	if allCostCenters {
+		key.CostCenter = ""
+	}
+	costs := map[string]int64{}
+	overflow := ""
+	for p, c := range lc.totals[key] {
+		switch {
+		case p < first || p > last:
+		case c.Overflow:
+			if overflow == "" || p < overflow {
+				overflow = p // the first, as CostPerPeriod names it
+			}
+		default:
+			costs[p] = c.AmountMinor
+		}
+	}
+	if overflow != "" {
+		return nil, nil, overflowError(o, overflow)
+	}
+	ledger := map[string]bool{}
+	for p := range lc.ledger {
+		if p >= first && p <= last {
+			ledger[p] = true
+		}
+	}
+	return costs, ledger, nil
 }
 
 // Driver series names for DriverValues: which activity series was read.

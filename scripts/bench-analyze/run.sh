@@ -8,10 +8,22 @@
 # other work on the machine slows single runs. costdrift runs on all cores
 # (GOMAXPROCS unset) and on one core, since the Python sides use one.
 #
+# Then the command as a user runs it, store to store: for each size in
+# STORE_OBJECTS (default 10,000 and 100,000 objects), package storegen
+# writes an invented company's ledger and activity CSV files (30
+# company-wide drivers, 36 months and the drivers' month before) and a
+# config, `costdrift sync` loads them, and `costdrift analyze` is timed
+# under /usr/bin/time: wall and CPU seconds, peak resident set, and how much
+# the store (with its -wal file) grew. Then the nightly increment: the next
+# month's ledger and activity files are added, and `costdrift sync` plus
+# `costdrift analyze` (which refits every object, since each has a new
+# month) are timed together.
+#
 # Usage: scripts/bench-analyze/run.sh        (make bench-analyze)
-#        ROUNDS=5 ONE_CORE=0 PANEL_FLAGS="-objects 2000 -sample 50" scripts/bench-analyze/run.sh
+#        ROUNDS=5 ONE_CORE=0 PANEL_FLAGS="-objects 2000 -sample 50" STORE_OBJECTS=10000 scripts/bench-analyze/run.sh
 # (ROUNDS: rounds, default 3; ONE_CORE=0 skips the one-core run;
-# PANEL_FLAGS: flags for the Go program, see go run ./scripts/bench-analyze -h)
+# PANEL_FLAGS: flags for the Go program, see go run ./scripts/bench-analyze -h;
+# STORE_OBJECTS: sizes of the end-to-end runs, "" for none)
 # Needs /usr/bin/python3 with Debian's python3-statsmodels (numpy, scipy).
 set -euo pipefail
 cd "$(dirname "$0")/../.."
@@ -20,6 +32,7 @@ PY=/usr/bin/python3 # Debian's, whatever python3 comes first on PATH
 rounds=${ROUNDS:-3}
 one_core=${ONE_CORE:-1}
 read -r -a panel_flags <<<"${PANEL_FLAGS:-}"
+read -r -a store_objects <<<"${STORE_OBJECTS-10000 100000}"
 
 if ! "$PY" -c 'import statsmodels, scipy, numpy' 2>/dev/null; then
   echo "bench-analyze needs $PY with statsmodels, scipy and numpy:" >&2
@@ -30,6 +43,8 @@ fi
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 go build -o "$work/bench-analyze" ./$here
+go build -o "$work/storegen" ./$here/storegen
+go build -o "$work/costdrift" ./cmd/costdrift
 load_start=$(cut -d' ' -f1-3 /proc/loadavg)
 
 log=$work/results
@@ -43,6 +58,40 @@ for round in $(seq "$rounds"); do
   if [ "$one_core" = 1 ]; then
     GOMAXPROCS=1 "$work/bench-analyze" "${panel_flags[@]}" | sed "s/^/round=$round /" >>"$log"
   fi
+done
+
+# The command, store to store. Sizes in bytes of the store and its -wal.
+store_bytes() {
+  local sum=0 f
+  for f in "$1"/costdrift.db "$1"/costdrift.db-wal; do
+    [ -f "$f" ] && sum=$((sum + $(stat -c %s "$f")))
+  done
+  echo "$sum"
+}
+timed() { # label dir objects command...: one RESULT line from /usr/bin/time
+  local label=$1 dir=$2 objects=$3
+  shift 3
+  local before after
+  before=$(store_bytes "$dir")
+  (cd "$dir" && /usr/bin/time -o "$work/time" -f '%e %U %S %M' "$@" >"$work/out" 2>&1) || {
+    cat "$work/out" >&2
+    exit 1
+  }
+  after=$(store_bytes "$dir")
+  read -r wall user sys rss <"$work/time"
+  echo "round=1 RESULT side=command step=$label objects=$objects wall_s=$wall cpu_s=$(echo "$user + $sys" | bc) peak_rss_mib=$((rss / 1024)) store_mb=$(echo "scale=1; $after / 1000000" | bc) growth_mb=$(echo "scale=1; ($after - $before) / 1000000" | bc)" >>"$log"
+}
+for n in "${store_objects[@]}"; do
+  echo "command: $n objects ..." >&2
+  books=$work/books-$n
+  "$work/storegen" -objects "$n" -dir "$books"
+  timed sync "$books" "$n" "$work/costdrift" sync
+  timed analyze "$books" "$n" "$work/costdrift" analyze
+  cp "$books"/next/gl-next.csv "$books"/data/gl/
+  cp "$books"/next/activity-next.csv "$books"/data/activity/
+  timed nightly_sync "$books" "$n" "$work/costdrift" sync
+  timed nightly_analyze "$books" "$n" "$work/costdrift" analyze
+  rm -rf "$books"
 done
 load_end=$(cut -d' ' -f1-3 /proc/loadavg)
 
@@ -74,6 +123,9 @@ awk -v rounds="$rounds" -v load_start="$load_start" -v load_end="$load_end" \
       smfits = f["fits"]; smobj = f["sample_objects"]; smver = f["statsmodels"]; npver = f["numpy"]
     } else if (f["side"] == "numpy") {
       keep("np_" f["variant"], f["wall_s"], f["cpu_s"])
+    } else if (f["side"] == "command") {
+      k = f["objects"] SUBSEP f["step"]; cwall[k] = f["wall_s"]; ccpu[k] = f["cpu_s"]; crss[k] = f["peak_rss_mib"]
+      cgrow[k] = f["growth_mb"]; csize[k] = f["store_mb"]; if (!(f["objects"] in csizes)) { csizes[f["objects"]] = 1; corder[++ncmd] = f["objects"] }
     }
   }
   / AGREE / { sub(/^round=[0-9]+ AGREE /, ""); agree[$1] = $0 }
@@ -111,6 +163,23 @@ awk -v rounds="$rounds" -v load_start="$load_start" -v load_end="$load_end" \
       ratio("costdrift " procs[multi] " cores / numpy with p and PRESS", multi, "np_p_press", "")
     }
     ratio("costdrift 1 core / numpy floor", "ours1", "np_basic", "")
+    if (ncmd > 0) {
+      print ""
+      printf "the command as a user runs it, store to store (one run each; 30 company-wide drivers x 2 lags x 36 months):\n"
+      printf "%-10s %-36s %8s %8s %10s %10s %10s\n", "objects", "step", "wall s", "CPU s", "peak RSS", "store MB", "growth MB"
+      for (i = 1; i <= ncmd; i++) {
+        n = corder[i]
+        split("sync analyze nightly_sync nightly_analyze", steps, " ")
+        label["sync"] = "costdrift sync (36 months)"; label["analyze"] = "costdrift analyze (every object)"
+        label["nightly_sync"] = "nightly: costdrift sync (one month)"; label["nightly_analyze"] = "nightly: costdrift analyze (every object)"
+        for (j = 1; j <= 4; j++) {
+          k = n SUBSEP steps[j]
+          if (k in cwall) printf "%-10s %-36s %8.2f %8.2f %6d MiB %10.1f %10.1f\n", n, label[steps[j]], cwall[k], ccpu[k], crss[k], csize[k], cgrow[k]
+        }
+        a = n SUBSEP "nightly_sync"; b = n SUBSEP "nightly_analyze"
+        if ((a in cwall) && (b in cwall)) printf "%-10s %-36s %8.2f %8.2f\n", n, "nightly: sync + analyze", cwall[a] + cwall[b], ccpu[a] + ccpu[b]
+      }
+    }
     print ""
     print "what each side computes:"
     print "  costdrift analyze.Panel  the whole analysis of every object: constant, linear and proportional fits on every"
@@ -120,6 +189,8 @@ awk -v rounds="$rounds" -v load_start="$load_start" -v load_end="$load_end" \
     print "  statsmodels loop         the same per fit: OLS(y, add_constant(x)).fit(), get_influence() (hat, Cook, PRESS),"
     print "                           AICc from llf; timed on the sample, multiplied up to all objects"
     print "  numpy closed form        slope, intercept, R2, t of every fit at once (second row: also p and PRESS)"
+    print "  the command              costdrift analyze on a synced store: reads the ledger, analyses every object,"
+    print "                           writes fits and behaviours, raises the alerts and writes the mail to the outbox"
     print ""
     for (k in agree) print agree[k]
   }' "$log"

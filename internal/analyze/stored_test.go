@@ -1,0 +1,115 @@
+package analyze
+
+import (
+	"math/rand/v2"
+	"testing"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// Lines gives the straight lines Object fits, with the same corrected
+// p-values, flags and ranks, so that explain can list every candidate while
+// the store keeps only the best ones (Stored).
+func TestLinesAreObjectsLines(t *testing.T) {
+	r := rand.New(rand.NewPCG(31, 32))
+	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Variable, costdrift.Mixed, costdrift.Step, costdrift.Unexplained} {
+		for range 10 {
+			p := studyPanel(r, class, 36, 0.04)
+			res := Object(p, &p.Objects[0], defaults)
+			var want []costdrift.Fit
+			for _, f := range res.Fits {
+				if f.Model == costdrift.ModelLinear {
+					want = append(want, f)
+				}
+			}
+			got := Lines(p, &p.Objects[0], defaults)
+			if len(got) != len(want) || len(got) == 0 {
+				t.Fatalf("%s: Lines gave %d lines, Object %d", class, len(got), len(want))
+			}
+			for i := range want {
+				w, g := want[i], got[i]
+				// Object refits the chosen line with its per-period arrays;
+				// its numbers are those of the summary fit to rounding.
+				if g.Driver != w.Driver || g.Lag != w.Lag || g.N != w.N || g.PlausibleRanked != w.PlausibleRanked ||
+					g.Significant != w.Significant || g.Implausible != w.Implausible ||
+					!near(g.Slope, w.Slope, 1e-9) || !near(g.SlopeP, w.SlopeP, 1e-9) || !near(g.SlopeAdjustedP, w.SlopeAdjustedP, 1e-9) ||
+					!near(g.PRESS, w.PRESS, 1e-9) {
+					t.Fatalf("%s: line %d is %+v from Lines, %+v from Object", class, i, g, w)
+				}
+			}
+		}
+	}
+}
+
+// Stored keeps the constant, the best StoredLines lines in the order
+// explain lists them, every fit on the chosen driver and lag, the step and
+// two-driver fits and whatever is chosen; not the other candidates.
+func TestStoredKeepsTheBestLines(t *testing.T) {
+	r := rand.New(rand.NewPCG(33, 34))
+	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Variable, costdrift.Mixed, costdrift.Step, costdrift.Unexplained} {
+		for range 10 {
+			p := studyPanel(r, class, 36, 0.04)
+			res := Object(p, &p.Objects[0], defaults)
+			kept := res.Stored()
+			b := res.Behaviour
+			lines, chosen, constants := 0, 0, 0
+			keptLine := map[[2]any]bool{}
+			for _, f := range kept {
+				switch {
+				case f.Model == costdrift.ModelLinear:
+					lines++
+					keptLine[[2]any{f.Driver, f.Lag}] = true
+				case f.Model == costdrift.ModelConstant:
+					constants++
+				case f.Model == costdrift.ModelProportional && (f.Driver != b.Driver || f.Lag != b.Lag):
+					t.Fatalf("%s: kept the fit through the origin on %s lag %d, not the chosen driver", class, f.Driver, f.Lag)
+				}
+				if f.Chosen {
+					chosen++
+				}
+			}
+			if constants != 1 || chosen == 0 {
+				t.Fatalf("%s: kept %d constant and %d chosen fits", class, constants, chosen)
+			}
+			// Every line ranked better than a kept one that is not on the
+			// chosen driver is kept too.
+			all := map[[2]any]costdrift.Fit{}
+			for _, f := range res.Fits {
+				if f.Model == costdrift.ModelLinear {
+					all[[2]any{f.Driver, f.Lag}] = f
+				}
+			}
+			extra := 0
+			if b.Driver != "" && !isBest(all, b.Driver, b.Lag) {
+				extra = 1
+			}
+			if want := min(StoredLines, len(all)) + extra; lines != want {
+				t.Fatalf("%s: kept %d of %d lines, want %d", class, lines, len(all), want)
+			}
+			for k, f := range all {
+				better := 0
+				for _, g := range all {
+					if lineBefore(&g, &f) {
+						better++
+					}
+				}
+				if better < StoredLines && !keptLine[k] {
+					t.Fatalf("%s: line %v, number %d in explain's order, not kept", class, k, better+1)
+				}
+			}
+		}
+	}
+}
+
+// isBest reports whether the line on driver and lag is among the
+// StoredLines best.
+func isBest(all map[[2]any]costdrift.Fit, driver string, lag int) bool {
+	f := all[[2]any{driver, lag}]
+	better := 0
+	for _, g := range all {
+		if lineBefore(&g, &f) {
+			better++
+		}
+	}
+	return better < StoredLines
+}

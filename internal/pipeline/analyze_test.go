@@ -1,0 +1,192 @@
+package pipeline
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync/atomic"
+	"testing"
+
+	"github.com/costdrift/costdrift/internal/analyze"
+	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+// syncedDemo writes the invented company's books into a new folder and
+// syncs them, without analysing.
+func syncedDemo(t *testing.T) (*Env, *sqlite.DB) {
+	t.Helper()
+	dir := t.TempDir()
+	if _, err := demo.Write(dir, demo.DefaultSeed); err != nil {
+		t.Fatal(err)
+	}
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	if err := os.WriteFile(cfg, []byte(config.Starter), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	e, err := Load(cfg, today)
+	if err != nil {
+		t.Fatal(err)
+	}
+	db, closeStore, err := e.OpenToWrite(context.Background(), false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(closeStore)
+	if _, err := Sync(context.Background(), e, db, nil); err != nil {
+		t.Fatal(err)
+	}
+	return e, db
+}
+
+// analysed is what an analysis leaves in the store, without run ids and
+// times: behaviours, fits and input hashes, one line per row.
+func analysed(t *testing.T, db *sqlite.DB) string {
+	t.Helper()
+	var out strings.Builder
+	for _, q := range []string{
+		`SELECT object, class, driver, lag, fixed_per_period, variable_rate, r2, n, since, until, reason, diagnostics, break, pending,
+			spending, prediction, valid_from_period, valid_to_period FROM behaviour_history ORDER BY object, id`,
+		`SELECT object, driver, lag, model, n, intercept, slope, slope_p, slope_adjusted_p, press, aicc, significant, chosen, rank, levels
+			FROM fits ORDER BY object, driver, lag, model`,
+		`SELECT object, input_hash FROM object_inputs ORDER BY object`,
+	} {
+		rows, err := db.SQL().Query(q)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cols, _ := rows.Columns()
+		for rows.Next() {
+			v := make([]any, len(cols))
+			p := make([]any, len(cols))
+			for i := range v {
+				p[i] = &v[i]
+			}
+			if err := rows.Scan(p...); err != nil {
+				t.Fatal(err)
+			}
+			for _, x := range v {
+				out.WriteString(strings.TrimSpace(strings.ReplaceAll(strings.ReplaceAll(fmtValue(x), "\n", " "), "\t", " ")) + "\t")
+			}
+			out.WriteString("\n")
+		}
+		rows.Close()
+	}
+	return out.String()
+}
+
+func fmtValue(v any) string {
+	switch x := v.(type) {
+	case nil:
+		return "NULL"
+	case []byte:
+		return string(x)
+	case string:
+		return x
+	}
+	return fmt.Sprint(v)
+}
+
+// An analysis read, fitted and stored a few objects at a time stores what
+// one read of every object stores, the first time and again with each
+// object's prior behaviour.
+func TestAnalyzeInBatchesStoresTheSame(t *testing.T) {
+	ctx := context.Background()
+	e1, one := syncedDemo(t)
+	e2, many := syncedDemo(t)
+	for round := range 2 {
+		batchObjects = BatchObjects
+		r1, err := Analyze(ctx, e1, one, true)
+		if err != nil {
+			t.Fatal(err)
+		}
+		batchObjects = 3
+		r2, err := Analyze(ctx, e2, many, true)
+		batchObjects = BatchObjects
+		if err != nil {
+			t.Fatal(err)
+		}
+		if r1.Run.Objects < 4*3 || r1.Run.Objects != r2.Run.Objects || r1.Run.Skipped != r2.Run.Skipped {
+			t.Fatalf("round %d: %d objects (%d skipped) in one batch, %d (%d) in batches of 3", round, r1.Run.Objects, r1.Run.Skipped,
+				r2.Run.Objects, r2.Run.Skipped)
+		}
+		if a, b := analysed(t, one), analysed(t, many); a != b {
+			t.Fatalf("round %d: the store differs after an analysis in batches of 3:\none batch:\n%s\nbatches:\n%s", round, a, b)
+		}
+	}
+}
+
+// The store keeps a few fits an object, not every candidate's: the
+// constant, the best StoredLines lines, the fits on the chosen driver, the
+// step fits of the three best drivers and a two-driver fit.
+func TestAnalyzeStoresFewFitsPerObject(t *testing.T) {
+	e, db := syncedDemo(t)
+	if _, err := Analyze(context.Background(), e, db, true); err != nil {
+		t.Fatal(err)
+	}
+	var most, objects int
+	var worst string
+	if err := db.SQL().QueryRow(`SELECT COUNT(DISTINCT object) FROM fits`).Scan(&objects); err != nil {
+		t.Fatal(err)
+	}
+	if err := db.SQL().QueryRow(`SELECT object, COUNT(*) AS n FROM fits GROUP BY object ORDER BY n DESC LIMIT 1`).Scan(&worst, &most); err != nil {
+		t.Fatal(err)
+	}
+	limit := 1 + analyze.StoredLines + 2 + analyze.StepCandidates + 1
+	if objects < 10 || most > limit {
+		t.Fatalf("%s has %d fits stored (of %d objects with fits), want at most %d", worst, most, objects, limit)
+	}
+}
+
+// cancelAfter is a context that ends after its Err has been asked n times:
+// somewhere inside an analysis, wherever that is.
+type cancelAfter struct {
+	context.Context
+	n    atomic.Int64
+	done chan struct{}
+	once atomic.Bool
+}
+
+func (c *cancelAfter) Done() <-chan struct{} { return c.done }
+
+func (c *cancelAfter) Err() error {
+	if c.n.Add(-1) > 0 {
+		return nil
+	}
+	if c.once.CompareAndSwap(false, true) {
+		close(c.done)
+	}
+	return context.Canceled
+}
+
+// An analysis cancelled part way stores nothing: no run, no fits, no
+// behaviour, though some batches were written before the end.
+func TestAnalyzeCancelledStoresNothing(t *testing.T) {
+	e, db := syncedDemo(t)
+	batchObjects = 2
+	defer func() { batchObjects = BatchObjects }()
+	for _, after := range []int64{3, 8, 20} {
+		ctx := &cancelAfter{Context: context.Background(), done: make(chan struct{})}
+		ctx.n.Store(after)
+		_, err := Analyze(ctx, e, db, true)
+		if !errors.Is(err, context.Canceled) {
+			t.Fatalf("cancelled after %d checks: err %v, want context.Canceled", after, err)
+		}
+		for _, table := range []string{"analysis_runs", "fits", "behaviour_history", "object_inputs"} {
+			var n int
+			if err := db.SQL().QueryRow(`SELECT COUNT(*) FROM ` + table).Scan(&n); err != nil {
+				t.Fatal(err)
+			}
+			if n != 0 {
+				t.Fatalf("cancelled after %d checks: %s holds %d rows", after, table, n)
+			}
+		}
+	}
+	if _, err := Analyze(context.Background(), e, db, true); err != nil {
+		t.Fatalf("an analysis after the cancelled ones: %v", err)
+	}
+}

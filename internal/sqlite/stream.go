@@ -1,0 +1,137 @@
+package sqlite
+
+import (
+	"context"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// LedgerPeriods returns every period in which the ledger has postings.
+func (db *DB) LedgerPeriods(ctx context.Context) ([]string, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT DISTINCT period FROM gl_lines`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []string
+	for rows.Next() {
+		var p string
+		if err := rows.Scan(&p); err != nil {
+			return nil, err
+		}
+		out = append(out, p)
+	}
+	return out, rows.Err()
+}
+
+// EachObjectCosts reads the ledger's net amount per period, account and cost
+// centre in the periods from to to, and hands fn the totals of one cost
+// object at a time, ordered by account and cost centre: an account and a
+// cost centre, or with accountGrain an account in all its cost centres. A
+// total beyond int64 is marked Overflow (sumParts). fn must not keep the
+// slice: it is reused for the next object. Only one object's totals are in
+// memory at a time, however large the ledger.
+func (db *DB) EachObjectCosts(ctx context.Context, accountGrain bool, from, to string, fn func([]costdrift.CostTotal) error) error {
+	rows, err := db.db.QueryContext(ctx, `SELECT period, account, cost_center, `+sumParts+`
+		FROM gl_lines WHERE period BETWEEN ? AND ? GROUP BY account, cost_center, period ORDER BY account, cost_center, period`, from, to)
+	if err != nil {
+		return err
+	}
+	defer rows.Close()
+	var one []costdrift.CostTotal
+	for rows.Next() {
+		var c costdrift.CostTotal
+		var billions, rest int64
+		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
+			return err
+		}
+		var ok bool
+		c.AmountMinor, ok = joinParts(billions, rest)
+		c.Overflow = !ok
+		if len(one) > 0 && (c.Account != one[0].Account || (!accountGrain && c.CostCenter != one[0].CostCenter)) {
+			if err := fn(one); err != nil {
+				return err
+			}
+			one = one[:0]
+		}
+		one = append(one, c)
+	}
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	if len(one) > 0 {
+		return fn(one)
+	}
+	return nil
+}
+
+// ObjectCostTotals returns one cost object's net amount per period and cost
+// centre in the periods from to to, as EachObjectCosts hands them out: of
+// the account in the cost centre, or with accountGrain of the account in
+// every cost centre.
+func (db *DB) ObjectCostTotals(ctx context.Context, o costdrift.CostObject, accountGrain bool, from, to string) ([]costdrift.CostTotal, error) {
+	rows, err := db.db.QueryContext(ctx, `SELECT period, account, cost_center, `+sumParts+`
+		FROM gl_lines WHERE account = ? AND (? OR cost_center = ?) AND period BETWEEN ? AND ?
+		GROUP BY account, cost_center, period ORDER BY account, cost_center, period`, o.Account, accountGrain, o.CostCenter, from, to)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []costdrift.CostTotal
+	for rows.Next() {
+		var c costdrift.CostTotal
+		var billions, rest int64
+		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
+			return nil, err
+		}
+		var ok bool
+		c.AmountMinor, ok = joinParts(billions, rest)
+		c.Overflow = !ok
+		out = append(out, c)
+	}
+	return out, rows.Err()
+}
+
+// CurrentBehaviourOf returns the open behaviour of each object named, by
+// object; an object without one is left out.
+func (db *DB) CurrentBehaviourOf(ctx context.Context, objects []string) (map[string]costdrift.Behaviour, error) {
+	out := make(map[string]costdrift.Behaviour, len(objects))
+	// SQLite takes up to 32,766 parameters; a batch stays well below.
+	const chunk = 1000
+	for len(objects) > 0 {
+		n := min(chunk, len(objects))
+		args := make([]any, n)
+		for i, o := range objects[:n] {
+			args[i] = o
+		}
+		bs, err := db.behaviours(ctx, `valid_to_run_at IS NULL AND object IN (`+placeholders(n)+`)`, args...)
+		if err != nil {
+			return nil, err
+		}
+		for _, b := range bs {
+			out[b.Object.String()] = b
+		}
+		objects = objects[n:]
+	}
+	return out, nil
+}
+
+// EachCurrentBehaviour hands fn the open behaviours of every object, by
+// object, size at a time, so that rules over every object need not hold
+// them all.
+func (db *DB) EachCurrentBehaviour(ctx context.Context, size int, fn func([]costdrift.Behaviour) error) error {
+	batch := make([]costdrift.Behaviour, 0, size)
+	err := db.eachBehaviour(ctx, `valid_to_run_at IS NULL`, func(b costdrift.Behaviour) error {
+		batch = append(batch, b)
+		if len(batch) < size {
+			return nil
+		}
+		err := fn(batch)
+		batch = batch[:0]
+		return err
+	})
+	if err != nil || len(batch) == 0 {
+		return err
+	}
+	return fn(batch)
+}

@@ -1,0 +1,183 @@
+package sqlite
+
+import (
+	"context"
+	"reflect"
+	"strings"
+	"testing"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
+
+// EachObjectCosts hands out the totals CostTotals returns, one object at a
+// time in account and cost-centre order, limited to the periods asked for:
+// per account and cost centre, or per account over all its cost centres.
+func TestEachObjectCosts(t *testing.T) {
+	db, _ := mustOpen(t)
+	loadFile(t, db, "/gl.csv", []costdrift.LedgerLine{
+		ledgerLine("gl", "E1", 1, "2025-01-31", "6200", "WELD", 100, ""),
+		ledgerLine("gl", "E1", 2, "2025-01-31", "6200", "PAINT", 200, ""),
+		ledgerLine("gl", "E2", 1, "2025-02-28", "6200", "WELD", 300, ""),
+		ledgerLine("gl", "E2", 2, "2025-02-28", "6100", "", 400, ""),
+		ledgerLine("gl", "E3", 1, "2025-03-31", "6100", "", 500, ""),
+		ledgerLine("gl", "E4", 1, "2024-12-31", "6300", "", 600, ""), // before the periods asked for
+	})
+	ctx := context.Background()
+	read := func(accountGrain bool) [][]costdrift.CostTotal {
+		var out [][]costdrift.CostTotal
+		err := db.EachObjectCosts(ctx, accountGrain, "2025-01", "2025-03", func(one []costdrift.CostTotal) error {
+			out = append(out, append([]costdrift.CostTotal(nil), one...))
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return out
+	}
+	total := func(p, a, cc string, v int64) costdrift.CostTotal {
+		return costdrift.CostTotal{Period: p, Account: a, CostCenter: cc, AmountMinor: v}
+	}
+	byCentre := [][]costdrift.CostTotal{
+		{total("2025-02", "6100", "", 400), total("2025-03", "6100", "", 500)},
+		{total("2025-01", "6200", "PAINT", 200)},
+		{total("2025-01", "6200", "WELD", 100), total("2025-02", "6200", "WELD", 300)},
+	}
+	if got := read(false); !reflect.DeepEqual(got, byCentre) {
+		t.Errorf("by account and cost centre:\n got  %+v\n want %+v", got, byCentre)
+	}
+	byAccount := [][]costdrift.CostTotal{byCentre[0], append(append([]costdrift.CostTotal(nil), byCentre[1]...), byCentre[2]...)}
+	if got := read(true); !reflect.DeepEqual(got, byAccount) {
+		t.Errorf("by account:\n got  %+v\n want %+v", got, byAccount)
+	}
+	one, err := db.ObjectCostTotals(ctx, costdrift.CostObject{Account: "6200", CostCenter: "WELD"}, false, "2025-01", "2025-03")
+	if err != nil || !reflect.DeepEqual(one, byCentre[2]) {
+		t.Errorf("ObjectCostTotals 6200/WELD: %+v, %v; want %+v", one, err, byCentre[2])
+	}
+	periods, err := db.LedgerPeriods(ctx)
+	if err != nil || len(periods) != 4 {
+		t.Errorf("LedgerPeriods: %v, %v; want the 4 periods with postings", periods, err)
+	}
+}
+
+// An analysis written in batches is one transaction: a reader sees none of
+// it until Commit, all of it after; a rolled-back one leaves nothing.
+func TestAnalysisWriterBatchesAreOneTransaction(t *testing.T) {
+	db, _ := mustOpen(t)
+	ctx := context.Background()
+	behaviour := func(account string) costdrift.Behaviour {
+		return costdrift.Behaviour{Object: costdrift.CostObject{Account: account}, Class: costdrift.Fixed, Reason: "test", N: 12,
+			FixedPerPeriod: 10, Since: "2025-01", Until: "2025-12"}
+	}
+	constant := func(account string) costdrift.Fit {
+		return costdrift.Fit{Object: costdrift.CostObject{Account: account}, Model: costdrift.ModelConstant, N: 12, Intercept: 10, Chosen: true}
+	}
+	for _, commit := range []bool{false, true} {
+		run := &costdrift.AnalysisRun{Grain: costdrift.GrainAccount, WindowFrom: "2025-01", WindowTo: "2025-12", Settings: "{}"}
+		w, err := db.BeginAnalysis(ctx, run)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, a := range []string{"6100", "6200"} {
+			if err := w.Save(ctx, []costdrift.Fit{constant(a)}, []costdrift.Behaviour{behaviour(a)}, map[string]string{a: "hash " + a}); err != nil {
+				t.Fatal(err)
+			}
+			for _, table := range []string{"analysis_runs", "fits", "behaviour_history", "object_inputs"} {
+				if n := count(t, db, table); n != 0 {
+					t.Fatalf("%s holds %d rows before the analysis is committed", table, n)
+				}
+			}
+		}
+		run.Objects = 2
+		if !commit {
+			w.Rollback()
+			continue
+		}
+		if err := w.Commit(ctx); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for table, want := range map[string]int{"analysis_runs": 1, "fits": 2, "behaviour_history": 2, "object_inputs": 2} {
+		if n := count(t, db, table); n != want {
+			t.Errorf("%s holds %d rows after the commit, want %d", table, n, want)
+		}
+	}
+	if got := dump(t, db, `SELECT objects FROM analysis_runs`); got != "int64:2\n" {
+		t.Errorf("the run counts %s objects, want 2", got)
+	}
+}
+
+// The rules after an analysis read every object's latest closed behaviour:
+// the lookup of an object's rows must search an index by object, not scan
+// every object's rows for each one (a time growing with the square of the
+// number of objects; minutes at 100,000).
+func TestPreviousBehaviourSearchesByObject(t *testing.T) {
+	db, _ := mustOpen(t)
+	rows, err := db.SQL().Query(`EXPLAIN QUERY PLAN ` + previousBehaviourQuery)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var plan []string
+	for rows.Next() {
+		var id, parent, unused int
+		var detail string
+		if err := rows.Scan(&id, &parent, &unused, &detail); err != nil {
+			t.Fatal(err)
+		}
+		plan = append(plan, detail)
+	}
+	// SQLite's plan (https://sqlite.org/eqp.html): the correlated
+	// subquery is a SEARCH of p using an index on object, not a SCAN.
+	found := false
+	for _, step := range plan {
+		if strings.HasPrefix(step, "SEARCH p USING") && strings.Contains(step, "(object=?") && !strings.Contains(step, "AUTOMATIC") {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("the latest closed row of each object is not looked up by an index on object; plan:\n%s", strings.Join(plan, "\n"))
+	}
+}
+
+// CostsPerPeriod reads many objects' costs in one pass and gives each the
+// same costs, ledger periods and overflow error as CostPerPeriod reading it
+// alone, at either grain.
+func TestCostsPerPeriodIsCostPerPeriod(t *testing.T) {
+	db, _ := mustOpen(t)
+	loadFile(t, db, "/gl.csv", []costdrift.LedgerLine{
+		ledgerLine("gl", "E1", 1, "2025-01-31", "6200", "WELD", 100, ""),
+		ledgerLine("gl", "E1", 2, "2025-01-31", "6200", "PAINT", 200, ""),
+		ledgerLine("gl", "E2", 1, "2025-02-28", "6200", "WELD", 300, ""),
+		ledgerLine("gl", "E2", 2, "2025-02-28", "6100", "", 400, ""),
+		ledgerLine("gl", "E3", 1, "2025-03-31", "6100", "", 500, ""),
+		ledgerLine("gl", "E4", 1, "2025-03-31", "6300", "", 9_000_000_000_000_000_000, ""),
+		ledgerLine("gl", "E4", 2, "2025-03-31", "6300", "", 9_000_000_000_000_000_000, ""),
+		ledgerLine("gl", "E5", 1, "2025-04-30", "6100", "", 50, ""),
+	})
+	ctx := context.Background()
+	objects := []costdrift.CostObject{{Account: "6100"}, {Account: "6200", CostCenter: "WELD"}, {Account: "6200", CostCenter: "PAINT"},
+		{Account: "6300"}, {Account: "6400"}}
+	for _, all := range []bool{false, true} {
+		lc, err := db.CostsPerPeriod(ctx, objects, all, "2025-01", "2025-04")
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, o := range objects {
+			for _, window := range [][2]string{{"2025-01", "2025-04"}, {"2025-02", "2025-03"}} {
+				wantCosts, wantLedger, wantErr := db.CostPerPeriod(ctx, o, all, window[0], window[1])
+				costs, ledger, err := lc.CostPerPeriod(ctx, o, all, window[0], window[1])
+				if fmtErr(err) != fmtErr(wantErr) || !reflect.DeepEqual(costs, wantCosts) || !reflect.DeepEqual(ledger, wantLedger) {
+					t.Errorf("%s (all cost centres %v) %v: %v %v %v; CostPerPeriod gives %v %v %v", o, all, window, costs, ledger, err,
+						wantCosts, wantLedger, wantErr)
+				}
+			}
+		}
+	}
+}
+
+func fmtErr(err error) string {
+	if err == nil {
+		return ""
+	}
+	return err.Error()
+}
