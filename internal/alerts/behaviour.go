@@ -32,8 +32,11 @@ var BehaviourKinds = []costdrift.AlertKind{costdrift.AlertReclassified, costdrif
 //   - reclassified: the class differs from the previous behaviour's;
 //   - driver_changed: the same class, another driver (or lag);
 //   - fixed_shift, rate_shift: the current behaviour starts at a significant
-//     break, and its fixed part, or its rate times the activity before the
-//     break, moved by at least MinShift of the cost per period before it.
+//     break, and its fixed part moved by at least MinShift of itself (and
+//     half that of the cost per period before the break), or its rate times
+//     the activity before the break by at least MinShift of the cost per
+//     period before it; for a cost with a driver, the cost at the activity
+//     before the break moved by at least half of MinShift too.
 //
 // Each is a warning, at least (a behaviour change; README, Alerts); a shift of
 // more than half the cost is critical, and one seen in fewer than
@@ -76,7 +79,17 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 				FixedBefore: new(k.FixedBefore), FixedAfter: new(k.FixedAfter), RateBefore: new(k.RateBefore),
 				RateAfter: new(k.RateAfter), PeriodsAfter: new(k.Periods), Provisional: new(k.Provisional), R2: new(b.R2), N: new(b.N)}
 			watch := k.Periods < ConfirmPeriods
-			if fixedMoved(k, level) {
+			// The cost at the activity before the break must move too: a
+			// fixed part and a rate that offset each other there are the two
+			// estimates trading off within their noise, not a change the
+			// cost shows.
+			moved := true
+			if k.Driver != "" {
+				before := k.FixedBefore + k.RateBefore*k.ActivityBefore
+				after := k.FixedAfter + k.RateAfter*k.ActivityBefore
+				moved = math.Abs(after-before) >= MinShift/2*level
+			}
+			if moved && fixedMoved(k, level) {
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertFixedShift, Object: object, Severity: shiftSeverity(fixed, watch), Period: k.Period,
 					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s", label, direction(fixed), 100*math.Abs(fixedChange(k, level)),
@@ -85,7 +98,7 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 					Evidence:    ev,
 				})
 			}
-			if k.Driver != "" && math.Abs(rate) >= MinShift {
+			if k.Driver != "" && moved && math.Abs(rate) >= MinShift {
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertRateShift, Object: object, Severity: shiftSeverity(rate, watch), Period: k.Period,
 					Message: fmt.Sprintf("%s: rate per %s %s from %s, %s to %s (%.0f %% of the cost at the activity before)", label,

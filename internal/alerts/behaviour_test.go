@@ -149,3 +149,18 @@ func TestChangeKeepsItsFingerprintAsTheWindowMoves(t *testing.T) {
 		t.Errorf("driver changed: fingerprints %v and %v a month apart, want one alert", a, b)
 	}
 }
+
+// Two formulas that give the same cost at the activity before the break are
+// the same behaviour there: a fixed part 40 % lower under a rate that makes
+// up for it at that activity (worked by hand: 5,000 + 2.5 × 2,000 = 10,000
+// before, 3,000 + 3.5 × 2,000 = 10,000 after) is the intercept and the rate
+// trading off within their noise, and raises no shift.
+func TestOffsettingShiftsRaiseNothing(t *testing.T) {
+	b := costdrift.Behaviour{Object: costdrift.CostObject{Account: "6300", CostCenter: "SHOP"}, Class: costdrift.Mixed,
+		Driver: "machine_hours", FixedPerPeriod: 3000, VariableRate: 3.5, Since: "2024-03",
+		Break: &costdrift.Break{Period: "2024-03", Driver: "machine_hours", P: 0.004, FixedBefore: 5000, FixedAfter: 3000,
+			RateBefore: 2.5, RateAfter: 3.5, LevelBefore: 10000, ActivityBefore: 2000, Periods: 14}}
+	if got := Behaviour([]costdrift.Behaviour{b}, nil, nil); len(got) != 0 {
+		t.Errorf("offsetting fixed part and rate: %+v, want no alert", got)
+	}
+}
