@@ -62,6 +62,9 @@ type Result struct {
 	// positions.
 	x, y  []float64
 	index []int
+	// stepResiduals are a step cost's costs less the level of their step,
+	// in the order of y: its break test runs on them (breaks.go).
+	stepResiduals []float64
 }
 
 // candidate is one driver at one lag, aligned with the cost.
