@@ -36,7 +36,7 @@ const BreakScreenLevel = 0.10
 // is reported in the reason and never used (provisionalRate).
 func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Settings) Result {
 	b := res.Behaviour
-	if b.Class == costdrift.InsufficientData || len(res.y) < 2*StepMinPerLevel+2 {
+	if !testable(res) {
 		return res
 	}
 	split, stat, pValue, test, ok := findBreak(res, s, obj.Object)
@@ -369,6 +369,12 @@ func endBreak(res Result, s Settings) (split int, stat, p float64, test string, 
 		test = "shift of the newest periods (level-dummy t test), Bonferroni-corrected"
 	}
 	return split, stat, p, test, ok
+}
+
+// testable reports whether the break test runs on a result: it has a class
+// and enough periods for a level on each side of a break.
+func testable(res Result) bool {
+	return res.Behaviour.Class != costdrift.InsufficientData && res.Behaviour.Class != "" && len(res.y) >= 2*StepMinPerLevel+2
 }
 
 // redate moves a sup-F break found at the end of the trimmed range to where

@@ -140,3 +140,34 @@ func TestMixedShiftKeepsTheRate(t *testing.T) {
 		t.Errorf("the shift found in %d of 20 mixed costs", found)
 	}
 }
+
+// A fixed cost (a lease of 12,000 a month, invented; 1.5 % noise) that rises
+// 15 % three periods before the end of the window while activity happens to
+// climb over the same periods: the climb correlates with the rise and would
+// take the cost for driven, hiding the shift. The cost was fixed before, so
+// its fixed model is tested for a break first: it stays fixed, with the
+// break at the rise.
+func TestFixedRiseWithClimbingActivityIsABreak(t *testing.T) {
+	r := rand.New(rand.NewPCG(71, 72))
+	for k := 0; k < 10; k++ {
+		x := swingingDriver(r, 36)
+		for i := 31; i < len(x); i++ {
+			x[i] *= 1 + 0.12*float64(i-30) // activity climbs over the newest periods
+		}
+		cost := make([]float64, 36)
+		for i := range cost {
+			level := 12000.0
+			if i >= 33 {
+				level *= 1.15
+			}
+			cost[i] = level * (1 + 0.015*r.NormFloat64())
+		}
+		p := onePanel(cost, x)
+		s := driftSettings
+		s.Prior = map[string]costdrift.Behaviour{p.Objects[0].Object.String(): {Object: p.Objects[0].Object, Class: costdrift.Fixed, FixedPerPeriod: 12000}}
+		b := Object(p, &p.Objects[0], s).Behaviour
+		if b.Class != costdrift.Fixed || b.Break == nil || b.Break.Period != p.Periods[33] {
+			t.Errorf("trial %d: %s on %q, break %+v; want fixed with a break from %s (%s)", k, b.Class, b.Driver, b.Break, p.Periods[33], b.Reason)
+		}
+	}
+}
