@@ -109,10 +109,11 @@ type Shift struct {
 }
 
 // Generate draws a portfolio: the objects of mix, in companies of up to 50
-// objects that share five drivers. Without a shift every object is stable,
+// objects that share five drivers, their cost centres named prefix and a
+// number. Without a shift every object is stable,
 // with 2–5 % noise, additive or proportional half and half (a fixed cost's
 // noise is the same either way).
-func Generate(seed uint64, mix Mix, shift *Shift) []Company {
+func Generate(seed uint64, prefix string, mix Mix, shift *Shift) []Company {
 	r := rand.New(rand.NewPCG(seed, 0x5eed))
 	var classes []costdrift.Class
 	for _, c := range Classes {
@@ -126,7 +127,7 @@ func Generate(seed uint64, mix Mix, shift *Shift) []Company {
 		end := min(start+groupLen, len(classes))
 		co := Company{Drivers: drivers(r)}
 		for i, class := range classes[start:end] {
-			name := costdrift.CostObject{Account: fmt.Sprintf("%d", 5000+i), CostCenter: fmt.Sprintf("C%03d", len(out))}
+			name := costdrift.CostObject{Account: fmt.Sprintf("%d", 5000+i), CostCenter: fmt.Sprintf("%s%03d", prefix, len(out))}
 			co.Objects = append(co.Objects, drawObject(r, name, class, co.Drivers, shift))
 		}
 		out = append(out, co)

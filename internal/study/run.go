@@ -38,10 +38,12 @@ type Analysis struct {
 
 // Roll analyses the portfolio at each of the 13 month-ends of its last year
 // (windows ending at history months 35 to 47), each time with every
-// object's current behaviour as the prior, keeps each object's behaviour
+// object's current behaviour as the prior and the breaks of the whole
+// portfolio weighed together at false-discovery rate q (analyze.ControlBreaks;
+// 0: not weighed), keeps each object's behaviour
 // history as the store does (history), and raises the behaviour alerts of
 // each analysis from the current behaviour against the one it replaced.
-func Roll(companies []Company, s analyze.Settings) []Analysis {
+func Roll(companies []Company, s analyze.Settings, q float64) []Analysis {
 	store := map[string]*history{}
 	warned := map[string]bool{} // fingerprints of the alerts raised at warning or above so far
 	var out []Analysis
@@ -52,6 +54,7 @@ func Roll(companies []Company, s analyze.Settings) []Analysis {
 			s.Prior[name] = h.open
 		}
 		results := analyseAll(companies, end, s)
+		analyze.ControlBreaks(results, q)
 		current := make([]costdrift.Behaviour, 0, len(results))
 		previous := map[string]costdrift.Behaviour{}
 		for _, r := range results {
@@ -214,6 +217,9 @@ func Stable(companies []Company, rolls []Analysis) StableFigures {
 	for _, a := range rolls {
 		t := Tally{}
 		for _, al := range a.Alerted {
+			if _, ok := class[al.Object]; !ok {
+				continue // an object of another portfolio analysed alongside
+			}
 			t[class[al.Object]]++
 			if !ever[al.Object] {
 				ever[al.Object] = true
@@ -225,7 +231,11 @@ func Stable(companies []Company, rolls []Analysis) StableFigures {
 		}
 		f.PerRoll = append(f.PerRoll, t)
 		f.Watched = append(f.Watched, a.Watched)
-		f.MaxShare = max(f.MaxShare, float64(len(a.Alerted))/float64(total))
+		n := 0
+		for _, v := range t {
+			n += v
+		}
+		f.MaxShare = max(f.MaxShare, float64(n)/float64(total))
 		for c, n := range t {
 			f.MaxClass[c] = max(f.MaxClass[c], float64(n)/float64(f.Objects[c]))
 		}

@@ -19,16 +19,20 @@ func main() {
 	stable := flag.Int("stable", 2000, "stable objects (a quarter of each class)")
 	shifted := flag.Int("shifted", 400, "shifted objects (half fixed, half mixed)")
 	seed := flag.Uint64("seed", 2026, "seed of the generator")
+	fdr := flag.Float64("fdr", 0.05, "false-discovery rate at which the breaks of each analysis are weighed together (0: not weighed)")
 	flag.Parse()
 
 	started := time.Now()
 	s := study.Settings()
 	q := *stable / 4
-	portfolio := study.Generate(*seed, study.Mix{costdrift.Fixed: q, costdrift.Variable: q, costdrift.Mixed: q, costdrift.Step: *stable - 3*q}, nil)
-	study.WriteStable(os.Stdout, study.Stable(portfolio, study.Roll(portfolio, s)))
-	fmt.Println()
+	steady := study.Generate(*seed, "S", study.Mix{costdrift.Fixed: q, costdrift.Variable: q, costdrift.Mixed: q, costdrift.Step: *stable - 3*q}, nil)
 	h := *shifted / 2
-	moved := study.Generate(*seed+1, study.Mix{costdrift.Fixed: h, costdrift.Mixed: *shifted - h}, &study.Shift{Rise: 0.15, From: 38, To: 42, FixedCV: 0.015})
-	study.WriteShifted(os.Stdout, study.Shifted(moved, study.Roll(moved, s)))
+	moved := study.Generate(*seed+1, "D", study.Mix{costdrift.Fixed: h, costdrift.Mixed: *shifted - h}, &study.Shift{Rise: 0.15, From: 38, To: 42, FixedCV: 0.015})
+	// One portfolio: the shifted objects are analysed alongside the stable
+	// ones, as a company's few changed costs are among its many steady ones.
+	rolls := study.Roll(append(append([]study.Company{}, steady...), moved...), s, *fdr)
+	study.WriteStable(os.Stdout, study.Stable(steady, rolls))
+	fmt.Println()
+	study.WriteShifted(os.Stdout, study.Shifted(moved, rolls))
 	fmt.Printf("\n(%s)\n", time.Since(started).Round(time.Second))
 }
