@@ -94,9 +94,9 @@ func minorShareFor(priors map[string]costdrift.Behaviour, o costdrift.CostObject
 
 // keepVariableOrMixed widens the boundary between variable and mixed around
 // the prior class: a mixed cost turns variable only when its intercept is
-// clearly not significant (p >= 2·alpha) or its fixed share below half the
+// clearly not significant (p >= 4·alpha) or its fixed share below half the
 // threshold; a variable cost turns mixed only when its intercept is clearly
-// significant (p < alpha/2) with a fixed share above one and a half times the
+// significant (p < alpha/4) with a fixed share above one and a half times the
 // threshold.
 func keepVariableOrMixed(prior costdrift.Class, variable bool, interceptP, fixedShare, alpha float64) bool {
 	switch prior {
