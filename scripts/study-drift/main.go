@@ -19,7 +19,7 @@ func main() {
 	stable := flag.Int("stable", 2000, "stable objects (a quarter of each class)")
 	shifted := flag.Int("shifted", 400, "shifted objects (half fixed, half mixed)")
 	seed := flag.Uint64("seed", 2026, "seed of the generator")
-	fdr := flag.Float64("fdr", 0.05, "false-discovery rate at which the breaks of each analysis are weighed together (0: not weighed)")
+	fdr := flag.Float64("fdr", 0, "false-discovery rate at which the breaks of each analysis are weighed together (0: not weighed)")
 	flag.Parse()
 
 	started := time.Now()
