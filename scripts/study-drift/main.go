@@ -12,7 +12,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/internal/study"
+	"github.com/costdrift/costdrift/scripts/study-drift/study"
 )
 
 func main() {
