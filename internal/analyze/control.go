@@ -29,17 +29,30 @@ import "sort"
 // changed in place. It returns how many breaks were withdrawn. q <= 0
 // withdraws nothing.
 func ControlBreaks(results []Result, q float64) int {
-	if q <= 0 {
+	tested := 0
+	for _, r := range results {
+		if r.Err == nil && r.BreakTested {
+			tested++
+		}
+	}
+	return ControlBreaksAmong(results, tested, q)
+}
+
+// ControlBreaksAmong is ControlBreaks for an analysis whose results are not
+// all at hand at once (analysed and stored in batches): results need hold
+// only the objects with a break (the others are never withdrawn), and
+// tested counts every object of the whole analysis the break test ran on
+// (Result.BreakTested), in every batch. A caller that streams batches keeps
+// the results with a break back from the store until the last batch is
+// analysed, then calls this once over them and stores them.
+func ControlBreaksAmong(results []Result, tested int, q float64) int {
+	if q <= 0 || tested == 0 {
 		return 0
 	}
-	m := 0
+	m := tested
 	var broken []int
 	for i, r := range results {
-		if r.Err != nil || !r.BreakTested {
-			continue
-		}
-		m++
-		if r.Behaviour.Break != nil && r.Unbroken != nil {
+		if r.Err == nil && r.BreakTested && r.Behaviour.Break != nil && r.Unbroken != nil {
 			broken = append(broken, i)
 		}
 	}

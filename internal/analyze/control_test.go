@@ -43,3 +43,24 @@ func TestControlBreaks(t *testing.T) {
 		t.Errorf("q = 0 withdrew %d breaks", got)
 	}
 }
+
+// The same worked example held back in a batch: only the four objects with
+// a break, the ten tested counted over the whole analysis.
+func TestControlBreaksAmong(t *testing.T) {
+	var held []Result
+	for _, p := range []float64{0.03, 0.001, 0.02, 0.004} {
+		whole := Result{BreakTested: true, Behaviour: costdrift.Behaviour{Class: costdrift.Fixed, Since: "2023-07"}}
+		r := whole
+		r.Behaviour.Break = &costdrift.Break{Period: "2026-01", P: p}
+		r.Unbroken = &whole
+		held = append(held, r)
+	}
+	if got := ControlBreaksAmong(held, 10, 0.05); got != 2 {
+		t.Errorf("%d breaks withdrawn, want 2", got)
+	}
+	for i, stands := range []bool{false, true, false, true} {
+		if (held[i].Behaviour.Break != nil) != stands {
+			t.Errorf("held %d: break %v, want standing %v", i, held[i].Behaviour.Break, stands)
+		}
+	}
+}
