@@ -3,7 +3,7 @@ GO      ?= go
 VERSION ?= $(shell git describe --tags --always --dirty 2>/dev/null || echo dev)
 LDFLAGS := -X main.version=$(VERSION)
 
-.PHONY: help build test demo lint mailpit crosscheck bench-sync bench-analyze soak ci
+.PHONY: help build test demo lint mailpit crosscheck bench-sync bench-analyze study-drift soak ci
 
 help: ## list the targets
 	@awk 'BEGIN {FS = ":.*## "} /^[a-z-]+:.*## / {printf "  %-14s %s\n", $$1, $$2}' $(MAKEFILE_LIST)
@@ -32,6 +32,9 @@ bench-sync: ## sync of 1,000,000-line ledgers of three shapes against the sqlite
 
 bench-analyze: ## analysis of 10,000 objects x 30 drivers x 2 lags against a statsmodels loop and a numpy floor; the analyze command store to store at 10,000 and 100,000 objects
 	bash scripts/bench-analyze/run.sh
+
+study-drift: ## drift alerts over a year: 2,000 stable and 400 shifted invented objects rolled forward 12 month-ends
+	$(GO) run ./scripts/study-drift -stable 2000 -shifted 400
 
 SOAK_ROTATE ?= 20
 soak: build ## run the daemon 10 minutes with a file arriving every 3 s; sample goroutines, open files, RSS, Go heap, store (not in CI)

@@ -8,6 +8,13 @@ import (
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
 
+// ConfirmPeriods: a shift found with fewer periods than this after its
+// break is a watch (info) until the next period confirms it. Two periods
+// off the formula at 2–5 % noise happen by chance in a large portfolio
+// every month; three in a row that still test significant rarely do, and a
+// real change stays significant as its periods add up (README, Drift).
+const ConfirmPeriods = 3
+
 // MinShift is the smallest change worth an alert, as a share of the cost
 // per period at the activity before the change (README, Alerts: a change of at
 // least 10 % and significant).
@@ -25,11 +32,18 @@ var BehaviourKinds = []costdrift.AlertKind{costdrift.AlertReclassified, costdrif
 //   - reclassified: the class differs from the previous behaviour's;
 //   - driver_changed: the same class, another driver (or lag);
 //   - fixed_shift, rate_shift: the current behaviour starts at a significant
-//     break, and its fixed part, or its rate times the activity before the
-//     break, moved by at least MinShift of the cost per period before it.
+//     break, and its fixed part moved by at least MinShift of itself (and
+//     half that of the cost per period before the break), or its rate times
+//     the activity before the break by at least MinShift of the cost per
+//     period before it; for a cost with a driver, the cost at the activity
+//     before the break moved by at least half of MinShift too.
 //
 // Each is a warning, at least (a behaviour change; README, Alerts); a shift of
-// more than half the cost is critical. An alert holds while the current
+// more than half the cost is critical, and one seen in fewer than
+// ConfirmPeriods periods is a watch (info) until confirmed. A change of class
+// or driver is fingerprinted by the behaviour it replaced (its start), not
+// by the new one's, whose first period moves with the window: it stays one
+// alert from one analysis to the next. An alert holds while the current
 // behaviour is the changed one, and resolves when it is replaced.
 func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Behaviour, names map[string]string) []costdrift.Alert {
 	var out []costdrift.Alert
@@ -45,14 +59,14 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertReclassified, Object: object, Severity: costdrift.SeverityWarning, Period: b.Since,
 					Message:     fmt.Sprintf("%s is now %s (was %s) since %s", label, describe(b), describe(prev), b.Since),
-					Fingerprint: costdrift.Fingerprint(costdrift.AlertReclassified, object, string(prev.Class)+">"+string(b.Class)+"@"+b.Since),
+					Fingerprint: costdrift.Fingerprint(costdrift.AlertReclassified, object, string(prev.Class)+">"+string(b.Class)+"@"+prev.Since),
 					Evidence:    evidence(b, prev),
 				})
 			case prev.Driver != b.Driver || prev.Lag != b.Lag:
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertDriverChanged, Object: object, Severity: costdrift.SeverityWarning, Period: b.Since,
 					Message:     fmt.Sprintf("%s follows %s now (was %s) since %s", label, driverText(b), driverText(prev), b.Since),
-					Fingerprint: costdrift.Fingerprint(costdrift.AlertDriverChanged, object, prev.Driver+">"+b.Driver+"@"+b.Since),
+					Fingerprint: costdrift.Fingerprint(costdrift.AlertDriverChanged, object, prev.Driver+">"+b.Driver+"@"+prev.Since),
 					Evidence:    evidence(b, prev),
 				})
 			}
@@ -64,18 +78,29 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 			ev := costdrift.AlertEvidence{Test: new(k.Test), Statistic: new(k.Statistic), P: new(k.P), Break: new(k.Period),
 				FixedBefore: new(k.FixedBefore), FixedAfter: new(k.FixedAfter), RateBefore: new(k.RateBefore),
 				RateAfter: new(k.RateAfter), PeriodsAfter: new(k.Periods), Provisional: new(k.Provisional), R2: new(b.R2), N: new(b.N)}
-			if math.Abs(fixed) >= MinShift {
+			watch := k.Periods < ConfirmPeriods
+			// The cost at the activity before the break must move too: a
+			// fixed part and a rate that offset each other there are the two
+			// estimates trading off within their noise, not a change the
+			// cost shows.
+			moved := true
+			if k.Driver != "" {
+				before := k.FixedBefore + k.RateBefore*k.ActivityBefore
+				after := k.FixedAfter + k.RateAfter*k.ActivityBefore
+				moved = math.Abs(after-before) >= MinShift/2*level
+			}
+			if moved && fixedMoved(k, level) {
 				out = append(out, costdrift.Alert{
-					Kind: costdrift.AlertFixedShift, Object: object, Severity: severity(fixed), Period: k.Period,
-					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s", label, direction(fixed), 100*math.Abs(fixed),
+					Kind: costdrift.AlertFixedShift, Object: object, Severity: shiftSeverity(fixed, watch), Period: k.Period,
+					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s", label, direction(fixed), 100*math.Abs(fixedChange(k, level)),
 						k.Period, money(k.FixedBefore), money(k.FixedAfter)),
 					Fingerprint: costdrift.Fingerprint(costdrift.AlertFixedShift, object, k.Period),
 					Evidence:    ev,
 				})
 			}
-			if k.Driver != "" && math.Abs(rate) >= MinShift {
+			if k.Driver != "" && moved && math.Abs(rate) >= MinShift {
 				out = append(out, costdrift.Alert{
-					Kind: costdrift.AlertRateShift, Object: object, Severity: severity(rate), Period: k.Period,
+					Kind: costdrift.AlertRateShift, Object: object, Severity: shiftSeverity(rate, watch), Period: k.Period,
 					Message: fmt.Sprintf("%s: rate per %s %s from %s, %s to %s (%.0f %% of the cost at the activity before)", label,
 						unit(b, k.Driver), direction(rate), k.Period, rateText(k.RateBefore), rateText(k.RateAfter), 100*math.Abs(rate)),
 					Fingerprint: costdrift.Fingerprint(costdrift.AlertRateShift, object, k.Period),
@@ -85,6 +110,34 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 		}
 	}
 	return out
+}
+
+// fixedChange is the change of the fixed part as a share of itself before
+// the break; of the cost per period when the fixed part was not positive.
+func fixedChange(k *costdrift.Break, level float64) float64 {
+	if k.FixedBefore > 0 {
+		return (k.FixedAfter - k.FixedBefore) / k.FixedBefore
+	}
+	return (k.FixedAfter - k.FixedBefore) / level
+}
+
+// fixedMoved reports whether a break moved the fixed part enough for an
+// alert: by at least MinShift of itself, and at least half that of the cost
+// per period, so that a small fixed part under a large variable one, whose
+// estimate is uncertain, does not raise alerts on changes that barely touch
+// the cost. For a fixed cost both are MinShift of its cost per period.
+func fixedMoved(k *costdrift.Break, level float64) bool {
+	change := k.FixedAfter - k.FixedBefore
+	return math.Abs(fixedChange(k, level)) >= MinShift && math.Abs(change) >= MinShift/2*level
+}
+
+// shiftSeverity is a shift's severity: info while it waits for
+// confirmation (a watch), else by its size.
+func shiftSeverity(share float64, watch bool) costdrift.Severity {
+	if watch {
+		return costdrift.SeverityInfo
+	}
+	return severity(share)
 }
 
 func severity(share float64) costdrift.Severity {

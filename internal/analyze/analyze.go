@@ -58,11 +58,24 @@ type Result struct {
 	Err   error
 	Stack string
 
+	// BreakTested: the break test ran on the object (it has a class and
+	// enough periods), so that it counts among the tests a portfolio-wide
+	// control weighs (ControlBreaks).
+	BreakTested bool
+	// Unbroken is the analysis over the whole window when a break was found
+	// (Behaviour.Break set): the object's result should the break not stand
+	// once the whole portfolio's breaks are weighed (ControlBreaks); nil
+	// otherwise.
+	Unbroken *Result
+
 	// The data the behaviour rests on, for the break test: the chosen
 	// driver's values (nil without a driver), the costs and their window
 	// positions.
 	x, y  []float64
 	index []int
+	// stepResiduals are a step cost's costs less the level of their step,
+	// in the order of y: its break test runs on them (breaks.go).
+	stepResiduals []float64
 }
 
 // candidate is one driver at one lag, aligned with the cost.
@@ -94,9 +107,45 @@ func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result 
 	}
 	res := objectOn(p, obj, s)
 	if s.BreakAlpha > 0 {
-		res = withBreak(p, obj, res, s)
+		broken := withBreak(p, obj, res, s)
+		if shifted, ok := fixedShiftFirst(p, obj, res, s); ok {
+			broken = shifted
+		}
+		broken.BreakTested = testable(res)
+		if broken.Behaviour.Break != nil {
+			whole := res
+			whole.BreakTested = broken.BreakTested
+			broken.Unbroken = &whole
+		}
+		res = broken
 	}
 	return res
+}
+
+// fixedShiftFirst tests a cost that was fixed and now takes a driver for a
+// shift of its level first. A fixed cost whose level rose while activity
+// happened to rise too correlates with the activity, and the new driver
+// would absorb the rise, hiding the break its fixed model shows: so the
+// fixed model over the whole window is tested for a break (withBreak), and
+// when it has one the cost stays fixed up to it and is analysed afresh from
+// it. It reports false when the prior was not fixed, the new behaviour has
+// no driver, or the fixed model has no break.
+func fixedShiftFirst(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Settings) (Result, bool) {
+	prior, ok := s.Prior[obj.Object.String()]
+	if !ok || prior.Class != costdrift.Fixed || res.Behaviour.Driver == "" {
+		return Result{}, false
+	}
+	bare := *p
+	bare.Drivers = nil
+	asBefore := objectOn(&bare, obj, s)
+	if asBefore.Behaviour.Class != costdrift.Fixed {
+		return Result{}, false
+	}
+	broken := withBreak(p, obj, asBefore, s)
+	if broken.Behaviour.Break == nil {
+		return Result{}, false
+	}
+	return broken, true
 }
 
 // objectOn analyses one cost object over the panel's whole window.

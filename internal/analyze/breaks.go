@@ -36,7 +36,7 @@ const BreakScreenLevel = 0.10
 // is reported in the reason and never used (provisionalRate).
 func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Settings) Result {
 	b := res.Behaviour
-	if b.Class == costdrift.InsufficientData || len(res.y) < 2*StepMinPerLevel+2 {
+	if !testable(res) {
 		return res
 	}
 	split, stat, pValue, test, ok := findBreak(res, s, obj.Object)
@@ -50,6 +50,16 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		Periods: len(res.y) - split,
 	}
 	sides := func(proportional bool) {
+		if res.stepResiduals != nil {
+			// A step cost's break is a shift of all its levels: the fixed
+			// part before and after is its first level moved by the mean
+			// residual on each side.
+			e := res.stepResiduals
+			brk.FixedBefore = b.FixedPerPeriod + meanOf(e[:split])
+			brk.FixedAfter = b.FixedPerPeriod + meanOf(e[split:])
+			brk.PredictionBefore = constantTerms(res.y[:split])
+			return
+		}
 		brk.FixedBefore, brk.RateBefore, brk.PredictionBefore = sideFormula(res.x, res.y, 0, split, proportional)
 		brk.FixedAfter, brk.RateAfter, _ = sideFormula(res.x, res.y, split, len(res.y), proportional)
 	}
@@ -99,6 +109,8 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = sideFormula(res.x, res.y, split, len(res.y), false)
 		if !(pb.VariableRate > 0) {
 			implausible = provisionalRate(pb, brk, res.x[split:], post)
+		} else {
+			implausible = keepRate(pb, brk, res.x[split:], post)
 		}
 		brk.FixedAfter, brk.RateAfter = pb.FixedPerPeriod, pb.VariableRate
 	default:
@@ -151,6 +163,34 @@ func provisionalRate(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float
 	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = meanOf(y), 0, keptRateTerms(x, y, 0, 0)
 	return fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost and %s, so the cost is taken at its mean since the break, %.2f, until a rate can be fitted",
 		refitted, why, pb.FixedPerPeriod)
+}
+
+// keepRate replaces the provisional formula of a mixed cost whose rate
+// refitted on the few periods since a break is positive by the rate from
+// before the break, b₀, with only the fixed part refitted on them,
+// a = ȳ − b₀·x̄ (terms as in provisionalRate). A line through fewer than
+// min_periods points mostly fits their noise: its intercept, an
+// extrapolation to zero activity, can move by more than the cost itself
+// while the cost at the activity of those periods barely moved, and the
+// shift the break is judged on would be that noise. The break tests of a
+// mixed cost look for a shift of its level, so the formula since the break
+// is the old rate on a new level until enough periods follow the break to
+// fit a new rate. Where b₀ is not positive or would leave a negative fixed
+// part, the refit is kept. It returns the reason's clause.
+func keepRate(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float64) string {
+	rate := brk.RateBefore
+	fixed := meanOf(y) - rate*meanOf(x)
+	if !(rate > 0) || fixed < 0 {
+		return ""
+	}
+	rateVariance := 0.0
+	if t := brk.PredictionBefore; t != nil && t.Intercept && len(t.Cov) == 4 {
+		rateVariance = t.S * t.S * t.Cov[3]
+	}
+	refitted := rateOf(pb.VariableRate, pb.Unit, pb.Driver)
+	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = fixed, rate, keptRateTerms(x, y, rate, rateVariance)
+	return fmt.Sprintf("; a rate refitted on so few periods (%s) would mostly be their noise, so the rate from before the break, %s, is kept and only the fixed part is refitted on them",
+		refitted, rateOf(rate, pb.Unit, pb.Driver))
 }
 
 // keptRateTerms are the prediction terms of cost = ȳ + rate·(x − x̄) on the
@@ -209,6 +249,24 @@ func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat,
 		}
 		res.x, res.y = nil, perUnit
 	}
+	if res.stepResiduals != nil {
+		// A step cost is flat within its levels, so a line through it
+		// leaves residuals that follow the driver, and the driver's own
+		// swings would read as breaks; its step model's residuals have
+		// none, and a shift of its levels is a shift of their mean.
+		res.x, res.y = nil, res.stepResiduals
+	}
+	end := s
+	if res.Behaviour.Class == costdrift.Mixed && res.x != nil {
+		// Two searches over the window, each at half the level (Bonferroni):
+		// the shift of the fixed part, then a change of both coefficients,
+		// which a period far off the formula (a month without postings)
+		// can hide from the first.
+		s.BreakAlpha /= 2
+		if split, stat, p, test, ok := levelBreak(res, s, o); ok {
+			return split, stat, p, test, true
+		}
+	}
 	k := 1
 	var columns [][]float64
 	if res.x != nil {
@@ -224,16 +282,72 @@ func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat,
 			hansen, herr := drift.HansenPValue(fs.SupF, k, fs.Lambda)
 			switch {
 			case herr == nil && hansen < s.BreakAlpha/HansenMargin:
-				return fs.Break, fs.SupF, hansen, "sup-F (Quandt–Andrews, 15 % trimming), Hansen's approximation (far below the level)", true
+				return redate(res.x, res.y, fs.Break), fs.SupF, hansen, "sup-F (Quandt–Andrews, 15 % trimming), Hansen's approximation (far below the level)", true
 			case herr == nil && hansen > s.BreakAlpha*HansenMargin:
 			default:
 				p, _, err := drift.SupFSignificant(columns, res.y, true, drift.DefaultTrim, s.Replicates, seedFor(s.Seed, o), s.BreakAlpha)
 				if err == nil && p < s.BreakAlpha {
-					return fs.Break, fs.SupF, p, "sup-F (Quandt–Andrews, 15 % trimming), residual bootstrap", true
+					return redate(res.x, res.y, fs.Break), fs.SupF, p, "sup-F (Quandt–Andrews, 15 % trimming), residual bootstrap", true
 				}
 			}
 		}
 	}
+	return endBreak(res, end)
+}
+
+// levelBreak is the break test of a mixed cost: a shift of its fixed part
+// with its rate held common (drift.SupFLevel), weighted by the inverse of
+// the fitted cost. Fitting each side's line freely spends a degree of
+// freedom on the rate, and an intercept fitted on a few periods is far
+// less certain than the cost at the activity of those periods, so that
+// test flags noise; and noise that grows with the cost (a share of each
+// month's cost, as bills scale) would otherwise count as a break where the
+// activity is high. The weights make the errors' spread even whether the
+// noise is a share of the cost or a fixed amount, at little loss when it is
+// the latter (Carroll and Ruppert 1988, Transformation and Weighting in
+// Regression, ch. 2, from memory). A change in rate shows too, as a shift
+// of the cost at the activity of the periods after it.
+func levelBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat, p float64, test string, ok bool) {
+	line, err := fit.LineSummary(res.x, res.y)
+	if err != nil {
+		return 0, 0, 1, "", false
+	}
+	weights := make([]float64, len(res.y))
+	for i, v := range res.x {
+		fitted := line.Coef[0] + line.Coef[1]*v
+		if !(fitted > 0) {
+			weights = nil // a formula that reaches zero cannot scale the noise
+			break
+		}
+		weights[i] = 1 / fitted
+	}
+	ls, err := drift.SupFLevel([][]float64{res.x}, res.y, weights, drift.DefaultTrim)
+	if err != nil {
+		return 0, 0, 1, "", false
+	}
+	critical, err := drift.AndrewsCritical(1, drift.DefaultTrim, BreakScreenLevel)
+	if err != nil || ls.SupF < critical {
+		return 0, 0, 1, "", false
+	}
+	name := "level-shift sup-F (Andrews, fixed part only, weighted by 1/fitted cost, 15 % trimming)"
+	hansen, herr := drift.HansenPValue(ls.SupF, 1, ls.Lambda)
+	switch {
+	case herr == nil && hansen < s.BreakAlpha/HansenMargin:
+		return redate(res.x, res.y, ls.Break), ls.SupF, hansen, name + ", Hansen's approximation (far below the level)", true
+	case herr == nil && hansen > s.BreakAlpha*HansenMargin:
+		return 0, 0, 1, "", false
+	}
+	p = drift.SupFLevelSignificant(ls, s.Replicates, seedFor(s.Seed, o), s.BreakAlpha)
+	if p < s.BreakAlpha {
+		return redate(res.x, res.y, ls.Break), ls.SupF, p, name + ", residual bootstrap", true
+	}
+	return 0, 0, 1, "", false
+}
+
+// endBreak is Chow's predictive test on the newest periods (EndPeriods),
+// Bonferroni-corrected over them: of the significant splits, the one the
+// data fit best dates the change.
+func endBreak(res Result, s Settings) (split int, stat, p float64, test string, ok bool) {
 	n := len(res.y)
 	bestRSS := math.Inf(1)
 	for _, m := range EndPeriods {
@@ -255,6 +369,50 @@ func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat,
 		test = "shift of the newest periods (level-dummy t test), Bonferroni-corrected"
 	}
 	return split, stat, p, test, ok
+}
+
+// testable reports whether the break test runs on a result: it has a class
+// and enough periods for a level on each side of a break.
+func testable(res Result) bool {
+	return res.Behaviour.Class != costdrift.InsufficientData && res.Behaviour.Class != "" && len(res.y) >= 2*StepMinPerLevel+2
+}
+
+// redate moves a sup-F break found at the end of the trimmed range to where
+// a shift of the level fits best among the newest periods. The trimming
+// keeps the search 15 % of the window from the end so that the statistic
+// has a known distribution; a change nearer the end than that still drives
+// the sup-F over its critical value, but at the last split it may search,
+// which dates the change too early and averages the new level with periods
+// of the old one. The significance is the sup-F's; only the date is the
+// least-squares estimate of a level shift (Bai 1994, "Least squares
+// estimation of a shift in linear processes", J. Time Series Analysis
+// 15(5)): the split s from the sup-F's on to the second newest period that
+// minimises the residual sum of squares of cost = formula + δ·[t >= s].
+func redate(x, y []float64, split int) int {
+	n := len(y)
+	last := n - int(math.Floor(drift.DefaultTrim*float64(n)))
+	if split < last {
+		return split
+	}
+	best, bestRSS := split, math.Inf(1)
+	for at := split; at <= n-EndPeriods[0]; at++ {
+		shift := make([]float64, n)
+		for i := at; i < n; i++ {
+			shift[i] = 1
+		}
+		columns := [][]float64{shift}
+		if x != nil {
+			columns = [][]float64{x, shift}
+		}
+		r, err := fit.OLS(columns, y, true)
+		if err != nil {
+			continue
+		}
+		if r.RSS < bestRSS {
+			best, bestRSS = at, r.RSS
+		}
+	}
+	return best
 }
 
 // positive reports whether every activity value is above zero.

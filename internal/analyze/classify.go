@@ -190,6 +190,7 @@ func classifyStep(res *Result, best *candidate, stepBest *stepFit, diag *costdri
 		b.Steps = append(b.Steps, costdrift.StepLevel{From: l.From, To: l.To, Level: l.Mean, N: l.N})
 	}
 	b.FixedPerPeriod = m.Levels[0].Mean
+	res.stepResiduals = m.Residuals
 	if terms, err := fit.StepTerms(m); err == nil {
 		b.Prediction = stored(terms)
 	}

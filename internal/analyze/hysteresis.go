@@ -11,17 +11,17 @@ import "github.com/costdrift/costdrift/internal/costdrift"
 const (
 	// StickyPRESS: the prior driver stays first while its leave-one-out
 	// error per period is within this share of the best one's.
-	StickyPRESS = 0.10
+	StickyPRESS = 0.25
 	// StepKeepDeltaAICc: a step cost stays a step while its model is at
 	// least as good as the line by AICc (a new step needs more).
 	StepKeepDeltaAICc = 0.0
 	// StepEnterDeltaAICc: a cost that was not a step becomes one only when
 	// the step beats the line by this much.
-	StepEnterDeltaAICc = StepMinDeltaAICc + 2
+	StepEnterDeltaAICc = StepMinDeltaAICc + 4
 	// StickySignificance: a cost without a driver takes one only when its
 	// corrected p-value is below alpha divided by this; a cost with a driver
 	// keeps it while the corrected p-value is below alpha times this.
-	StickySignificance = 5.0
+	StickySignificance = 10.0
 )
 
 // stickyRanking applies the hysteresis of significance: without a prior
@@ -94,16 +94,16 @@ func minorShareFor(priors map[string]costdrift.Behaviour, o costdrift.CostObject
 
 // keepVariableOrMixed widens the boundary between variable and mixed around
 // the prior class: a mixed cost turns variable only when its intercept is
-// clearly not significant (p >= 2·alpha) or its fixed share below half the
+// clearly not significant (p >= 4·alpha) or its fixed share below half the
 // threshold; a variable cost turns mixed only when its intercept is clearly
-// significant (p < alpha/2) with a fixed share above one and a half times the
+// significant (p < alpha/4) with a fixed share above one and a half times the
 // threshold.
 func keepVariableOrMixed(prior costdrift.Class, variable bool, interceptP, fixedShare, alpha float64) bool {
 	switch prior {
 	case costdrift.Mixed:
-		return interceptP >= 2*alpha || fixedShare < MinorShare/2
+		return interceptP >= 4*alpha || fixedShare < MinorShare/2
 	case costdrift.Variable:
-		return !(interceptP < alpha/2 && fixedShare >= 1.5*MinorShare)
+		return !(interceptP < alpha/4 && fixedShare >= 1.5*MinorShare)
 	}
 	return variable
 }

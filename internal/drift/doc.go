@@ -9,6 +9,11 @@
 //   - Chow: the Chow test at a given break with its exact F p-value;
 //   - SupFPValue: the p-value of the sup-F, by residual bootstrap with a
 //     fixed seed or by Hansen's (1997) approximation;
+//   - SupFLevel and SupFLevelSignificant: the sup-F for a shift of the
+//     level alone, the rates held common (Andrews 1993, partial structural
+//     change with one coefficient changing), optionally by weighted least
+//     squares for noise that grows with the cost, with its residual-
+//     bootstrap p-value;
 //   - OLSCUSUM and RecursiveCUSUM: the cumulative-sum fluctuation tests
 //     with their p-values and boundaries;
 //   - AndrewsCritical: Andrews' (2003) table of sup-F critical values.
