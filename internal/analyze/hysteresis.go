@@ -1,6 +1,10 @@
 package analyze
 
-import "github.com/costdrift/costdrift/internal/costdrift"
+import (
+	"math"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
 
 // Hysteresis: a cost close to a boundary (two drivers nearly as good, an
 // intercept near significance, a step barely better than a line) would flip
@@ -22,12 +26,20 @@ const (
 	// corrected p-value is below alpha divided by this; a cost with a driver
 	// keeps it while the corrected p-value is below alpha times this.
 	StickySignificance = 10.0
+	// InterchangeShare: two formulas whose fitted costs over the window
+	// differ by less than this share of the mean cost (root mean square)
+	// predict the same costs, and a change from one to the other is not a change an
+	// accountant acts on: a cost formula matters through the costs it
+	// predicts (common practice). It is the smallest shift of the cost a
+	// shift alert reports, half of MinShift in README, Alerts.
+	InterchangeShare = 0.05
 )
 
 // stickyRanking applies the hysteresis of significance: without a prior
 // driver, only drivers significant at alpha/StickySignificance count; with
 // one that is no longer significant at alpha, it is kept while its positive
-// slope stays significant at alpha·StickySignificance.
+// slope stays significant at alpha·StickySignificance and no other driver
+// is, or the one that is predicts the same costs (interchangeable).
 func stickyRanking(ranked, cands []*candidate, prior costdrift.Behaviour, alpha float64) []*candidate {
 	if prior.Class == costdrift.InsufficientData {
 		return ranked
@@ -41,21 +53,31 @@ func stickyRanking(ranked, cands []*candidate, prior costdrift.Behaviour, alpha 
 		}
 		return out
 	}
-	if len(ranked) > 0 {
-		return ranked
+	for _, c := range ranked {
+		if c.driver.Name == prior.Driver && c.lag == prior.Lag {
+			return ranked
+		}
 	}
 	for _, c := range cands {
-		if c.driver.Name == prior.Driver && c.lag == prior.Lag && c.linear.Coef[1] > 0 && c.adjustedP < alpha*StickySignificance {
+		if c.driver.Name == prior.Driver && c.lag == prior.Lag && c.linear.Coef[1] > 0 && c.adjustedP < alpha*StickySignificance &&
+			(len(ranked) == 0 || interchangeable(c, ranked[0])) {
+			// Still significant at the wider level and predicting what the
+			// best driver does: kept first.
 			c.plausible = true
+			for _, r := range ranked {
+				r.rank++
+			}
 			c.rank = 1
-			return []*candidate{c}
+			return append([]*candidate{c}, ranked...)
 		}
 	}
 	return ranked
 }
 
 // preferPrior moves the prior driver and lag to the front of the ranking
-// when it is still significant and nearly as good as the best.
+// when it is still significant and nearly as good as the best, or predicts
+// the same costs as the best (interchangeable): two correlated drivers
+// trade places as noise moves their fits.
 func preferPrior(ranked []*candidate, prior costdrift.Behaviour) []*candidate {
 	if prior.Driver == "" || len(ranked) < 2 {
 		return ranked
@@ -65,7 +87,7 @@ func preferPrior(ranked []*candidate, prior costdrift.Behaviour) []*candidate {
 		if i == 0 || c.driver.Name != prior.Driver || c.lag != prior.Lag {
 			continue
 		}
-		if c.linear.PRESS/float64(c.linear.N) <= (1+StickyPRESS)*best {
+		if c.linear.PRESS/float64(c.linear.N) <= (1+StickyPRESS)*best || interchangeable(c, ranked[0]) {
 			out := make([]*candidate, 0, len(ranked))
 			out = append(out, c)
 			out = append(out, ranked[:i]...)
@@ -106,4 +128,24 @@ func keepVariableOrMixed(prior costdrift.Class, variable bool, interceptP, fixed
 		return !(interceptP < alpha/4 && fixedShare >= 1.5*MinorShare)
 	}
 	return variable
+}
+
+// interchangeable reports whether two candidates' lines fitted on the same
+// periods predict the same costs: the root mean square of the difference
+// of their fitted costs is below InterchangeShare of the mean cost.
+func interchangeable(a, b *candidate) bool {
+	if len(a.index) != len(b.index) || len(a.y) == 0 {
+		return false
+	}
+	for i := range a.index {
+		if a.index[i] != b.index[i] {
+			return false
+		}
+	}
+	var ss float64
+	for i := range a.x {
+		d := a.linear.Coef[0] + a.linear.Coef[1]*a.x[i] - b.linear.Coef[0] - b.linear.Coef[1]*b.x[i]
+		ss += d * d
+	}
+	return math.Sqrt(ss/float64(len(a.x))) < InterchangeShare*math.Abs(meanOf(a.y))
 }
