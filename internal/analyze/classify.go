@@ -265,11 +265,22 @@ func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag
 	b := &res.Behaviour
 	chosenIdx := l.fitIdx
 	variableRule := l.interceptP >= s.Alpha || l.fixedShare < MinorShare
-	if prior, ok := s.Prior[b.Object.String()]; ok {
+	prior, hasPrior := s.Prior[b.Object.String()]
+	if hasPrior {
 		variableRule = keepVariableOrMixed(prior.Class, variableRule, l.interceptP, l.fixedShare, s.Alpha)
 	}
+	class := costdrift.Mixed
 	switch {
 	case variableRule:
+		class = costdrift.Variable
+	case l.variableShare < minorShareFor(s.Prior, b.Object):
+		class = costdrift.Fixed
+	}
+	if hasPrior && samePrediction(prior, class, best, l) {
+		class = prior.Class
+	}
+	switch class {
+	case costdrift.Variable:
 		b.Class = costdrift.Variable
 		b.VariableRate = l.slope
 		b.VariableRate2 = l.slope2
@@ -289,7 +300,7 @@ func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag
 			why = fmt.Sprintf("fixed part is %.1f %% of cost at mean activity (below %.0f %%)", 100*l.fixedShare, 100*MinorShare)
 		}
 		b.Reason = fmt.Sprintf("cost moves with %s (%s); %s%s", l.label, l.evidence, why, note)
-	case l.variableShare < minorShareFor(s.Prior, b.Object):
+	case costdrift.Fixed:
 		b.Class = costdrift.Fixed
 		b.Driver, b.Unit, b.Lag = "", "", 0
 		b.Driver2, b.Unit2, b.Lag2 = "", "", 0
@@ -303,6 +314,10 @@ func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag
 		diag.DurbinWatson, diag.RobustIntercept, diag.RobustSlope = math.NaN(), math.NaN(), math.NaN()
 		b.Reason = fmt.Sprintf("%s is significant (%s) but drives only %.1f %% of cost at mean activity (below %.0f %%); treated as fixed%s",
 			l.label, l.evidence, 100*l.variableShare, 100*MinorShare, note)
+		if l.variableShare >= minorShareFor(s.Prior, b.Object) {
+			b.Reason = fmt.Sprintf("%s is significant (%s) and drives %.1f %% of cost at mean activity, but the fixed formula it had predicts the same costs; kept fixed%s",
+				l.label, l.evidence, 100*l.variableShare, note)
+		}
 		return
 	default:
 		b.Class = costdrift.Mixed

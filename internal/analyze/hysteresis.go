@@ -39,7 +39,10 @@ const (
 // driver, only drivers significant at alpha/StickySignificance count; with
 // one that is no longer significant at alpha, it is kept while its positive
 // slope stays significant at alpha·StickySignificance and no other driver
-// is, or the one that is predicts the same costs (interchangeable).
+// is, or the one that is predicts the same costs (interchangeable); with no
+// driver significant it is kept too while its line predicts the same costs
+// as the mean (flatLine), so that a small variable part that fades into the
+// noise does not turn the cost fixed and back.
 func stickyRanking(ranked, cands []*candidate, prior costdrift.Behaviour, alpha float64) []*candidate {
 	if prior.Class == costdrift.InsufficientData {
 		return ranked
@@ -59,8 +62,11 @@ func stickyRanking(ranked, cands []*candidate, prior costdrift.Behaviour, alpha 
 		}
 	}
 	for _, c := range cands {
-		if c.driver.Name == prior.Driver && c.lag == prior.Lag && c.linear.Coef[1] > 0 && c.adjustedP < alpha*StickySignificance &&
-			(len(ranked) == 0 || interchangeable(c, ranked[0])) {
+		if c.driver.Name != prior.Driver || c.lag != prior.Lag || !(c.linear.Coef[1] > 0) {
+			continue
+		}
+		if len(ranked) == 0 && (c.adjustedP < alpha*StickySignificance || flatLine(c)) ||
+			len(ranked) > 0 && c.adjustedP < alpha*StickySignificance && interchangeable(c, ranked[0]) {
 			// Still significant at the wider level and predicting what the
 			// best driver does: kept first.
 			c.plausible = true
@@ -148,4 +154,58 @@ func interchangeable(a, b *candidate) bool {
 		ss += d * d
 	}
 	return math.Sqrt(ss/float64(len(a.x))) < InterchangeShare*math.Abs(meanOf(a.y))
+}
+
+// samePrediction reports whether the prior class, refitted on the best
+// driver's periods, predicts the same costs as the class the line rules
+// chose (InterchangeShare): a fixed cost's mean, a variable cost's
+// proportional fit, a mixed cost's line. A cost whose small variable part
+// comes and goes, or whose small fixed part does, would otherwise be
+// reclassified back and forth with no change in the costs it is expected
+// to have. Only one driver, the prior's, and only these three classes.
+func samePrediction(prior costdrift.Behaviour, class costdrift.Class, best *candidate, l lineFormula) bool {
+	if prior.Class == class || l.pair != nil {
+		return false
+	}
+	if prior.Class != costdrift.Fixed && (prior.Driver != best.driver.Name || prior.Lag != best.lag) {
+		return false
+	}
+	mean := meanOf(best.y)
+	fitted := func(c costdrift.Class, x float64) (float64, bool) {
+		switch c {
+		case costdrift.Fixed:
+			return mean, true
+		case costdrift.Variable:
+			if best.origin == nil {
+				return 0, false
+			}
+			return best.origin.Coef[0] * x, true
+		case costdrift.Mixed:
+			return l.a + l.slope*x, true
+		}
+		return 0, false
+	}
+	var ss float64
+	for _, x := range best.x {
+		p, ok1 := fitted(prior.Class, x)
+		q, ok2 := fitted(class, x)
+		if !ok1 || !ok2 {
+			return false
+		}
+		ss += (p - q) * (p - q)
+	}
+	return math.Sqrt(ss/float64(len(best.x))) < InterchangeShare*math.Abs(mean)
+}
+
+// flatLine reports whether a candidate's line predicts the same costs as
+// their mean: its fitted costs differ from the mean by less than
+// InterchangeShare of it, root mean square.
+func flatLine(c *candidate) bool {
+	mean := meanOf(c.y)
+	var ss float64
+	for _, x := range c.x {
+		d := c.linear.Coef[1] * (x - c.meanX)
+		ss += d * d
+	}
+	return math.Sqrt(ss/float64(len(c.x))) < InterchangeShare*math.Abs(mean)
 }

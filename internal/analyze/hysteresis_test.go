@@ -79,3 +79,70 @@ func TestStickyRankingInterchangeable(t *testing.T) {
 		t.Errorf("prior c predicting other costs: ranking has %d, first %s; want [b]", len(got), got[0].driver.Name)
 	}
 }
+
+// flatCandidate is a driver of an invented cost that barely follows it:
+// cost = 3000 + 0.5·a, whose line's fitted costs swing by about 0.5 % of
+// the cost around their mean.
+func flatCandidate(t *testing.T) *candidate {
+	t.Helper()
+	a, _, _ := interchangeCandidates(t)
+	y := make([]float64, len(a.x))
+	for i, x := range a.x {
+		y[i] = 3000 + 0.5*x + 15*math.Cos(3*float64(i))
+	}
+	lin, err := fit.LineSummary(a.x, y)
+	if err != nil {
+		t.Fatal(err)
+	}
+	orig, err := fit.ThroughOriginSummary(a.x, y)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return &candidate{driver: a.driver, x: a.x, y: y, index: a.index, linear: lin, origin: orig, meanX: a.meanX}
+}
+
+// With no driver significant, a prior driver whose line predicts the same
+// costs as their mean stays, however weak its slope: a small variable part
+// fading into the noise does not turn the cost fixed (and back later). A
+// line that swings by 9 % of the cost is not kept on a weak slope.
+func TestStickyRankingFlatLine(t *testing.T) {
+	flat := flatCandidate(t)
+	flat.adjustedP = 0.8 // far above alpha·StickySignificance
+	got := stickyRanking(nil, []*candidate{flat}, costdrift.Behaviour{Driver: "a", Class: costdrift.Mixed}, 0.05)
+	if len(got) != 1 || got[0] != flat {
+		t.Errorf("flat prior line: ranking has %d candidates, want it alone", len(got))
+	}
+	steep, _, _ := interchangeCandidates(t)
+	steep.adjustedP = 0.8
+	if got := stickyRanking(nil, []*candidate{steep}, costdrift.Behaviour{Driver: "a", Class: costdrift.Mixed}, 0.05); len(got) != 0 {
+		t.Errorf("steep prior line on a slope p 0.8: ranking has %d candidates, want none", len(got))
+	}
+}
+
+// The line rules' class gives way to the prior class when the prior
+// class's formula on the same periods predicts the same costs: fixed and
+// mixed on a line that barely moves, variable and mixed on a line that
+// nearly passes through the origin; not when the costs differ.
+func TestSamePrediction(t *testing.T) {
+	flat := flatCandidate(t)
+	lf := lineFormula{a: flat.linear.Coef[0], slope: flat.linear.Coef[1]}
+	mixedOnA := costdrift.Behaviour{Class: costdrift.Mixed, Driver: "a"}
+	if !samePrediction(mixedOnA, costdrift.Fixed, flat, lf) {
+		t.Error("mixed prior, fixed now, on a line swinging 0.5 % of the cost: want the same prediction")
+	}
+	if !samePrediction(costdrift.Behaviour{Class: costdrift.Fixed}, costdrift.Mixed, flat, lf) {
+		t.Error("fixed prior, mixed now, on a line swinging 0.5 % of the cost: want the same prediction")
+	}
+	// The flat cost through the origin misses it by far more than 5 %.
+	if samePrediction(costdrift.Behaviour{Class: costdrift.Variable, Driver: "a"}, costdrift.Mixed, flat, lf) {
+		t.Error("variable prior, mixed now, on a line with a fixed part of nearly all the cost: want different predictions")
+	}
+	steep, _, _ := interchangeCandidates(t)
+	ls := lineFormula{a: steep.linear.Coef[0], slope: steep.linear.Coef[1]}
+	if samePrediction(mixedOnA, costdrift.Fixed, steep, ls) {
+		t.Error("mixed prior, fixed now, on a line swinging 9 % of the cost: want different predictions")
+	}
+	if samePrediction(costdrift.Behaviour{Class: costdrift.Mixed, Driver: "b"}, costdrift.Fixed, flat, lf) {
+		t.Error("mixed prior on another driver: want no comparison")
+	}
+}
