@@ -40,6 +40,9 @@ func classify(res *Result, cands, ranked []*candidate, y []float64, periods []st
 		return
 	}
 	steps, stepCand, stepBest := chooseStep(res, ranked, s)
+	if prior, ok := s.Prior[res.Behaviour.Object.String()]; ok && stepCand != nil && stepLikeLine(prior, stepCand, stepBest) {
+		stepCand, stepBest = nil, nil
+	}
 	best := ranked[0]
 	if stepCand != nil {
 		best = stepCand

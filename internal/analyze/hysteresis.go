@@ -209,3 +209,28 @@ func flatLine(c *candidate) bool {
 	}
 	return math.Sqrt(ss/float64(len(c.x))) < InterchangeShare*math.Abs(mean)
 }
+
+// stepLikeLine reports whether a step model that would replace a prior
+// variable or mixed cost on the same driver and lag predicts the same costs
+// as the prior class's line refitted on its periods (InterchangeShare): the
+// steps are then within the noise of the line, and the cost stays a line.
+func stepLikeLine(prior costdrift.Behaviour, c *candidate, sf *stepFit) bool {
+	if prior.Driver != c.driver.Name || prior.Lag != c.lag || len(sf.model.Residuals) != len(c.y) {
+		return false
+	}
+	var a, b float64
+	switch {
+	case prior.Class == costdrift.Variable && c.origin != nil:
+		b = c.origin.Coef[0]
+	case prior.Class == costdrift.Mixed:
+		a, b = c.linear.Coef[0], c.linear.Coef[1]
+	default:
+		return false
+	}
+	var ss float64
+	for i, x := range c.x {
+		d := c.y[i] - sf.model.Residuals[i] - a - b*x
+		ss += d * d
+	}
+	return math.Sqrt(ss/float64(len(c.x))) < InterchangeShare*math.Abs(meanOf(c.y))
+}

@@ -146,3 +146,38 @@ func TestSamePrediction(t *testing.T) {
 		t.Error("mixed prior on another driver: want no comparison")
 	}
 }
+
+// A step model that would replace a line on the same driver is kept out
+// when its fitted costs are within InterchangeShare of the prior line's (a
+// cost barely following its driver, cut into levels); a cost that jumps by
+// 40 % at a threshold of its driver becomes a step.
+func TestStepLikeLine(t *testing.T) {
+	flat := flatCandidate(t)
+	sf := fitStep(flat)
+	if sf == nil {
+		t.Fatal("no step model on the flat cost")
+	}
+	if !stepLikeLine(costdrift.Behaviour{Class: costdrift.Mixed, Driver: "a"}, flat, sf) {
+		t.Error("steps on a cost swinging 0.5 % of itself: want the same prediction as the mixed line")
+	}
+	a, _, _ := interchangeCandidates(t)
+	y := make([]float64, len(a.x))
+	for i, x := range a.x {
+		y[i] = 2000 + 10*math.Cos(3*float64(i))
+		if x >= 110 {
+			y[i] += 800
+		}
+	}
+	lin, err := fit.LineSummary(a.x, y)
+	if err != nil {
+		t.Fatal(err)
+	}
+	orig, err := fit.ThroughOriginSummary(a.x, y)
+	if err != nil {
+		t.Fatal(err)
+	}
+	jump := &candidate{driver: a.driver, x: a.x, y: y, index: a.index, linear: lin, origin: orig, meanX: a.meanX}
+	if sf := fitStep(jump); sf == nil || stepLikeLine(costdrift.Behaviour{Class: costdrift.Variable, Driver: "a"}, jump, sf) {
+		t.Error("a 40 % jump at a threshold: want a step model that predicts other costs than the variable line")
+	}
+}
