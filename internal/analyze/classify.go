@@ -25,8 +25,8 @@ import (
 //   - step: on the best-ranked drivers, a step model (2–4 levels rising in
 //     the driver, each at least 3 periods) that beats the line on the same
 //     data by ΔAICc >= StepMinDeltaAICc, and inside whose levels cost does
-//     not keep rising with the driver (no significant common slope within
-//     the levels); the formula is its levels;
+//     not keep rising with the driver (no common slope within the levels
+//     significant at alpha/StickySignificance); the formula is its levels;
 //
 //   - a second driver, by forward selection (forwardSelect), joins the
 //     formula and the shares are taken over both drivers.
@@ -113,10 +113,13 @@ func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candid
 		}
 		steps[c] = sf
 		res.Fits = append(res.Fits, stepRecord(b.Object, c, sf))
-		flatLevel := s.Alpha
-		if prior, ok := s.Prior[b.Object.String()]; ok && prior.Class == costdrift.Step {
-			flatLevel = s.Alpha / StickySignificance // a step stays flat unless clearly rising inside
-		}
+		// A step is flat unless clearly rising inside its levels: a line cut
+		// into levels rises inside them at p far below this, while a true
+		// step's levels, each a few months of noise on a driver that swings,
+		// show a slope at p < alpha one analysis in twenty, and at alpha the
+		// same step cost would be called a line in one month and a step in
+		// the next.
+		flatLevel := s.Alpha / StickySignificance
 		flat := !(sf.withinP < flatLevel && sf.withinSlope > 0)
 		// The step must also beat the best line of any driver, not only
 		// its own driver's: a step on a driver that merely correlates with

@@ -171,3 +171,39 @@ func TestFixedRiseWithClimbingActivityIsABreak(t *testing.T) {
 		}
 	}
 }
+
+// Designed step costs (three levels: a second crew from 950 pallets and a
+// third from 1,080, invented; 5 % noise) are called step on their first
+// analysis, with no prior: a step's levels, each a few months of noise on a
+// swinging driver, show a within-level slope at p < alpha one analysis in
+// twenty by chance, and a step called a line one month and a step the next
+// is a reclassification alert with no change behind it.
+func TestDesignedStepCostsAreStep(t *testing.T) {
+	const trials = 400
+	r := rand.New(rand.NewPCG(43, 44))
+	steps := 0
+	for k := 0; k < trials; k++ {
+		x := swingingDriver(r, 36)
+		cost := make([]float64, 36)
+		for i := range cost {
+			level := 20000.0
+			switch {
+			case x[i+1] >= 1080:
+				level = 31000
+			case x[i+1] >= 950:
+				level = 25500
+			}
+			cost[i] = level * (1 + 0.05*r.NormFloat64())
+		}
+		p := onePanel(cost, x)
+		if Object(p, &p.Objects[0], driftSettings).Behaviour.Class == costdrift.Step {
+			steps++
+		}
+	}
+	t.Logf("%d of %d designed step costs called step", steps, trials)
+	// 393 of these 400 with the within-level slope tested at alpha, 398
+	// at alpha/StickySignificance.
+	if steps < trials*995/1000 {
+		t.Errorf("%d of %d designed step costs called step, want at least 99.5 %%", steps, trials)
+	}
+}
