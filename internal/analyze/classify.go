@@ -282,7 +282,9 @@ func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag
 	case l.variableShare < minorShareFor(s.Prior, b.Object):
 		class = costdrift.Fixed
 	}
+	kept := ""
 	if hasPrior && samePrediction(prior, class, best, l) {
+		kept = fmt.Sprintf("; kept %s as before: as %s it would predict the same costs (within %.0f %% of the mean cost)", prior.Class, class, 100*InterchangeShare)
 		class = prior.Class
 	}
 	switch class {
@@ -305,7 +307,7 @@ func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag
 		if l.interceptP < s.Alpha {
 			why = fmt.Sprintf("fixed part is %.1f %% of cost at mean activity (below %.0f %%)", 100*l.fixedShare, 100*MinorShare)
 		}
-		b.Reason = fmt.Sprintf("cost moves with %s (%s); %s%s", l.label, l.evidence, why, note)
+		b.Reason = fmt.Sprintf("cost moves with %s (%s); %s%s%s", l.label, l.evidence, why, kept, note)
 	case costdrift.Fixed:
 		b.Class = costdrift.Fixed
 		b.Driver, b.Unit, b.Lag = "", "", 0
@@ -329,8 +331,12 @@ func classifyLine(res *Result, best *candidate, l lineFormula, y []float64, diag
 		b.Class = costdrift.Mixed
 		b.FixedPerPeriod, b.VariableRate, b.VariableRate2 = l.a, l.slope, l.slope2
 		b.Prediction = termsOf(l.reg)
-		b.Reason = fmt.Sprintf("cost moves with %s (%s) above a significant fixed part (%s), %.0f %% fixed at mean activity%s",
-			l.label, l.evidence, pText(l.interceptP), 100*l.fixedShare, note)
+		part := "a significant fixed part"
+		if kept != "" {
+			part = "a fixed part" // kept mixed, its fixed part need not be significant
+		}
+		b.Reason = fmt.Sprintf("cost moves with %s (%s) above %s (%s), %.0f %% fixed at mean activity%s%s",
+			l.label, l.evidence, part, pText(l.interceptP), 100*l.fixedShare, kept, note)
 	}
 	chosen := &res.Fits[chosenIdx]
 	chosen.Chosen = true

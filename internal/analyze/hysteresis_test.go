@@ -2,6 +2,8 @@ package analyze
 
 import (
 	"math"
+	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -179,5 +181,28 @@ func TestStepLikeLine(t *testing.T) {
 	jump := &candidate{driver: a.driver, x: a.x, y: y, index: a.index, linear: lin, origin: orig, meanX: a.meanX}
 	if sf := fitStep(jump); sf == nil || stepLikeLine(costdrift.Behaviour{Class: costdrift.Variable, Driver: "a"}, jump, sf) {
 		t.Error("a 40 % jump at a threshold: want a step model that predicts other costs than the variable line")
+	}
+}
+
+// A mixed cost whose line through the origin predicts the same costs (a
+// small fixed part) keeps its class from the prior, and its reason says
+// why; with no prior, the line rules alone decide it is variable.
+func TestKeptClassReason(t *testing.T) {
+	r := rand.New(rand.NewPCG(45, 46))
+	x := swingingDriver(r, 36)
+	cost := make([]float64, 36)
+	for i := range cost {
+		cost[i] = 400 + 20*x[i+1] + 300*r.NormFloat64()
+	}
+	p := onePanel(cost, x)
+	plain := Object(p, &p.Objects[0], driftSettings).Behaviour
+	if plain.Class != costdrift.Variable {
+		t.Fatalf("no prior: class %s (%s), want variable", plain.Class, plain.Reason)
+	}
+	s := driftSettings
+	s.Prior = map[string]costdrift.Behaviour{p.Objects[0].Object.String(): {Object: p.Objects[0].Object, Class: costdrift.Mixed, Driver: "pallets"}}
+	kept := Object(p, &p.Objects[0], s).Behaviour
+	if kept.Class != costdrift.Mixed || !strings.Contains(kept.Reason, "kept mixed as before: as variable it would predict the same costs") {
+		t.Errorf("mixed prior: class %s, reason %q; want mixed, kept as before", kept.Class, kept.Reason)
 	}
 }
