@@ -152,7 +152,9 @@ func TestStableCostsAreNotReclassified(t *testing.T) {
 	}
 	t.Logf("stable costs over 12 analyses: %d of %d reclassified (%.1f %%), %d with a break found (%.1f %%); changes %v",
 		reclassified, objects, 100*float64(reclassified)/float64(objects), breaks, 100*float64(breaks)/float64(objects), kinds)
-	if float64(reclassified) > 0.02*float64(objects) {
-		t.Errorf("%d of %d stable costs reclassified, want at most 2 %%", reclassified, objects)
+	// 5 of 450 (1.1 %) before a formula that predicts the same costs was
+	// kept (README, Drift: hysteresis), 1 since.
+	if float64(reclassified) > 0.01*float64(objects) {
+		t.Errorf("%d of %d stable costs reclassified, want at most 1 %%", reclassified, objects)
 	}
 }
