@@ -27,6 +27,10 @@ type Settings struct {
 	Replicates int
 	Seed       uint64
 
+	// shared holds what every object of a panel computes alike (screen.go);
+	// Panel sets it, and Object without it computes the same itself.
+	shared *shared
+
 	// Prior holds each object's behaviour before this analysis, by object
 	// name. A cost near a boundary between two classes or two drivers would
 	// otherwise flip between them as noise moves it; with a prior, the
@@ -218,6 +222,16 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 		f.Implausible = c.negative
 		f.PlausibleRanked = c.rank
 	}
+	// The behaviour rests on one of the ranked candidates, whose fits
+	// need every p-value.
+	for _, c := range ranked {
+		fillP(c.linear)
+		fillP(c.origin)
+		fillRecordP(&res.Fits[c.linearIdx])
+		if c.origin != nil {
+			fillRecordP(&res.Fits[c.linearIdx+1])
+		}
+	}
 	classify(&res, cands, ranked, y, periods, s)
 	spending(p, &res, s)
 	return res
@@ -225,41 +239,53 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 
 // candidates fits every driver series that applies to the object at every
 // lag. A cost centre's own series wins over the company-wide one of the
-// same name.
+// same name. The fits are screens (fit.LineX.Screen): their intercept's
+// p-value, and the slope's through the origin, are left NaN until a fit is
+// kept (fillP).
 func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*candidate {
-	chosen := map[string]*costdrift.DriverSeries{}
-	for i := range p.Drivers {
-		d := &p.Drivers[i]
-		switch {
-		case d.CostCenter == obj.Object.CostCenter:
-			chosen[d.Name] = d
-		case d.CostCenter == "":
-			if _, ok := chosen[d.Name]; !ok {
-				chosen[d.Name] = d
-			}
-		}
+	sh := s.shared
+	if sh != nil && sh.panel != p {
+		sh = nil // a panel of its own (a window cut at a break)
 	}
-	names := make([]string, 0, len(chosen))
-	for n := range chosen {
-		names = append(names, n)
+	var drivers []*costdrift.DriverSeries
+	if sh != nil {
+		drivers = sh.driversOf(obj.Object.CostCenter)
+	} else {
+		drivers = driversFor(p, obj.Object.CostCenter)
 	}
-	sort.Strings(names)
 
 	costComplete := complete(obj.Cost)
-	identity := make([]int, len(obj.Cost))
-	for i := range identity {
-		identity[i] = i
+	var identity []int
+	var ly *fit.LineY
+	if sh != nil {
+		identity = sh.identity
+	} else {
+		identity = make([]int, len(obj.Cost))
+		for i := range identity {
+			identity[i] = i
+		}
 	}
-	out := make([]*candidate, 0, len(names)*len(s.Lags))
-	for _, name := range names {
-		d := chosen[name]
-		for _, lag := range s.Lags {
+	out := make([]*candidate, 0, len(drivers)*len(s.Lags))
+	for _, d := range drivers {
+		for li, lag := range s.Lags {
 			c := &candidate{driver: d, lag: lag}
 			start := p.MaxLag - lag
-			if costComplete && complete(d.Values[start:start+len(obj.Cost)]) {
+			var xs *xSide
+			if costComplete && sh != nil {
+				xs = sh.xOf(d, li)
+			}
+			if xs == nil && costComplete && complete(d.Values[start:start+len(obj.Cost)]) {
+				xs = newXSide(d.Values[start : start+len(obj.Cost)])
+			}
+			var cy *fit.LineY
+			if xs != nil {
 				// The usual case, no gap anywhere: the candidate's data are
 				// views of the panel's, and nothing is copied.
-				c.x, c.y, c.periods, c.index = d.Values[start:start+len(obj.Cost)], obj.Cost, p.Periods, identity
+				c.x, c.y, c.periods, c.index = xs.x, obj.Cost, p.Periods, identity
+				if ly == nil {
+					ly = fit.NewLineY(obj.Cost)
+				}
+				cy = ly
 			} else {
 				c.x = make([]float64, 0, len(obj.Cost))
 				c.y = make([]float64, 0, len(obj.Cost))
@@ -275,26 +301,79 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 					c.periods = append(c.periods, p.Periods[i])
 					c.index = append(c.index, i)
 				}
+				if len(c.x) < s.MinPeriods {
+					continue
+				}
+				xs, cy = newXSide(c.x), fit.NewLineY(c.y)
 			}
 			if len(c.x) < s.MinPeriods {
 				continue
 			}
 			// Summary fits, without per-period arrays: only the chosen
 			// driver's are needed, and full() computes them.
-			lin, err := fit.LineSummary(c.x, c.y)
+			lin, err := xs.line.Screen(cy)
 			if err != nil {
 				continue // a constant driver explains nothing
 			}
 			c.linear = lin
-			if orig, err := fit.ThroughOriginSummary(c.x, c.y); err == nil {
+			if orig, err := xs.line.ScreenOrigin(cy); err == nil {
 				c.origin = orig
 			}
-			c.meanX = meanOf(c.x)
-			c.rangeMin, c.rangeMax = minMax(c.x)
+			c.meanX, c.rangeMin, c.rangeMax = xs.mean, xs.min, xs.max
 			out = append(out, c)
 		}
 	}
 	return out
+}
+
+// driversFor lists the driver series that apply to a cost centre, by name:
+// its own, and the company-wide ones it has none of its own for.
+func driversFor(p *costdrift.Panel, centre string) []*costdrift.DriverSeries {
+	chosen := map[string]*costdrift.DriverSeries{}
+	for i := range p.Drivers {
+		d := &p.Drivers[i]
+		switch {
+		case d.CostCenter == centre:
+			chosen[d.Name] = d
+		case d.CostCenter == "":
+			if _, ok := chosen[d.Name]; !ok {
+				chosen[d.Name] = d
+			}
+		}
+	}
+	names := make([]string, 0, len(chosen))
+	for n := range chosen {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	out := make([]*costdrift.DriverSeries, len(names))
+	for i, n := range names {
+		out[i] = chosen[n]
+	}
+	return out
+}
+
+// fillP computes the p-values a screen left out (candidates), for a fit
+// that is kept or used.
+func fillP(r *fit.Regression) {
+	if r != nil && math.IsNaN(r.P[0]) {
+		r.T[0], r.P[0] = fit.CoefTP(r.Coef[0], r.StdErr[0], r.DF)
+	}
+}
+
+// fillRecordP is fillP on a stored fit: the intercept's p-value of a
+// straight line, the slope's of a fit through the origin.
+func fillRecordP(f *costdrift.Fit) {
+	switch f.Model {
+	case costdrift.ModelLinear:
+		if math.IsNaN(f.InterceptP) && !math.IsNaN(f.Intercept) {
+			_, f.InterceptP = fit.CoefTP(f.Intercept, f.InterceptSE, f.N-2)
+		}
+	case costdrift.ModelProportional:
+		if math.IsNaN(f.SlopeP) && !math.IsNaN(f.Slope) {
+			_, f.SlopeP = fit.CoefTP(f.Slope, f.SlopeSE, f.N-1)
+		}
+	}
 }
 
 // complete reports whether no value is missing (NaN).

@@ -239,7 +239,11 @@ func (s *second) screen() (b1, b2, partialF, vif float64, ok bool) {
 	if rssFull <= 0 {
 		return b1, b2, math.Inf(1), s11 * s22 / det, true
 	}
-	partialF = (rssReduced - rssFull) / (rssFull / (n - 3))
+	// Rounding in the sums can put the full model's RSS a hair above the
+	// reduced one's, which exact arithmetic never does: a second driver
+	// that adds nothing then has F = 0, not a negative value outside the
+	// F distribution.
+	partialF = math.Max(0, (rssReduced-rssFull)/(rssFull/(n-3)))
 	vif = s11 * s22 / det // 1 / (1 − r²) with r² = s12² / (s11·s22)
 	return b1, b2, partialF, vif, true
 }

@@ -16,6 +16,7 @@ import (
 // returned without results.
 func Panel(ctx context.Context, p *costdrift.Panel, s Settings) ([]Result, error) {
 	results := make([]Result, len(p.Objects))
+	s.shared = newShared(p, s)
 	work := make(chan int)
 	var wg sync.WaitGroup
 	for range runtime.GOMAXPROCS(0) {

@@ -41,6 +41,7 @@ func (r *Result) Stored() []costdrift.Fit {
 		case f.Chosen, best[i], f.Model == costdrift.ModelConstant, f.Model == costdrift.ModelStep, f.Model == costdrift.ModelTwoDriver,
 			onChosen && (f.Model == costdrift.ModelLinear || f.Model == costdrift.ModelProportional):
 			out = append(out, *f)
+			fillRecordP(&out[len(out)-1])
 		}
 	}
 	return out
@@ -98,6 +99,7 @@ func Lines(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []costdr
 	for _, c := range cands {
 		f := fitRecord(obj.Object, c.driver.Name, c.lag, costdrift.ModelLinear, c.linear, c.rangeMin, c.rangeMax)
 		f.SlopeAdjustedP, f.Significant, f.Implausible, f.PlausibleRanked = c.adjustedP, c.plausible, c.negative, c.rank
+		fillRecordP(&f)
 		out = append(out, f)
 	}
 	return out

@@ -731,7 +731,11 @@ func Constant(y []float64) (*Regression, error) {
 // finish derives every statistic that follows from Coef, RSS, Residuals,
 // Leverage and the unit standard errors sqrt([(XᵀX)⁻¹]_jj) held in StdErr;
 // tss is Σ(y−ȳ)² with an intercept and Σy² without.
-func (r *Regression) finish(tss float64) {
+func (r *Regression) finish(tss float64) { r.finishSkipP(tss, -1) }
+
+// finishSkipP is finish, but the p-value of coefficient skip (none when
+// skip < 0) is left NaN, and so is FP when it would be that p-value.
+func (r *Regression) finishSkipP(tss float64, skip int) {
 	k := len(r.Coef)
 	n := float64(r.N)
 	df := float64(r.DF)
@@ -744,7 +748,11 @@ func (r *Regression) finish(tss float64) {
 		switch {
 		case r.StdErr[j] > 0:
 			r.T[j] = c / r.StdErr[j]
-			r.P[j] = twoSidedP(r.T[j], df)
+			if j == skip {
+				r.P[j] = math.NaN()
+			} else {
+				r.P[j] = twoSidedP(r.T[j], df)
+			}
 		case c == 0:
 			r.T[j], r.P[j] = 0, 1
 		default:

@@ -738,23 +738,53 @@ const previousBehaviourQuery = `SELECT account, cost_center, class, COALESCE(dri
 		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`
 
 // NewestPeriods returns, per source, the newest period of its ledger lines
-// and activity.
+// and activity. It reads the rows stored per file and period that every
+// load records (source_periods), not the lines: a maximum over the ledger
+// read every line after each sync. A file loaded before the store kept
+// those counts (schema 14) and not read since has none; its lines are read
+// through the per-file index.
 func (db *DB) NewestPeriods(ctx context.Context) (map[string]string, error) {
-	rows, err := db.q().QueryContext(ctx, `SELECT source, MAX(period) FROM gl_lines GROUP BY source
-		UNION ALL SELECT source, MAX(period) FROM activity GROUP BY source`)
+	out := map[string]string{}
+	keep := func(s, p string) {
+		if p > out[s] {
+			out[s] = p
+		}
+	}
+	rows, err := db.q().QueryContext(ctx, `SELECT source, MAX(period) FROM source_periods WHERE rows_stored > 0 GROUP BY source`)
 	if err != nil {
 		return nil, err
 	}
 	defer rows.Close()
-	out := map[string]string{}
 	for rows.Next() {
 		var s, p string
 		if err := rows.Scan(&s, &p); err != nil {
 			return nil, err
 		}
-		if p > out[s] {
-			out[s] = p
+		keep(s, p)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	rows.Close()
+	uncounted, err := db.q().QueryContext(ctx, `SELECT f.source,
+		COALESCE((SELECT MAX(period) FROM gl_lines WHERE source_file_id = f.id), ''),
+		COALESCE((SELECT MAX(period) FROM activity WHERE source_file_id = f.id), '')
+		FROM source_files f WHERE NOT EXISTS (SELECT 1 FROM source_periods p WHERE p.source_file_id = f.id)`)
+	if err != nil {
+		return nil, err
+	}
+	defer uncounted.Close()
+	for uncounted.Next() {
+		var s, gl, act string
+		if err := uncounted.Scan(&s, &gl, &act); err != nil {
+			return nil, err
+		}
+		if gl != "" {
+			keep(s, gl)
+		}
+		if act != "" {
+			keep(s, act)
 		}
 	}
-	return out, rows.Err()
+	return out, uncounted.Err()
 }

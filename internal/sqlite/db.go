@@ -34,6 +34,11 @@ type DB struct {
 	Currency money.Currency
 	// readOnly is set when the store was opened read-only.
 	readOnly bool
+	// checked is when the store last passed its quick check, as far as
+	// this writer knows (zero when it does not): the stamp it leaves at
+	// Close (checkstamp.go). checkedHere: the check ran at this open.
+	checked     time.Time
+	checkedHere bool
 	// dry, when set, is the one transaction a dry run works in; it is
 	// rolled back at the end, so nothing is written.
 	dry *sql.Tx
@@ -110,6 +115,13 @@ func open(ctx context.Context, path string, currency money.Currency, toWrite boo
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return nil, fmt.Errorf("store %s: folder %s does not exist; create it or change `store` in the config", path, dir)
 	}
+	// Whether the store needs its quick check is decided on the file as
+	// it is before any connection opens it, which creates a -wal file.
+	var checked time.Time
+	notDue := false
+	if toWrite {
+		checked, notDue = checkNotDue(path, time.Now())
+	}
 	readOnly, err := prepareFile(path, toWrite)
 	if err != nil {
 		return nil, err
@@ -159,8 +171,16 @@ func open(ctx context.Context, path string, currency money.Currency, toWrite boo
 		return fail(err)
 	}
 	if toWrite {
-		if err := db.Check(ctx); err != nil {
-			return fail(err)
+		// The stamp goes now: from here on this writer may change the
+		// file, and only a clean Close describes it again.
+		os.Remove(stampPath(path))
+		if !notDue {
+			if err := db.Check(ctx); err != nil {
+				return fail(err)
+			}
+			db.checkedHere = true
+		} else {
+			db.checked = checked
 		}
 	}
 	if !readOnly {
@@ -341,7 +361,9 @@ var ErrCorrupt = errors.New("the store is damaged")
 // b-tree well formed, every record readable; index contents are not
 // compared with their tables) and returns ErrCorrupt, with what it found,
 // when the store is damaged. Writing into a damaged store can spread the
-// damage, so the commands that write run it first.
+// damage, so the commands that write run it first, unless the file is
+// as costdrift left it after a clean check less than CheckEvery ago
+// (checkstamp.go); the daemon runs it before every cycle.
 func (db *DB) Check(ctx context.Context) error {
 	rows, err := db.db.QueryContext(ctx, `PRAGMA quick_check(5)`)
 	if err != nil {
@@ -365,14 +387,23 @@ func (db *DB) Check(ctx context.Context) error {
 		return fmt.Errorf("%w: PRAGMA quick_check found %s; nothing was written: restore the store from a backup (or recover it with the sqlite3 shell's .recover)",
 			ErrCorrupt, strings.Join(found, "; "))
 	}
+	db.checked = time.Now()
 	return nil
 }
 
 // ReadOnly reports whether the store was opened read-only.
 func (db *DB) ReadOnly() bool { return db.readOnly }
 
-// Close closes the store.
-func (db *DB) Close() error { return db.db.Close() }
+// Close closes the store. A writer that closes it cleanly leaves a stamp
+// of the file beside it, so that the next writer need not check it again
+// within CheckEvery (checkstamp.go).
+func (db *DB) Close() error {
+	err := db.db.Close()
+	if err == nil && !db.readOnly && !db.checked.IsZero() {
+		writeStamp(db.path, db.checked)
+	}
+	return err
+}
 
 // Path is the file the store lives in.
 func (db *DB) Path() string { return db.path }
