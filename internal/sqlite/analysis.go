@@ -25,14 +25,10 @@ func (db *DB) CostTotals(ctx context.Context) ([]costdrift.CostTotal, error) {
 	defer rows.Close()
 	var out []costdrift.CostTotal
 	for rows.Next() {
-		var c costdrift.CostTotal
-		var billions, rest int64
-		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
+		c, err := scanCostTotal(rows)
+		if err != nil {
 			return nil, err
 		}
-		var ok bool
-		c.AmountMinor, ok = joinParts(billions, rest)
-		c.Overflow = !ok
 		out = append(out, c)
 	}
 	return out, rows.Err()

@@ -40,14 +40,10 @@ func (db *DB) EachObjectCosts(ctx context.Context, accountGrain bool, from, to s
 	defer rows.Close()
 	var one []costdrift.CostTotal
 	for rows.Next() {
-		var c costdrift.CostTotal
-		var billions, rest int64
-		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
+		c, err := scanCostTotal(rows)
+		if err != nil {
 			return err
 		}
-		var ok bool
-		c.AmountMinor, ok = joinParts(billions, rest)
-		c.Overflow = !ok
 		if len(one) > 0 && (c.Account != one[0].Account || (!accountGrain && c.CostCenter != one[0].CostCenter)) {
 			if err := fn(one); err != nil {
 				return err
@@ -79,14 +75,10 @@ func (db *DB) ObjectCostTotals(ctx context.Context, o costdrift.CostObject, acco
 	defer rows.Close()
 	var out []costdrift.CostTotal
 	for rows.Next() {
-		var c costdrift.CostTotal
-		var billions, rest int64
-		if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
+		c, err := scanCostTotal(rows)
+		if err != nil {
 			return nil, err
 		}
-		var ok bool
-		c.AmountMinor, ok = joinParts(billions, rest)
-		c.Overflow = !ok
 		out = append(out, c)
 	}
 	return out, rows.Err()

@@ -1,6 +1,11 @@
 package sqlite
 
-import "math"
+import (
+	"database/sql"
+	"math"
+
+	"github.com/costdrift/costdrift/internal/costdrift"
+)
 
 // Amount totals. SQLite's SUM of integers fails the whole statement with
 // "integer overflow" once a running total leaves int64, so one object's
@@ -36,4 +41,18 @@ func joinParts(billions, rest int64) (total int64, ok bool) {
 		return 0, false
 	}
 	return billions*billion + rest, true
+}
+
+// scanCostTotal reads one row of period, account, cost centre and the two
+// parts of sumParts into a total, marked Overflow beyond int64.
+func scanCostTotal(rows *sql.Rows) (costdrift.CostTotal, error) {
+	var c costdrift.CostTotal
+	var billions, rest int64
+	if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
+		return c, err
+	}
+	var ok bool
+	c.AmountMinor, ok = joinParts(billions, rest)
+	c.Overflow = !ok
+	return c, nil
 }
