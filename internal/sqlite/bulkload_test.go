@@ -11,7 +11,6 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/migrations"
 )
 
 // A store from before schema 16 keeps its ledger through the upgrade, and
@@ -20,23 +19,8 @@ import (
 // refused by the COMMIT, and nothing of the transaction stays.
 func TestLedgerKeysCheckedAtCommitAfterUpgrade(t *testing.T) {
 	ctx := context.Background()
-	ms, err := loadMigrations(migrations.FS)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var before []migration
-	for _, m := range ms {
-		if m.version < 16 {
-			before = append(before, m)
-		}
-	}
-	db := bareDB(t)
-	if err := db.applyMigrations(ctx, before); err != nil {
-		t.Fatal(err)
-	}
-	mustExec(t, db, `INSERT INTO sync_runs (id, source, role, kind, started_at, status) VALUES (1, 'gl', 'ledger', 'csv', '2025-06-01T06:00:00Z', 'ok')`)
-	mustExec(t, db, `INSERT INTO source_files (id, source, path, size, sha256, rows, loaded_at, sync_run_id)
-		VALUES (7, 'gl', '/books/gl.csv', 10, 'abc', 2, '2025-06-01T06:00:00Z', 1)`)
+	db, ms := storeBefore(t, 16)
+	syncedFile(t, db)
 	for i := range 2 {
 		mustExec(t, db, `INSERT INTO gl_lines (source, entry_id, line, posted_on, period, account, amount_minor, sync_run_id, source_file_id)
 			VALUES ('gl', 'E1', ?, '2025-05-05', '2025-05', '6100', ?, 1, 7)`, i+1, 100*(1-2*i))

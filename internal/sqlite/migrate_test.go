@@ -24,6 +24,37 @@ func bareDB(t *testing.T) *DB {
 	return &DB{db: sqldb, Now: func() time.Time { return time.Date(2025, 6, 1, 6, 0, 0, 0, time.UTC) }}
 }
 
+// storeBefore opens a bare store migrated up to, not including, schema
+// version, for tests of what an upgrade does to rows stored before it; it
+// also returns every embedded migration, to finish the upgrade with.
+func storeBefore(t *testing.T, version int) (*DB, []migration) {
+	t.Helper()
+	ms, err := loadMigrations(migrations.FS)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var before []migration
+	for _, m := range ms {
+		if m.version < version {
+			before = append(before, m)
+		}
+	}
+	db := bareDB(t)
+	if err := db.applyMigrations(context.Background(), before); err != nil {
+		t.Fatal(err)
+	}
+	return db, ms
+}
+
+// syncedFile records one sync run and one ledger file, 7, of source gl, as
+// a store of any schema holds them.
+func syncedFile(t *testing.T, db *DB) {
+	t.Helper()
+	mustExec(t, db, `INSERT INTO sync_runs (id, source, role, kind, started_at, status) VALUES (1, 'gl', 'ledger', 'csv', '2025-06-01T06:00:00Z', 'ok')`)
+	mustExec(t, db, `INSERT INTO source_files (id, source, path, size, sha256, rows, loaded_at, sync_run_id)
+		VALUES (7, 'gl', '/books/gl.csv', 10, 'abc', 2, '2025-06-01T06:00:00Z', 1)`)
+}
+
 func TestEmbeddedMigrationsRecordedOnce(t *testing.T) {
 	ms, err := loadMigrations(migrations.FS)
 	if err != nil {

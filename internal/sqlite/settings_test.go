@@ -5,7 +5,6 @@ import (
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/migrations"
 )
 
 // A file loaded before schema 13 comes out of the upgrade with its reading
@@ -13,23 +12,8 @@ import (
 // records them once, and never over settings already recorded.
 func TestReadingSettingsAfterUpgrade(t *testing.T) {
 	ctx := context.Background()
-	ms, err := loadMigrations(migrations.FS)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var before []migration
-	for _, m := range ms {
-		if m.version < 13 {
-			before = append(before, m)
-		}
-	}
-	db := bareDB(t)
-	if err := db.applyMigrations(ctx, before); err != nil {
-		t.Fatal(err)
-	}
-	mustExec(t, db, `INSERT INTO sync_runs (id, source, role, kind, started_at, status) VALUES (1, 'gl', 'ledger', 'csv', '2025-06-01T06:00:00Z', 'ok')`)
-	mustExec(t, db, `INSERT INTO source_files (id, source, path, size, sha256, rows, loaded_at, sync_run_id)
-		VALUES (7, 'gl', '/books/gl.csv', 10, 'abc', 2, '2025-06-01T06:00:00Z', 1)`)
+	db, ms := storeBefore(t, 13)
+	syncedFile(t, db)
 	if err := db.applyMigrations(ctx, ms); err != nil {
 		t.Fatal(err)
 	}

@@ -6,7 +6,6 @@ import (
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
-	"github.com/costdrift/costdrift/migrations"
 )
 
 // TestBudgetViewsRoundMoney: flexible_budget and spending_variances give
@@ -63,21 +62,8 @@ func TestBudgetViewsRoundMoney(t *testing.T) {
 // before results were saved under a name stay. A budget keeps its plan's
 // name as its name; a variance report is named after its period and plan.
 func TestSavedNamesKeepEarlierResults(t *testing.T) {
-	ms, err := loadMigrations(migrations.FS)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var before []migration
-	for _, m := range ms {
-		if m.version < 15 {
-			before = append(before, m)
-		}
-	}
-	db := bareDB(t)
+	db, ms := storeBefore(t, 15)
 	ctx := context.Background()
-	if err := db.applyMigrations(ctx, before); err != nil {
-		t.Fatal(err)
-	}
 	mustExec(t, db, `INSERT INTO budget_lines (plan, period, line, object, account, cost_center, objects, budget, computed_at)
 		VALUES ('plan-2026-q3', '2026-07', 'total', '', '', '', 13, 80123.456, '2026-06-30T08:00:00Z')`)
 	mustExec(t, db, `INSERT INTO variance_lines (period, plan, line, object, account, cost_center, objects, actual, spending_variance, spending_mark, computed_at)
