@@ -3,6 +3,7 @@ package mail
 import (
 	"bytes"
 	"flag"
+	"fmt"
 	"math"
 	netmail "net/mail"
 	"os"
@@ -362,5 +363,75 @@ func TestPasswordFileMustBeOwnerOnly(t *testing.T) {
 	os.WriteFile(f, []byte("s3cret-pass\n"), 0o400)
 	if pw, err := Password("", f); err != nil || pw != "s3cret-pass" {
 		t.Errorf("mode 0400: %q, %v", pw, err)
+	}
+}
+
+// A digest with more charted alerts than the limit (README, Mail: 20)
+// embeds the charts of the most important ones only, critical before
+// warning before info and, within a severity, the newest first; the text
+// says how to draw the others.
+func TestDigestChartsOnlyTheMostImportant(t *testing.T) {
+	base := time.Date(2026, 1, 5, 6, 0, 0, 0, time.UTC)
+	var items []Item
+	want := map[int64]bool{}
+	// 30 alerts: ids 1-10 info, 11-20 warning, 21-30 critical; a larger
+	// id is raised later. The 20 charted: the 10 critical and the 10
+	// warnings.
+	for id := int64(1); id <= 30; id++ {
+		sev := costdrift.SeverityInfo
+		switch {
+		case id > 20:
+			sev = costdrift.SeverityCritical
+		case id > 10:
+			sev = costdrift.SeverityWarning
+		}
+		a := alert(id, costdrift.AlertRateShift, fmt.Sprintf("6400/C%02d", id), sev)
+		a.CreatedAt = base.Add(time.Duration(id) * time.Hour)
+		items = append(items, Item{Alert: a, Driver: "shipments", Chart: tinyPNG})
+		if id > 10 {
+			want[id] = true
+		}
+	}
+	// One more warning raised before all the others: the 21st in
+	// importance, so without a chart.
+	early := alert(31, costdrift.AlertRateShift, "6400/EARLY", costdrift.SeverityWarning)
+	early.CreatedAt = base
+	items = append(items, Item{Alert: early, Driver: "shipments", Chart: tinyPNG})
+	d := Digest{To: "costs@example.test", From: "costdrift <costdrift@example.test>", Date: base, Cautions: caution, Items: items}
+	m, err := Message(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if _, err := m.WriteTo(&buf); err != nil {
+		t.Fatal(err)
+	}
+	raw := buf.String()
+	if n := strings.Count(raw, "Content-Id: <chart-"); n != 20 {
+		t.Errorf("%d chart parts, want 20", n)
+	}
+	for id := int64(1); id <= 31; id++ {
+		has := strings.Contains(raw, fmt.Sprintf("Content-Id: <chart-%d@costdrift>", id))
+		if has != want[id] {
+			t.Errorf("alert %d: chart embedded %v, want %v", id, has, want[id])
+		}
+	}
+	txt, err := Text(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range []string{"Charts are attached for the 20 most important alerts",
+		"costdrift explain OBJECT --chart FILE"} {
+		if !strings.Contains(txt, s) {
+			t.Errorf("text part lacks %q:\n%s", s, txt)
+		}
+	}
+	// The limit is not reached in a small digest: no note.
+	small, err := Text(sampleDigest("costs@example.test"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(small, "Charts are attached for") {
+		t.Errorf("a digest within the limit carries the note:\n%s", small)
 	}
 }

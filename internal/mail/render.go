@@ -6,6 +6,7 @@ import (
 	htmltemplate "html/template"
 	"math"
 	"regexp"
+	"sort"
 	"strconv"
 	"strings"
 	"text/template"
@@ -126,8 +127,57 @@ var kindText = map[costdrift.AlertKind]string{
 	costdrift.AlertSourceFailure:   "source failing",
 }
 
+// MaxCharts is how many charts one digest embeds at most. A chart is
+// 50-80 kB of PNG; a digest after a large analysis can hold hundreds of
+// alerts, and mail servers commonly refuse messages over 10-25 MB (common
+// practice), so the digest would never arrive. 20 charts keep a digest
+// near 1.5 MB.
+const MaxCharts = 20
+
+// Important is the ids of the at most n most important alerts among those
+// for which ok is true (nil ok: every alert): critical before warning
+// before info and, within a severity, the newest (last first raised)
+// first. Source alerts have no chart and are never chosen.
+func Important(alerts []costdrift.Alert, n int, ok func(costdrift.Alert) bool) map[int64]bool {
+	var cand []costdrift.Alert
+	for _, a := range alerts {
+		if !SourceKind(a.Kind) && (ok == nil || ok(a)) {
+			cand = append(cand, a)
+		}
+	}
+	sort.SliceStable(cand, func(i, j int) bool {
+		a, b := cand[i], cand[j]
+		if ra, rb := a.Severity.Rank(), b.Severity.Rank(); ra != rb {
+			return ra > rb
+		}
+		if !a.CreatedAt.Equal(b.CreatedAt) {
+			return a.CreatedAt.After(b.CreatedAt)
+		}
+		return a.ID > b.ID
+	})
+	out := make(map[int64]bool, min(n, len(cand)))
+	for _, a := range cand[:min(n, len(cand))] {
+		out[a.ID] = true
+	}
+	return out
+}
+
+// charted is the ids of the alerts whose charts the digest embeds.
+func charted(items []Item) map[int64]bool {
+	alerts := make([]costdrift.Alert, len(items))
+	drawn := map[int64]bool{}
+	for i, it := range items {
+		alerts[i] = it.Alert
+		if len(it.Chart) > 0 {
+			drawn[it.Alert.ID] = true
+		}
+	}
+	return Important(alerts, MaxCharts, func(a costdrift.Alert) bool { return drawn[a.ID] })
+}
+
 func views(items []Item) []view {
 	out := make([]view, 0, len(items))
+	embed := charted(items)
 	for _, it := range items {
 		a := it.Alert
 		ev := a.Evidence
@@ -177,7 +227,7 @@ func views(items []Item) []view {
 				"relevant range " + number(value(ev.RangeMin)) + " to " + number(value(ev.RangeMax)), number(value(ev.Activity))})
 		}
 		v.Evidence = evidenceRows(ev)
-		if len(it.Chart) > 0 && !SourceKind(a.Kind) {
+		if embed[a.ID] {
 			v.CID = fmt.Sprintf("chart-%d@costdrift", a.ID)
 		}
 		v.Title = v.Severity + "  " + v.Kind + "  " + v.Object
@@ -187,14 +237,30 @@ func views(items []Item) []view {
 }
 
 type page struct {
-	Subject  string
-	Items    []view
-	Cautions []string // paragraphs
-	Caution  string
+	Subject string
+	Items   []view
+	// ChartNote, when the digest embeds MaxCharts charts and leaves out
+	// others, says which were embedded and how to draw the rest.
+	ChartNote string
+	Cautions  []string // paragraphs
+	Caution   string
 }
 
 func newPage(d Digest) page {
 	p := page{Subject: d.subject(), Items: views(d.Items), Caution: strings.TrimSpace(d.Cautions)}
+	embedded, without := 0, 0
+	for _, v := range p.Items {
+		switch {
+		case v.CID != "":
+			embedded++
+		case v.Explain != "":
+			without++
+		}
+	}
+	if embedded == MaxCharts && without > 0 {
+		p.ChartNote = fmt.Sprintf("Charts are attached for the %d most important alerts (most severe first, then newest); "+
+			"draw the chart of any other with: costdrift explain OBJECT --chart FILE", MaxCharts)
+	}
 	for _, para := range strings.Split(d.Cautions, "\n\n") {
 		if t := strings.Join(strings.Fields(para), " "); t != "" {
 			p.Cautions = append(p.Cautions, t)
@@ -204,6 +270,9 @@ func newPage(d Digest) page {
 }
 
 var textTmpl = template.Must(template.New("text").Parse(`{{.Subject}}
+{{- if .ChartNote}}
+
+{{.ChartNote}}{{end}}
 {{range $i, $v := .Items}}
 {{"--"}} {{$v.Title}}
 {{$v.Message}}
@@ -238,6 +307,7 @@ var htmlTmpl = htmltemplate.Must(htmltemplate.New("html").Parse(`<!DOCTYPE html>
 <body style="margin:0;padding:16px;background:#ffffff;color:#1a1a1a;font-family:Arial,Helvetica,sans-serif;font-size:14px;line-height:1.4">
 <table role="presentation" width="100%" cellpadding="0" cellspacing="0" style="max-width:760px">
 <tr><td><h1 style="font-size:18px;margin:0 0 12px 0">{{.Subject}}</h1></td></tr>
+{{if .ChartNote}}<tr><td><p style="margin:0 0 12px 0">{{.ChartNote}}</p></td></tr>{{end}}
 {{range .Items}}
 <tr><td style="border-top:2px solid #444444;padding:12px 0">
 <p style="margin:0 0 4px 0"><strong style="{{if eq .Severity "CRITICAL"}}color:#9b0000{{else if eq .Severity "WARNING"}}color:#7a4a00{{else}}color:#1f4e79{{end}}">{{.Severity}}</strong>

@@ -167,7 +167,11 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 		}
 		dues = append(dues, d)
 	}
-	details := alertItems(ctx, e, db, needed, objects, names)
+	digests := make([][]costdrift.Alert, len(dues))
+	for i, d := range dues {
+		digests[i] = d.alerts
+	}
+	details := alertItems(ctx, e, db, needed, digests, objects, names)
 	var batch []outgoing
 	for _, d := range dues {
 		if len(d.alerts) == 0 {
@@ -186,9 +190,10 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 // alertItems is each alert as a digest shows it: an object's alert with the
 // object's account name, class, driver and chart, read from the store once.
 // The costs the charts draw are read for all objects in one pass over the
-// ledger, not one pass per chart.
-func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.Alert, objects map[string]costdrift.CostObject,
-	names map[string]string) map[int64]mail.Item {
+// ledger, not one pass per chart. Only the charts some digest embeds are
+// drawn: each digest's mail.MaxCharts most important alerts that have one.
+func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.Alert, digests [][]costdrift.Alert,
+	objects map[string]costdrift.CostObject, names map[string]string) map[int64]mail.Item {
 	out := make(map[int64]mail.Item, len(alerts))
 	analyses := map[int64]sqlite.ObjectAnalysis{}
 	charted := map[bool][]costdrift.CostObject{} // by account grain
@@ -202,18 +207,35 @@ func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.A
 				it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
 				if oa.Behaviour.Driver != "" {
 					analyses[al.ID] = oa
-					g := oa.Run.Grain == costdrift.GrainAccount
-					charted[g] = append(charted[g], oa.Behaviour.Object)
-					if from[g] == "" || oa.Run.WindowFrom < from[g] {
-						from[g] = oa.Run.WindowFrom
-					}
-					if oa.Run.WindowTo > to[g] {
-						to[g] = oa.Run.WindowTo
-					}
 				}
 			}
 		}
 		out[al.ID] = it
+	}
+	drawable := func(a costdrift.Alert) bool { _, ok := analyses[a.ID]; return ok }
+	draw := map[int64]bool{}
+	for _, d := range digests {
+		for id := range mail.Important(d, mail.MaxCharts, drawable) {
+			draw[id] = true
+		}
+	}
+	for _, al := range alerts {
+		oa, ok := analyses[al.ID]
+		if !ok {
+			continue
+		}
+		if !draw[al.ID] {
+			delete(analyses, al.ID)
+			continue
+		}
+		g := oa.Run.Grain == costdrift.GrainAccount
+		charted[g] = append(charted[g], oa.Behaviour.Object)
+		if from[g] == "" || oa.Run.WindowFrom < from[g] {
+			from[g] = oa.Run.WindowFrom
+		}
+		if oa.Run.WindowTo > to[g] {
+			to[g] = oa.Run.WindowTo
+		}
 	}
 	readers := map[bool]costReader{}
 	for g, os := range charted {
