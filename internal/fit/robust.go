@@ -149,6 +149,14 @@ func Huber(columns [][]float64, y []float64) (*HuberFit, error) {
 // huber is Huber with the iteration limit as a parameter, so that a test can
 // reach the ErrNoConvergence path.
 func huber(columns [][]float64, y []float64, maxIterations int) (*HuberFit, error) {
+	return irls(columns, y, maxIterations, len(columns) == 1)
+}
+
+// irls runs Huber's iteration. With closedForm (one regressor only) each
+// weighted fit is the weighted line in closed form (weightedLine) instead
+// of a QR solve: a run fits Huber for most cost objects, and the QR with
+// its refinement was most of the time Huber took.
+func irls(columns [][]float64, y []float64, maxIterations int, closedForm bool) (*HuberFit, error) {
 	p, n := len(columns), len(y)
 	if p == 0 {
 		panic("fit: Huber needs at least one regressor")
@@ -192,8 +200,26 @@ func huber(columns [][]float64, y []float64, maxIterations int) (*HuberFit, erro
 				w = HuberTuning / u
 			}
 			h.Weights[i] = w
-			sw[i] = math.Sqrt(w)
 			wsum += w
+		}
+		if closedForm {
+			if b, xw, yw, ok := weightedLine(columns[0], y, h.Weights); ok {
+				h.Iterations++
+				h.Coef[0], h.Coef[1] = yw-b*xw, b
+				var move float64
+				for i, x := range columns[0] {
+					e := (y[i] - yw) - b*(x-xw)
+					move = math.Max(move, math.Abs(e-h.Residuals[i]))
+					h.Residuals[i] = e
+				}
+				if stop, fit := h.settle(move, columns, y, ymax, initialScale); stop {
+					return fit, nil
+				}
+				continue
+			}
+		}
+		for i, w := range h.Weights {
+			sw[i] = math.Sqrt(w)
 		}
 		for j, c := range columns {
 			var s float64
@@ -230,19 +256,69 @@ func huber(columns [][]float64, y []float64, maxIterations int) (*HuberFit, erro
 			move = math.Max(move, math.Abs(e-h.Residuals[i]))
 			h.Residuals[i] = e
 		}
-		h.Scale = medianAbs(h.Residuals) / madNormal
-		if move <= huberTolerance*h.Scale+huberRounding*ymax {
-			// A collapsing scale can also stop the iteration through the
-			// rounding term; report the exact fit it was creeping towards.
-			if h.Scale <= huberCollapse*initialScale {
-				if exact, ok := exactMajority(columns, y, h, ymax); ok {
-					return exact, nil
-				}
-			}
-			return h, nil
+		if stop, fit := h.settle(move, columns, y, ymax, initialScale); stop {
+			return fit, nil
 		}
 	}
 	return nil, fmt.Errorf("huber: fitted values still moving after %d weighted fits: %w", maxIterations, ErrNoConvergence)
+}
+
+// settle re-estimates the scale after a weighted fit whose fitted values
+// moved by at most move, and reports whether the iteration stops, with the
+// estimate then.
+func (h *HuberFit) settle(move float64, columns [][]float64, y []float64, ymax, initialScale float64) (bool, *HuberFit) {
+	h.Scale = medianAbs(h.Residuals) / madNormal
+	if move > huberTolerance*h.Scale+huberRounding*ymax {
+		return false, nil
+	}
+	// A collapsing scale can also stop the iteration through the rounding
+	// term; report the exact fit it was creeping towards.
+	if h.Scale <= huberCollapse*initialScale {
+		if exact, ok := exactMajority(columns, y, h, ymax); ok {
+			return true, exact
+		}
+	}
+	return true, h
+}
+
+// weightedLine is the weighted least-squares line through (x_i, y_i) with
+// weights w_i > 0, in closed form with centred sums,
+//
+//	x̄ = Σw·x/Σw,  ȳ = Σw·y/Σw,  b = Σw(x−x̄)(y−ȳ) / Σw(x−x̄)²,
+//
+// the sums compensated (about twice double precision) and the means
+// corrected by the weighted mean of the first-pass deviations, so that it
+// agrees with the QR solve and its refinement to rounding. ok is false when
+// x is constant to 7 digits under the weights (the test OLS applies to a
+// centred column); the caller then takes the general solve, which reports
+// that case as it always has.
+func weightedLine(x, y, w []float64) (b, xbar, ybar float64, ok bool) {
+	var sw, sx, sy compensated
+	for i, wi := range w {
+		sw.add(wi)
+		sx.addProduct(wi, x[i])
+		sy.addProduct(wi, y[i])
+	}
+	wsum := sw.value()
+	xbar, ybar = sx.value()/wsum, sy.value()/wsum
+	var dx, dy, sxx, sxy compensated
+	for i, wi := range w {
+		u, v := x[i]-xbar, y[i]-ybar
+		dx.addProduct(wi, u)
+		dy.addProduct(wi, v)
+		sxx.addProduct(wi*u, u)
+		sxy.addProduct(wi*u, v)
+	}
+	du, dv := dx.value(), dy.value()
+	xx := sxx.value() - du*du/wsum
+	xy := sxy.value() - du*dv/wsum
+	xbar += du / wsum
+	ybar += dv / wsum
+	if !(xx > 0) || math.IsInf(xx, 0) || math.IsInf(xy, 0) || math.IsNaN(xy) ||
+		math.Sqrt(xx/(xx+wsum*xbar*xbar)) < rankTolerance {
+		return 0, 0, 0, false
+	}
+	return xy / xx, xbar, ybar, true
 }
 
 // exactMajority fits OLS to the observations with |e_i| <= median|e| of the
