@@ -99,6 +99,11 @@ type AnalysisWriter struct {
 	dropFits  *sql.Stmt
 	setInputs *sql.Stmt
 	open      *sql.Stmt
+	// insert and update write a behaviour row; prepared once, as most
+	// objects' rows are refreshed by every analysis and preparing the
+	// statement of 30-odd columns took longer than running it.
+	insert *sql.Stmt
+	update *sql.Stmt
 }
 
 // BeginAnalysis starts storing an analysis: the run's row is written now,
@@ -139,8 +144,14 @@ func (w *AnalysisWriter) prepare(ctx context.Context) error {
 		ON CONFLICT (object) DO UPDATE SET input_hash = excluded.input_hash, analysis_run_id = excluded.analysis_run_id`); err != nil {
 		return err
 	}
-	w.open, err = w.tx.PrepareContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag, COALESCE(since, ''), COALESCE(until, ''), COALESCE(pending, '')
-		FROM behaviour_history WHERE object = ? AND valid_to_run_at IS NULL`)
+	if w.open, err = w.tx.PrepareContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag, COALESCE(since, ''), COALESCE(until, ''), COALESCE(pending, '')
+		FROM behaviour_history WHERE object = ? AND valid_to_run_at IS NULL`); err != nil {
+		return err
+	}
+	if w.insert, err = w.tx.PrepareContext(ctx, insertBehaviourSQL); err != nil {
+		return err
+	}
+	w.update, err = w.tx.PrepareContext(ctx, updateBehaviourSQL)
 	return err
 }
 
@@ -154,7 +165,7 @@ func (w *AnalysisWriter) Save(ctx context.Context, fits []costdrift.Fit, behavio
 		}
 	}
 	for i := range behaviours {
-		if err := saveBehaviour(ctx, w.tx, w.open, runID, w.now, &behaviours[i]); err != nil {
+		if err := w.saveBehaviour(ctx, &behaviours[i]); err != nil {
 			return fmt.Errorf("save behaviour %s: %w", behaviours[i].Object, err)
 		}
 	}
@@ -188,7 +199,7 @@ func (w *AnalysisWriter) Rollback() {
 }
 
 func (w *AnalysisWriter) close() {
-	for _, s := range []*sql.Stmt{w.fits, w.dropFits, w.setInputs, w.open} {
+	for _, s := range []*sql.Stmt{w.fits, w.dropFits, w.setInputs, w.open, w.insert, w.update} {
 		if s != nil {
 			s.Close()
 		}
@@ -283,7 +294,8 @@ func diagNum(f costdrift.Fit, v float64) any {
 //     until the next analysis sees it again; only then does it replace the
 //     open row. A change seen once and then not again is dropped, so the
 //     behaviour never flaps.
-func saveBehaviour(ctx context.Context, tx *sql.Tx, open *sql.Stmt, runID int64, now string, b *costdrift.Behaviour) error {
+func (w *AnalysisWriter) saveBehaviour(ctx context.Context, b *costdrift.Behaviour) error {
+	tx, open, runID, now := w.tx, w.open, w.run.ID, w.now
 	var id int64
 	var class, driver, since, until, pendingText string
 	var lag sql.NullInt64
@@ -306,15 +318,15 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, open *sql.Stmt, runID int64,
 				return err
 			}
 		}
-		return insertBehaviour(ctx, tx, runID, now, b, b.Since)
+		return w.insertBehaviour(ctx, b, b.Since)
 	case newBreak:
 		if err := closeBehaviour(ctx, tx, id, now, b.Break.LastBefore); err != nil {
 			return err
 		}
-		return insertBehaviour(ctx, tx, runID, now, b, b.Since)
+		return w.insertBehaviour(ctx, b, b.Since)
 	case same:
 		b.Pending = nil
-		return updateBehaviour(ctx, tx, runID, id, b)
+		return w.updateBehaviour(ctx, id, b)
 	}
 
 	// A change of class, driver or lag without a break.
@@ -331,7 +343,7 @@ func saveBehaviour(ctx context.Context, tx *sql.Tx, open *sql.Stmt, runID int64,
 			return err
 		}
 		b.Pending = nil
-		return insertBehaviour(ctx, tx, runID, now, b, b.Since)
+		return w.insertBehaviour(ctx, b, b.Since)
 	}
 	p, _ := json.Marshal(costdrift.Pending{Class: b.Class, Driver: b.Driver, Lag: b.Lag, Seen: 1})
 	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET pending = ?, last_run_id = ?, until = ? WHERE id = ?`,
@@ -418,25 +430,33 @@ func spendingJSON(checks []costdrift.SpendingCheck) any {
 	return jsonOrNull(keep)
 }
 
-func insertBehaviour(ctx context.Context, tx *sql.Tx, runID int64, now string, b *costdrift.Behaviour, from string) error {
+// behaviourValueCount is the number of behaviourColumns.
+var behaviourValueCount = len(strings.Split(behaviourColumns, ","))
+
+var (
+	insertBehaviourSQL = `INSERT INTO behaviour_history (` + behaviourColumns + `,
+		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_from_period)
+		VALUES (` + placeholders(behaviourValueCount+7) + `)`
+	updateBehaviourSQL = `UPDATE behaviour_history SET (` + behaviourColumns + `, last_run_id)
+		= (` + placeholders(behaviourValueCount+1) + `) WHERE id = ?`
+)
+
+func (w *AnalysisWriter) insertBehaviour(ctx context.Context, b *costdrift.Behaviour, from string) error {
 	values, err := behaviourValues(b)
 	if err != nil {
 		return err
 	}
-	_, err = tx.ExecContext(ctx, `INSERT INTO behaviour_history (`+behaviourColumns+`,
-		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_from_period)
-		VALUES (`+placeholders(len(values)+7)+`)`,
-		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, runID, runID, now, nullString(from))...)
+	_, err = w.insert.ExecContext(ctx,
+		append(values, b.Object.String(), b.Object.Account, b.Object.CostCenter, w.run.ID, w.run.ID, w.now, nullString(from))...)
 	return err
 }
 
-func updateBehaviour(ctx context.Context, tx *sql.Tx, runID, id int64, b *costdrift.Behaviour) error {
+func (w *AnalysisWriter) updateBehaviour(ctx context.Context, id int64, b *costdrift.Behaviour) error {
 	values, err := behaviourValues(b)
 	if err != nil {
 		return err
 	}
-	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET (`+behaviourColumns+`, last_run_id)
-		= (`+placeholders(len(values)+1)+`) WHERE id = ?`, append(values, runID, id)...)
+	_, err = w.update.ExecContext(ctx, append(values, w.run.ID, id)...)
 	return err
 }
 
