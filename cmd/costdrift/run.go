@@ -114,13 +114,9 @@ func logLevel(name string) slog.Level {
 	return slog.LevelInfo
 }
 
-// cycle runs one cycle of the pipeline; m, when not nil, takes its
-// figures before the cycle's last log line is written.
-func cycle(ctx context.Context, e *pipeline.Env, db *sqlite.DB, log *slog.Logger, m *metrics) (costdrift.Cycle, error) {
-	var observe func(*pipeline.CycleResult)
-	if m != nil {
-		observe = m.observe
-	}
+// cycle runs one cycle of the pipeline; observe, when not nil, sees its
+// result before the cycle's last log line is written.
+func cycle(ctx context.Context, e *pipeline.Env, db *sqlite.DB, log *slog.Logger, observe func(*pipeline.CycleResult)) (costdrift.Cycle, error) {
 	res, err := pipeline.RunCycle(ctx, e, db, log, observe)
 	return res.Cycle, err
 }
@@ -233,16 +229,21 @@ func (d *daemon) tick(ctx context.Context) {
 	d.mu.Lock()
 	e := d.e
 	d.mu.Unlock()
-	c, err := cycle(ctx, e, d.db, d.log, d.m)
+	// The metrics and the health the daemon serves are up to date before
+	// the cycle's last log line: whoever reads that line and then asks
+	// /healthz or /metrics sees this cycle.
+	c, _ := cycle(ctx, e, d.db, d.log, func(r *pipeline.CycleResult) {
+		d.m.observe(r)
+		d.mu.Lock()
+		d.last = r.Cycle
+		if r.Err == nil {
+			d.good = r.Cycle.FinishedAt
+		}
+		d.mu.Unlock()
+	})
 	if c.ID == 0 {
 		return // not even started; logged
 	}
-	d.mu.Lock()
-	d.last = c
-	if err == nil {
-		d.good = c.FinishedAt
-	}
-	d.mu.Unlock()
 	d.watchMail(ctx)
 	// Between cycles the daemon holds as little as it can: SQLite's page
 	// caches, and the Go memory the cycle freed, go back to the system.

@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"database/sql"
 	"encoding/json"
 	"fmt"
@@ -23,6 +24,8 @@ import (
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/demo"
+	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/robfig/cron/v3"
 )
 
 // logBuffer collects a child's log lines while the test reads them.
@@ -726,5 +729,54 @@ func TestDaemonStoppedWhileMailing(t *testing.T) {
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM deliveries"); n != 0 {
 		t.Errorf("%d deliveries recorded for a digest cut off by the stop, want none", n)
+	}
+}
+
+// healthAtFinish is a log handler that, when a cycle's last line is
+// written, asks the daemon for its health as /healthz would at that moment.
+type healthAtFinish struct {
+	d    *daemon
+	seen []healthJSON
+}
+
+func (h *healthAtFinish) Enabled(context.Context, slog.Level) bool { return true }
+func (h *healthAtFinish) WithAttrs([]slog.Attr) slog.Handler       { return h }
+func (h *healthAtFinish) WithGroup(string) slog.Handler            { return h }
+func (h *healthAtFinish) Handle(_ context.Context, r slog.Record) error {
+	if r.Message == "cycle finished" {
+		got, _ := h.d.health(time.Now())
+		h.seen = append(h.seen, got)
+	}
+	return nil
+}
+
+// Whoever reads the log's "cycle finished" and then asks /healthz (an
+// operator, a supervisor, a test) sees that cycle there: the daemon records
+// the cycle before its last line is written, not after.
+func TestHealthKnowsTheCycleItsLogReports(t *testing.T) {
+	cfg, _ := setup(t, "")
+	e, err := pipeline.Load(cfg, time.Now)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx := context.Background()
+	db, closeStore, err := e.OpenToWrite(ctx, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer closeStore()
+	plan, err := cron.ParseStandard("@every 1m")
+	if err != nil {
+		t.Fatal(err)
+	}
+	h := &healthAtFinish{}
+	d := &daemon{e: e, db: db, log: slog.New(h), m: newMetrics(), plan: plan}
+	h.d = d
+	d.tick(ctx)
+	if len(h.seen) != 1 {
+		t.Fatalf("%d cycle-finished lines, want 1", len(h.seen))
+	}
+	if got := h.seen[0]; got.LastCycle != 1 || got.LastStatus == "" {
+		t.Errorf("health when the cycle's last line was written: %+v, want cycle 1 and its status", got)
 	}
 }
