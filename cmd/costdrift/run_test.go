@@ -415,19 +415,7 @@ func TestDaemonMailsAlertsFromDroppedFiles(t *testing.T) {
 	cfg, dir := setup(t, "")
 	daemonConfig(t, cfg, "")
 	smtpPort := loopbackPort(t)
-	text, err := os.ReadFile(cfg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	smtp := strings.Replace(string(text), `    host: ""                   # empty: messages go to the outbox folder
-    port: 587
-    tls: starttls `, fmt.Sprintf(`    host: 127.0.0.1
-    port: %d
-    tls: none `, smtpPort), 1)
-	if smtp == string(text) {
-		t.Fatal("starter config has no mail.smtp block to rewrite")
-	}
-	writeFile(t, cfg, smtp)
+	smtpAt(t, cfg, smtpPort)
 	api, _ := startMailpit(t, smtpPort)
 
 	books := t.TempDir()
