@@ -52,6 +52,9 @@ const (
 // Result is the analysis of one cost object: every fit tried and the
 // behaviour chosen.
 type Result struct {
+	// Fits are every fit tried. A candidate line's p-values that the
+	// choice did not need are NaN (the screen leaves them out); Stored
+	// computes them for the fits it keeps.
 	Fits      []costdrift.Fit
 	Behaviour costdrift.Behaviour
 
@@ -217,6 +220,7 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 	}
 	for _, c := range cands {
 		f := &res.Fits[c.linearIdx]
+		f.SlopeT, f.SlopeP = c.linear.T[1], c.linear.P[1] // NaN where adjust needed no p-value
 		f.SlopeAdjustedP = c.adjustedP
 		f.Significant = c.plausible
 		f.Implausible = c.negative
@@ -356,9 +360,25 @@ func driversFor(p *costdrift.Panel, centre string) []*costdrift.DriverSeries {
 // fillP computes the p-values a screen left out (candidates), for a fit
 // that is kept or used.
 func fillP(r *fit.Regression) {
-	if r != nil && math.IsNaN(r.P[0]) {
-		r.T[0], r.P[0] = fit.CoefTP(r.Coef[0], r.StdErr[0], r.DF)
+	if r == nil {
+		return
 	}
+	for j := range r.P {
+		if math.IsNaN(r.P[j]) {
+			r.T[j], r.P[j] = fit.CoefTP(r.Coef[j], r.StdErr[j], r.DF)
+		}
+	}
+	if len(r.P) == 2 && r.Intercept && math.IsNaN(r.FP) {
+		r.FP = r.P[1] // one slope: the F test is the slope's t test
+	}
+}
+
+// slopeP is the candidate's slope p-value, computed when first asked for.
+func (c *candidate) slopeP() float64 {
+	if math.IsNaN(c.linear.P[1]) {
+		c.linear.T[1], c.linear.P[1] = fit.CoefTP(c.linear.Coef[1], c.linear.StdErr[1], c.linear.DF)
+	}
+	return c.linear.P[1]
 }
 
 // fillRecordP is fillP on a stored fit: the intercept's p-value of a
@@ -368,6 +388,9 @@ func fillRecordP(f *costdrift.Fit) {
 	case costdrift.ModelLinear:
 		if math.IsNaN(f.InterceptP) && !math.IsNaN(f.Intercept) {
 			_, f.InterceptP = fit.CoefTP(f.Intercept, f.InterceptSE, f.N-2)
+		}
+		if math.IsNaN(f.SlopeP) && !math.IsNaN(f.Slope) {
+			_, f.SlopeP = fit.CoefTP(f.Slope, f.SlopeSE, f.N-2)
 		}
 	case costdrift.ModelProportional:
 		if math.IsNaN(f.SlopeP) && !math.IsNaN(f.Slope) {
@@ -402,14 +425,34 @@ func (c *candidate) full() {
 // when it would also survive the number of drivers and lags tried (Holm
 // 1979; it controls the family-wise error rate like Bonferroni, with more
 // power).
+//
+// The p-values are computed only as far as they matter: with the same
+// residual degrees of freedom everywhere (the usual case) the order by
+// p-value is the order by |t|, and once an adjusted p-value reaches 1 every
+// later one is 1, whatever its p-value.
 func adjust(cands []*candidate, alpha float64) {
 	m := len(cands)
 	order := make([]*candidate, m)
 	copy(order, cands)
-	sort.SliceStable(order, func(i, j int) bool { return order[i].linear.P[1] < order[j].linear.P[1] })
+	sameDF := true
+	for _, c := range cands {
+		sameDF = sameDF && c.linear.DF == cands[0].linear.DF
+	}
+	if sameDF {
+		// 2·Pr(T > |t|) falls as |t| grows: ties in |t| are ties in p.
+		sort.SliceStable(order, func(i, j int) bool {
+			return math.Abs(order[i].linear.T[1]) > math.Abs(order[j].linear.T[1])
+		})
+	} else {
+		sort.SliceStable(order, func(i, j int) bool { return order[i].slopeP() < order[j].slopeP() })
+	}
 	running := 0.0
 	for i, c := range order {
-		adj := math.Min(1, float64(m-i)*c.linear.P[1])
+		if running >= 1 {
+			c.adjustedP = 1
+			continue
+		}
+		adj := math.Min(1, float64(m-i)*c.slopeP())
 		running = math.Max(running, adj) // adjusted p-values never decrease along the order
 		c.adjustedP = running
 		if c.adjustedP < alpha {

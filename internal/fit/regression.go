@@ -734,7 +734,8 @@ func Constant(y []float64) (*Regression, error) {
 func (r *Regression) finish(tss float64) { r.finishSkipP(tss, -1) }
 
 // finishSkipP is finish, but the p-value of coefficient skip (none when
-// skip < 0) is left NaN, and so is FP when it would be that p-value.
+// skip < 0, every one when skip is skipAllP) is left NaN, and so is FP when
+// it would be that p-value.
 func (r *Regression) finishSkipP(tss float64, skip int) {
 	k := len(r.Coef)
 	n := float64(r.N)
@@ -748,7 +749,7 @@ func (r *Regression) finishSkipP(tss float64, skip int) {
 		switch {
 		case r.StdErr[j] > 0:
 			r.T[j] = c / r.StdErr[j]
-			if j == skip {
+			if j == skip || skip == skipAllP {
 				r.P[j] = math.NaN()
 			} else {
 				r.P[j] = twoSidedP(r.T[j], df)
@@ -874,6 +875,9 @@ type quantileKey struct {
 	p  float64
 	df int
 }
+
+// skipAllP tells finishSkipP to leave every p-value out.
+const skipAllP = -2
 
 // twoSidedP returns 2·Pr(T_df > |t|).
 func twoSidedP(t, df float64) float64 {

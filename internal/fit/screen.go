@@ -12,11 +12,12 @@ import (
 // holds it, computed once per driver series; LineY the part that depends
 // on the cost alone, once per cost. LineX.Screen then gives LineSummary's
 // result, and ScreenOrigin ThroughOriginSummary's, bit for bit, in two
-// passes over the data, but for one thing: the p-value of the intercept
-// (of the slope through the origin) is left NaN. A screen of sixty
-// candidates needs only the slopes' p-values for its choice; the others,
-// an incomplete beta function each, are computed by CoefTP for the few
-// fits that are kept.
+// passes over the data, but for one thing: the coefficients' p-values
+// (and FP, the slope's p-value again) are left NaN. Each is an incomplete
+// beta function; a screen of sixty candidates needs few of them: the
+// slopes' p-values only as far as the multiple-testing correction can
+// still find a slope significant, and the others only for the fits that
+// are kept. CoefTP computes them.
 
 // LineX is the part of a straight-line fit and of a fit through the origin
 // that depends on x alone.
@@ -157,8 +158,9 @@ func NewLineY(y []float64) *LineY {
 }
 
 // Screen is LineSummary(x, y) for the x of lx and the y of ly, but for
-// P[0], the intercept's p-value, which is NaN (CoefTP gives it from Coef[0]
-// and StdErr[0]). It panics when they differ in length.
+// the p-values P and FP, which are NaN where a standard error is positive
+// (CoefTP gives P[j] from Coef[j], StdErr[j] and DF; FP is P[1]). It panics
+// when they differ in length.
 func (lx *LineX) Screen(ly *LineY) (*Regression, error) {
 	n := lx.n
 	if len(ly.y) != n {
@@ -203,7 +205,7 @@ func (lx *LineX) Screen(ly *LineY) (*Regression, error) {
 	r.centre[0] = xbar
 	r.gamma[0], r.gamma[1] = ybar, b
 	r.factor[0], r.factor[1], r.factor[2], r.factor[3] = 1/math.Sqrt(nf), 0, 0, 1/math.Sqrt(sxx)
-	r.finishSkipP(ly.syy, 0)
+	r.finishSkipP(ly.syy, skipAllP)
 	return r, nil
 }
 

@@ -10,7 +10,8 @@ import (
 func same(a, b float64) bool { return a == b || (math.IsNaN(a) && math.IsNaN(b)) }
 
 // sameFit compares two summary fits field by field, bit for bit, but for
-// the p-value the screen leaves out (skipP) and FP when it is that one.
+// the p-values the screen leaves out (skipP, or all with skipAllP) and FP
+// when it is one of them; those must be NaN, and CoefTP must give them.
 func sameFit(t *testing.T, label string, got, want *Regression, skipP int) {
 	t.Helper()
 	scalars := []struct {
@@ -21,7 +22,7 @@ func sameFit(t *testing.T, label string, got, want *Regression, skipP int) {
 		{"AdjR2", got.AdjR2, want.AdjR2}, {"F", got.F, want.F}, {"PRESS", got.PRESS, want.PRESS},
 		{"AIC", got.AIC, want.AIC}, {"AICc", got.AICc, want.AICc}, {"BIC", got.BIC, want.BIC},
 	}
-	if skipP != len(want.Coef)-1 {
+	if skipP != len(want.Coef)-1 && skipP != skipAllP {
 		scalars = append(scalars, struct {
 			name string
 			g, w float64
@@ -40,7 +41,7 @@ func sameFit(t *testing.T, label string, got, want *Regression, skipP int) {
 			t.Errorf("%s: coefficient %d: %v ± %v (t %v), want %v ± %v (t %v)", label, j, got.Coef[j], got.StdErr[j], got.T[j], want.Coef[j], want.StdErr[j], want.T[j])
 		}
 		p := got.P[j]
-		if j == skipP {
+		if j == skipP || skipP == skipAllP {
 			if !math.IsNaN(p) && got.StdErr[j] > 0 {
 				t.Errorf("%s: P[%d] = %v, want it left out (NaN)", label, j, p)
 			}
@@ -74,7 +75,10 @@ func TestScreenIsLineSummary(t *testing.T) {
 		}
 		if werr == nil {
 			fitted++
-			sameFit(t, label+" line", got, want, 0)
+			sameFit(t, label+" line", got, want, skipAllP)
+			if got.StdErr[1] > 0 && !math.IsNaN(got.FP) {
+				t.Errorf("%s line: FP = %v, want it left out (NaN) like the slope's p-value", label, got.FP)
+			}
 		}
 		want, werr = ThroughOriginSummary(x, y)
 		got, gerr = lx.ScreenOrigin(ly)
