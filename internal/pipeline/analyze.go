@@ -269,7 +269,7 @@ func (s *stream) flush() error {
 	// Each object's behaviour so far, so that a cost near a boundary keeps
 	// its class and driver unless the new evidence is clearly better. The
 	// store is read outside the analysis's transaction, as it was before.
-	prior, err := s.db.CurrentBehaviourOf(s.ctx, names)
+	prior, err := s.db.CurrentChoiceOf(s.ctx, names)
 	if err != nil {
 		return err
 	}

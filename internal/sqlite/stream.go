@@ -2,6 +2,7 @@ package sqlite
 
 import (
 	"context"
+	"database/sql"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -108,12 +109,56 @@ func (db *DB) CurrentBehaviourOf(ctx context.Context, objects []string) (map[str
 	return out, nil
 }
 
+// CurrentChoiceOf returns, of the open behaviour of each object named, by
+// object, only what the analysis weighs its new evidence against: the
+// object, class, driver and lag. It reads no other column: the evidence
+// kept as JSON (outliers, diagnostics, break, prediction terms) would cost
+// more to decode than the fits themselves. An object without an open
+// behaviour is left out.
+func (db *DB) CurrentChoiceOf(ctx context.Context, objects []string) (map[string]costdrift.Behaviour, error) {
+	out := make(map[string]costdrift.Behaviour, len(objects))
+	const chunk = 1000 // well below SQLite's 32,766 parameters
+	for len(objects) > 0 {
+		n := min(chunk, len(objects))
+		args := make([]any, n)
+		for i, o := range objects[:n] {
+			args[i] = o
+		}
+		rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), lag
+			FROM behaviour_history WHERE valid_to_run_at IS NULL AND object IN (`+placeholders(n)+`)`, args...)
+		if err != nil {
+			return nil, err
+		}
+		for rows.Next() {
+			var b costdrift.Behaviour
+			var class string
+			var lag sql.NullInt64
+			if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &lag); err != nil {
+				rows.Close()
+				return nil, err
+			}
+			b.Class, b.Lag = costdrift.Class(class), int(lag.Int64)
+			out[b.Object.String()] = b
+		}
+		if err := rows.Close(); err != nil {
+			return nil, err
+		}
+		if err := rows.Err(); err != nil {
+			return nil, err
+		}
+		objects = objects[n:]
+	}
+	return out, nil
+}
+
 // EachCurrentBehaviour hands fn the open behaviours of every object, by
 // object, size at a time, so that rules over every object need not hold
-// them all.
+// them all. They are brief: without the evidence the alert rules do not
+// read (high-low, outliers, diagnostics and prediction terms, left empty),
+// which is most of what a behaviour costs to read.
 func (db *DB) EachCurrentBehaviour(ctx context.Context, size int, fn func([]costdrift.Behaviour) error) error {
 	batch := make([]costdrift.Behaviour, 0, size)
-	err := db.eachBehaviour(ctx, `valid_to_run_at IS NULL`, func(b costdrift.Behaviour) error {
+	err := db.eachBehaviourOf(ctx, briefColumns, `valid_to_run_at IS NULL`, func(b costdrift.Behaviour) error {
 		batch = append(batch, b)
 		if len(batch) < size {
 			return nil

@@ -181,3 +181,62 @@ func fmtErr(err error) string {
 	}
 	return err.Error()
 }
+
+// CurrentChoiceOf gives, of each named object's open behaviour, the class,
+// driver and lag CurrentBehaviourOf reads, and leaves out closed rows (a
+// break's earlier row, a replaced behaviour) and objects without one.
+func TestCurrentChoiceOfIsCurrentBehaviourOfsChoice(t *testing.T) {
+	db, _ := mustOpen(t)
+	ctx := context.Background()
+	analyse := func(bs ...costdrift.Behaviour) {
+		t.Helper()
+		run := &costdrift.AnalysisRun{Grain: costdrift.GrainAccountCostCenter, WindowFrom: "2025-01", WindowTo: "2025-12", Settings: "{}"}
+		w, err := db.BeginAnalysis(ctx, run)
+		if err != nil {
+			t.Fatal(err)
+		}
+		inputs := map[string]string{}
+		for _, b := range bs {
+			inputs[b.Object.String()] = "hash"
+		}
+		if err := w.Save(ctx, nil, bs, inputs); err != nil {
+			t.Fatal(err)
+		}
+		if err := w.Commit(ctx); err != nil {
+			t.Fatal(err)
+		}
+	}
+	rent := costdrift.CostObject{Account: "6100", CostCenter: "ADMIN"}
+	power := costdrift.CostObject{Account: "6300", CostCenter: "WELD"}
+	analyse(
+		costdrift.Behaviour{Object: rent, Class: costdrift.Fixed, Reason: "flat", N: 12, FixedPerPeriod: 2600, Since: "2025-01", Until: "2025-12"},
+		costdrift.Behaviour{Object: power, Class: costdrift.Variable, Driver: "machine_hours", Unit: "hour", Lag: 0, Reason: "follows hours",
+			N: 12, VariableRate: 1.5, Since: "2025-01", Until: "2025-12",
+			Break: &costdrift.Break{Period: "2025-06", Statistic: 12, P: 0.01}})
+	// A change of class without a break takes two analyses that see it.
+	for range 2 {
+		analyse(costdrift.Behaviour{Object: power, Class: costdrift.Mixed, Driver: "machine_hours", Unit: "hour", Lag: 1, Reason: "fixed part",
+			N: 12, FixedPerPeriod: 300, VariableRate: 1.2, Since: "2025-06", Until: "2025-12"})
+	}
+	names := []string{rent.String(), power.String(), "6900 · NOWHERE"}
+	full, err := db.CurrentBehaviourOf(ctx, names)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := db.CurrentChoiceOf(ctx, names)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 2 || len(full) != 2 {
+		t.Fatalf("CurrentChoiceOf gave %d objects, CurrentBehaviourOf %d; want 2 each", len(got), len(full))
+	}
+	if b := got[power.String()]; b.Class != costdrift.Mixed || b.Driver != "machine_hours" || b.Lag != 1 || b.Object != power {
+		t.Errorf("power's choice is %+v, want the open mixed behaviour on machine_hours at lag 1", b)
+	}
+	for name, f := range full {
+		g := got[name]
+		if g.Object != f.Object || g.Class != f.Class || g.Driver != f.Driver || g.Lag != f.Lag {
+			t.Errorf("%s: choice %s %q lag %d, behaviour %s %q lag %d", name, g.Class, g.Driver, g.Lag, f.Class, f.Driver, f.Lag)
+		}
+	}
+}
