@@ -6,12 +6,15 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"sync/atomic"
 	"testing"
 
+	"github.com/costdrift/costdrift/internal/alerts"
 	"github.com/costdrift/costdrift/internal/analyze"
 	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/demo"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -189,4 +192,83 @@ func TestAnalyzeCancelledStoresNothing(t *testing.T) {
 	if _, err := Analyze(context.Background(), e, db, true); err != nil {
 		t.Fatalf("an analysis after the cancelled ones: %v", err)
 	}
+}
+
+// The alert rules after an analysis read brief behaviours (without
+// high-low, outliers, diagnostics and prediction terms): they must raise
+// exactly what they raise on the full behaviours, on the demo's books,
+// whose costs have breaks, outliers and unusual spending.
+func TestAlertRulesNeedOnlyBriefBehaviours(t *testing.T) {
+	ctx := context.Background()
+	e, db := syncedDemo(t)
+	res, err := Analyze(ctx, e, db, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	previous, err := db.PreviousBehaviour(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	names, err := db.AccountNames(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var brief []costdrift.Behaviour
+	if err := db.EachCurrentBehaviour(ctx, 7, func(bs []costdrift.Behaviour) error {
+		brief = append(brief, bs...)
+		return nil
+	}); err != nil {
+		t.Fatal(err)
+	}
+	objects := make([]string, len(brief))
+	for i, b := range brief {
+		objects[i] = b.Object.String()
+	}
+	byObject, err := db.CurrentBehaviourOf(ctx, objects)
+	if err != nil {
+		t.Fatal(err)
+	}
+	full := make([]costdrift.Behaviour, len(brief))
+	evidence := 0
+	for i, b := range brief {
+		full[i] = byObject[b.Object.String()]
+		if b.HighLow != nil || b.Outliers != nil || b.Diagnostics != nil || b.Prediction != nil {
+			t.Fatalf("%s: the brief behaviour carries evidence the rules do not read", b.Object)
+		}
+		if full[i].Diagnostics != nil && full[i].Prediction != nil {
+			evidence++
+		}
+	}
+	if len(brief) < 12 || evidence < len(brief)/2 {
+		t.Fatalf("%d behaviours, %d with diagnostics and prediction terms: the comparison needs the demo's evidence", len(brief), evidence)
+	}
+	rules := func(current []costdrift.Behaviour) []costdrift.Alert {
+		out := alerts.Behaviour(current, previous, names)
+		out = append(out, alerts.Spending(current, names)...)
+		return append(out, alerts.OutOfRange(current, newestActivity(current, res.activity, res.Run.WindowTo), names)...)
+	}
+	got, want := rules(brief), rules(full)
+	if len(want) == 0 {
+		t.Fatal("the demo raises no alert on its behaviours; the comparison needs some")
+	}
+	if g, w := alertLines(got), alertLines(want); g != w {
+		t.Errorf("the rules raise on brief behaviours:\n%s\nand on full ones:\n%s", g, w)
+	}
+}
+
+// alertLines prints alerts one a line with their evidence's values (not
+// its pointers), NaN equal to NaN.
+func alertLines(as []costdrift.Alert) string {
+	var out strings.Builder
+	for _, a := range as {
+		fmt.Fprintf(&out, "%s %s %s %s %s %s", a.Kind, a.Object, a.Severity, a.Period, a.Message, a.Fingerprint)
+		ev := reflect.ValueOf(a.Evidence)
+		for i := range ev.NumField() {
+			if f := ev.Field(i); f.Kind() == reflect.Pointer && !f.IsNil() {
+				fmt.Fprintf(&out, " %s=%v", ev.Type().Field(i).Name, f.Elem().Interface())
+			}
+		}
+		fmt.Fprintf(&out, " %v\n", a.Evidence.Other)
+	}
+	return out.String()
 }

@@ -527,11 +527,30 @@ func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]cost
 // eachBehaviour hands fn the behaviour rows that match where, by object,
 // one at a time.
 func (db *DB) eachBehaviour(ctx context.Context, where string, fn func(costdrift.Behaviour) error, args ...any) error {
-	rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
+	return db.eachBehaviourOf(ctx, readColumns, where, fn, args...)
+}
+
+// readColumns are the columns eachBehaviourOf reads into a behaviour;
+// briefColumns the same but for the evidence the alert rules do not read
+// (high-low, outliers, diagnostics, prediction terms), which is most of a
+// row's JSON.
+const (
+	readColumns = `account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, '')
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, '')`
+	briefColumns = `account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
+		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
+		COALESCE(steps, ''), reason, mean_cost, cv, '',
+		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, '', '',
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), ''`
+)
+
+// eachBehaviourOf is eachBehaviour reading columns (readColumns or
+// briefColumns).
+func (db *DB) eachBehaviourOf(ctx context.Context, columns, where string, fn func(costdrift.Behaviour) error, args ...any) error {
+	rows, err := db.db.QueryContext(ctx, `SELECT `+columns+`
 		FROM behaviour_history WHERE `+where+` ORDER BY account, cost_center`, args...)
 	if err != nil {
 		return err
