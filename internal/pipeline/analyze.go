@@ -40,6 +40,11 @@ type AnalysisResult struct {
 	// objects were read, and the activity read.
 	gaps     []costdrift.Alert
 	activity []costdrift.ActivityValue
+	// The rules on behaviours, evaluated as each batch was stored, on the
+	// objects refitted (refitted, by object name): when they are all the
+	// objects with a behaviour, Raise need not read the behaviours again.
+	behaviourAlerts, spendingAlerts, rangeAlerts []costdrift.Alert
+	refitted                                     map[string]bool
 }
 
 // SkippedObject is an object that could not be analysed: its costs cannot
@@ -99,7 +104,8 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 		BreakAlpha: cfg.BreakAlpha, BootstrapReplicates: cfg.BootstrapReplicates, Seed: bootstrapSeed})
 	run := &costdrift.AnalysisRun{StartedAt: started, Grain: costdrift.Grain(cfg.Grain),
 		WindowFrom: window.From(), WindowTo: window.To(), Settings: string(settings)}
-	res := &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: window.WithPostings, activity: activity, Run: run}
+	res := &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: window.WithPostings, activity: activity, Run: run,
+		refitted: map[string]bool{}}
 	q, err := quality(ctx, e, db)
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
@@ -330,8 +336,35 @@ func (s *stream) save() {
 		s.stored += len(behaviours)
 		if err := s.w.Save(s.ctx, fits, behaviours, inputs); err != nil {
 			s.fail(err)
+			continue
+		}
+		if err := s.raise(behaviours); err != nil {
+			s.fail(err)
 		}
 	}
+}
+
+// raise evaluates the rules on behaviours for a batch just stored, as Raise
+// would once the analysis is committed: on the behaviours the store now
+// holds open for the objects (a change still pending leaves the earlier
+// one open) and their latest closed ones.
+func (s *stream) raise(saved []costdrift.Behaviour) error {
+	objects := make([]string, len(saved))
+	for i := range saved {
+		objects[i] = saved[i].Object.String()
+	}
+	current, previous, err := s.w.Stored(s.ctx, objects)
+	if err != nil {
+		return fmt.Errorf("read the behaviours stored: %w", err)
+	}
+	res := s.res
+	res.behaviourAlerts = append(res.behaviourAlerts, alerts.Behaviour(current, previous, s.names)...)
+	res.spendingAlerts = append(res.spendingAlerts, alerts.Spending(current, s.names)...)
+	res.rangeAlerts = append(res.rangeAlerts, alerts.OutOfRange(current, newestActivity(current, res.activity, res.Run.WindowTo), s.names)...)
+	for _, o := range objects {
+		res.refitted[o] = true
+	}
+	return nil
 }
 
 // Raise evaluates the rules that follow an analysis over every object in
@@ -347,47 +380,65 @@ func Raise(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisResult) (sql
 		}
 		return changes, nil
 	}
-	changes, err := raiseAnalysisAlerts(ctx, e, db, res.gaps, res.activity, res.Run.WindowTo)
+	changes, err := raiseAnalysisAlerts(ctx, e, db, res)
 	if err != nil {
 		return changes, fmt.Errorf("analyze: alerts: %w", err)
 	}
 	return changes, nil
 }
 
-// raiseAnalysisAlerts reads the current behaviours a batch at a time, so
-// that the rules over every object need not hold all of them.
-func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, gaps []costdrift.Alert,
-	activity []costdrift.ActivityValue, period string) (sqlite.AlertChanges, error) {
-	previous, err := db.PreviousBehaviour(ctx)
+// raiseAnalysisAlerts evaluates the rules on every object's behaviour.
+// When the analysis refitted every object that has one, it has already
+// evaluated them batch by batch; otherwise the current behaviours are read
+// a batch at a time, so that the rules over every object need not hold all
+// of them.
+func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisResult) (sqlite.AlertChanges, error) {
+	raised, err := analysisAlerts(ctx, e, db, res)
 	if err != nil {
 		return sqlite.AlertChanges{}, err
 	}
-	names, err := db.AccountNames(ctx)
+	return db.ApplyAlerts(ctx, raised, alerts.AnalysisKinds, res.Run.WindowTo)
+}
+
+// analysisAlerts is every alert the rules after an analysis raise.
+func analysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisResult) ([]costdrift.Alert, error) {
+	period := res.Run.WindowTo
+	open, err := db.OpenBehaviours(ctx)
 	if err != nil {
-		return sqlite.AlertChanges{}, err
+		return nil, err
 	}
-	var behaviour, spending, outOfRange []costdrift.Alert
-	err = db.EachCurrentBehaviour(ctx, batchObjects, func(current []costdrift.Behaviour) error {
-		behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
-		spending = append(spending, alerts.Spending(current, names)...)
-		outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
-		return nil
-	})
-	if err != nil {
-		return sqlite.AlertChanges{}, err
+	behaviour, spending, outOfRange := res.behaviourAlerts, res.spendingAlerts, res.rangeAlerts
+	if open != len(res.refitted) {
+		previous, err := db.PreviousBehaviour(ctx)
+		if err != nil {
+			return nil, err
+		}
+		names, err := db.AccountNames(ctx)
+		if err != nil {
+			return nil, err
+		}
+		behaviour, spending, outOfRange = nil, nil, nil
+		err = db.EachCurrentBehaviour(ctx, batchObjects, func(current []costdrift.Behaviour) error {
+			behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
+			spending = append(spending, alerts.Spending(current, names)...)
+			outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, res.activity, period), names)...)
+			return nil
+		})
+		if err != nil {
+			return nil, err
+		}
 	}
-	raised := append(append(append(behaviour, spending...), outOfRange...), gaps...)
+	raised := slices.Concat(behaviour, spending, outOfRange, res.gaps)
 	states, err := sourceStates(ctx, e, db)
 	if err != nil {
-		return sqlite.AlertChanges{}, err
+		return nil, err
 	}
 	raised = append(raised, alerts.StaleSource(states)...)
 	q, err := quality(ctx, e, db)
 	if err != nil {
-		return sqlite.AlertChanges{}, err
+		return nil, err
 	}
-	raised = append(raised, alerts.DataQuality(q, e.Config.Analysis.MaxRejectedShare)...)
-	return db.ApplyAlerts(ctx, raised, alerts.AnalysisKinds, period)
+	return append(raised, alerts.DataQuality(q, e.Config.Analysis.MaxRejectedShare)...), nil
 }
 
 // raiseHeldBack evaluates, for an analysis held back, only the rules that

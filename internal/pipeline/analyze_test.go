@@ -272,3 +272,46 @@ func alertLines(as []costdrift.Alert) string {
 	}
 	return out.String()
 }
+
+// The rules on behaviours, evaluated batch by batch as an analysis that
+// refits every object stores it, raise what they raise on the behaviours
+// read back after the commit: on the demo's first analysis, and on the
+// next one, which weighs each object's prior behaviour.
+func TestAlertsRaisedAsBatchesAreStoredAreThoseReadBack(t *testing.T) {
+	ctx := context.Background()
+	e, db := syncedDemo(t)
+	batchObjects = 5
+	defer func() { batchObjects = BatchObjects }()
+	for round := range 2 {
+		res, err := Analyze(ctx, e, db, true)
+		if err != nil {
+			t.Fatal(err)
+		}
+		open, err := db.OpenBehaviours(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if open < 12 || len(res.refitted) != open {
+			t.Fatalf("round %d: %d objects refitted, %d with a behaviour: the test needs the analysis to refit them all", round, len(res.refitted), open)
+		}
+		asStored, err := analysisAlerts(ctx, e, db, res)
+		if err != nil {
+			t.Fatal(err)
+		}
+		readBack := *res
+		readBack.refitted = nil
+		want, err := analysisAlerts(ctx, e, db, &readBack)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(want) == 0 {
+			t.Fatalf("round %d: no alert raised; the comparison needs some", round)
+		}
+		if g, w := alertLines(asStored), alertLines(want); g != w {
+			t.Errorf("round %d: raised as the batches were stored:\n%s\nread back after the commit:\n%s", round, g, w)
+		}
+		if _, err := Raise(ctx, e, db, res); err != nil {
+			t.Fatal(err)
+		}
+	}
+}

@@ -527,7 +527,7 @@ func (db *DB) behaviours(ctx context.Context, where string, args ...any) ([]cost
 // eachBehaviour hands fn the behaviour rows that match where, by object,
 // one at a time.
 func (db *DB) eachBehaviour(ctx context.Context, where string, fn func(costdrift.Behaviour) error, args ...any) error {
-	return db.eachBehaviourOf(ctx, readColumns, where, fn, args...)
+	return eachBehaviourOf(ctx, db.db, readColumns, where, fn, args...)
 }
 
 // readColumns are the columns eachBehaviourOf reads into a behaviour;
@@ -548,9 +548,9 @@ const (
 )
 
 // eachBehaviourOf is eachBehaviour reading columns (readColumns or
-// briefColumns).
-func (db *DB) eachBehaviourOf(ctx context.Context, columns, where string, fn func(costdrift.Behaviour) error, args ...any) error {
-	rows, err := db.db.QueryContext(ctx, `SELECT `+columns+`
+// briefColumns) through q.
+func eachBehaviourOf(ctx context.Context, q conn, columns, where string, fn func(costdrift.Behaviour) error, args ...any) error {
+	rows, err := q.QueryContext(ctx, `SELECT `+columns+`
 		FROM behaviour_history WHERE `+where+` ORDER BY account, cost_center`, args...)
 	if err != nil {
 		return err
@@ -750,20 +750,11 @@ func (db *DB) PreviousBehaviour(ctx context.Context) (map[string]costdrift.Behav
 	if err != nil {
 		return nil, err
 	}
-	defer rows.Close()
 	out := map[string]costdrift.Behaviour{}
-	for rows.Next() {
-		var b costdrift.Behaviour
-		var class string
-		var fixed, rate sql.NullFloat64
-		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Lag, &fixed, &rate, &b.Since); err != nil {
-			return nil, err
-		}
-		b.Class = costdrift.Class(class)
-		b.FixedPerPeriod, b.VariableRate = orNaN(fixed), orNaN(rate)
-		out[b.Object.String()] = b
+	if err := scanPrevious(rows, out); err != nil {
+		return nil, err
 	}
-	return out, rows.Err()
+	return out, nil
 }
 
 const previousBehaviourQuery = `SELECT account, cost_center, class, COALESCE(driver, ''), COALESCE(lag, 0),
@@ -771,6 +762,65 @@ const previousBehaviourQuery = `SELECT account, cost_center, class, COALESCE(dri
 		FROM behaviour_history h
 		WHERE valid_to_run_at IS NOT NULL
 		  AND id = (SELECT MAX(id) FROM behaviour_history p WHERE p.object = h.object AND p.valid_to_run_at IS NOT NULL)`
+
+// scanPrevious reads the rows of previousBehaviourQuery into out, by object.
+func scanPrevious(rows *sql.Rows, out map[string]costdrift.Behaviour) error {
+	defer rows.Close()
+	for rows.Next() {
+		var b costdrift.Behaviour
+		var class string
+		var fixed, rate sql.NullFloat64
+		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Lag, &fixed, &rate, &b.Since); err != nil {
+			return err
+		}
+		b.Class = costdrift.Class(class)
+		b.FixedPerPeriod, b.VariableRate = orNaN(fixed), orNaN(rate)
+		out[b.Object.String()] = b
+	}
+	return rows.Err()
+}
+
+// Stored returns, as this analysis leaves them, the brief open behaviours
+// of the objects named (as EachCurrentBehaviour reads them, by object) and
+// their latest closed ones (as PreviousBehaviour does): what the alert rules
+// weigh, read a batch at a time while the analysis is still being written,
+// not all at once after it.
+func (w *AnalysisWriter) Stored(ctx context.Context, objects []string) ([]costdrift.Behaviour, map[string]costdrift.Behaviour, error) {
+	var current []costdrift.Behaviour
+	previous := map[string]costdrift.Behaviour{}
+	const chunk = 1000 // well below SQLite's 32,766 parameters
+	for len(objects) > 0 {
+		n := min(chunk, len(objects))
+		args := make([]any, n)
+		for i, o := range objects[:n] {
+			args[i] = o
+		}
+		err := eachBehaviourOf(ctx, w.tx, briefColumns, `valid_to_run_at IS NULL AND object IN (`+placeholders(n)+`)`,
+			func(b costdrift.Behaviour) error {
+				current = append(current, b)
+				return nil
+			}, args...)
+		if err != nil {
+			return nil, nil, err
+		}
+		rows, err := w.tx.QueryContext(ctx, previousBehaviourQuery+` AND h.object IN (`+placeholders(n)+`)`, args...)
+		if err != nil {
+			return nil, nil, err
+		}
+		if err := scanPrevious(rows, previous); err != nil {
+			return nil, nil, err
+		}
+		objects = objects[n:]
+	}
+	return current, previous, nil
+}
+
+// OpenBehaviours counts the objects with an open behaviour.
+func (db *DB) OpenBehaviours(ctx context.Context) (int, error) {
+	var n int
+	err := db.q().QueryRowContext(ctx, `SELECT COUNT(*) FROM behaviour_history WHERE valid_to_run_at IS NULL`).Scan(&n)
+	return n, err
+}
 
 // NewestPeriods returns, per source, the newest period of its ledger lines
 // and activity. It reads the rows stored per file and period that every

@@ -158,7 +158,7 @@ func (db *DB) CurrentChoiceOf(ctx context.Context, objects []string) (map[string
 // which is most of what a behaviour costs to read.
 func (db *DB) EachCurrentBehaviour(ctx context.Context, size int, fn func([]costdrift.Behaviour) error) error {
 	batch := make([]costdrift.Behaviour, 0, size)
-	err := db.eachBehaviourOf(ctx, briefColumns, `valid_to_run_at IS NULL`, func(b costdrift.Behaviour) error {
+	err := eachBehaviourOf(ctx, db.db, briefColumns, `valid_to_run_at IS NULL`, func(b costdrift.Behaviour) error {
 		batch = append(batch, b)
 		if len(batch) < size {
 			return nil
