@@ -245,6 +245,18 @@ type design struct {
 	rows     []float64 // n×k, row-major
 	fwd, bwd []float64 // fwd[i] = RSS of rows 0..i−1, bwd[i] = RSS of rows i..n−1
 	qr       rowQR
+	// The Givens rotations of the forward and backward passes, row by row
+	// and column by column (n×k each), computed by the first supF: they
+	// depend on X alone, and every replicate of the bootstrap has the same
+	// X, so a replicate only applies them to its y.
+	fwdRot, bwdRot []givens
+}
+
+// givens is one rotation of rowQR.add: y' = c·y − s·z, z' = c·z + s·y;
+// none when the row's entry was already 0.
+type givens struct {
+	c, s float64
+	none bool
 }
 
 func newDesign(columns [][]float64, intercept bool, n int) *design {
@@ -273,18 +285,41 @@ func newDesign(columns [][]float64, intercept bool, n int) *design {
 // RSS1_i + RSS2_i rises, the supremum is the F of the smallest split RSS.
 // The observed FStats are computed segment by segment with internal/fit;
 // the tests check that both agree.
+//
+// The first call rotates the rows in with rowQR.add and records the
+// rotations; later calls apply the recorded rotations to y alone, which
+// gives the same numbers bit for bit, k multiply-adds a row instead of k²
+// and k square roots.
 func (d *design) supF(y []float64, from, to int) float64 {
 	n, k := d.n, d.k
-	d.qr.reset()
-	for i := 0; i < n; i++ {
-		d.qr.add(d.rows[i*k:(i+1)*k], y[i])
-		d.fwd[i+1] = d.qr.rss
-	}
-	d.qr.reset()
-	d.bwd[n] = 0
-	for i := n - 1; i >= 0; i-- {
-		d.qr.add(d.rows[i*k:(i+1)*k], y[i])
-		d.bwd[i] = d.qr.rss
+	if d.fwdRot == nil {
+		d.fwdRot, d.bwdRot = make([]givens, n*k), make([]givens, n*k)
+		d.qr.reset()
+		for i := 0; i < n; i++ {
+			d.qr.addRecording(d.rows[i*k:(i+1)*k], y[i], d.fwdRot[i*k:(i+1)*k])
+			d.fwd[i+1] = d.qr.rss
+		}
+		d.qr.reset()
+		d.bwd[n] = 0
+		for i := n - 1; i >= 0; i-- {
+			d.qr.addRecording(d.rows[i*k:(i+1)*k], y[i], d.bwdRot[i*k:(i+1)*k])
+			d.bwd[i] = d.qr.rss
+		}
+	} else {
+		z := d.qr.z
+		clear(z)
+		rss := 0.0
+		for i := 0; i < n; i++ {
+			rss += rotateIn(d.fwdRot[i*k:(i+1)*k], z, y[i])
+			d.fwd[i+1] = rss
+		}
+		clear(z)
+		rss = 0
+		d.bwd[n] = 0
+		for i := n - 1; i >= 0; i-- {
+			rss += rotateIn(d.bwdRot[i*k:(i+1)*k], z, y[i])
+			d.bwd[i] = rss
+		}
 	}
 	best := math.Inf(1)
 	for i := from; i <= to; i++ {
@@ -314,18 +349,28 @@ func (q *rowQR) reset() {
 	q.rss = 0
 }
 
-func (q *rowQR) add(x []float64, y float64) {
+func (q *rowQR) add(x []float64, y float64) { q.addRecording(x, y, nil) }
+
+// addRecording is add, keeping each column's rotation in rot (k of them)
+// unless rot is nil.
+func (q *rowQR) addRecording(x []float64, y float64, rot []givens) {
 	k := q.k
 	row := q.row
 	copy(row, x)
 	for j := 0; j < k; j++ {
 		b := row[j]
 		if b == 0 {
+			if rot != nil {
+				rot[j] = givens{none: true}
+			}
 			continue
 		}
 		a := q.r[j*k+j]
 		rho := math.Hypot(a, b)
 		c, s := a/rho, b/rho
+		if rot != nil {
+			rot[j] = givens{c: c, s: s}
+		}
 		q.r[j*k+j] = rho
 		for m := j + 1; m < k; m++ {
 			rm, xm := q.r[j*k+m], row[m]
@@ -337,4 +382,18 @@ func (q *rowQR) add(x []float64, y float64) {
 		y = c*y - s*zj
 	}
 	q.rss += y * y
+}
+
+// rotateIn applies one row's recorded rotations to its y and to z, as
+// addRecording did, and returns what the row adds to the RSS.
+func rotateIn(rot []givens, z []float64, y float64) float64 {
+	for j, g := range rot {
+		if g.none {
+			continue
+		}
+		zj := z[j]
+		z[j] = g.c*zj + g.s*y
+		y = g.c*y - g.s*zj
+	}
+	return y * y
 }
