@@ -37,6 +37,12 @@ type Settings struct {
 	// analysis keeps it unless the new evidence is clearly better
 	// (hysteresis.go).
 	Prior map[string]costdrift.Behaviour
+
+	// StoredOnly: Panel keeps of each result only the fits the store keeps
+	// (Result.Stored), dropping every other candidate's as soon as the
+	// object is analysed, so that a batch waiting to be stored holds a few
+	// fits an object rather than a hundred or more.
+	StoredOnly bool
 }
 
 // Thresholds of the classification, as fractions. They are common practice

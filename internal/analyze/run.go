@@ -11,7 +11,8 @@ import (
 )
 
 // Panel analyses every object of the panel, spread over the machine's
-// cores; results come back in the panel's object order. Once ctx ends, no
+// cores; results come back in the panel's object order, with only the
+// fits the store keeps when s.StoredOnly. Once ctx ends, no
 // further object is started, the ones under way finish, and ctx's error is
 // returned without results.
 func Panel(ctx context.Context, p *costdrift.Panel, s Settings) ([]Result, error) {
@@ -24,7 +25,14 @@ func Panel(ctx context.Context, p *costdrift.Panel, s Settings) ([]Result, error
 		go func() {
 			defer wg.Done()
 			for i := range work {
-				results[i] = objectRecovered(p, &p.Objects[i], s)
+				r := objectRecovered(p, &p.Objects[i], s)
+				if s.StoredOnly {
+					r.Fits = r.Stored()
+					if r.Unbroken != nil {
+						r.Unbroken.Fits = r.Unbroken.Stored()
+					}
+				}
+				results[i] = r
 			}
 		}()
 	}

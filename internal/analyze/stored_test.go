@@ -1,6 +1,8 @@
 package analyze
 
 import (
+	"context"
+	"fmt"
 	"math/rand/v2"
 	"testing"
 
@@ -113,4 +115,51 @@ func isBest(all map[[2]any]costdrift.Fit, driver string, lag int) bool {
 		}
 	}
 	return better < StoredLines
+}
+
+// With StoredOnly, Panel returns each object's result with the fits Stored
+// gives of the full result, and those are what Stored gives of them again:
+// the pipeline may store either.
+func TestPanelStoredOnlyKeepsWhatTheStoreKeeps(t *testing.T) {
+	r := rand.New(rand.NewPCG(35, 36))
+	const n = 36
+	p := &costdrift.Panel{Periods: periods(n), MaxLag: 1, Drivers: studyDrivers(r, n)}
+	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Variable, costdrift.Mixed, costdrift.Step, costdrift.Unexplained} {
+		for range 6 {
+			cost, _ := studyCost(r, class, p.Drivers, n, 0.04)
+			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
+		}
+	}
+	full, err := Panel(context.Background(), p, defaults)
+	if err != nil {
+		t.Fatal(err)
+	}
+	trimmed := defaults
+	trimmed.StoredOnly = true
+	kept, err := Panel(context.Background(), p, trimmed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fewer := 0
+	for i := range full {
+		want := fmt.Sprintf("%+v", full[i].Stored())
+		if got := fmt.Sprintf("%+v", kept[i].Fits); got != want {
+			t.Fatalf("%s: StoredOnly kept\n%s\nStored gives\n%s", p.Objects[i].Object, got, want)
+		}
+		if again := fmt.Sprintf("%+v", kept[i].Stored()); again != want {
+			t.Fatalf("%s: Stored of the kept fits gives\n%s\nnot\n%s", p.Objects[i].Object, again, want)
+		}
+		choice := func(b costdrift.Behaviour) string {
+			return fmt.Sprintf("%s %s %d %v %v %s %s", b.Class, b.Driver, b.Lag, b.FixedPerPeriod, b.VariableRate, b.Since, b.Reason)
+		}
+		if g, w := choice(kept[i].Behaviour), choice(full[i].Behaviour); g != w {
+			t.Fatalf("%s: the behaviour is %s with StoredOnly, %s without", p.Objects[i].Object, g, w)
+		}
+		if len(kept[i].Fits) < len(full[i].Fits) {
+			fewer++
+		}
+	}
+	if fewer < len(full)/2 {
+		t.Errorf("only %d of %d results keep fewer fits than were tried; the panel should try more candidates than are kept", fewer, len(full))
+	}
 }

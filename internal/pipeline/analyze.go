@@ -138,7 +138,7 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 		return nil, fmt.Errorf("analyze: %w", err)
 	}
 	as := analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
-		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed}
+		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed, StoredOnly: true}
 
 	w, err := db.BeginAnalysis(ctx, run)
 	if err != nil {
