@@ -1,0 +1,63 @@
+package costdrift
+
+import "time"
+
+// DecisionKind says what an accountant decided about a cost object.
+type DecisionKind string
+
+const (
+	DecisionPin     DecisionKind = "pin"     // the object's formula is the one given, whatever the data say
+	DecisionUnpin   DecisionKind = "unpin"   // the data's formula again
+	DecisionExclude DecisionKind = "exclude" // a period left out of the object's fit
+	DecisionInclude DecisionKind = "include" // an excluded period fitted again
+	DecisionApprove DecisionKind = "approve" // the analysis's formula accepted for the budgets
+	DecisionDecline DecisionKind = "decline" // the analysis's formula refused; the approved one stays
+	DecisionNote    DecisionKind = "note"    // a note on an alert
+)
+
+// Decision is one row of the audit trail: who decided what about which
+// object, when and why, and which decision in force it replaced (0 for
+// none). Decisions are never changed or deleted.
+type Decision struct {
+	ID       int64
+	At       time.Time
+	By       string
+	Object   string
+	Kind     DecisionKind
+	Period   string // exclude, include
+	AlertID  int64  // note
+	Payload  string // JSON: a pin's or an approval's formula
+	Reason   string
+	Replaces int64
+}
+
+// Pin is a formula an accountant set for a cost object: reports show it
+// beside the data's estimate, and budgets and variances use it until it is
+// unpinned or its last period (Until, "" for no end) has passed.
+type Pin struct {
+	Object string  `json:"-"`
+	Class  Class   `json:"class"`
+	Driver string  `json:"driver,omitempty"`
+	Lag    int     `json:"lag"`
+	Fixed  float64 `json:"fixed"` // per period, in currency units
+	Rate   float64 `json:"rate"`  // per unit of driver
+	Until  string  `json:"until,omitempty"`
+
+	By         string    `json:"-"`
+	At         time.Time `json:"-"`
+	Reason     string    `json:"-"`
+	DecisionID int64     `json:"-"`
+}
+
+// Expired reports whether the pin's last period lies before period.
+func (p Pin) Expired(period string) bool { return p.Until != "" && period > p.Until }
+
+// Exclusion is a period an accountant left out of a cost object's fit.
+type Exclusion struct {
+	Object     string
+	Period     string
+	By         string
+	At         time.Time
+	Reason     string
+	DecisionID int64
+}
