@@ -133,6 +133,12 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	as := analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
 		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed}
+	// The periods the accountant left out are read once: a decision made
+	// while the analysis runs counts from the next one.
+	excluded, err := db.Exclusions(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
 
 	w, err := db.BeginAnalysis(ctx, run)
 	if err != nil {
@@ -140,7 +146,7 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, previous: previous,
 		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
-		window: window, drivers: drivers,
+		window: window, drivers: drivers, excluded: excluded,
 		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
 	go s.analyse()
 	go s.save()
@@ -183,6 +189,7 @@ type stream struct {
 	hasher   *analyze.InputHasher
 	window   *series.Window
 	drivers  []costdrift.DriverSeries
+	excluded map[string][]costdrift.Exclusion // by object
 
 	objects []costdrift.ObjectSeries // every object in scope read since the last batch
 	changed []int                    // which of them to analyse
@@ -238,6 +245,9 @@ func (s *stream) read(totals []costdrift.CostTotal) error {
 		return nil
 	}
 	s.total++
+	// An excluded period's cost is unknown to the fit, and to the input
+	// hash, so that excluding or including a period refits the object.
+	excludePeriods(&o, s.window.Periods, s.excluded[o.Object.String()])
 	s.objects = append(s.objects, o)
 	hash := s.hasher.Hash(&o)
 	if s.previous == nil || s.previous[o.Object.String()] != hash {

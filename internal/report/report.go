@@ -6,6 +6,7 @@ import (
 	"math"
 	"strings"
 	"text/tabwriter"
+	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -51,10 +52,35 @@ type Row struct {
 	// confirmation by the next analysis.
 	Break   *costdrift.Break   `json:"break"`
 	Pending *costdrift.Pending `json:"pending"`
+
+	// What the accountant decided (README "The accountant's decisions"):
+	// the periods left out of the fit, oldest first.
+	ExcludedPeriods []ExcludedPeriod `json:"excluded_periods"`
+}
+
+// ExcludedPeriod is a period left out of an object's fit, with who left it
+// out, when and why.
+type ExcludedPeriod struct {
+	Period string `json:"period"`
+	By     string `json:"by"`
+	At     string `json:"at"` // RFC 3339, UTC
+	Reason string `json:"reason"`
+}
+
+// Decided is what the accountant decided about one object, for its row.
+type Decided struct {
+	Excluded []costdrift.Exclusion
 }
 
 // Rows turns behaviours into report rows.
 func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
+	return DecidedRows(bs, names, nil)
+}
+
+// DecidedRows turns behaviours into report rows with the accountant's
+// decisions on each object beside the data's estimate (decided by object;
+// nil for none).
+func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[string]Decided) []Row {
 	rows := make([]Row, 0, len(bs))
 	for _, b := range bs {
 		r := Row{
@@ -67,6 +93,11 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 			r.Steps = []costdrift.StepLevel{}
 		}
 		r.Break, r.Pending = b.Break, b.Pending
+		d := decided[r.Object]
+		r.ExcludedPeriods = make([]ExcludedPeriod, 0, len(d.Excluded))
+		for _, x := range d.Excluded {
+			r.ExcludedPeriods = append(r.ExcludedPeriods, ExcludedPeriod{Period: x.Period, By: x.By, At: x.At.UTC().Format(time.RFC3339), Reason: x.Reason})
+		}
 		r.Outliers = []string{}
 		for _, o := range b.Outliers {
 			r.Outliers = append(r.Outliers, o.Period)

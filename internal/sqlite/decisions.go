@@ -97,6 +97,13 @@ func (db *DB) Include(ctx context.Context, object string, periods []string, by, 
 	})
 }
 
+// DriverKnown reports whether the store holds activity for driver.
+func (db *DB) DriverKnown(ctx context.Context, driver string) (bool, error) {
+	var known bool
+	err := db.q().QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM activity WHERE driver = ?)`, driver).Scan(&known)
+	return known, err
+}
+
 // Pins returns the pins in force, by object (current_pins).
 func (db *DB) Pins(ctx context.Context) (map[string]costdrift.Pin, error) {
 	rows, err := db.q().QueryContext(ctx, `SELECT d.object, d.payload, d.made_by, d.made_at, d.reason, d.id

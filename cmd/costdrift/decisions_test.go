@@ -1,0 +1,132 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// ownDemo copies the shared demo folder (demoStore) for a test that
+// records decisions, and returns the copy's config file.
+func ownDemo(t *testing.T) string {
+	t.Helper()
+	dir := t.TempDir()
+	if err := os.CopyFS(dir, os.DirFS(demoDir(t))); err != nil {
+		t.Fatal(err)
+	}
+	os.Remove(filepath.Join(dir, "costdrift.db.lock"))
+	return filepath.Join(dir, "costdrift.yaml")
+}
+
+// The bad input of README "The accountant's decisions": each refused with
+// one line naming the problem, and nothing stored.
+func TestDecisionBadInput(t *testing.T) {
+	cfg := ownDemo(t)
+	store := filepath.Join(filepath.Dir(cfg), "costdrift.db")
+	var window []string
+	for y := 2023; y <= 2026; y++ {
+		for m := 1; m <= 12; m++ {
+			if p := fmt.Sprintf("%d-%02d", y, m); p >= "2023-07" && p <= "2026-06" {
+				window = append(window, p)
+			}
+		}
+	}
+	for _, tc := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"unknown object", []string{"pin", "9999/NOPE", "--class", "fixed", "--fixed", "1", "--reason", "x"}, `unknown cost object "9999/NOPE"`},
+		{"mixed without a rate", []string{"pin", "6100/ASSY", "--class", "mixed", "--driver", "frames_built", "--fixed", "10", "--reason", "x"}, "a mixed formula needs --rate"},
+		{"variable without a driver", []string{"pin", "6100/ASSY", "--class", "variable", "--rate", "1", "--reason", "x"}, "a variable formula needs --driver"},
+		{"unknown class", []string{"pin", "6100/ASSY", "--class", "semi", "--fixed", "1", "--reason", "x"}, `--class must be fixed, variable, mixed or step, not "semi"`},
+		{"driver the store lacks", []string{"pin", "6100/ASSY", "--class", "variable", "--driver", "pallets", "--rate", "1", "--reason", "x"}, `no activity for driver "pallets"`},
+		{"negative rate", []string{"pin", "6200/WELD", "--class", "mixed", "--driver", "machine_hours", "--fixed", "1850", "--rate=-2.35", "--reason", "x"}, "--rate -2.35 is negative"},
+		{"fixed amount too precise", []string{"pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600.001", "--reason", "x"}, "more decimals than the currency's minor unit"},
+		{"until in the past", []string{"pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600", "--until", "2026-06", "--reason", "x"}, "--until 2026-06 is in the past (the current period is 2026-12)"},
+		{"pin without a reason", []string{"pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600"}, "--reason is required"},
+		{"unpin what is not pinned", []string{"unpin", "6100/ASSY", "--reason", "x"}, "6100/ASSY has no pin to take off"},
+		{"exclude too many", []string{"exclude", "6100/ASSY", "--period", strings.Join(window[:25], ","), "--reason", "x"},
+			"excluding these 25 periods would leave 6100/ASSY 11 periods with ledger data to fit, fewer than analysis.min_periods (12)"},
+		{"exclude a period that is none", []string{"exclude", "6100/ASSY", "--period", "2025-13", "--reason", "x"}, `period "2025-13" is not YYYY-MM`},
+		{"exclude without a reason", []string{"exclude", "6100/ASSY", "--period", "2025-04"}, "--reason is required"},
+		{"include what is not excluded", []string{"include", "6100/ASSY", "--period", "2025-04"}, "period 2025-04 of 6100/ASSY is not excluded"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			out, err := run(t, append([]string{"--config", cfg}, tc.args...)...)
+			if err == nil {
+				t.Fatalf("accepted; output:\n%s", out)
+			}
+			if line := errorLine(err); !strings.Contains(line, tc.want) || strings.Contains(line, "\n") {
+				t.Errorf("error %q, want one line containing %q", line, tc.want)
+			}
+		})
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM decisions`); n != 0 {
+		t.Errorf("%d decisions stored from refused input", n)
+	}
+	// At the limit the exclusion is taken: 24 of 36 leave min_periods.
+	mustRun(t, "--config", cfg, "exclude", "6100/ASSY", "--period", strings.Join(window[:24], ","), "--reason", "x", "--by", "ana")
+	if n := count(t, store, `SELECT COUNT(*) FROM current_exclusions WHERE object = '6100/ASSY' AND made_by = 'ana'`); n != 24 {
+		t.Errorf("%d periods excluded, want 24", n)
+	}
+}
+
+// An excluded period is not fitted and not counted in n from the next
+// analysis on, explain lists it, and including it again gives back the
+// formula fitted on every period.
+func TestExcludedPeriodsAreNotFitted(t *testing.T) {
+	cfg := ownDemo(t)
+	type explained struct {
+		N        int     `json:"n"`
+		Fixed    float64 `json:"fixed_per_period"`
+		Rate     float64 `json:"variable_rate"`
+		Excluded []struct {
+			Period, By, At, Reason string
+		} `json:"excluded_periods"`
+	}
+	explain := func() explained {
+		t.Helper()
+		var e explained
+		if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "explain", "6200/WELD", "--format", "json")), &e); err != nil {
+			t.Fatal(err)
+		}
+		return e
+	}
+	before := explain()
+	if before.N != 36 || before.Excluded == nil || len(before.Excluded) != 0 {
+		t.Fatalf("before: n %d, excluded_periods %v; want 36 and []", before.N, before.Excluded)
+	}
+	mustRun(t, "--config", cfg, "exclude", "6200/WELD", "--period", "2025-07,2025-03", "--reason", "strike month; meter fault", "--by", "ana")
+	if got := explain(); got.N != 36 {
+		t.Errorf("n %d before the next analysis, want 36: an exclusion counts from the next analysis", got.N)
+	}
+	mustRun(t, "--config", cfg, "analyze")
+	after := explain()
+	if after.N != 34 || len(after.Excluded) != 2 || after.Excluded[0].Period != "2025-03" || after.Excluded[1].By != "ana" ||
+		after.Excluded[1].Reason != "strike month; meter fault" {
+		t.Fatalf("after: n %d, excluded_periods %+v; want 34 and 2025-03, 2025-07 by ana", after.N, after.Excluded)
+	}
+	if after.Fixed == before.Fixed || after.Rate == before.Rate {
+		t.Errorf("formula unchanged by the exclusion: %.2f + %.4f", after.Fixed, after.Rate)
+	}
+	text := mustRun(t, "--config", cfg, "explain", "6200/WELD")
+	for _, want := range []string{"Left out of the fit by decision (not fitted, not counted in n):",
+		"2025-03 by ana on 2026-12-01: strike month; meter fault", "fitted on  34 periods"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("explain lacks %q:\n%s", want, text)
+		}
+	}
+	if strings.Contains(text, "changed since analysis run") {
+		t.Errorf("explain takes the excluded periods for a change in the ledger:\n%s", text)
+	}
+	mustRun(t, "--config", cfg, "include", "6200/WELD", "--period", "2025-03,2025-07", "--by", "ana")
+	mustRun(t, "--config", cfg, "analyze")
+	if again := explain(); again.N != 36 || again.Fixed != before.Fixed || again.Rate != before.Rate || len(again.Excluded) != 0 {
+		t.Errorf("included again: n %d, %.2f + %.6f, excluded %v; want the first fit back (36, %.2f + %.6f)",
+			again.N, again.Fixed, again.Rate, again.Excluded, before.Fixed, before.Rate)
+	}
+}
