@@ -130,3 +130,99 @@ func TestExcludedPeriodsAreNotFitted(t *testing.T) {
 			again.N, again.Fixed, again.Rate, again.Excluded, before.Fixed, before.Rate)
 	}
 }
+
+// A pin is shown beside the data's estimate, budgets use it, and it holds
+// through a re-analysis of every object and a restatement of the ledger.
+func TestPinHoldsAndFeedsBudgets(t *testing.T) {
+	cfg := ownDemo(t)
+	dir := filepath.Dir(cfg)
+	type row struct {
+		Object string  `json:"object"`
+		Fixed  float64 `json:"fixed_per_period"`
+		Pinned *struct {
+			Class, By, Reason, At, Formula string
+			Fixed                          float64
+			Until                          *string
+		} `json:"pinned"`
+		Effective struct {
+			Source  string  `json:"source"`
+			Fixed   float64 `json:"fixed_per_period"`
+			Formula string  `json:"formula"`
+		} `json:"effective"`
+	}
+	rent := func() row {
+		t.Helper()
+		var rows []row
+		if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "report", "--format", "json")), &rows); err != nil {
+			t.Fatal(err)
+		}
+		for _, r := range rows {
+			if r.Object == "6100/ASSY" {
+				return r
+			}
+		}
+		t.Fatal("no 6100/ASSY in the report")
+		return row{}
+	}
+	before := rent()
+	if before.Pinned != nil || before.Effective.Source != "data" || before.Effective.Fixed != before.Fixed {
+		t.Fatalf("before the pin: pinned %v, effective %+v; want null and the data's %.2f", before.Pinned, before.Effective, before.Fixed)
+	}
+	mustRun(t, "--config", cfg, "pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600", "--until", "2027-12",
+		"--reason", "lease contract: 2,600 a month", "--by", "ana")
+	check := func(when string) {
+		t.Helper()
+		r := rent()
+		if r.Pinned == nil || r.Pinned.Fixed != 2600 || r.Pinned.By != "ana" || r.Pinned.Until == nil || *r.Pinned.Until != "2027-12" ||
+			r.Pinned.Reason != "lease contract: 2,600 a month" || r.Pinned.At != "2026-12-01T09:00:00Z" {
+			t.Fatalf("%s: pinned %+v", when, r.Pinned)
+		}
+		if r.Effective.Source != "pinned" || r.Effective.Fixed != 2600 || r.Effective.Formula != "cost = 2,600.00" {
+			t.Errorf("%s: effective %+v, want the pin", when, r.Effective)
+		}
+		if r.Fixed == 2600 {
+			t.Errorf("%s: fixed_per_period is the pin's; it must stay the data's estimate", when)
+		}
+	}
+	check("after the pin")
+	table := mustRun(t, "--config", cfg, "report")
+	if want := "pinned: cost = 2,600.00 until 2027-12, by ana on 2026-12-01: lease contract: 2,600 a month; budgets and variances use it"; !strings.Contains(table, want) {
+		t.Errorf("the table report lacks %q:\n%s", want, table)
+	}
+	out := mustRun(t, "--config", cfg, "budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv"))
+	if !strings.Contains(out, "pinned formula: its interval comes from the data's scatter around it") {
+		t.Errorf("the budget does not say where the pinned formula's interval comes from:\n%s", out)
+	}
+	var rentLine string
+	for _, l := range strings.Split(out, "\n") {
+		if strings.HasPrefix(l, "6100/ASSY") {
+			rentLine = l
+			break
+		}
+	}
+	if !strings.Contains(rentLine, " 2,600.00 ") {
+		t.Errorf("rent budgeted as %q, want the pinned 2,600.00", rentLine)
+	}
+
+	mustRun(t, "--config", cfg, "analyze", "--all")
+	check("after analyze --all")
+	// A restatement: the 2024-03 rent booked again at 2,650.
+	gl := filepath.Join(dir, "data", "gl", "gl-2024.csv")
+	b, err := os.ReadFile(gl)
+	if err != nil {
+		t.Fatal(err)
+	}
+	old := `6100,ASSY,2600.00,"Rent, assembly hall 2024-03"`
+	if !strings.Contains(string(b), old) {
+		t.Fatalf("%s has no line %s", gl, old)
+	}
+	if err := os.WriteFile(gl, []byte(strings.Replace(string(b), old, `6100,ASSY,2650.00,"Rent, assembly hall 2024-03"`, 1)), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	mustRun(t, "--config", cfg, "sync")
+	mustRun(t, "--config", cfg, "analyze")
+	if r := rent(); r.Fixed == before.Fixed {
+		t.Errorf("the restatement did not reach the data's estimate (%.2f)", r.Fixed)
+	}
+	check("after a restatement")
+}

@@ -80,7 +80,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	}
 	run := res.Run
 	fmt.Fprintln(a.out)
-	if err := writeReport(ctx, db, "table", e.Currency.Code, a.out); err != nil {
+	if err := writeReport(ctx, e, db, "table", a.out); err != nil {
 		return err
 	}
 

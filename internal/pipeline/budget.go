@@ -48,7 +48,14 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (
 	if len(bs) == 0 {
 		return BudgetResult{}, errors.New("budget: no cost behaviour stored yet: run `costdrift analyze` first")
 	}
+	// A pin in force now holds for the whole plan; one that has expired
+	// leaves the data's formula.
+	bs, pinned, err := effective(ctx, e, db, bs, e.Calendar.Period(e.Now()))
+	if err != nil {
+		return BudgetResult{}, fmt.Errorf("budget: %w", err)
+	}
 	lines := budget.Flexible(bs, plan.periods(), activityLookup(actual, plan.activityIndex, actual), e.Calendar.Shift)
+	notePinned(lines, pinned)
 	lines = append(lines, budget.Totals(lines)...)
 	lines = orderBudget(lines)
 	if save != "" {
@@ -61,6 +68,24 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (
 		return BudgetResult{}, err
 	}
 	return BudgetResult{Plan: plan.name, Lines: lines, Names: names}, nil
+}
+
+// notePinned says on each object line of a pinned formula where its
+// interval comes from.
+func notePinned(lines []costdrift.BudgetLine, pinned map[string]bool) {
+	for i := range lines {
+		if lines[i].Kind == costdrift.LineObject && pinned[lines[i].Object.String()] {
+			lines[i].Warning = joinNote(PinnedNote, lines[i].Warning)
+		}
+	}
+}
+
+// joinNote puts note before the warnings a line has.
+func joinNote(note, warning string) string {
+	if warning == "" {
+		return note
+	}
+	return note + "; " + warning
 }
 
 // orderBudget puts each period's object lines before its totals.
@@ -143,8 +168,16 @@ func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath, save
 	if len(bs) == 0 {
 		return res, fmt.Errorf("variance: no cost behaviour covers %s: run `costdrift analyze` first", period)
 	}
+	bs, pinned, err := effective(ctx, e, db, bs, period)
+	if err != nil {
+		return res, fmt.Errorf("variance: %w", err)
+	}
 	lines := budget.Variances(bs, period, costs, activityLookup(actualActivity, actualActivity), planLookup, e.Calendar.Shift)
 	for i := range lines { // one line per behaviour, in order
+		if pinned[bs[i].Object.String()] {
+			lines[i].Warning = joinNote(PinnedNote, lines[i].Warning)
+			continue
+		}
 		if b := bs[i]; b.Since <= period && period <= b.Until {
 			note := "the formula was fitted on data that include this period"
 			if lines[i].Warning != "" {

@@ -40,18 +40,18 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	exclusions, err := db.Exclusions(ctx)
+	decided, err := Decided(ctx, e, db, []costdrift.Behaviour{b})
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	excluded := exclusions[b.Object.String()]
+	excluded := decided[b.Object.String()].Excluded
 	note, err := refitLines(ctx, e, db, &oa, excluded)
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	ex := report.Explain(report.ExplainInput{
 		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
-		Decided: report.Decided{Excluded: excluded},
+		Decided: decided[b.Object.String()],
 		ActivityPeriod: func(p string, lag int) string {
 			if _, err := e.Calendar.Parse(p); err != nil {
 				return p

@@ -54,8 +54,43 @@ type Row struct {
 	Pending *costdrift.Pending `json:"pending"`
 
 	// What the accountant decided (README "The accountant's decisions"):
-	// the periods left out of the fit, oldest first.
+	// the pinned formula, null without one; the periods left out of the
+	// fit, oldest first; and the formula budgets and variances use.
+	Pinned          *PinnedFormula   `json:"pinned"`
 	ExcludedPeriods []ExcludedPeriod `json:"excluded_periods"`
+	Effective       EffectiveFormula `json:"effective"`
+}
+
+// PinnedFormula is a pin as the report shows it.
+type PinnedFormula struct {
+	Class   costdrift.Class `json:"class"`
+	Driver  *string         `json:"driver"`
+	Lag     int             `json:"lag"`
+	Fixed   float64         `json:"fixed"`
+	Rate    float64         `json:"rate"`
+	By      string          `json:"by"`
+	At      string          `json:"at"` // RFC 3339, UTC
+	Reason  string          `json:"reason"`
+	Until   *string         `json:"until"`
+	Formula string          `json:"formula"`
+}
+
+// Where the formula budgets use comes from.
+const (
+	SourceData   = "data"   // the analysis's estimate
+	SourcePinned = "pinned" // the accountant's pin
+)
+
+// EffectiveFormula is the formula budgets and variances use, and where it
+// comes from.
+type EffectiveFormula struct {
+	Source         string          `json:"source"`
+	Class          costdrift.Class `json:"class"`
+	Driver         *string         `json:"driver"`
+	Lag            *int            `json:"lag"`
+	FixedPerPeriod *float64        `json:"fixed_per_period"`
+	VariableRate   *float64        `json:"variable_rate"`
+	Formula        string          `json:"formula"`
 }
 
 // ExcludedPeriod is a period left out of an object's fit, with who left it
@@ -67,9 +102,14 @@ type ExcludedPeriod struct {
 	Reason string `json:"reason"`
 }
 
-// Decided is what the accountant decided about one object, for its row.
+// Decided is what the accountant decided about one object, for its row:
+// the pin (nil without one), the excluded periods, and the formula budgets
+// use with where it comes from (Source* constants; "" for the data's own).
 type Decided struct {
-	Excluded []costdrift.Exclusion
+	Pin             *costdrift.Pin
+	Excluded        []costdrift.Exclusion
+	Effective       costdrift.Behaviour
+	EffectiveSource string
 }
 
 // Rows turns behaviours into report rows.
@@ -98,6 +138,29 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 		for _, x := range d.Excluded {
 			r.ExcludedPeriods = append(r.ExcludedPeriods, ExcludedPeriod{Period: x.Period, By: x.By, At: x.At.UTC().Format(time.RFC3339), Reason: x.Reason})
 		}
+		if p := d.Pin; p != nil {
+			r.Pinned = &PinnedFormula{Class: p.Class, Lag: p.Lag, Fixed: p.Fixed, Rate: p.Rate, By: p.By,
+				At: p.At.UTC().Format(time.RFC3339), Reason: p.Reason, Formula: pinFormula(b, *p)}
+			if p.Driver != "" {
+				r.Pinned.Driver = &p.Driver
+			}
+			if p.Until != "" {
+				r.Pinned.Until = &p.Until
+			}
+		}
+		eff, source := d.Effective, d.EffectiveSource
+		if source == "" {
+			eff, source = b, SourceData
+		}
+		r.Effective = EffectiveFormula{Source: source, Class: eff.Class, Formula: Formula(eff)}
+		if eff.Driver != "" {
+			drv, lag := eff.Driver, eff.Lag
+			r.Effective.Driver, r.Effective.Lag = &drv, &lag
+		}
+		if eff.Class != costdrift.InsufficientData {
+			r.Effective.FixedPerPeriod = ptr(round(eff.FixedPerPeriod, 2))
+			r.Effective.VariableRate = ptr(round(eff.VariableRate, 6))
+		}
 		r.Outliers = []string{}
 		for _, o := range b.Outliers {
 			r.Outliers = append(r.Outliers, o.Period)
@@ -119,6 +182,19 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 		rows = append(rows, r)
 	}
 	return rows
+}
+
+// pinFormula writes a pinned formula out in words, as Formula writes the
+// data's.
+func pinFormula(b costdrift.Behaviour, p costdrift.Pin) string {
+	pb := costdrift.Behaviour{Object: b.Object, Class: p.Class, Driver: p.Driver, Lag: p.Lag, FixedPerPeriod: p.Fixed, VariableRate: p.Rate}
+	if p.Driver == b.Driver {
+		pb.Unit = b.Unit
+	}
+	if p.Class == costdrift.Step {
+		return "cost = " + Number(p.Fixed, 2) + " (the level in force)"
+	}
+	return Formula(pb)
 }
 
 // JSON writes the rows as an indented JSON array.
@@ -148,6 +224,28 @@ func Table(w io.Writer, rows []Row, currency string) error {
 	fmt.Fprintln(w, "Why:")
 	for _, r := range rows {
 		fmt.Fprintf(w, "  %-12s %s\n", TerminalText(r.Object), TerminalText(r.Reason))
+		if p := r.Pinned; p != nil {
+			until, use := "", "budgets and variances use it"
+			if p.Until != nil {
+				until = " until " + TerminalText(*p.Until)
+			}
+			if r.Effective.Source != SourcePinned {
+				use = "expired: budgets use the data's formula"
+			}
+			at := p.At
+			if t, err := time.Parse(time.RFC3339, p.At); err == nil {
+				at = t.Format("2006-01-02")
+			}
+			fmt.Fprintf(w, "  %-12s pinned: %s%s, by %s on %s: %s; %s\n", "", TerminalText(p.Formula), until, TerminalText(p.By), at,
+				TerminalText(p.Reason), use)
+		}
+		if len(r.ExcludedPeriods) > 0 {
+			periods := make([]string, len(r.ExcludedPeriods))
+			for i, x := range r.ExcludedPeriods {
+				periods[i] = TerminalText(x.Period)
+			}
+			fmt.Fprintf(w, "  %-12s left out of the fit: %s (costdrift explain %s)\n", "", strings.Join(periods, ", "), TerminalText(r.Object))
+		}
 		if r.HighLow != nil {
 			hl := r.HighLow
 			fmt.Fprintf(w, "  %-12s high-low: cost = %s + %s (high %s, low %s)\n", "", Number(hl.Fixed, 2), Number(hl.Rate, rateDecimals(hl.Rate)),
