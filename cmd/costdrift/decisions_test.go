@@ -26,6 +26,7 @@ func ownDemo(t *testing.T) string {
 func TestDecisionBadInput(t *testing.T) {
 	cfg := ownDemo(t)
 	store := filepath.Join(filepath.Dir(cfg), "costdrift.db")
+	demoDecisions := count(t, store, `SELECT COUNT(*) FROM decisions`)
 	var window []string
 	for y := 2023; y <= 2026; y++ {
 		for m := 1; m <= 12; m++ {
@@ -48,7 +49,7 @@ func TestDecisionBadInput(t *testing.T) {
 		{"fixed amount too precise", []string{"pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600.001", "--reason", "x"}, "more decimals than the currency's minor unit"},
 		{"until in the past", []string{"pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600", "--until", "2026-06", "--reason", "x"}, "--until 2026-06 is in the past (the current period is 2026-12)"},
 		{"pin without a reason", []string{"pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600"}, "--reason is required"},
-		{"unpin what is not pinned", []string{"unpin", "6100/ASSY", "--reason", "x"}, "6100/ASSY has no pin to take off"},
+		{"unpin what is not pinned", []string{"unpin", "6100/WELD", "--reason", "x"}, "6100/WELD has no pin to take off"},
 		{"exclude too many", []string{"exclude", "6100/ASSY", "--period", strings.Join(window[:25], ","), "--reason", "x"},
 			"excluding these 25 periods would leave 6100/ASSY 11 periods with ledger data to fit, fewer than analysis.min_periods (12)"},
 		{"exclude a period that is none", []string{"exclude", "6100/ASSY", "--period", "2025-13", "--reason", "x"}, `period "2025-13" is not YYYY-MM`},
@@ -65,7 +66,7 @@ func TestDecisionBadInput(t *testing.T) {
 			}
 		})
 	}
-	if n := count(t, store, `SELECT COUNT(*) FROM decisions`); n != 0 {
+	if n := count(t, store, `SELECT COUNT(*) FROM decisions`) - demoDecisions; n != 0 {
 		t.Errorf("%d decisions stored from refused input", n)
 	}
 	// At the limit the exclusion is taken: 24 of 36 leave min_periods.
@@ -157,36 +158,36 @@ func TestPinHoldsAndFeedsBudgets(t *testing.T) {
 			t.Fatal(err)
 		}
 		for _, r := range rows {
-			if r.Object == "6100/ASSY" {
+			if r.Object == "6100/WELD" {
 				return r
 			}
 		}
-		t.Fatal("no 6100/ASSY in the report")
+		t.Fatal("no 6100/WELD in the report")
 		return row{}
 	}
 	before := rent()
 	if before.Pinned != nil || before.Effective.Source != "data" || before.Effective.Fixed != before.Fixed {
 		t.Fatalf("before the pin: pinned %v, effective %+v; want null and the data's %.2f", before.Pinned, before.Effective, before.Fixed)
 	}
-	mustRun(t, "--config", cfg, "pin", "6100/ASSY", "--class", "fixed", "--fixed", "2600", "--until", "2027-12",
-		"--reason", "lease contract: 2,600 a month", "--by", "ana")
+	mustRun(t, "--config", cfg, "pin", "6100/WELD", "--class", "fixed", "--fixed", "4200", "--until", "2027-12",
+		"--reason", "lease contract: 4,200 a month", "--by", "ana")
 	check := func(when string) {
 		t.Helper()
 		r := rent()
-		if r.Pinned == nil || r.Pinned.Fixed != 2600 || r.Pinned.By != "ana" || r.Pinned.Until == nil || *r.Pinned.Until != "2027-12" ||
-			r.Pinned.Reason != "lease contract: 2,600 a month" || r.Pinned.At != "2026-12-01T09:00:00Z" {
+		if r.Pinned == nil || r.Pinned.Fixed != 4200 || r.Pinned.By != "ana" || r.Pinned.Until == nil || *r.Pinned.Until != "2027-12" ||
+			r.Pinned.Reason != "lease contract: 4,200 a month" || r.Pinned.At != "2026-12-01T09:00:00Z" {
 			t.Fatalf("%s: pinned %+v", when, r.Pinned)
 		}
-		if r.Effective.Source != "pinned" || r.Effective.Fixed != 2600 || r.Effective.Formula != "cost = 2,600.00" {
+		if r.Effective.Source != "pinned" || r.Effective.Fixed != 4200 || r.Effective.Formula != "cost = 4,200.00" {
 			t.Errorf("%s: effective %+v, want the pin", when, r.Effective)
 		}
-		if r.Fixed == 2600 {
+		if r.Fixed == 4200 {
 			t.Errorf("%s: fixed_per_period is the pin's; it must stay the data's estimate", when)
 		}
 	}
 	check("after the pin")
 	table := mustRun(t, "--config", cfg, "report")
-	if want := "pinned: cost = 2,600.00 until 2027-12, by ana on 2026-12-01: lease contract: 2,600 a month; budgets and variances use it"; !strings.Contains(table, want) {
+	if want := "pinned: cost = 4,200.00 until 2027-12, by ana on 2026-12-01: lease contract: 4,200 a month; budgets and variances use it"; !strings.Contains(table, want) {
 		t.Errorf("the table report lacks %q:\n%s", want, table)
 	}
 	out := mustRun(t, "--config", cfg, "budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv"))
@@ -195,28 +196,28 @@ func TestPinHoldsAndFeedsBudgets(t *testing.T) {
 	}
 	var rentLine string
 	for _, l := range strings.Split(out, "\n") {
-		if strings.HasPrefix(l, "6100/ASSY") {
+		if strings.HasPrefix(l, "6100/WELD") {
 			rentLine = l
 			break
 		}
 	}
-	if !strings.Contains(rentLine, " 2,600.00 ") {
-		t.Errorf("rent budgeted as %q, want the pinned 2,600.00", rentLine)
+	if !strings.Contains(rentLine, " 4,200.00 ") {
+		t.Errorf("rent budgeted as %q, want the pinned 4,200.00", rentLine)
 	}
 
 	mustRun(t, "--config", cfg, "analyze", "--all")
 	check("after analyze --all")
-	// A restatement: the 2024-03 rent booked again at 2,650.
+	// A restatement: the 2024-03 rent booked again at 4,250.
 	gl := filepath.Join(dir, "data", "gl", "gl-2024.csv")
 	b, err := os.ReadFile(gl)
 	if err != nil {
 		t.Fatal(err)
 	}
-	old := `6100,ASSY,2600.00,"Rent, assembly hall 2024-03"`
+	old := `6100,WELD,4200.00,"Rent, welding bay 2024-03"`
 	if !strings.Contains(string(b), old) {
 		t.Fatalf("%s has no line %s", gl, old)
 	}
-	if err := os.WriteFile(gl, []byte(strings.Replace(string(b), old, `6100,ASSY,2650.00,"Rent, assembly hall 2024-03"`, 1)), 0o600); err != nil {
+	if err := os.WriteFile(gl, []byte(strings.Replace(string(b), old, `6100,WELD,4250.00,"Rent, welding bay 2024-03"`, 1)), 0o600); err != nil {
 		t.Fatal(err)
 	}
 	mustRun(t, "--config", cfg, "sync")
@@ -225,4 +226,43 @@ func TestPinHoldsAndFeedsBudgets(t *testing.T) {
 		t.Errorf("the restatement did not reach the data's estimate (%.2f)", r.Fixed)
 	}
 	check("after a restatement")
+}
+
+// The demo pins the assembly hall's rent at its lease amount and leaves the
+// paint shop's service-charge true-up out of its fit, and its report shows
+// both.
+func TestDemoShowsTheAccountantsDecisions(t *testing.T) {
+	dir := t.TempDir()
+	out := mustRun(t, "demo", "--dir", dir)
+	for _, want := range []string{
+		`costdrift pin 6100/ASSY --class fixed --fixed 2600.00 --reason "lease contract: 2,600.00 a month" --by demo`,
+		`costdrift exclude 6100/PAINT --period 2024-03 --reason "service-charge true-up for the prior year, booked once" --by demo`,
+		"pinned: cost = 2,600.00, by demo on 2026-12-01: lease contract: 2,600.00 a month; budgets and variances use it",
+		"left out of the fit: 2024-03 (costdrift explain 6100/PAINT)",
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("the demo's output lacks %q", want)
+		}
+	}
+	var rows []struct {
+		Object   string `json:"object"`
+		N        int    `json:"n"`
+		Pinned   *struct{ Fixed float64 }
+		Excluded []struct{ Period string } `json:"excluded_periods"`
+	}
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", filepath.Join(dir, "costdrift.yaml"), "report", "--format", "json")), &rows); err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range rows {
+		switch r.Object {
+		case "6100/ASSY":
+			if r.Pinned == nil || r.Pinned.Fixed != 2600 {
+				t.Errorf("6100/ASSY pinned %+v, want 2600", r.Pinned)
+			}
+		case "6100/PAINT":
+			if len(r.Excluded) != 1 || r.Excluded[0].Period != "2024-03" || r.N != 35 {
+				t.Errorf("6100/PAINT excluded %+v, n %d; want 2024-03 and 35", r.Excluded, r.N)
+			}
+		}
+	}
 }

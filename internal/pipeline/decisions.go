@@ -133,7 +133,7 @@ func Unpin(ctx context.Context, e *Env, db *sqlite.DB, object, by, reason string
 // Exclude records that periods are left out of object's fit from the next
 // analysis on. It refuses a period the calendar does not know, and
 // exclusions that would leave fewer than analysis.min_periods periods of
-// the latest analysis's window to fit.
+// the next analysis's window to fit.
 func Exclude(ctx context.Context, e *Env, db *sqlite.DB, object string, periods []string, by, reason string) error {
 	reason = strings.TrimSpace(reason)
 	if reason == "" {
@@ -146,7 +146,7 @@ func Exclude(ctx context.Context, e *Env, db *sqlite.DB, object string, periods 
 	if err := knownObject(ctx, e, db, object); err != nil {
 		return err
 	}
-	known, err := windowPeriods(ctx, e, db, object)
+	known, _, err := ObjectPeriods(ctx, e, db, object)
 	if err != nil {
 		return fmt.Errorf("exclude: %w", err)
 	}
@@ -219,75 +219,71 @@ func checkPeriods(e *Env, given []string) ([]string, error) {
 	return out, nil
 }
 
-// knownObject refuses an object the latest analysis does not know, with
-// the reason explain gives.
+// knownObject refuses an object that is neither analysed nor, before its
+// first analysis, a cost object in scope with ledger lines, with the reason
+// explain gives.
 func knownObject(ctx context.Context, e *Env, db *sqlite.DB, object string) error {
 	_, err := db.ObjectAnalysis(ctx, object)
-	switch {
-	case errors.Is(err, sqlite.ErrNoAnalysis):
-		return errors.New("no analysis stored yet: run `costdrift analyze` first")
-	case errors.Is(err, sqlite.ErrNotAnalysed):
-		return notAnalysed(ctx, e, db, object)
-	case err != nil:
+	if err == nil {
+		return nil
+	}
+	if !errors.Is(err, sqlite.ErrNoAnalysis) && !errors.Is(err, sqlite.ErrNotAnalysed) {
 		return fmt.Errorf("%s: %w", object, err)
+	}
+	account, costCenter, _ := strings.Cut(object, "/")
+	accountGrain := e.Config.Analysis.Grain == string(costdrift.GrainAccount)
+	if accountGrain && costCenter != "" {
+		return notAnalysed(ctx, e, db, object)
+	}
+	scope, err := costdrift.ParseAccountScope(e.Config.Analysis.Accounts)
+	if err != nil || !scope.Contains(account) {
+		return notAnalysed(ctx, e, db, object)
+	}
+	has, err := db.HasLedgerLines(ctx, costdrift.CostObject{Account: account, CostCenter: costCenter}, accountGrain)
+	if err != nil {
+		return fmt.Errorf("%s: %w", object, err)
+	}
+	if !has {
+		return notAnalysed(ctx, e, db, object)
 	}
 	return nil
 }
 
-// windowPeriods lists the periods of the latest analysis's window in which
-// object has a cost to fit (the ledger has postings then).
-func windowPeriods(ctx context.Context, e *Env, db *sqlite.DB, object string) ([]string, error) {
-	oa, err := db.ObjectAnalysis(ctx, object)
+// ObjectPeriods lists the periods of the next analysis's window in which
+// object has a cost to fit (the ledger has postings then), with the cost,
+// before any exclusion.
+func ObjectPeriods(ctx context.Context, e *Env, db *sqlite.DB, object string) (periods []string, costs []float64, err error) {
+	cfg := e.Config.Analysis
+	scope, err := costdrift.ParseAccountScope(cfg.Accounts)
 	if err != nil {
-		return nil, err
-	}
-	obj, w, err := storedSeries(ctx, e, db, oa)
-	if err != nil || w == nil {
-		return nil, err
-	}
-	var out []string
-	for i, v := range obj.Cost {
-		if !math.IsNaN(v) {
-			out = append(out, w.Periods[i])
-		}
-	}
-	return out, nil
-}
-
-// storedSeries reads object's cost series over its latest analysis's
-// window as the store holds it now, before any exclusion; a nil window
-// when the run's window cannot be read.
-func storedSeries(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysis) (costdrift.ObjectSeries, *series.Window, error) {
-	run := oa.Run
-	for _, p := range []string{run.WindowFrom, run.WindowTo} {
-		if _, err := e.Calendar.Parse(p); err != nil {
-			return costdrift.ObjectSeries{}, nil, nil
-		}
-	}
-	scope, err := costdrift.ParseAccountScope(oa.Settings.Accounts)
-	if err != nil {
-		scope = costdrift.AccountScope{}
-	}
-	maxLag := 0
-	if len(oa.Settings.Lags) > 0 {
-		maxLag = slices.Max(oa.Settings.Lags)
-	}
-	ss := series.Settings{Grain: run.Grain, Scope: scope, Window: oa.Settings.Window, MaxLag: maxLag,
-		Minor: minorPerUnit(e), Calendar: e.Calendar, Now: e.Now()}
-	totals, err := db.ObjectCostTotals(ctx, oa.Behaviour.Object, run.Grain == costdrift.GrainAccount, run.WindowFrom, run.WindowTo)
-	if err != nil {
-		return costdrift.ObjectSeries{}, nil, err
+		return nil, nil, err
 	}
 	ledger, err := db.LedgerPeriods(ctx)
 	if err != nil {
-		return costdrift.ObjectSeries{}, nil, err
+		return nil, nil, err
 	}
-	w := series.WindowOf(run.WindowFrom, run.WindowTo, ledger, ss)
+	ss := series.Settings{Grain: costdrift.Grain(cfg.Grain), Scope: scope, Window: cfg.Window, MaxLag: slices.Max(cfg.Lags),
+		Minor: minorPerUnit(e), Calendar: e.Calendar, Now: e.Now()}
+	w, err := series.NewWindow(ledger, ss)
+	if err != nil {
+		return nil, nil, nil // no closed period yet: nothing to fit
+	}
+	account, costCenter, _ := strings.Cut(object, "/")
+	totals, err := db.ObjectCostTotals(ctx, costdrift.CostObject{Account: account, CostCenter: costCenter},
+		ss.Grain == costdrift.GrainAccount, w.From(), w.To())
+	if err != nil {
+		return nil, nil, err
+	}
 	obj, ok := w.Object(totals)
 	if !ok {
-		return costdrift.ObjectSeries{}, nil, nil
+		return nil, nil, nil
 	}
-	return obj, w, nil
+	for i, v := range obj.Cost {
+		if !math.IsNaN(v) {
+			periods, costs = append(periods, w.Periods[i]), append(costs, v)
+		}
+	}
+	return periods, costs, nil
 }
 
 // minorPerUnit is how many minor units the currency's unit holds.
