@@ -266,3 +266,44 @@ func TestDemoShowsTheAccountantsDecisions(t *testing.T) {
 		}
 	}
 }
+
+// Notes on an alert: each ack --note adds a line with who and when, and
+// alerts show prints the thread, oldest first, in text and JSON.
+func TestAlertNotesThread(t *testing.T) {
+	cfg := ownDemo(t)
+	mustRun(t, "--config", cfg, "alerts", "ack", "1", "--note", "asked the plant manager about the new lease", "--by", "ana")
+	mustRun(t, "--config", cfg, "alerts", "ack", "1", "--until", "2027-03", "--note", "lease signed: 35 % up from July", "--by", "ben")
+	out := mustRun(t, "--config", cfg, "alerts", "show", "1")
+	want := "\nNotes\n  2026-12-01 09:00 UTC  ana: asked the plant manager about the new lease\n  2026-12-01 09:00 UTC  ben: lease signed: 35 % up from July\n"
+	if !strings.Contains(out, want) {
+		t.Errorf("alerts show 1 lacks the thread %q:\n%s", want, out)
+	}
+	var j struct {
+		Status string
+		Notes  []struct{ By, At, Text string }
+	}
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "alerts", "show", "1", "--format", "json")), &j); err != nil {
+		t.Fatal(err)
+	}
+	if len(j.Notes) != 2 || j.Notes[0].By != "ana" || j.Notes[1].Text != "lease signed: 35 % up from July" || j.Notes[1].At != "2026-12-01T09:00:00Z" || j.Status != "acknowledged" {
+		t.Errorf("alerts show --format json: %+v", j)
+	}
+	if out := mustRun(t, "--config", cfg, "alerts", "show", "2"); strings.Contains(out, "Notes") {
+		t.Errorf("alert 2 shows a thread it does not have:\n%s", out)
+	}
+	for _, tc := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"alerts", "ack", "1", "--note", "  "}, "--note is empty"},
+		{[]string{"alerts", "ack", "99", "--note", "x"}, "no alert 99 in the store"},
+	} {
+		if _, err := run(t, append([]string{"--config", cfg}, tc.args...)...); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%v: %v, want %q", tc.args, err, tc.want)
+		}
+	}
+	store := filepath.Join(filepath.Dir(cfg), "costdrift.db")
+	if n := count(t, store, `SELECT COUNT(*) FROM decision_log WHERE kind = 'note' AND alert_id = 1`); n != 2 {
+		t.Errorf("%d notes in decision_log, want 2", n)
+	}
+}

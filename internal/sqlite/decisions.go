@@ -217,3 +217,40 @@ func insertDecision(ctx context.Context, tx *sql.Tx, d costdrift.Decision) (int6
 	}
 	return res.LastInsertId()
 }
+
+// NoteAlert adds a note to alert id's thread, recorded as a decision on
+// the alert's object. It returns ErrAlertNotFound for an unknown alert.
+func (db *DB) NoteAlert(ctx context.Context, id int64, by, text string, at time.Time) error {
+	return db.inTx(ctx, func(tx *sql.Tx) error {
+		var object string
+		err := tx.QueryRowContext(ctx, `SELECT object FROM alerts WHERE id = ?`, id).Scan(&object)
+		if errors.Is(err, sql.ErrNoRows) {
+			return ErrAlertNotFound
+		}
+		if err != nil {
+			return err
+		}
+		_, err = insertDecision(ctx, tx, costdrift.Decision{At: at, By: by, Object: object, Kind: costdrift.DecisionNote,
+			AlertID: id, Reason: text})
+		return err
+	})
+}
+
+// AlertNotes returns the notes on alert id, oldest first.
+func (db *DB) AlertNotes(ctx context.Context, id int64) ([]costdrift.Decision, error) {
+	rows, err := db.q().QueryContext(ctx, `SELECT id, made_at, made_by, object, kind, period, COALESCE(alert_id, 0), payload, reason, COALESCE(replaces, 0)
+		FROM decisions WHERE alert_id = ? AND kind = 'note' ORDER BY id`, id)
+	if err != nil {
+		return nil, fmt.Errorf("read notes of alert %d: %w", id, err)
+	}
+	defer rows.Close()
+	var out []costdrift.Decision
+	for rows.Next() {
+		d, err := scanDecision(rows)
+		if err != nil {
+			return nil, fmt.Errorf("read notes of alert %d: %w", id, err)
+		}
+		out = append(out, d)
+	}
+	return out, rows.Err()
+}
