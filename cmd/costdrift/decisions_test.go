@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 )
 
 // ownDemo copies the shared demo folder (demoStore) for a test that
@@ -305,5 +306,74 @@ func TestAlertNotesThread(t *testing.T) {
 	store := filepath.Join(filepath.Dir(cfg), "costdrift.db")
 	if n := count(t, store, `SELECT COUNT(*) FROM decision_log WHERE kind = 'note' AND alert_id = 1`); n != 2 {
 		t.Errorf("%d notes in decision_log, want 2", n)
+	}
+}
+
+// The analysis tests the data against each pin: the demo's pinned rent
+// (its data agree) raises nothing; the welding bay's rent pinned at 4,200
+// while the ledger shows it 15 % higher from 2025-07 raises a pin_review
+// alert; a pin past its last period raises one too.
+func TestPinReviewAlerts(t *testing.T) {
+	cfg := ownDemo(t)
+	dir := filepath.Dir(cfg)
+	store := filepath.Join(dir, "costdrift.db")
+	review := func() int {
+		t.Helper()
+		return count(t, store, `SELECT COUNT(*) FROM alerts WHERE kind = 'pin_review' AND status <> 'resolved'`)
+	}
+	mustRun(t, "--config", cfg, "analyze", "--all")
+	if n := review(); n != 0 {
+		t.Fatalf("%d pin_review alerts on the demo's pinned rent, which its data agree with", n)
+	}
+	mustRun(t, "--config", cfg, "pin", "6100/WELD", "--class", "fixed", "--fixed", "4200", "--reason", "lease", "--by", "ana")
+	// The ledger: the welding bay's rent 15 % up (4,830) from 2025-07 on.
+	for _, name := range []string{"gl-2025.csv", "gl-2026.csv"} {
+		path := filepath.Join(dir, "data", "gl", name)
+		b, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lines := strings.Split(string(b), "\n")
+		changed := 0
+		for i, l := range lines {
+			f := strings.Split(l, ",")
+			if len(f) > 5 && f[3] == "6100" && f[4] == "WELD" && f[2] >= "2025-07" {
+				f[5] = "4830.00"
+				lines[i], changed = strings.Join(f, ","), changed+1
+			}
+		}
+		if changed == 0 {
+			t.Fatalf("no welding bay rent from 2025-07 in %s", name)
+		}
+		if err := os.WriteFile(path, []byte(strings.Join(lines, "\n")), 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	mustRun(t, "--config", cfg, "sync")
+	mustRun(t, "--config", cfg, "analyze")
+	if n := review(); n != 1 {
+		t.Fatalf("%d pin_review alerts after the rent rose 15 %%, want 1", n)
+	}
+	list := mustRun(t, "--config", cfg, "alerts", "list", "--kind", "pin_review")
+	if !strings.Contains(list, "6100/WELD Rent: the data contradict the pinned formula (pinned 4200.00, the data say 4830.00 over 12 periods)") {
+		t.Errorf("alerts list --kind pin_review:\n%s", list)
+	}
+	// Unpinned, the contradiction resolves.
+	mustRun(t, "--config", cfg, "unpin", "6100/WELD", "--reason", "new lease", "--by", "ana")
+	mustRun(t, "--config", cfg, "analyze")
+	if n := review(); n != 0 {
+		t.Errorf("%d pin_review alerts after the unpin, want 0", n)
+	}
+
+	// A pin whose last period has passed: run a year later.
+	mustRun(t, "--config", cfg, "pin", "6100/PAINT", "--class", "fixed", "--fixed", "3100", "--until", "2027-03", "--reason", "lease to March", "--by", "ana")
+	var out strings.Builder
+	root := newRoot(&out, &out, func() time.Time { return today().AddDate(0, 6, 0) })
+	root.SetArgs([]string{"--config", cfg, "analyze"})
+	if err := root.Execute(); err != nil {
+		t.Fatalf("analyze six months on: %v\n%s", err, out.String())
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE kind = 'pin_review' AND object = '6100/PAINT' AND period = '2027-03' AND status = 'open'`); n != 1 {
+		t.Errorf("%d open pin_review alerts for the expired pin, want 1\n%s", n, out.String())
 	}
 }

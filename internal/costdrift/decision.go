@@ -61,3 +61,17 @@ type Exclusion struct {
 	Reason     string
 	DecisionID int64
 }
+
+// PinTest is the data tested against a pinned formula: the F test that the
+// pinned coefficients are the true ones, on the periods of the object's
+// current behaviour less those excluded, with the data's own estimate of
+// the same model beside it. Contradicted is set once the test stands the
+// portfolio's error control.
+type PinTest struct {
+	Pin          Pin
+	N            int
+	F, P         float64
+	DataFixed    float64
+	DataRate     float64
+	Contradicted bool
+}

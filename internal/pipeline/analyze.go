@@ -376,8 +376,18 @@ func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, gaps []cost
 	if err != nil {
 		return sqlite.AlertChanges{}, err
 	}
+	pins, err := db.Pins(ctx)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	var pinned []costdrift.Behaviour
 	var behaviour, spending, outOfRange []costdrift.Alert
 	err = db.EachCurrentBehaviour(ctx, batchObjects, func(current []costdrift.Behaviour) error {
+		for _, b := range current {
+			if _, ok := pins[b.Object.String()]; ok {
+				pinned = append(pinned, b)
+			}
+		}
 		behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
 		spending = append(spending, alerts.Spending(current, names)...)
 		outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
@@ -387,6 +397,11 @@ func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, gaps []cost
 		return sqlite.AlertChanges{}, err
 	}
 	raised := append(append(append(behaviour, spending...), outOfRange...), gaps...)
+	review, err := reviewPins(ctx, e, db, pins, pinned, names)
+	if err != nil {
+		return sqlite.AlertChanges{}, err
+	}
+	raised = append(raised, review...)
 	states, err := sourceStates(ctx, e, db)
 	if err != nil {
 		return sqlite.AlertChanges{}, err

@@ -6,6 +6,8 @@ import (
 	"math"
 	"slices"
 
+	"github.com/costdrift/costdrift/internal/alerts"
+	"github.com/costdrift/costdrift/internal/analyze"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
@@ -173,4 +175,38 @@ func Decided(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behaviou
 		out[name] = d
 	}
 	return out, nil
+}
+
+// reviewPins tests the data of every object with a pin in force against
+// its pinned formula, weighs the tests across the portfolio at
+// analysis.break_alpha (the level a break must reach), and raises the
+// alerts of the pins the data contradict and of the pins that expired.
+func reviewPins(ctx context.Context, e *Env, db *sqlite.DB, pins map[string]costdrift.Pin, current []costdrift.Behaviour,
+	names map[string]string) ([]costdrift.Alert, error) {
+	if len(pins) == 0 {
+		return nil, nil
+	}
+	excluded, err := db.Exclusions(ctx)
+	if err != nil {
+		return nil, err
+	}
+	now := e.Calendar.Period(e.Now())
+	var tests []costdrift.PinTest
+	for _, b := range current {
+		p := pins[b.Object.String()]
+		if p.Expired(now) || b.Class == costdrift.InsufficientData {
+			continue
+		}
+		x, y, err := pinPoints(ctx, e, db, b, p, excluded[b.Object.String()])
+		if err != nil {
+			return nil, fmt.Errorf("pin of %s: %w", b.Object, err)
+		}
+		t, err := analyze.TestPin(p, x, y)
+		if err != nil {
+			continue // too few periods to test: nothing to say yet
+		}
+		tests = append(tests, t)
+	}
+	analyze.ControlPins(tests, e.Config.Analysis.BreakAlpha)
+	return alerts.PinReview(pins, tests, now, names), nil
 }
