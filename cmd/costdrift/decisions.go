@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/user"
 	"strings"
+	"text/tabwriter"
 
 	"github.com/spf13/cobra"
 
@@ -163,4 +164,86 @@ func (a *app) includeCommand() *cobra.Command {
 	cmd.Flags().StringVar(&reason, "reason", "", "why")
 	cmd.Flags().StringVar(&by, "by", "", "who decides (default: your user name)")
 	return cmd
+}
+
+func (a *app) approveCommand() *cobra.Command {
+	return a.approvalCommand("approve", "Approve an object's new formula: budgets and variances use it from now on",
+		"why (optional)", func(cmd *cobra.Command, e *pipeline.Env, db *sqlite.DB, object, by, reason string) error {
+			return pipeline.Approve(cmd.Context(), e, db, object, by, reason)
+		})
+}
+
+func (a *app) declineCommand() *cobra.Command {
+	return a.approvalCommand("decline", "Decline an object's new formula: budgets keep the approved one until the analysis finds another",
+		"why (required)", func(cmd *cobra.Command, e *pipeline.Env, db *sqlite.DB, object, by, reason string) error {
+			return pipeline.Decline(cmd.Context(), e, db, object, by, reason)
+		})
+}
+
+func (a *app) approvalCommand(name, short, reasonDoc string, do func(*cobra.Command, *pipeline.Env, *sqlite.DB, string, string, string) error) *cobra.Command {
+	var by, reason string
+	cmd := &cobra.Command{
+		Use:   name + " OBJECT",
+		Short: short,
+		Long: short + `.
+With analysis.approval: required, a new class, driver or formula the analysis
+finds waits for approval; ` + "`costdrift proposals`" + ` lists what waits.`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			who, err := decider(by)
+			if err != nil {
+				return err
+			}
+			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
+				if err := do(cmd, e, db, args[0], who, reason); err != nil {
+					return err
+				}
+				past := map[string]string{"approve": "approved", "decline": "declined"}[name]
+				_, err := fmt.Fprintf(a.out, "%s the formula of %s (by %s)\n", past, report.TerminalText(args[0]), report.TerminalText(who))
+				return err
+			})
+		},
+	}
+	cmd.Flags().StringVar(&reason, "reason", "", reasonDoc)
+	cmd.Flags().StringVar(&by, "by", "", "who decides (default: your user name)")
+	return cmd
+}
+
+func (a *app) proposalsCommand() *cobra.Command {
+	return &cobra.Command{
+		Use:   "proposals",
+		Short: "List the formulas that wait for approval, oldest first",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
+				ps, err := pipeline.Proposals(cmd.Context(), db)
+				if err != nil {
+					return fmt.Errorf("proposals: %w", err)
+				}
+				if len(ps) == 0 {
+					note := ""
+					if e.Config.Analysis.Approval != "required" {
+						note = " (analysis.approval is none: budgets use each new formula at once)"
+					}
+					_, err := fmt.Fprintf(a.out, "nothing waits for approval%s\n", note)
+					return err
+				}
+				tw := tabwriter.NewWriter(a.out, 0, 0, 2, ' ', 0)
+				fmt.Fprintf(tw, "OBJECT\tFOUND\tPROPOSED (%s per period)\tAPPROVED\n", e.Currency.Code)
+				for _, p := range ps {
+					approved := "-"
+					if p.Approved != nil {
+						approved = report.Formula(*p.Approved) + " (" + p.State.ApprovedBy + ", " + p.State.ApprovedAt.UTC().Format("2006-01-02") + ")"
+					}
+					fmt.Fprintf(tw, "%s\t%s\t%s\t%s\n", report.TerminalText(p.Current.Object.String()), p.State.ProposedAt.UTC().Format("2006-01-02"),
+						report.TerminalText(report.Formula(p.Current)), report.TerminalText(approved))
+				}
+				if err := tw.Flush(); err != nil {
+					return err
+				}
+				_, err = fmt.Fprintln(a.out, "\n`costdrift approve OBJECT` adopts a proposed formula; `costdrift decline OBJECT --reason TEXT` keeps the approved one.")
+				return err
+			})
+		},
+	}
 }

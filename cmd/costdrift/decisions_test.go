@@ -377,3 +377,134 @@ func TestPinReviewAlerts(t *testing.T) {
 		t.Errorf("%d open pin_review alerts for the expired pin, want 1\n%s", n, out.String())
 	}
 }
+
+// restateWeldRent books the welding bay's rent at amount from 2025-07 on in
+// the demo ledger: a 15 % rise for 4830.00.
+func restateWeldRent(t *testing.T, dir, amount string) {
+	t.Helper()
+	for _, name := range []string{"gl-2025.csv", "gl-2026.csv"} {
+		path := filepath.Join(dir, "data", "gl", name)
+		b, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lines := strings.Split(string(b), "\n")
+		for i, l := range lines {
+			f := strings.Split(l, ",")
+			if len(f) > 5 && f[3] == "6100" && f[4] == "WELD" && f[2] >= "2025-07" {
+				f[5] = amount
+				lines[i] = strings.Join(f, ",")
+			}
+		}
+		if err := os.WriteFile(path, []byte(strings.Join(lines, "\n")), 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
+// With analysis.approval: required, a drift changes nothing in budgets
+// until it is approved, its alert says it awaits approval, a decline keeps
+// the approved formula, and an approval adopts the new one.
+func TestApprovalMode(t *testing.T) {
+	cfg := ownDemo(t)
+	dir := filepath.Dir(cfg)
+	b, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	required := strings.Replace(string(b), "approval: none", "approval: required", 1)
+	if required == string(b) {
+		t.Fatal("the demo config has no approval: none line")
+	}
+	if err := os.WriteFile(cfg, []byte(required), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	weldBudget := func() string {
+		t.Helper()
+		out := mustRun(t, "--config", cfg, "budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv"))
+		for _, l := range strings.Split(out, "\n") {
+			if strings.HasPrefix(l, "6100/WELD") {
+				return strings.Fields(l)[4]
+			}
+		}
+		t.Fatalf("no 6100/WELD line in the budget:\n%s", out)
+		return ""
+	}
+	type approvalRow struct {
+		Object   string
+		Approval *struct {
+			Status             string
+			Approved, Proposed *struct {
+				Formula, By, Reason string
+			}
+		}
+		Effective struct{ Source, Formula string }
+	}
+	weld := func() approvalRow {
+		t.Helper()
+		var rows []approvalRow
+		if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "report", "--format", "json")), &rows); err != nil {
+			t.Fatal(err)
+		}
+		for _, r := range rows {
+			if r.Object == "6100/WELD" {
+				return r
+			}
+		}
+		t.Fatal("no 6100/WELD")
+		return approvalRow{}
+	}
+	if r := weld(); r.Approval == nil || r.Approval.Status != "awaiting approval" || r.Approval.Approved != nil {
+		t.Fatalf("before any approval: %+v", r.Approval)
+	}
+	if out := mustRun(t, "--config", cfg, "proposals"); !strings.Contains(out, "6100/WELD") || !strings.Contains(out, "cost = 4,200.87") {
+		t.Errorf("proposals before any approval:\n%s", out)
+	}
+	mustRun(t, "--config", cfg, "approve", "6100/WELD", "--reason", "matches the lease", "--by", "ana")
+	if _, err := run(t, "--config", cfg, "approve", "6100/WELD"); err == nil || !strings.Contains(err.Error(), "nothing of 6100/WELD waits for approval") {
+		t.Errorf("approving twice: %v", err)
+	}
+	before := weldBudget()
+	if before != "4,200.87" {
+		t.Fatalf("approved budget %s, want the data's 4,200.87", before)
+	}
+
+	restateWeldRent(t, dir, "4830.00")
+	mustRun(t, "--config", cfg, "sync")
+	mustRun(t, "--config", cfg, "analyze")
+	if got := weldBudget(); got != before {
+		t.Errorf("the drift changed the budget before approval: %s, want %s", got, before)
+	}
+	r := weld()
+	if r.Approval == nil || r.Approval.Status != "awaiting approval" || r.Approval.Approved == nil || r.Approval.Approved.By != "ana" ||
+		r.Approval.Proposed == nil || r.Effective.Source != "approved" || r.Effective.Formula != "cost = 4,200.87" {
+		t.Fatalf("after the drift: approval %+v, effective %+v", r.Approval, r.Effective)
+	}
+	alerts := mustRun(t, "--config", cfg, "alerts", "list", "--object", "6100/WELD")
+	if !strings.Contains(alerts, "awaiting approval: budgets keep the approved formula until `costdrift approve 6100/WELD`") {
+		t.Errorf("the drift alert does not say it awaits approval:\n%s", alerts)
+	}
+	if out := mustRun(t, "--config", cfg, "proposals"); !strings.Contains(out, "6100/WELD") || !strings.Contains(out, "cost = 4,830.00") {
+		t.Errorf("proposals after the drift:\n%s", out)
+	}
+
+	mustRun(t, "--config", cfg, "decline", "6100/WELD", "--reason", "booking error, being reversed", "--by", "ben")
+	if got := weldBudget(); got != before {
+		t.Errorf("budget after decline %s, want the approved %s", got, before)
+	}
+	if r := weld(); r.Approval.Status != "declined" || r.Approval.Proposed.By != "ben" || r.Effective.Source != "approved" {
+		t.Errorf("after decline: %+v %+v", r.Approval, r.Effective)
+	}
+	if out := mustRun(t, "--config", cfg, "proposals"); strings.Contains(out, "6100/WELD") {
+		t.Errorf("a declined formula is still proposed:\n%s", out)
+	}
+
+	mustRun(t, "--config", cfg, "approve", "6100/WELD", "--reason", "the new lease after all", "--by", "ana")
+	if got := weldBudget(); got != "4,830.00" {
+		t.Errorf("budget after approval %s, want the new 4,830.00", got)
+	}
+	store := filepath.Join(dir, "costdrift.db")
+	if n := count(t, store, `SELECT COUNT(*) FROM decision_log WHERE object = '6100/WELD' AND kind IN ('approve', 'decline')`); n != 3 {
+		t.Errorf("%d approvals and declines in the log, want 3", n)
+	}
+}

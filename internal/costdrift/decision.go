@@ -75,3 +75,36 @@ type PinTest struct {
 	DataRate     float64
 	Contradicted bool
 }
+
+// ApprovalState is where an object stands with approval (analysis.approval:
+// required): its current behaviour row, the row last approved (0 for
+// none) and the latest approve or decline. A behaviour row is one class,
+// driver and lag, refitted as periods close; the analysis opens a new row
+// at a change of any of them or at a break.
+type ApprovalState struct {
+	Object       string
+	CurrentID    int64
+	CurrentSince string    // first period of the current row
+	ProposedAt   time.Time // when the analysis opened the current row
+
+	ApprovedID     int64 // the behaviour row last approved; 0 for none
+	ApprovedBy     string
+	ApprovedAt     time.Time
+	ApprovedReason string
+
+	LastKind DecisionKind // DecisionApprove, DecisionDecline or "" for neither
+	LastID   int64        // the behaviour row the latest approve or decline was about
+	LastBy   string
+	LastAt   time.Time
+	LastWhy  string
+}
+
+// Waiting reports whether the current row waits for approval: it is
+// neither the row last approved nor one declined.
+func (s ApprovalState) Waiting() bool {
+	return s.CurrentID != s.ApprovedID && !(s.LastKind == DecisionDecline && s.LastID == s.CurrentID)
+}
+
+// KeepsApproved reports whether budgets keep the approved row rather than
+// the current one: an approved row exists and the current row is another.
+func (s ApprovalState) KeepsApproved() bool { return s.ApprovedID != 0 && s.ApprovedID != s.CurrentID }

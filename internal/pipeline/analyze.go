@@ -396,6 +396,9 @@ func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, gaps []cost
 	if err != nil {
 		return sqlite.AlertChanges{}, err
 	}
+	if err := markAwaiting(ctx, e, db, behaviour); err != nil {
+		return sqlite.AlertChanges{}, err
+	}
 	raised := append(append(append(behaviour, spending...), outOfRange...), gaps...)
 	review, err := reviewPins(ctx, e, db, pins, pinned, names)
 	if err != nil {

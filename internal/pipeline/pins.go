@@ -17,6 +17,10 @@ import (
 // about its interval.
 const PinnedNote = "pinned formula: its interval comes from the data's scatter around it"
 
+// ApprovedNote is what a budget or variance line of an approved formula
+// says while a newer one waits for approval or was declined.
+const ApprovedNote = "approved formula: the analysis's newer one awaits approval (costdrift proposals)"
+
 // pinPoints are the periods of an object's current behaviour (Since to
 // Until) with a cost, less the excluded ones: the cost (y) beside the
 // pin's driver at the pin's lag (x, 0 without a driver). A period without
@@ -112,15 +116,28 @@ func pinnedBehaviour(b costdrift.Behaviour, p costdrift.Pin, x, y []float64) cos
 	return nb
 }
 
-// effective puts, for each behaviour whose object has a pin in force in
-// period, the pinned formula in place of the data's; pinned reports which
-// objects it changed.
-func effective(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behaviour, period string) (out []costdrift.Behaviour, pinned map[string]bool, err error) {
+// effective puts in place of each behaviour the formula budgets and
+// variances use in period: the pinned one while a pin is in force; else,
+// with analysis.approval: required, the approved row while the current one
+// waits or was declined (bs must then be current rows, or the rows in
+// force in period); else the data's. source names, by object, where a
+// replaced formula comes from (report.SourcePinned, SourceApproved).
+func effective(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behaviour, period string) (out []costdrift.Behaviour, source map[string]string, err error) {
 	pins, err := db.Pins(ctx)
 	if err != nil {
 		return nil, nil, err
 	}
-	if len(pins) == 0 {
+	var states map[string]costdrift.ApprovalState
+	var approved map[string]costdrift.Behaviour
+	if approvalRequired(e) {
+		if states, err = db.ApprovalStates(ctx); err != nil {
+			return nil, nil, err
+		}
+		if approved, err = db.ApprovedBehaviours(ctx); err != nil {
+			return nil, nil, err
+		}
+	}
+	if len(pins) == 0 && len(approved) == 0 {
 		return bs, nil, nil
 	}
 	excluded, err := db.Exclusions(ctx)
@@ -128,26 +145,37 @@ func effective(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behavi
 		return nil, nil, err
 	}
 	out = make([]costdrift.Behaviour, len(bs))
-	pinned = map[string]bool{}
+	source = map[string]string{}
 	for i, b := range bs {
 		out[i] = b
-		p, ok := pins[b.Object.String()]
-		if !ok || p.Expired(period) {
+		name := b.Object.String()
+		if p, ok := pins[name]; ok && !p.Expired(period) {
+			x, y, err := pinPoints(ctx, e, db, b, p, excluded[name])
+			if err != nil {
+				return nil, nil, fmt.Errorf("pinned formula of %s: %w", b.Object, err)
+			}
+			out[i] = pinnedBehaviour(b, p, x, y)
+			source[name] = report.SourcePinned
 			continue
 		}
-		x, y, err := pinPoints(ctx, e, db, b, p, excluded[b.Object.String()])
-		if err != nil {
-			return nil, nil, fmt.Errorf("pinned formula of %s: %w", b.Object, err)
+		st, ok := states[name]
+		a, has := approved[name]
+		// The row given is the current one when it starts where the
+		// current row starts; an older row in force in a past period was
+		// approved or replaced in its time and stays as it is.
+		if ok && has && st.KeepsApproved() && b.Since == st.CurrentSince {
+			out[i] = a
+			source[name] = report.SourceApproved
 		}
-		out[i] = pinnedBehaviour(b, p, x, y)
-		pinned[b.Object.String()] = true
 	}
-	return out, pinned, nil
+	return out, source, nil
 }
 
+// approvalRequired reports whether analysis.approval is required.
+func approvalRequired(e *Env) bool { return e.Config.Analysis.Approval == "required" }
+
 // Decided reads what the accountant decided about each object, with the
-// formula budgets use (the pinned one while its pin is in force in the
-// current period), for the report and explain.
+// formula budgets use now, for the report and explain.
 func Decided(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behaviour) (map[string]report.Decided, error) {
 	pins, err := db.Pins(ctx)
 	if err != nil {
@@ -158,9 +186,19 @@ func Decided(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behaviou
 		return nil, err
 	}
 	now := e.Calendar.Period(e.Now())
-	eff, pinned, err := effective(ctx, e, db, bs, now)
+	eff, source, err := effective(ctx, e, db, bs, now)
 	if err != nil {
 		return nil, err
+	}
+	var states map[string]costdrift.ApprovalState
+	var approved map[string]costdrift.Behaviour
+	if approvalRequired(e) {
+		if states, err = db.ApprovalStates(ctx); err != nil {
+			return nil, err
+		}
+		if approved, err = db.ApprovedBehaviours(ctx); err != nil {
+			return nil, err
+		}
 	}
 	out := make(map[string]report.Decided, len(bs))
 	for i, b := range bs {
@@ -169,8 +207,18 @@ func Decided(ctx context.Context, e *Env, db *sqlite.DB, bs []costdrift.Behaviou
 		if p, ok := pins[name]; ok {
 			d.Pin = &p
 		}
-		if pinned[name] {
-			d.EffectiveSource = report.SourcePinned
+		if s := source[name]; s != "" {
+			d.EffectiveSource = s
+		}
+		if states != nil {
+			st := states[name]
+			ap := &report.ApprovalInput{State: st}
+			if st.ApprovedID != 0 {
+				if a, ok := approved[name]; ok {
+					ap.Approved = &a
+				}
+			}
+			d.Approval = ap
 		}
 		out[name] = d
 	}

@@ -58,7 +58,82 @@ type Row struct {
 	// fit, oldest first; and the formula budgets and variances use.
 	Pinned          *PinnedFormula   `json:"pinned"`
 	ExcludedPeriods []ExcludedPeriod `json:"excluded_periods"`
+	Approval        *ApprovalView    `json:"approval"` // null while analysis.approval is none
 	Effective       EffectiveFormula `json:"effective"`
+}
+
+// ApprovalView is where an object stands with approval: the formula last
+// approved (null before the first approval) and the analysis's formula
+// when it waits for approval or was declined (null when it is the
+// approved one).
+type ApprovalView struct {
+	Status   string          `json:"status"` // "approved", "awaiting approval" or "declined"
+	Approved *DecidedFormula `json:"approved"`
+	Proposed *DecidedFormula `json:"proposed"`
+}
+
+// DecidedFormula is a formula with the decision or analysis behind it.
+type DecidedFormula struct {
+	Class          costdrift.Class `json:"class"`
+	Driver         *string         `json:"driver"`
+	Lag            *int            `json:"lag"`
+	FixedPerPeriod *float64        `json:"fixed_per_period"`
+	VariableRate   *float64        `json:"variable_rate"`
+	Formula        string          `json:"formula"`
+	By             string          `json:"by,omitempty"`
+	At             string          `json:"at"` // RFC 3339, UTC: approved, declined, or found by the analysis
+	Reason         string          `json:"reason,omitempty"`
+}
+
+// ApprovalInput is an object's approval state with the behaviour row last
+// approved (nil for none), for its row.
+type ApprovalInput struct {
+	State    costdrift.ApprovalState
+	Approved *costdrift.Behaviour
+}
+
+// Approval statuses.
+const (
+	StatusApproved = "approved"
+	StatusWaiting  = "awaiting approval"
+	StatusDeclined = "declined"
+)
+
+// approvalView lays out an object's approval beside its current behaviour.
+func approvalView(b costdrift.Behaviour, in ApprovalInput) *ApprovalView {
+	st := in.State
+	v := &ApprovalView{Status: StatusApproved}
+	switch {
+	case st.Waiting():
+		v.Status = StatusWaiting
+	case st.CurrentID != st.ApprovedID:
+		v.Status = StatusDeclined
+	}
+	if in.Approved != nil {
+		v.Approved = decidedFormula(*in.Approved)
+		v.Approved.By, v.Approved.At, v.Approved.Reason = st.ApprovedBy, st.ApprovedAt.UTC().Format(time.RFC3339), st.ApprovedReason
+	}
+	if v.Status != StatusApproved {
+		v.Proposed = decidedFormula(b)
+		v.Proposed.At = st.ProposedAt.UTC().Format(time.RFC3339)
+		if v.Status == StatusDeclined {
+			v.Proposed.By, v.Proposed.Reason = st.LastBy, st.LastWhy
+		}
+	}
+	return v
+}
+
+func decidedFormula(b costdrift.Behaviour) *DecidedFormula {
+	f := &DecidedFormula{Class: b.Class, Formula: Formula(b)}
+	if b.Driver != "" {
+		d, lag := b.Driver, b.Lag
+		f.Driver, f.Lag = &d, &lag
+	}
+	if b.Class != costdrift.InsufficientData {
+		f.FixedPerPeriod = ptr(round(b.FixedPerPeriod, 2))
+		f.VariableRate = ptr(round(b.VariableRate, 6))
+	}
+	return f
 }
 
 // PinnedFormula is a pin as the report shows it.
@@ -77,8 +152,9 @@ type PinnedFormula struct {
 
 // Where the formula budgets use comes from.
 const (
-	SourceData   = "data"   // the analysis's estimate
-	SourcePinned = "pinned" // the accountant's pin
+	SourceData     = "data"     // the analysis's estimate
+	SourcePinned   = "pinned"   // the accountant's pin
+	SourceApproved = "approved" // the formula last approved, while a newer one waits or was declined
 )
 
 // EffectiveFormula is the formula budgets and variances use, and where it
@@ -110,6 +186,8 @@ type Decided struct {
 	Excluded        []costdrift.Exclusion
 	Effective       costdrift.Behaviour
 	EffectiveSource string
+	// Approval is nil while analysis.approval is none.
+	Approval *ApprovalInput
 }
 
 // Rows turns behaviours into report rows.
@@ -147,6 +225,9 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 			if p.Until != "" {
 				r.Pinned.Until = &p.Until
 			}
+		}
+		if d.Approval != nil {
+			r.Approval = approvalView(b, *d.Approval)
 		}
 		eff, source := d.Effective, d.EffectiveSource
 		if source == "" {
@@ -238,6 +319,13 @@ func Table(w io.Writer, rows []Row, currency string) error {
 			}
 			fmt.Fprintf(w, "  %-12s pinned: %s%s, by %s on %s: %s; %s\n", "", TerminalText(p.Formula), until, TerminalText(p.By), at,
 				TerminalText(p.Reason), use)
+		}
+		if ap := r.Approval; ap != nil && ap.Status != StatusApproved {
+			kept := "budgets use it until it is approved"
+			if ap.Approved != nil {
+				kept = "budgets keep the approved " + TerminalText(ap.Approved.Formula)
+			}
+			fmt.Fprintf(w, "  %-12s %s: %s (costdrift approve or decline %s); %s\n", "", ap.Status, TerminalText(r.Formula), TerminalText(r.Object), kept)
 		}
 		if len(r.ExcludedPeriods) > 0 {
 			periods := make([]string, len(r.ExcludedPeriods))

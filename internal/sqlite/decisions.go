@@ -254,3 +254,94 @@ func (db *DB) AlertNotes(ctx context.Context, id int64) ([]costdrift.Decision, e
 	}
 	return out, rows.Err()
 }
+
+// ErrNothingWaiting is returned by Approve and Decline when the object's
+// current behaviour is already the approved one (or was declined).
+var ErrNothingWaiting = errors.New("nothing waits for approval")
+
+// ApprovalStates returns, for every object with a current behaviour, where
+// it stands with approval.
+func (db *DB) ApprovalStates(ctx context.Context) (map[string]costdrift.ApprovalState, error) {
+	rows, err := db.q().QueryContext(ctx, `SELECT b.object, b.id, COALESCE(b.since, ''), b.valid_from_run_at,
+			COALESCE(a.behaviour_id, 0), COALESCE(a.made_by, ''), COALESCE(a.made_at, ''), COALESCE(a.reason, ''),
+			COALESCE(c.kind, ''), COALESCE(c.behaviour_id, 0), COALESCE(c.made_by, ''), COALESCE(c.made_at, ''), COALESCE(c.reason, '')
+		FROM behaviour_history b
+		LEFT JOIN approved_formulas a ON a.object = b.object
+		LEFT JOIN current_approvals c ON c.object = b.object
+		WHERE b.valid_to_run_at IS NULL`)
+	if err != nil {
+		return nil, fmt.Errorf("read approvals: %w", err)
+	}
+	defer rows.Close()
+	out := map[string]costdrift.ApprovalState{}
+	for rows.Next() {
+		var s costdrift.ApprovalState
+		var proposed, approvedAt, lastKind, lastAt string
+		if err := rows.Scan(&s.Object, &s.CurrentID, &s.CurrentSince, &proposed, &s.ApprovedID, &s.ApprovedBy, &approvedAt, &s.ApprovedReason,
+			&lastKind, &s.LastID, &s.LastBy, &lastAt, &s.LastWhy); err != nil {
+			return nil, fmt.Errorf("read approvals: %w", err)
+		}
+		s.ProposedAt, _ = time.Parse(time.RFC3339, proposed)
+		s.ApprovedAt, _ = time.Parse(time.RFC3339, approvedAt)
+		s.LastAt, _ = time.Parse(time.RFC3339, lastAt)
+		s.LastKind = costdrift.DecisionKind(lastKind)
+		out[s.Object] = s
+	}
+	return out, rows.Err()
+}
+
+// ApprovedBehaviours returns the behaviour rows last approved, by object,
+// as the store holds them (a row closed since holds its last formula).
+func (db *DB) ApprovedBehaviours(ctx context.Context) (map[string]costdrift.Behaviour, error) {
+	bs, err := db.behaviours(ctx, `id IN (SELECT behaviour_id FROM approved_formulas)`)
+	if err != nil {
+		return nil, fmt.Errorf("read approved formulas: %w", err)
+	}
+	out := make(map[string]costdrift.Behaviour, len(bs))
+	for _, b := range bs {
+		out[b.Object.String()] = b
+	}
+	return out, nil
+}
+
+// Approve records that object's current behaviour is approved (kind
+// approve) or declined (kind decline). It returns ErrNotAnalysed for an
+// object without a current behaviour and ErrNothingWaiting when the
+// current behaviour is already approved, or, to decline, already declined.
+func (db *DB) Approve(ctx context.Context, object string, kind costdrift.DecisionKind, by, reason string, at time.Time) error {
+	return db.inTx(ctx, func(tx *sql.Tx) error {
+		var id int64
+		var class string
+		var driver sql.NullString
+		var lag sql.NullInt64
+		var fixed, rate sql.NullFloat64
+		err := tx.QueryRowContext(ctx, `SELECT id, class, driver, lag, fixed_per_period, variable_rate FROM behaviour_history
+			WHERE object = ? AND valid_to_run_at IS NULL`, object).Scan(&id, &class, &driver, &lag, &fixed, &rate)
+		if errors.Is(err, sql.ErrNoRows) {
+			return ErrNotAnalysed
+		}
+		if err != nil {
+			return err
+		}
+		var approved, lastID int64
+		var lastKind string
+		if err := tx.QueryRowContext(ctx, `SELECT COALESCE((SELECT behaviour_id FROM approved_formulas WHERE object = ?), 0),
+			COALESCE((SELECT kind FROM current_approvals WHERE object = ?), ''),
+			COALESCE((SELECT behaviour_id FROM current_approvals WHERE object = ?), 0)`, object, object, object).Scan(&approved, &lastKind, &lastID); err != nil {
+			return err
+		}
+		declined := lastKind == string(costdrift.DecisionDecline) && lastID == id
+		if approved == id || (kind == costdrift.DecisionDecline && declined) {
+			return ErrNothingWaiting // a declined formula may still be approved
+		}
+		payload, _ := json.Marshal(map[string]any{"behaviour_id": id, "class": class, "driver": driver.String, "lag": lag.Int64,
+			"fixed": fixed.Float64, "rate": rate.Float64})
+		last, err := latestDecision(ctx, tx, object, "", costdrift.DecisionApprove, costdrift.DecisionDecline)
+		if err != nil {
+			return err
+		}
+		_, err = insertDecision(ctx, tx, costdrift.Decision{At: at, By: by, Object: object, Kind: kind, Payload: string(payload),
+			Reason: reason, Replaces: last.ID})
+		return err
+	})
+}
