@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 )
@@ -507,4 +508,90 @@ func TestApprovalMode(t *testing.T) {
 	if n := count(t, store, `SELECT COUNT(*) FROM decision_log WHERE object = '6100/WELD' AND kind IN ('approve', 'decline')`); n != 3 {
 		t.Errorf("%d approvals and declines in the log, want 3", n)
 	}
+}
+
+// Decisions made from other processes while `costdrift run` ticks every
+// second are all kept, none lost to another: each worker records
+// decisions for three seconds while the daemon syncs and refits (an
+// exclusion changes an object's input, so each cycle writes), and every
+// decision that reported success is in the store, each replacing the one
+// before it on its object exactly once.
+func TestDecisionsWhileTheDaemonRuns(t *testing.T) {
+	cfg := ownDemo(t)
+	store := filepath.Join(filepath.Dir(cfg), "costdrift.db")
+	daemonConfig(t, cfg, "")
+	d, logs := startDaemon(t, cfg)
+	waitFor(t, 10*time.Second, "a first cycle", func() bool { return logs.count("cycle finished") >= 1 }, logs)
+	cyclesBefore := logs.count("cycle finished")
+
+	type worker struct {
+		args func(i int) []string
+		ok   int
+		errs []string
+	}
+	pin := func(w int) func(i int) []string {
+		return func(i int) []string {
+			return []string{"--config", cfg, "pin", "6200/WELD", "--class", "mixed", "--driver", "machine_hours",
+				"--fixed", fmt.Sprintf("%d.00", 1800+100*w+i), "--rate", "2.35", "--reason", fmt.Sprintf("worker %d, pin %d", w, i), "--by", fmt.Sprintf("w%d", w)}
+		}
+	}
+	workers := []*worker{
+		{args: pin(0)},
+		{args: pin(1)},
+		{args: func(i int) []string {
+			verb := []string{"exclude", "include"}[i%2]
+			return []string{"--config", cfg, verb, "6100/WELD", "--period", "2024-05", "--reason", fmt.Sprintf("%s %d", verb, i), "--by", "w2"}
+		}},
+	}
+	deadline := time.Now().Add(3 * time.Second)
+	var wg sync.WaitGroup
+	for _, w := range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := 0; time.Now().Before(deadline); i++ {
+				out, err := command(w.args(i)...).CombinedOutput()
+				if err != nil {
+					w.errs = append(w.errs, fmt.Sprintf("%v: %s", err, out))
+					continue
+				}
+				w.ok++
+			}
+		}()
+	}
+	wg.Wait()
+	waitFor(t, 5*time.Second, "a cycle after the decisions", func() bool { return logs.count("cycle finished") > cyclesBefore+1 }, logs)
+	stop(t, d, logs)
+	for i, w := range workers {
+		if len(w.errs) > 0 {
+			t.Errorf("worker %d: %d of its decisions failed, the first: %s", i, len(w.errs), w.errs[0])
+		}
+		if w.ok < 3 {
+			t.Errorf("worker %d made only %d decisions in three seconds", i, w.ok)
+		}
+	}
+	if n := logs.count("level=ERROR"); n != 0 {
+		t.Errorf("%d errors in the daemon's log\n%s", n, logs)
+	}
+	pins := workers[0].ok + workers[1].ok
+	for _, c := range []struct {
+		what  string
+		where string
+		made  int
+	}{
+		{"pins of 6200/WELD", `object = '6200/WELD' AND kind IN ('pin', 'unpin')`, pins},
+		{"exclusions and inclusions of 6100/WELD 2024-05", `object = '6100/WELD' AND period = '2024-05'`, workers[2].ok},
+	} {
+		if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE `+c.where); n != c.made {
+			t.Errorf("%s: %d stored, %d made", c.what, n, c.made)
+		}
+		// A lost update would show as two decisions replacing the same one.
+		if n := count(t, store, `SELECT COUNT(DISTINCT replaces) FROM decisions WHERE `+c.where); n != c.made-1 {
+			t.Errorf("%s: %d distinct decisions replaced among %d, want %d", c.what, n, c.made, c.made-1)
+		}
+		if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE replaces IS NULL AND `+c.where); n != 1 {
+			t.Errorf("%s: %d replace nothing, want the first alone", c.what, n)
+		}
+	}
+	t.Logf("%d pins and %d exclusions or inclusions while the daemon ran %d cycles", pins, workers[2].ok, logs.count("cycle finished")-cyclesBefore)
 }
