@@ -126,6 +126,17 @@ func TestExcludedPeriodsAreNotFitted(t *testing.T) {
 	if strings.Contains(text, "changed since analysis run") {
 		t.Errorf("explain takes the excluded periods for a change in the ledger:\n%s", text)
 	}
+	svg := filepath.Join(t.TempDir(), "weld.svg")
+	mustRun(t, "--config", cfg, "explain", "6200/WELD", "--chart", svg)
+	b, err := os.ReadFile(svg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"excluded from the fit", "2025-03", "2025-07"} {
+		if !strings.Contains(string(b), want) {
+			t.Errorf("the chart lacks %q", want)
+		}
+	}
 	mustRun(t, "--config", cfg, "include", "6200/WELD", "--period", "2025-03,2025-07", "--by", "ana")
 	mustRun(t, "--config", cfg, "analyze")
 	if again := explain(); again.N != 36 || again.Fixed != before.Fixed || again.Rate != before.Rate || len(again.Excluded) != 0 {

@@ -80,9 +80,6 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: chart: %w", object, err)
 	}
-	for _, x := range excluded {
-		sc.Excluded = append(sc.Excluded, x.Period)
-	}
 	return ex, &sc, nil
 }
 
@@ -374,7 +371,7 @@ func pointsNote(oa sqlite.ObjectAnalysis, pts []chart.Point, excluded []costdrif
 
 // scatter builds the chart of cost against the chosen driver: the periods,
 // the formula across the relevant range (or the step levels), the high-low
-// points and the outliers.
+// points, the outliers and the periods the accountant left out of the fit.
 func scatter(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysis, pts []chart.Point, accountName, formula string, maxLag int) (chart.Scatter, error) {
 	b := oa.Behaviour
 	if len(pts) == 0 {
@@ -389,6 +386,13 @@ func scatter(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysi
 		XLabel: report.DriverLabel(b.Driver, b.Lag),
 		YLabel: "cost per period (" + e.Currency.Code + ")",
 		Points: pts, RangeMin: b.RangeMin, RangeMax: b.RangeMax,
+	}
+	excluded, err := db.Exclusions(ctx)
+	if err != nil {
+		return s, err
+	}
+	for _, x := range excluded[b.Object.String()] {
+		s.Excluded = append(s.Excluded, x.Period)
 	}
 	if b.Unit != "" && !strings.Contains(strings.ToLower(s.XLabel), strings.ToLower(b.Unit)) {
 		s.XLabel += " (" + b.Unit + ")"

@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"context"
 	"math"
 	"testing"
 
@@ -58,5 +59,35 @@ func TestPinnedBudgetByHand(t *testing.T) {
 	}
 	if est.Value != 2600 || math.Abs(est.SE-9.393489) > 1e-6 || est.DF != 3 {
 		t.Errorf("pinned fixed: %.2f, se %.6f, df %g; want 2600, 9.393489, 3", est.Value, est.SE, est.DF)
+	}
+}
+
+// The chart explain draws and the one an alert's mail carries (both made
+// by scatter) mark the periods the accountant left out of the fit.
+func TestChartsMarkExcludedPeriods(t *testing.T) {
+	cfg, _ := demoStore(t)
+	e, db := openDemo(t, cfg)
+	ctx := context.Background()
+	if err := db.Exclude(ctx, "6200/WELD", []string{"2025-03"}, "ana", "meter fault", today()); err != nil {
+		t.Fatal(err)
+	}
+	oa, err := db.ObjectAnalysis(ctx, "6200/WELD")
+	if err != nil {
+		t.Fatal(err)
+	}
+	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, err := scatter(ctx, e, db, oa, pts, "Power", "formula", 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(s.Excluded) != 1 || s.Excluded[0] != "2025-03" {
+		t.Errorf("chart's excluded periods %v, want [2025-03]", s.Excluded)
+	}
+	al := costdrift.Alert{Kind: costdrift.AlertSpendingOutlier, Object: "6200/WELD"}
+	if png := alertChart(ctx, e, db, db.CostPerPeriod, al, oa, map[string]string{}); len(png) == 0 {
+		t.Error("no chart for the alert's mail")
 	}
 }

@@ -234,6 +234,9 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 			eff, source = b, SourceData
 		}
 		r.Effective = EffectiveFormula{Source: source, Class: eff.Class, Formula: Formula(eff)}
+		if source == SourcePinned && d.Pin != nil {
+			r.Effective.Formula = pinFormula(b, *d.Pin) // a pinned step has one level, not the data's steps
+		}
 		if eff.Driver != "" {
 			drv, lag := eff.Driver, eff.Lag
 			r.Effective.Driver, r.Effective.Lag = &drv, &lag
