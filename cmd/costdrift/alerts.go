@@ -104,10 +104,22 @@ func (a *app) alertsShowCommand() *cobra.Command {
 				if err != nil {
 					return err
 				}
-				if format == "json" {
-					return encodeJSON(a.out, newAlertJSON(alert))
+				notes, err := db.AlertNotes(cmd.Context(), id)
+				if err != nil {
+					return err
 				}
-				return writeAlertDetail(a.out, alert)
+				if format == "json" {
+					j := newAlertJSON(alert)
+					j.Notes = make([]noteJSON, 0, len(notes))
+					for _, n := range notes {
+						j.Notes = append(j.Notes, noteJSON{By: n.By, At: n.At.UTC().Format(time.RFC3339), Text: n.Reason})
+					}
+					return encodeJSON(a.out, j)
+				}
+				if err := writeAlertDetail(a.out, alert); err != nil {
+					return err
+				}
+				return writeNotes(a.out, notes)
 			})
 		},
 	}
@@ -116,7 +128,7 @@ func (a *app) alertsShowCommand() *cobra.Command {
 }
 
 func (a *app) alertsAckCommand() *cobra.Command {
-	var until string
+	var until, note, by string
 	cmd := &cobra.Command{
 		Use:   "ack ID",
 		Short: "Acknowledge an alert, until a period has passed or until its condition changes",
@@ -124,12 +136,25 @@ func (a *app) alertsAckCommand() *cobra.Command {
 evaluation after that period if its condition still holds; without it, it
 stays acknowledged until the condition clears (a condition that comes back
 after clearing is open again). Either way it opens again at once if it
-escalates.`,
+escalates.
+
+--note adds a line to the alert's thread, with who wrote it and when;
+` + "`costdrift alerts show ID`" + ` prints the thread.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			id, err := parseAlertID(args[0])
 			if err != nil {
 				return err
+			}
+			noted := cmd.Flags().Changed("note")
+			if noted && strings.TrimSpace(note) == "" {
+				return errors.New("--note is empty: say what you found or decided")
+			}
+			who := ""
+			if noted {
+				if who, err = decider(by); err != nil {
+					return err
+				}
 			}
 			return a.withStoreToWrite(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
 				if until != "" {
@@ -142,6 +167,11 @@ escalates.`,
 						return noAlert(id)
 					}
 					return err
+				}
+				if noted {
+					if err := db.NoteAlert(cmd.Context(), id, who, strings.TrimSpace(note), e.Now()); err != nil {
+						return fmt.Errorf("alert %d: note: %w", id, err)
+					}
 				}
 				alert, err := readAlert(cmd.Context(), db, id)
 				if err != nil {
@@ -158,6 +188,8 @@ escalates.`,
 		},
 	}
 	cmd.Flags().StringVar(&until, "until", "", "acknowledge until this `PERIOD` has passed (default: until the condition changes)")
+	cmd.Flags().StringVar(&note, "note", "", "add this `TEXT` to the alert's thread")
+	cmd.Flags().StringVar(&by, "by", "", "who writes the note (default: your user name)")
 	return cmd
 }
 
@@ -210,6 +242,29 @@ type alertJSON struct {
 	ResolvedAt  *string        `json:"resolved_at"`
 	Fingerprint string         `json:"fingerprint"`
 	Evidence    map[string]any `json:"evidence"`
+	// Notes is the alert's thread, oldest first; `alerts show` only.
+	Notes []noteJSON `json:"notes,omitempty"`
+}
+
+// noteJSON is one note on an alert.
+type noteJSON struct {
+	By   string `json:"by"`
+	At   string `json:"at"` // RFC 3339, UTC
+	Text string `json:"text"`
+}
+
+// writeNotes prints an alert's thread under its evidence.
+func writeNotes(w io.Writer, notes []costdrift.Decision) error {
+	if len(notes) == 0 {
+		return nil
+	}
+	fmt.Fprintln(w, "\nNotes")
+	for _, n := range notes {
+		if _, err := fmt.Fprintf(w, "  %s  %s: %s\n", clockTime(n.At), report.TerminalText(n.By), report.TerminalText(n.Reason)); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 func newAlertJSON(a costdrift.Alert) alertJSON {

@@ -306,7 +306,7 @@ func TestAlertsErrors(t *testing.T) {
 		{"bad format", []string{"alerts", "list", "--format", "html"}, `--format must be table or json, not "html"`},
 		{"bad show format", []string{"alerts", "show", "1", "--format", "csv"}, `--format must be table or json, not "csv"`},
 		{"bad kind", []string{"alerts", "list", "--kind", "drift"},
-			`--kind must be one of reclassified, driver_changed, fixed_shift, rate_shift, spending_outlier, out_of_range, data_gap, stale_source, source_failure, data_quality, not "drift"`},
+			`--kind must be one of reclassified, driver_changed, fixed_shift, rate_shift, spending_outlier, out_of_range, data_gap, stale_source, source_failure, data_quality, pin_review, not "drift"`},
 		{"bad severity", []string{"alerts", "list", "--min-severity", "high"}, `--min-severity must be info, warning or critical, not "high"`},
 	}
 	for _, tc := range tests {

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -14,6 +15,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/atomicfile"
 	"github.com/costdrift/costdrift/internal/config"
+	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/demo"
 	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/report"
@@ -74,13 +76,16 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	if _, err := pipeline.Sync(ctx, e, db, func(r pipeline.SourceResult) { printRun(a.out, db.Path(), r) }); err != nil {
 		return err
 	}
+	if err := a.demoDecisions(cmd, e, db); err != nil {
+		return err
+	}
 	res, err := a.analyze(cmd, e, db, false)
 	if err != nil {
 		return err
 	}
 	run := res.Run
 	fmt.Fprintln(a.out)
-	if err := writeReport(ctx, db, "table", e.Currency.Code, a.out); err != nil {
+	if err := writeReport(ctx, e, db, "table", a.out); err != nil {
 		return err
 	}
 
@@ -135,6 +140,53 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT driver, lag, model, round(r2, 3) AS r2, slope_adjusted_p FROM fits WHERE object = '6200/WELD' AND model = 'linear' ORDER BY press LIMIT 5\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, amount, driver_value FROM cost_with_drivers WHERE account = '5100' AND driver = 'frames_built' LIMIT 6\"\n", db.Path())
 	fmt.Fprintf(a.out, "  sqlite3 -header -column %s \"SELECT period, cost_center, round(budget) AS budget, round(low95) AS low95, round(high95) AS high95 FROM flexible_budget WHERE line <> 'object'\"\n", db.Path())
+	return nil
+}
+
+// demoAccountant is who the demo's decisions are recorded under.
+const demoAccountant = "demo"
+
+// demoDecisions records what the company's accountant knows and the ledger
+// does not (README "The accountant's decisions"), before the analysis: the
+// assembly hall's rent is fixed by its lease at the designed amount, so it
+// is pinned there; the paint shop's rent carries a one-off service-charge
+// true-up in one period (the one farthest from its lease amount), which is
+// left out of its fit.
+func (a *app) demoDecisions(cmd *cobra.Command, e *pipeline.Env, db *sqlite.DB) error {
+	ctx := cmd.Context()
+	lease := map[string]float64{}
+	for _, x := range demo.Expectations() {
+		if x.Account == "6100" {
+			lease[x.Account+"/"+x.CostCenter] = x.Fixed
+		}
+	}
+	pinned, excluded := "6100/ASSY", "6100/PAINT"
+	amount := fmt.Sprintf("%.2f", lease[pinned])
+	reason := "lease contract: " + report.Number(lease[pinned], 2) + " a month"
+	if _, err := pipeline.Pin(ctx, e, db, pipeline.PinInput{Object: pinned, Class: string(costdrift.Fixed), Fixed: amount,
+		Reason: reason, By: demoAccountant}); err != nil {
+		return fmt.Errorf("demo: %w", err)
+	}
+	periods, costs, err := pipeline.ObjectPeriods(ctx, e, db, excluded)
+	if err != nil {
+		return fmt.Errorf("demo: %w", err)
+	}
+	period, far := "", -1.0
+	for i, p := range periods {
+		if d := math.Abs(costs[i] - lease[excluded]); d > far {
+			period, far = p, d
+		}
+	}
+	if period == "" {
+		return fmt.Errorf("demo: %s has no cost in the window", excluded)
+	}
+	why := "service-charge true-up for the prior year, booked once"
+	if err := pipeline.Exclude(ctx, e, db, excluded, []string{period}, demoAccountant, why); err != nil {
+		return fmt.Errorf("demo: %w", err)
+	}
+	fmt.Fprintf(a.out, "\nThe accountant's decisions, recorded with who, when and why (README, The accountant's decisions):\n")
+	fmt.Fprintf(a.out, "  costdrift pin %s --class fixed --fixed %s --reason %q --by %s\n", pinned, amount, reason, demoAccountant)
+	fmt.Fprintf(a.out, "  costdrift exclude %s --period %s --reason %q --by %s\n\n", excluded, period, why, demoAccountant)
 	return nil
 }
 

@@ -23,7 +23,7 @@ func (a *app) reportCommand() *cobra.Command {
 				return fmt.Errorf("--format must be table or json, not %q", format)
 			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				return writeReport(cmd.Context(), db, format, e.Currency.Code, a.out)
+				return writeReport(cmd.Context(), e, db, format, a.out)
 			})
 		},
 	}
@@ -31,7 +31,7 @@ func (a *app) reportCommand() *cobra.Command {
 	return cmd
 }
 
-func writeReport(ctx context.Context, db *sqlite.DB, format, currency string, out io.Writer) error {
+func writeReport(ctx context.Context, e *pipeline.Env, db *sqlite.DB, format string, out io.Writer) error {
 	bs, err := db.CurrentBehaviour(ctx)
 	if err != nil {
 		return fmt.Errorf("report: %w", err)
@@ -44,9 +44,13 @@ func writeReport(ctx context.Context, db *sqlite.DB, format, currency string, ou
 	if err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
-	rows := report.Rows(bs, names)
+	decided, err := pipeline.Decided(ctx, e, db, bs)
+	if err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	rows := report.DecidedRows(bs, names, decided)
 	if format == "json" {
 		return report.JSON(out, rows)
 	}
-	return report.Table(out, rows, currency)
+	return report.Table(out, rows, e.Currency.Code)
 }

@@ -9,10 +9,11 @@ import (
 )
 
 // AnalysisKinds are the kinds evaluated after every analysis: behaviour
-// changes, spending, activity range, data gaps, stale sources and data
-// quality.
+// changes, spending, activity range, data gaps, stale sources, data
+// quality and pinned formulas.
 var AnalysisKinds = append(append([]costdrift.AlertKind{}, BehaviourKinds...),
-	costdrift.AlertSpendingOutlier, costdrift.AlertOutOfRange, costdrift.AlertDataGap, costdrift.AlertStaleSource, costdrift.AlertDataQuality)
+	costdrift.AlertSpendingOutlier, costdrift.AlertOutOfRange, costdrift.AlertDataGap, costdrift.AlertStaleSource, costdrift.AlertDataQuality,
+	costdrift.AlertPinReview)
 
 // OutOfRangeMargin: activity more than this share beyond the relevant range
 // (of the range's end) puts a formula outside what it was fitted on.

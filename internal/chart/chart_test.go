@@ -727,3 +727,35 @@ func TestFormatGrouped(t *testing.T) {
 		}
 	}
 }
+
+// TestExcludedPeriodsDrawnApart: a period the accountant left out of the
+// fit is drawn in its own colour and marker, labelled with its period and
+// named in the legend, and is not counted among the fitted periods.
+func TestExcludedPeriodsDrawnApart(t *testing.T) {
+	s := line()
+	s.Excluded = []string{"2024-02"}
+	b := renderSVG(t, s)
+	texts, _ := svgTexts(t, b)
+	has := map[string]bool{}
+	for _, txt := range texts {
+		has[txt] = true
+	}
+	for _, want := range []string{"2024-02", "excluded from the fit", "3 periods"} {
+		if !has[want] {
+			t.Errorf("no text %q; texts: %q", want, texts)
+		}
+	}
+	if has["4 periods"] {
+		t.Errorf("the legend counts the excluded period among the fitted ones; texts: %q", texts)
+	}
+	if !strings.Contains(strings.ToUpper(string(b)), hexColour(colExcluded)) {
+		t.Errorf("nothing drawn in the excluded colour %s", hexColour(colExcluded))
+	}
+	var buf bytes.Buffer
+	if err := line().WritePNG(&buf, 720, 480); err != nil {
+		t.Fatal(err)
+	}
+	if got := countColour(checkPNG(t, buf.Bytes(), 720, 480), colExcluded); got != 0 {
+		t.Errorf("%d pixels in the excluded colour on a chart without exclusions", got)
+	}
+}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"slices"
 	"strconv"
 
 	"gonum.org/v1/plot"
@@ -29,6 +30,7 @@ var (
 	colPrevious = rgb(0x8c, 0x86, 0x7a)
 	colOutlier  = rgb(0xb4, 0x4b, 0x1e)
 	colHighLow  = rgb(0x4a, 0x4a, 0x4a)
+	colExcluded = rgb(0x7a, 0x5c, 0x8e)
 	colHalo     = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xd0}
 )
 
@@ -254,13 +256,17 @@ func (s Scatter) addFormulas(p *plot.Plot, lo, hi float64) []legendItem {
 // returns their legend entries and the labels of the points that carry one.
 func (s Scatter) addPoints(p *plot.Plot) ([]legendItem, []note) {
 	var markers []legendItem
-	var plain, outliers plotter.XYs
+	var plain, outliers, excluded plotter.XYs
 	var notes []note
 	for i, pt := range s.Points {
 		xy := plotter.XY{X: pt.Activity, Y: pt.Cost}
-		if pt.Outlier {
+		left := slices.Contains(s.Excluded, pt.Period)
+		switch {
+		case left:
+			excluded = append(excluded, xy)
+		case pt.Outlier:
 			outliers = append(outliers, xy)
-		} else {
+		default:
 			plain = append(plain, xy)
 		}
 		var tag string
@@ -269,7 +275,7 @@ func (s Scatter) addPoints(p *plot.Plot) ([]legendItem, []note) {
 		} else if s.HighLow != nil && i == s.HighLow[1] {
 			tag = "low"
 		}
-		if period := clean(pt.Period); (pt.Outlier || tag != "") && (period != "" || tag != "") {
+		if period := clean(pt.Period); (pt.Outlier || left || tag != "") && (period != "" || tag != "") {
 			label := period
 			if tag != "" {
 				label = joinNonEmpty(tag, period)
@@ -288,6 +294,11 @@ func (s Scatter) addPoints(p *plot.Plot) ([]legendItem, []note) {
 		x := mustScatter(outliers, draw.GlyphStyle{Color: colOutlier, Radius: 3.6, Shape: crossGlyph{width: 1.5}})
 		p.Add(x)
 		markers = append(markers, legendItem{"outlier", x})
+	}
+	if len(excluded) > 0 {
+		x := mustScatter(excluded, draw.GlyphStyle{Color: colExcluded, Radius: 3.4, Shape: draw.SquareGlyph{}})
+		p.Add(x)
+		markers = append(markers, legendItem{"excluded from the fit", x})
 	}
 	if s.HighLow != nil {
 		h, l := s.Points[s.HighLow[0]], s.Points[s.HighLow[1]]

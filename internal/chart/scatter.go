@@ -84,6 +84,9 @@ type Scatter struct {
 	Steps          []StepLevel
 	Previous       *Line
 	HighLow        *[2]int
+	// Excluded lists the periods of Points left out of the fit by the
+	// accountant's decision: drawn as hollow squares, with their period.
+	Excluded []string
 
 	RangeMin, RangeMax float64
 }

@@ -103,6 +103,10 @@ type Analysis struct {
 	// counts; BootstrapReplicates the resamples of its p-value.
 	BreakAlpha          float64 `mapstructure:"break_alpha"`
 	BootstrapReplicates int     `mapstructure:"bootstrap_replicates"`
+	// Approval is "required" when a new class, driver or formula must be
+	// approved before budgets and variances use it, "none" otherwise
+	// (README, The accountant's decisions).
+	Approval string `mapstructure:"approval"`
 	// MaxRejectedShare is the share of a source's rows in a period that may
 	// be rejected before analysis holds back (README, When a sync goes wrong).
 	MaxRejectedShare float64 `mapstructure:"max_rejected_share"`

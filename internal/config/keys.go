@@ -69,6 +69,8 @@ var keys = []key{
 		doc: "a change in behaviour counts at this level (0: no break test)"},
 	{name: "analysis.bootstrap_replicates", def: 999, check: intFrom(99, 99999, ""),
 		doc: "resamples behind a break's p-value"},
+	{name: "analysis.approval", def: "none", check: oneOf("none", "required"),
+		doc: "none | required: a new class, driver or formula waits for costdrift approve before budgets use it"},
 	{name: "analysis.max_rejected_share", def: 0.01, check: floatIn(0, 1, false, "(0 holds back at any reject)"),
 		doc: "a source period with more of its rows rejected is held back"},
 

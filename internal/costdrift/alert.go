@@ -7,8 +7,9 @@ import (
 	"time"
 )
 
-// AlertKind names the condition an alert reports. The ten kinds are fixed
-// by the product: each is a rule that reads what sync and analysis stored.
+// AlertKind names the condition an alert reports. The eleven kinds are
+// fixed by the product: each is a rule that reads what sync and analysis
+// stored.
 type AlertKind string
 
 const (
@@ -22,12 +23,14 @@ const (
 	AlertStaleSource     AlertKind = "stale_source"     // a source has delivered nothing new for too long
 	AlertSourceFailure   AlertKind = "source_failure"   // a source could not be read
 	AlertDataQuality     AlertKind = "data_quality"     // too many of a source's rows in a period were rejected
+	AlertPinReview       AlertKind = "pin_review"       // the data contradict a pinned formula, or its pin expired
 )
 
-// AlertKinds returns the ten kinds in the order the product lists them.
+// AlertKinds returns the eleven kinds in the order the product lists them.
 func AlertKinds() []AlertKind {
 	return []AlertKind{AlertReclassified, AlertDriverChanged, AlertFixedShift, AlertRateShift,
-		AlertSpendingOutlier, AlertOutOfRange, AlertDataGap, AlertStaleSource, AlertSourceFailure, AlertDataQuality}
+		AlertSpendingOutlier, AlertOutOfRange, AlertDataGap, AlertStaleSource, AlertSourceFailure, AlertDataQuality,
+		AlertPinReview}
 }
 
 // Valid reports whether k is one of AlertKinds.
@@ -106,7 +109,7 @@ type Alert struct {
 func (a Alert) Validate() error {
 	switch {
 	case !a.Kind.Valid():
-		return fmt.Errorf("alert kind %q is not one of the ten kinds", a.Kind)
+		return fmt.Errorf("alert kind %q is not one of the eleven kinds", a.Kind)
 	case !a.Severity.Valid():
 		return fmt.Errorf("alert %s on %s: severity %q is not info, warning or critical", a.Kind, a.Object, a.Severity)
 	case a.Object == "":

@@ -46,8 +46,8 @@ func TestSeverityRank(t *testing.T) {
 }
 
 func TestAlertKinds(t *testing.T) {
-	// The ten kinds the product fixes, in its order.
-	want := "reclassified driver_changed fixed_shift rate_shift spending_outlier out_of_range data_gap stale_source source_failure data_quality"
+	// The eleven kinds the product fixes, in its order.
+	want := "reclassified driver_changed fixed_shift rate_shift spending_outlier out_of_range data_gap stale_source source_failure data_quality pin_review"
 	var got []string
 	for _, k := range AlertKinds() {
 		got = append(got, string(k))
@@ -74,7 +74,7 @@ func TestAlertValidate(t *testing.T) {
 		change func(*Alert)
 		want   string
 	}{
-		{"unknown kind", func(a *Alert) { a.Kind = "drift" }, `alert kind "drift" is not one of the ten kinds`},
+		{"unknown kind", func(a *Alert) { a.Kind = "drift" }, `alert kind "drift" is not one of the eleven kinds`},
 		{"unknown severity", func(a *Alert) { a.Severity = "high" }, `alert rate_shift on 6200/WELD: severity "high" is not info, warning or critical`},
 		{"no object", func(a *Alert) { a.Object = "" }, "alert rate_shift has no object"},
 		{"no message", func(a *Alert) { a.Message = "" }, "alert rate_shift on 6200/WELD has no message"},

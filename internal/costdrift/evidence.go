@@ -80,6 +80,15 @@ type AlertEvidence struct {
 	RowsRejected *int    `json:"rows_rejected"`
 	File         *string `json:"file"`
 
+	// pin_review: the pinned formula, its last period, and the data's own
+	// estimate of the same model over the periods tested (Test, Statistic,
+	// P and N say how it was tested).
+	PinnedFixed *float64 `json:"pinned_fixed"`
+	PinnedRate  *float64 `json:"pinned_rate"`
+	PinnedUntil *string  `json:"pinned_until"`
+	DataFixed   *float64 `json:"data_fixed"`
+	DataRate    *float64 `json:"data_rate"`
+
 	// Other holds the entries no field took, as JSON reads them.
 	Other map[string]any `json:"-"`
 }

@@ -155,3 +155,31 @@ func PartialF(full, reduced *Regression) (F, p float64) {
 	F = (extra / float64(q)) / (full.RSS / float64(full.DF))
 	return F, upperF(F, float64(q), float64(full.DF))
 }
+
+// KnownCoefficients tests whether a model's true coefficients are the
+// given ones, from the residual sum of squares rssKnown of those
+// coefficients on the same data as the least-squares fit r:
+//
+//	F = ((RSS_0 − RSS) / k) / (RSS / DF),   k = len(r.Coef),
+//	p = Pr(F_{k, DF} > F)
+//
+// (the F test of the linear hypothesis β = β₀ with the identity as its
+// restriction matrix, common practice; statsmodels' f_test((I, β₀))
+// computes the same). A difference below 0 is rounding and gives F = 0,
+// p = 1; a perfect fit r with rssKnown above it gives F = +Inf, p = 0. It
+// panics when r is nil or has no residual degrees of freedom.
+func KnownCoefficients(rssKnown float64, r *Regression) (F, p float64) {
+	if r == nil || len(r.Coef) == 0 || r.DF < 1 {
+		panic("fit: KnownCoefficients needs a fitted regression with residual degrees of freedom")
+	}
+	k := len(r.Coef)
+	extra := rssKnown - r.RSS
+	switch {
+	case extra <= 0:
+		return 0, 1
+	case r.RSS == 0:
+		return math.Inf(1), 0
+	}
+	F = (extra / float64(k)) / (r.RSS / float64(r.DF))
+	return F, upperF(F, float64(k), float64(r.DF))
+}

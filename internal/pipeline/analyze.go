@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"slices"
+	"strings"
 	"sync"
 
 	"github.com/costdrift/costdrift/internal/alerts"
@@ -139,6 +140,12 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	as := analyze.Settings{MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha,
 		BreakAlpha: cfg.BreakAlpha, Replicates: cfg.BootstrapReplicates, Seed: bootstrapSeed, StoredOnly: true}
+	// The periods the accountant left out are read once: a decision made
+	// while the analysis runs counts from the next one.
+	excluded, err := db.Exclusions(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
 
 	w, err := db.BeginAnalysis(ctx, run)
 	if err != nil {
@@ -146,7 +153,7 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, previous: previous,
 		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
-		window: window, drivers: drivers,
+		window: window, drivers: drivers, excluded: excluded,
 		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
 	go s.analyse()
 	go s.save()
@@ -189,6 +196,7 @@ type stream struct {
 	hasher   *analyze.InputHasher
 	window   *series.Window
 	drivers  []costdrift.DriverSeries
+	excluded map[string][]costdrift.Exclusion // by object
 
 	objects []costdrift.ObjectSeries // every object in scope read since the last batch
 	changed []int                    // which of them to analyse
@@ -244,6 +252,9 @@ func (s *stream) read(totals []costdrift.CostTotal) error {
 		return nil
 	}
 	s.total++
+	// An excluded period's cost is unknown to the fit, and to the input
+	// hash, so that excluding or including a period refits the object.
+	excludePeriods(&o, s.window.Periods, s.excluded[o.Object.String()])
 	s.objects = append(s.objects, o)
 	hash := s.hasher.Hash(&o)
 	if s.previous == nil || s.previous[o.Object.String()] != hash {
@@ -407,18 +418,29 @@ func analysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisRes
 	if err != nil {
 		return nil, err
 	}
-	behaviour, spending, outOfRange := res.behaviourAlerts, res.spendingAlerts, res.rangeAlerts
+	names, err := db.AccountNames(ctx)
+	if err != nil {
+		return nil, err
+	}
+	pins, err := db.Pins(ctx)
+	if err != nil {
+		return nil, err
+	}
+	var pinned []costdrift.Behaviour
+	behaviour := slices.Clone(res.behaviourAlerts)
+	spending, outOfRange := res.spendingAlerts, res.rangeAlerts
 	if open != len(res.refitted) {
 		previous, err := db.PreviousBehaviour(ctx)
 		if err != nil {
 			return nil, err
 		}
-		names, err := db.AccountNames(ctx)
-		if err != nil {
-			return nil, err
-		}
 		behaviour, spending, outOfRange = nil, nil, nil
 		err = db.EachCurrentBehaviour(ctx, batchObjects, func(current []costdrift.Behaviour) error {
+			for _, b := range current {
+				if _, ok := pins[b.Object.String()]; ok {
+					pinned = append(pinned, b)
+				}
+			}
 			behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
 			spending = append(spending, alerts.Spending(current, names)...)
 			outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, res.activity, period), names)...)
@@ -427,8 +449,18 @@ func analysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisRes
 		if err != nil {
 			return nil, err
 		}
+	} else if pinned, err = pinnedBehaviours(ctx, db, pins); err != nil {
+		return nil, err
+	}
+	if err := markAwaiting(ctx, e, db, behaviour); err != nil {
+		return nil, err
 	}
 	raised := slices.Concat(behaviour, spending, outOfRange, res.gaps)
+	review, err := reviewPins(ctx, e, db, pins, pinned, names)
+	if err != nil {
+		return nil, err
+	}
+	raised = append(raised, review...)
 	states, err := sourceStates(ctx, e, db)
 	if err != nil {
 		return nil, err
@@ -439,6 +471,33 @@ func analysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisRes
 		return nil, err
 	}
 	return append(raised, alerts.DataQuality(q, e.Config.Analysis.MaxRejectedShare)...), nil
+}
+
+// pinnedBehaviours is the open behaviour of each pinned object, in the
+// order EachCurrentBehaviour reads them (by account, then cost centre).
+func pinnedBehaviours(ctx context.Context, db *sqlite.DB, pins map[string]costdrift.Pin) ([]costdrift.Behaviour, error) {
+	if len(pins) == 0 {
+		return nil, nil
+	}
+	objects := make([]string, 0, len(pins))
+	for o := range pins {
+		objects = append(objects, o)
+	}
+	current, err := db.CurrentBehaviourOf(ctx, objects)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]costdrift.Behaviour, 0, len(current))
+	for _, b := range current {
+		out = append(out, b)
+	}
+	slices.SortFunc(out, func(a, b costdrift.Behaviour) int {
+		if c := strings.Compare(a.Object.Account, b.Object.Account); c != 0 {
+			return c
+		}
+		return strings.Compare(a.Object.CostCenter, b.Object.CostCenter)
+	})
+	return out, nil
 }
 
 // raiseHeldBack evaluates, for an analysis held back, only the rules that

@@ -307,11 +307,27 @@ func TestAlertsRaisedAsBatchesAreStoredAreThoseReadBack(t *testing.T) {
 		if len(want) == 0 {
 			t.Fatalf("round %d: no alert raised; the comparison needs some", round)
 		}
+		if reviews := strings.Count(alertLines(want), string(costdrift.AlertPinReview)); round == 1 && reviews == 0 {
+			t.Fatalf("round %d: no pin_review alert; the comparison needs the contradicted pin's", round)
+		}
 		if g, w := alertLines(asStored), alertLines(want); g != w {
 			t.Errorf("round %d: raised as the batches were stored:\n%s\nread back after the commit:\n%s", round, g, w)
 		}
 		if _, err := Raise(ctx, e, db, res); err != nil {
 			t.Fatal(err)
+		}
+		if round == 0 {
+			// Pins are reviewed on the behaviours too: one the data bear
+			// out, one they contradict (the lease's rent is 2,800 and
+			// 3,300 after its rise, not 1,000).
+			for _, in := range []PinInput{
+				{Object: "6100/ASSY", Class: "fixed", Fixed: "2600", Reason: "lease"},
+				{Object: "6110/PAINT", Class: "fixed", Fixed: "1000", Reason: "a pin the data contradict"},
+			} {
+				if _, err := Pin(ctx, e, db, in); err != nil {
+					t.Fatal(err)
+				}
+			}
 		}
 	}
 }

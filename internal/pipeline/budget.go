@@ -11,6 +11,7 @@ import (
 	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/csvsource"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 	"github.com/costdrift/costdrift/internal/xlsxsource"
 )
@@ -48,7 +49,14 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (
 	if len(bs) == 0 {
 		return BudgetResult{}, errors.New("budget: no cost behaviour stored yet: run `costdrift analyze` first")
 	}
+	// A pin in force now holds for the whole plan; one that has expired
+	// leaves the data's formula.
+	bs, source, err := effective(ctx, e, db, bs, e.Calendar.Period(e.Now()))
+	if err != nil {
+		return BudgetResult{}, fmt.Errorf("budget: %w", err)
+	}
 	lines := budget.Flexible(bs, plan.periods(), activityLookup(actual, plan.activityIndex, actual), e.Calendar.Shift)
+	noteSource(lines, source)
 	lines = append(lines, budget.Totals(lines)...)
 	lines = orderBudget(lines)
 	if save != "" {
@@ -61,6 +69,31 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (
 		return BudgetResult{}, err
 	}
 	return BudgetResult{Plan: plan.name, Lines: lines, Names: names}, nil
+}
+
+// sourceNotes say on a line whose formula is not the data's current one
+// where it comes from.
+var sourceNotes = map[string]string{
+	report.SourcePinned:   PinnedNote,
+	report.SourceApproved: ApprovedNote,
+}
+
+// noteSource puts on each object line of a pinned or approved formula
+// where it comes from.
+func noteSource(lines []costdrift.BudgetLine, source map[string]string) {
+	for i := range lines {
+		if note := sourceNotes[source[lines[i].Object.String()]]; lines[i].Kind == costdrift.LineObject && note != "" {
+			lines[i].Warning = joinNote(note, lines[i].Warning)
+		}
+	}
+}
+
+// joinNote puts note before the warnings a line has.
+func joinNote(note, warning string) string {
+	if warning == "" {
+		return note
+	}
+	return note + "; " + warning
 }
 
 // orderBudget puts each period's object lines before its totals.
@@ -143,8 +176,18 @@ func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath, save
 	if len(bs) == 0 {
 		return res, fmt.Errorf("variance: no cost behaviour covers %s: run `costdrift analyze` first", period)
 	}
+	bs, source, err := effective(ctx, e, db, bs, period)
+	if err != nil {
+		return res, fmt.Errorf("variance: %w", err)
+	}
 	lines := budget.Variances(bs, period, costs, activityLookup(actualActivity, actualActivity), planLookup, e.Calendar.Shift)
 	for i := range lines { // one line per behaviour, in order
+		if note := sourceNotes[source[bs[i].Object.String()]]; note != "" {
+			lines[i].Warning = joinNote(note, lines[i].Warning)
+			if source[bs[i].Object.String()] == report.SourcePinned {
+				continue
+			}
+		}
 		if b := bs[i]; b.Since <= period && period <= b.Until {
 			note := "the formula was fitted on data that include this period"
 			if lines[i].Warning != "" {

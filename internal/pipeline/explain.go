@@ -40,12 +40,18 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	note, err := refitLines(ctx, e, db, &oa)
+	decided, err := Decided(ctx, e, db, []costdrift.Behaviour{b})
+	if err != nil {
+		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
+	}
+	excluded := decided[b.Object.String()].Excluded
+	note, err := refitLines(ctx, e, db, &oa, excluded)
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	ex := report.Explain(report.ExplainInput{
 		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
+		Decided: decided[b.Object.String()],
 		ActivityPeriod: func(p string, lag int) string {
 			if _, err := e.Calendar.Parse(p); err != nil {
 				return p
@@ -64,7 +70,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	if note := pointsNote(oa, pts); note != "" {
+	if note := pointsNote(oa, pts, excluded); note != "" {
 		ex.Notes = append(ex.Notes, note)
 	}
 	if !withChart {
@@ -84,7 +90,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 // on). The stored fits stay as they are; a candidate fitted again is added
 // only when the lines the store kept come out the same, so that the table
 // is the analysis's. Otherwise the note says why the table is short.
-func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis) (string, error) {
+func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis, excluded []costdrift.Exclusion) (string, error) {
 	b := oa.Behaviour
 	stored := map[[2]string]*costdrift.Fit{}
 	for i, f := range oa.Fits {
@@ -136,6 +142,7 @@ func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAna
 		if !ok || obj.Unusable != "" {
 			continue
 		}
+		excludePeriods(&obj, w.Periods, excluded)
 		p := w.Panel([]costdrift.ObjectSeries{obj}, series.Drivers(activity, w.Periods, ss))
 		lines := analyze.Lines(&p, &p.Objects[0], as)
 		if len(lines) != b.Diagnostics.Candidates || !sameLines(lines, stored) {
@@ -326,8 +333,12 @@ func lagged(ctx context.Context, e *Env, db *sqlite.DB, o costdrift.CostObject, 
 // pointsNote compares the periods read now with what the analysis stored:
 // a different count, or high-low ends with other values, mean the ledger or
 // activity changed since the analysis.
-func pointsNote(oa sqlite.ObjectAnalysis, pts []chart.Point) string {
+func pointsNote(oa sqlite.ObjectAnalysis, pts []chart.Point, excluded []costdrift.Exclusion) string {
 	b := oa.Behaviour
+	// The excluded periods are drawn but were not fitted.
+	pts = slices.DeleteFunc(slices.Clone(pts), func(p chart.Point) bool {
+		return slices.ContainsFunc(excluded, func(x costdrift.Exclusion) bool { return x.Period == p.Period })
+	})
 	n := -1
 	for _, f := range oa.Fits {
 		if f.Model == costdrift.ModelLinear && f.Driver == b.Driver && f.Lag == b.Lag {
@@ -360,7 +371,7 @@ func pointsNote(oa sqlite.ObjectAnalysis, pts []chart.Point) string {
 
 // scatter builds the chart of cost against the chosen driver: the periods,
 // the formula across the relevant range (or the step levels), the high-low
-// points and the outliers.
+// points, the outliers and the periods the accountant left out of the fit.
 func scatter(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysis, pts []chart.Point, accountName, formula string, maxLag int) (chart.Scatter, error) {
 	b := oa.Behaviour
 	if len(pts) == 0 {
@@ -375,6 +386,13 @@ func scatter(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysi
 		XLabel: report.DriverLabel(b.Driver, b.Lag),
 		YLabel: "cost per period (" + e.Currency.Code + ")",
 		Points: pts, RangeMin: b.RangeMin, RangeMax: b.RangeMax,
+	}
+	excluded, err := db.Exclusions(ctx)
+	if err != nil {
+		return s, err
+	}
+	for _, x := range excluded[b.Object.String()] {
+		s.Excluded = append(s.Excluded, x.Period)
 	}
 	if b.Unit != "" && !strings.Contains(strings.ToLower(s.XLabel), strings.ToLower(b.Unit)) {
 		s.XLabel += " (" + b.Unit + ")"

@@ -25,6 +25,8 @@ type ExplainInput struct {
 	// ActivityPeriod names the period whose activity a cost period was
 	// fitted on, lag periods earlier; nil when the lag is always 0.
 	ActivityPeriod func(period string, lag int) string
+	// Decided is what the accountant decided about the object.
+	Decided Decided
 }
 
 // Explanation is one cost object's behaviour with the evidence behind it.
@@ -139,7 +141,7 @@ func Explain(in ExplainInput) Explanation {
 	b := in.Behaviour
 	names := map[string]string{b.Object.Account: in.AccountName}
 	e := Explanation{
-		Row:      Rows([]costdrift.Behaviour{b}, names)[0],
+		Row:      DecidedRows([]costdrift.Behaviour{b}, names, map[string]Decided{b.Object.String(): in.Decided})[0],
 		Notes:    []string{},
 		Cautions: Caution,
 		Analysis: AnalysisInfo{RunID: in.Run.ID, WindowFrom: in.Run.WindowFrom, WindowTo: in.Run.WindowTo, Alpha: in.Alpha},
@@ -406,6 +408,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 	explainModels(&s, e)
 	explainHighLow(&s, e)
 	explainDiagnostics(&s, e.Diagnostics)
+	explainExcluded(&s, e)
 	explainNotes(&s, e)
 	s.WriteString("\n" + e.Cautions + "\n")
 	_, err := io.WriteString(w, s.String())
@@ -604,6 +607,21 @@ func explainDiagnostics(s *strings.Builder, d DiagnosticsView) {
 			}
 			t.write(s, "    ")
 		}
+	}
+}
+
+// explainExcluded lists the periods the accountant left out of the fit.
+func explainExcluded(s *strings.Builder, e Explanation) {
+	if len(e.ExcludedPeriods) == 0 {
+		return
+	}
+	s.WriteString("\nLeft out of the fit by decision (not fitted, not counted in n):\n")
+	for _, x := range e.ExcludedPeriods {
+		at := x.At
+		if t, err := time.Parse(time.RFC3339, x.At); err == nil {
+			at = t.Format("2006-01-02")
+		}
+		wrap(s, fmt.Sprintf("%s by %s on %s: %s", TerminalText(x.Period), TerminalText(x.By), at, TerminalText(x.Reason)), "  ", textWidth)
 	}
 }
 

@@ -6,6 +6,7 @@ import (
 	"math"
 	"strings"
 	"text/tabwriter"
+	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -51,10 +52,153 @@ type Row struct {
 	// confirmation by the next analysis.
 	Break   *costdrift.Break   `json:"break"`
 	Pending *costdrift.Pending `json:"pending"`
+
+	// What the accountant decided (README "The accountant's decisions"):
+	// the pinned formula, null without one; the periods left out of the
+	// fit, oldest first; and the formula budgets and variances use.
+	Pinned          *PinnedFormula   `json:"pinned"`
+	ExcludedPeriods []ExcludedPeriod `json:"excluded_periods"`
+	Approval        *ApprovalView    `json:"approval"` // null while analysis.approval is none
+	Effective       EffectiveFormula `json:"effective"`
+}
+
+// ApprovalView is where an object stands with approval: the formula last
+// approved (null before the first approval) and the analysis's formula
+// when it waits for approval or was declined (null when it is the
+// approved one).
+type ApprovalView struct {
+	Status   string          `json:"status"` // "approved", "awaiting approval" or "declined"
+	Approved *DecidedFormula `json:"approved"`
+	Proposed *DecidedFormula `json:"proposed"`
+}
+
+// DecidedFormula is a formula with the decision or analysis behind it.
+type DecidedFormula struct {
+	Class          costdrift.Class `json:"class"`
+	Driver         *string         `json:"driver"`
+	Lag            *int            `json:"lag"`
+	FixedPerPeriod *float64        `json:"fixed_per_period"`
+	VariableRate   *float64        `json:"variable_rate"`
+	Formula        string          `json:"formula"`
+	By             string          `json:"by,omitempty"`
+	At             string          `json:"at"` // RFC 3339, UTC: approved, declined, or found by the analysis
+	Reason         string          `json:"reason,omitempty"`
+}
+
+// ApprovalInput is an object's approval state with the behaviour row last
+// approved (nil for none), for its row.
+type ApprovalInput struct {
+	State    costdrift.ApprovalState
+	Approved *costdrift.Behaviour
+}
+
+// Approval statuses.
+const (
+	StatusApproved = "approved"
+	StatusWaiting  = "awaiting approval"
+	StatusDeclined = "declined"
+)
+
+// approvalView lays out an object's approval beside its current behaviour.
+func approvalView(b costdrift.Behaviour, in ApprovalInput) *ApprovalView {
+	st := in.State
+	v := &ApprovalView{Status: StatusApproved}
+	switch {
+	case st.Waiting():
+		v.Status = StatusWaiting
+	case st.CurrentID != st.ApprovedID:
+		v.Status = StatusDeclined
+	}
+	if in.Approved != nil {
+		v.Approved = decidedFormula(*in.Approved)
+		v.Approved.By, v.Approved.At, v.Approved.Reason = st.ApprovedBy, st.ApprovedAt.UTC().Format(time.RFC3339), st.ApprovedReason
+	}
+	if v.Status != StatusApproved {
+		v.Proposed = decidedFormula(b)
+		v.Proposed.At = st.ProposedAt.UTC().Format(time.RFC3339)
+		if v.Status == StatusDeclined {
+			v.Proposed.By, v.Proposed.Reason = st.LastBy, st.LastWhy
+		}
+	}
+	return v
+}
+
+func decidedFormula(b costdrift.Behaviour) *DecidedFormula {
+	f := &DecidedFormula{Class: b.Class, Formula: Formula(b)}
+	if b.Driver != "" {
+		d, lag := b.Driver, b.Lag
+		f.Driver, f.Lag = &d, &lag
+	}
+	if b.Class != costdrift.InsufficientData {
+		f.FixedPerPeriod = ptr(round(b.FixedPerPeriod, 2))
+		f.VariableRate = ptr(round(b.VariableRate, 6))
+	}
+	return f
+}
+
+// PinnedFormula is a pin as the report shows it.
+type PinnedFormula struct {
+	Class   costdrift.Class `json:"class"`
+	Driver  *string         `json:"driver"`
+	Lag     int             `json:"lag"`
+	Fixed   float64         `json:"fixed"`
+	Rate    float64         `json:"rate"`
+	By      string          `json:"by"`
+	At      string          `json:"at"` // RFC 3339, UTC
+	Reason  string          `json:"reason"`
+	Until   *string         `json:"until"`
+	Formula string          `json:"formula"`
+}
+
+// Where the formula budgets use comes from.
+const (
+	SourceData     = "data"     // the analysis's estimate
+	SourcePinned   = "pinned"   // the accountant's pin
+	SourceApproved = "approved" // the formula last approved, while a newer one waits or was declined
+)
+
+// EffectiveFormula is the formula budgets and variances use, and where it
+// comes from.
+type EffectiveFormula struct {
+	Source         string          `json:"source"`
+	Class          costdrift.Class `json:"class"`
+	Driver         *string         `json:"driver"`
+	Lag            *int            `json:"lag"`
+	FixedPerPeriod *float64        `json:"fixed_per_period"`
+	VariableRate   *float64        `json:"variable_rate"`
+	Formula        string          `json:"formula"`
+}
+
+// ExcludedPeriod is a period left out of an object's fit, with who left it
+// out, when and why.
+type ExcludedPeriod struct {
+	Period string `json:"period"`
+	By     string `json:"by"`
+	At     string `json:"at"` // RFC 3339, UTC
+	Reason string `json:"reason"`
+}
+
+// Decided is what the accountant decided about one object, for its row:
+// the pin (nil without one), the excluded periods, and the formula budgets
+// use with where it comes from (Source* constants; "" for the data's own).
+type Decided struct {
+	Pin             *costdrift.Pin
+	Excluded        []costdrift.Exclusion
+	Effective       costdrift.Behaviour
+	EffectiveSource string
+	// Approval is nil while analysis.approval is none.
+	Approval *ApprovalInput
 }
 
 // Rows turns behaviours into report rows.
 func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
+	return DecidedRows(bs, names, nil)
+}
+
+// DecidedRows turns behaviours into report rows with the accountant's
+// decisions on each object beside the data's estimate (decided by object;
+// nil for none).
+func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[string]Decided) []Row {
 	rows := make([]Row, 0, len(bs))
 	for _, b := range bs {
 		r := Row{
@@ -67,6 +211,40 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 			r.Steps = []costdrift.StepLevel{}
 		}
 		r.Break, r.Pending = b.Break, b.Pending
+		d := decided[r.Object]
+		r.ExcludedPeriods = make([]ExcludedPeriod, 0, len(d.Excluded))
+		for _, x := range d.Excluded {
+			r.ExcludedPeriods = append(r.ExcludedPeriods, ExcludedPeriod{Period: x.Period, By: x.By, At: x.At.UTC().Format(time.RFC3339), Reason: x.Reason})
+		}
+		if p := d.Pin; p != nil {
+			r.Pinned = &PinnedFormula{Class: p.Class, Lag: p.Lag, Fixed: p.Fixed, Rate: p.Rate, By: p.By,
+				At: p.At.UTC().Format(time.RFC3339), Reason: p.Reason, Formula: pinFormula(b, *p)}
+			if p.Driver != "" {
+				r.Pinned.Driver = &p.Driver
+			}
+			if p.Until != "" {
+				r.Pinned.Until = &p.Until
+			}
+		}
+		if d.Approval != nil {
+			r.Approval = approvalView(b, *d.Approval)
+		}
+		eff, source := d.Effective, d.EffectiveSource
+		if source == "" {
+			eff, source = b, SourceData
+		}
+		r.Effective = EffectiveFormula{Source: source, Class: eff.Class, Formula: Formula(eff)}
+		if source == SourcePinned && d.Pin != nil {
+			r.Effective.Formula = pinFormula(b, *d.Pin) // a pinned step has one level, not the data's steps
+		}
+		if eff.Driver != "" {
+			drv, lag := eff.Driver, eff.Lag
+			r.Effective.Driver, r.Effective.Lag = &drv, &lag
+		}
+		if eff.Class != costdrift.InsufficientData {
+			r.Effective.FixedPerPeriod = ptr(round(eff.FixedPerPeriod, 2))
+			r.Effective.VariableRate = ptr(round(eff.VariableRate, 6))
+		}
 		r.Outliers = []string{}
 		for _, o := range b.Outliers {
 			r.Outliers = append(r.Outliers, o.Period)
@@ -88,6 +266,19 @@ func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 		rows = append(rows, r)
 	}
 	return rows
+}
+
+// pinFormula writes a pinned formula out in words, as Formula writes the
+// data's.
+func pinFormula(b costdrift.Behaviour, p costdrift.Pin) string {
+	pb := costdrift.Behaviour{Object: b.Object, Class: p.Class, Driver: p.Driver, Lag: p.Lag, FixedPerPeriod: p.Fixed, VariableRate: p.Rate}
+	if p.Driver == b.Driver {
+		pb.Unit = b.Unit
+	}
+	if p.Class == costdrift.Step {
+		return "cost = " + Number(p.Fixed, 2) + " (the level in force)"
+	}
+	return Formula(pb)
 }
 
 // JSON writes the rows as an indented JSON array.
@@ -117,6 +308,35 @@ func Table(w io.Writer, rows []Row, currency string) error {
 	fmt.Fprintln(w, "Why:")
 	for _, r := range rows {
 		fmt.Fprintf(w, "  %-12s %s\n", TerminalText(r.Object), TerminalText(r.Reason))
+		if p := r.Pinned; p != nil {
+			until, use := "", "budgets and variances use it"
+			if p.Until != nil {
+				until = " until " + TerminalText(*p.Until)
+			}
+			if r.Effective.Source != SourcePinned {
+				use = "expired: budgets use the data's formula"
+			}
+			at := p.At
+			if t, err := time.Parse(time.RFC3339, p.At); err == nil {
+				at = t.Format("2006-01-02")
+			}
+			fmt.Fprintf(w, "  %-12s pinned: %s%s, by %s on %s: %s; %s\n", "", TerminalText(p.Formula), until, TerminalText(p.By), at,
+				TerminalText(p.Reason), use)
+		}
+		if ap := r.Approval; ap != nil && ap.Status != StatusApproved {
+			kept := "budgets use it until it is approved"
+			if ap.Approved != nil {
+				kept = "budgets keep the approved " + TerminalText(ap.Approved.Formula)
+			}
+			fmt.Fprintf(w, "  %-12s %s: %s (costdrift approve or decline %s); %s\n", "", ap.Status, TerminalText(r.Formula), TerminalText(r.Object), kept)
+		}
+		if len(r.ExcludedPeriods) > 0 {
+			periods := make([]string, len(r.ExcludedPeriods))
+			for i, x := range r.ExcludedPeriods {
+				periods[i] = TerminalText(x.Period)
+			}
+			fmt.Fprintf(w, "  %-12s left out of the fit: %s (costdrift explain %s)\n", "", strings.Join(periods, ", "), TerminalText(r.Object))
+		}
 		if r.HighLow != nil {
 			hl := r.HighLow
 			fmt.Fprintf(w, "  %-12s high-low: cost = %s + %s (high %s, low %s)\n", "", Number(hl.Fixed, 2), Number(hl.Rate, rateDecimals(hl.Rate)),

@@ -70,7 +70,7 @@ func (db *DB) ApplyAlerts(ctx context.Context, raised []costdrift.Alert, evaluat
 	kinds := map[costdrift.AlertKind]bool{}
 	for _, k := range evaluated {
 		if !k.Valid() {
-			return AlertChanges{}, fmt.Errorf("apply alerts: evaluated kind %q is not one of the ten kinds", k)
+			return AlertChanges{}, fmt.Errorf("apply alerts: evaluated kind %q is not one of the eleven kinds", k)
 		}
 		kinds[k] = true
 	}
@@ -263,7 +263,7 @@ func (db *DB) Alerts(ctx context.Context, f AlertFilter) ([]costdrift.Alert, err
 	}
 	if f.Kind != "" {
 		if !f.Kind.Valid() {
-			return nil, fmt.Errorf("alert kind %q is not one of the ten kinds", f.Kind)
+			return nil, fmt.Errorf("alert kind %q is not one of the eleven kinds", f.Kind)
 		}
 		where = append(where, "kind = ?")
 		args = append(args, string(f.Kind))

@@ -315,7 +315,7 @@ func TestApplyAlertsRefusesMisuseAndWritesNothing(t *testing.T) {
 		want      string
 	}{
 		{"no period", nil, kinds(costdrift.AlertRateShift), "", "apply alerts: no period"},
-		{"unknown evaluated kind", nil, kinds("drift"), "2025-06", `apply alerts: evaluated kind "drift" is not one of the ten kinds`},
+		{"unknown evaluated kind", nil, kinds("drift"), "2025-06", `apply alerts: evaluated kind "drift" is not one of the eleven kinds`},
 		{"invalid alert", []costdrift.Alert{noSeverity}, kinds(costdrift.AlertDataGap), "2025-06",
 			`apply alerts: alert data_gap on 6500: severity "" is not info, warning or critical`},
 		{"raised but not evaluated", []costdrift.Alert{dataGap}, kinds(costdrift.AlertRateShift), "2025-06",
@@ -397,7 +397,7 @@ func TestAlertsFilterAndOrder(t *testing.T) {
 		want   string
 	}{
 		{AlertFilter{Status: "closed"}, `alert status "closed" is not open, acknowledged, resolved or all`},
-		{AlertFilter{Kind: "drift"}, `alert kind "drift" is not one of the ten kinds`},
+		{AlertFilter{Kind: "drift"}, `alert kind "drift" is not one of the eleven kinds`},
 		{AlertFilter{MinSeverity: "high"}, `severity "high" is not info, warning or critical`},
 	} {
 		if _, err := db.Alerts(ctx, tc.filter); err == nil || err.Error() != tc.want {

@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
-# Cross-checks of internal/fit and internal/drift against general-purpose
-# libraries.
+# Cross-checks of internal/fit, internal/drift and the analysis of periods
+# left out by the accountant against general-purpose libraries.
 #
 # 1. Regenerates the golden files into a temporary folder with the Debian
 #    packages named below and compares them numerically with the committed
@@ -40,11 +40,13 @@ else
   trap 'rm -rf "$tmp"' EXIT
   "$PY" "$here/generate.py" "$tmp/cases.json"
   "$PY" "$here/intervals.py" "$tmp/intervals.json"
+  "$PY" "$here/exclusions.py" "$tmp/exclusions.json"
   Rscript "$here/steps.R" "$tmp/steps.json"
   Rscript "$here/drift.R" "$tmp/drift.json"
   status=0
   "$PY" "$here/compare.py" "$golden/cases.json" "$tmp/cases.json" || status=1
   "$PY" "$here/compare.py" "$golden/intervals.json" "$tmp/intervals.json" || status=1
+  "$PY" "$here/compare.py" "$golden/exclusions.json" "$tmp/exclusions.json" || status=1
   "$PY" "$here/compare.py" "$golden/steps.json" "$tmp/steps.json" || status=1
   "$PY" "$here/compare.py" "$golden/drift.json" "$tmp/drift.json" || status=1
   if [ $status -ne 0 ]; then
@@ -55,3 +57,4 @@ fi
 
 go test -count=1 -run 'Crosscheck|NIST' ./internal/fit/
 go test -count=1 -run 'Crosscheck|Nile' ./internal/drift/
+go test -count=1 -run 'Crosscheck' ./internal/pipeline/
