@@ -182,7 +182,7 @@ func TestMailCycleServerDownThenBack(t *testing.T) {
 	if len(got["paint@example.test"][0].Inline) != 0 {
 		t.Errorf("paint digest has a chart for a fixed cost")
 	}
-	for _, want := range []string{"costdrift explain 6400/ASSY", "Since: 2025-02", "was  14.4756 × shipments", "now  11.9174 × shipments", "p-value: < 0.001", "Formulas are statistical estimates"} {
+	for _, want := range []string{"costdrift explain 6400/ASSY", "Since: 2025-02", "was  14.48 × shipments", "now  11.92 × shipments", "p-value: < 0.001", "Formulas are statistical estimates"} {
 		if !strings.Contains(freight.Text, want) {
 			t.Errorf("freight text part lacks %q:\n%s", want, freight.Text)
 		}

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // ConfirmPeriods: a shift found with fewer periods than this after its
@@ -181,14 +182,9 @@ func unit(b costdrift.Behaviour, driver string) string {
 	return "unit of " + strings.ReplaceAll(driver, "_", " ")
 }
 
-func money(v float64) string { return fmt.Sprintf("%.2f", v) }
+func money(v float64) string { return present.Amount(v) }
 
-func rateText(v float64) string {
-	if math.Abs(v) < 1 {
-		return fmt.Sprintf("%.4f", v)
-	}
-	return fmt.Sprintf("%.2f", v)
-}
+func rateText(v float64) string { return present.Rate(v) }
 
 // evidence of a change of class or driver: both behaviours' formulas, and
 // the fit of the new one. A number that is not finite is stored as null.

@@ -56,7 +56,7 @@ func TestShifts(t *testing.T) {
 		if tc.name == "doubled" && got[0].Severity != costdrift.SeverityCritical {
 			t.Errorf("doubled: severity %s, want critical", got[0].Severity)
 		}
-		if tc.name == "lease renewed" && (got[0].Severity != costdrift.SeverityWarning || !strings.Contains(got[0].Message, "6110/PAINT Equipment lease: fixed cost per period rose 18 % from 2025-07, 2800.00 to 3300.00")) {
+		if tc.name == "lease renewed" && (got[0].Severity != costdrift.SeverityWarning || !strings.Contains(got[0].Message, "6110/PAINT Equipment lease: fixed cost per period rose 18 % from 2025-07, 2,800.00 to 3,300.00")) {
 			t.Errorf("lease: %+v", got[0])
 		}
 	}
@@ -119,7 +119,7 @@ func TestMixedFixedPartShift(t *testing.T) {
 	}
 	got := Behaviour([]costdrift.Behaviour{mixed(2000, 2300)}, nil, nil)
 	if len(got) != 1 || got[0].Kind != costdrift.AlertFixedShift || got[0].Severity != costdrift.SeverityWarning ||
-		!strings.Contains(got[0].Message, "fixed cost per period rose 15 % from 2025-09, 2000.00 to 2300.00") {
+		!strings.Contains(got[0].Message, "fixed cost per period rose 15 % from 2025-09, 2,000.00 to 2,300.00") {
 		t.Fatalf("fixed part 2,000 -> 2,300: %+v", got)
 	}
 	if got := Behaviour([]costdrift.Behaviour{mixed(300, 345)}, nil, nil); len(got) != 0 {

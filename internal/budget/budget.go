@@ -26,6 +26,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/fit"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // unknown is an estimate with no figure yet.
@@ -175,13 +176,8 @@ func pendingText(p *costdrift.Pending) string {
 	return s
 }
 
-// num writes an activity figure briefly.
-func num(v float64) string {
-	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
-		return fmt.Sprintf("%.0f", v)
-	}
-	return fmt.Sprintf("%.2f", v)
-}
+// num writes an activity figure briefly (present.Activity).
+func num(v float64) string { return present.Activity(v) }
 
 // Flexible budgets every behaviour for every period at the activity the
 // lookup gives, one line per behaviour and period in that order. A driver

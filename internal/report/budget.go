@@ -9,6 +9,7 @@ import (
 	"text/tabwriter"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // BudgetRow is one budget line as the JSON, CSV and XLSX outputs write it.
@@ -303,21 +304,21 @@ func marked(v *float64, mark string) string {
 	if mark == "" {
 		return moneyText(v)
 	}
-	return Number(math.Abs(*v), 2) + " " + mark
+	return present.Amount(math.Abs(*v)) + " " + mark
 }
 
 func moneyText(v *float64) string {
 	if v == nil {
 		return "-"
 	}
-	return Number(*v, 2)
+	return present.Amount(*v)
 }
 
 func interval(lo, hi *float64) string {
 	if lo == nil || hi == nil {
 		return "-"
 	}
-	return Number(*lo, 0) + " – " + Number(*hi, 0)
+	return present.Number(*lo, 0) + " – " + present.Number(*hi, 0)
 }
 
 // noteList numbers distinct warnings for a table's NOTE column.
