@@ -110,8 +110,8 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = sideFormula(res.x, res.y, split, len(res.y), false)
 		if !(pb.VariableRate > 0) {
 			implausible = provisionalRate(pb, brk, res.x[split:], post)
-		} else {
-			implausible = keepRate(pb, brk, res.x[split:], post)
+		} else if implausible = keepRate(pb, brk, res.x[split:], post); implausible == "" {
+			implausible = negativeFixedPart(pb, brk, res.x[split:], post, s.Alpha)
 		}
 		brk.FixedAfter, brk.RateAfter = pb.FixedPerPeriod, pb.VariableRate
 	default:
@@ -164,6 +164,31 @@ func provisionalRate(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float
 	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = meanOf(y), 0, keptRateTerms(x, y, 0, 0)
 	return fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost and %s, so the cost is taken at its mean since the break, %s, until a rate can be fitted",
 		refitted, why, present.Amount(pb.FixedPerPeriod))
+}
+
+// negativeFixedPart replaces the provisional formula of a mixed cost whose
+// refitted rate is positive but whose fixed part is below zero beyond its
+// uncertainty (negative, and its two-sided p-value below alpha), where the
+// rate from before the break cannot be kept (keepRate): a cost that is
+// less than nothing at zero activity is implausible, and a line through so
+// few periods extrapolates their noise to zero activity. The formula is the
+// mean cost since the break, as in provisionalRate, until enough periods
+// follow the break to estimate a formula. It returns the reason's clause,
+// "" when the fixed part is plausible.
+func negativeFixedPart(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float64, alpha float64) string {
+	r, err := fit.Line(x, y)
+	if err != nil || !(r.Coef[0] < 0) || !(r.P[0] < alpha) {
+		return ""
+	}
+	refitted := fmt.Sprintf("%s + %s", present.Amount(r.Coef[0]), rateOf(r.Coef[1], pb.Unit, pb.Driver))
+	why := "the rate from before the break is not positive"
+	if brk.RateBefore > 0 {
+		why = fmt.Sprintf("the rate from before the break, %s, would leave a negative fixed part too", rateOf(brk.RateBefore, pb.Unit, pb.Driver))
+	}
+	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = meanOf(y), 0, keptRateTerms(x, y, 0, 0)
+	return fmt.Sprintf("; the formula refitted on them, %s, has a fixed part below zero beyond its uncertainty (p %s), implausible for a cost, and %s: "+
+		"too few periods since the change to estimate a formula, so the cost is taken at its mean since the break, %s",
+		refitted, present.PValue(r.P[0], present.AnalyticResolution), why, present.Amount(pb.FixedPerPeriod))
 }
 
 // keepRate replaces the provisional formula of a mixed cost whose rate
