@@ -322,7 +322,7 @@ var htmlTmpl = htmltemplate.Must(htmltemplate.New("html").Parse(`<!DOCTYPE html>
 {{if .Evidence}}<table cellpadding="2" cellspacing="0" style="margin:0 0 8px 0;color:#333333">
 {{range .Evidence}}<tr><td style="color:#555555;padding-right:12px">{{.Name}}</td><td>{{.After}}</td></tr>
 {{end}}</table>{{end}}
-{{if .CID}}<p style="margin:0 0 8px 0"><img src="cid:{{.CID}}" width="600" alt="scatter of cost against activity for {{.Object}}, with the previous and the new formula" style="max-width:100%;height:auto;border:1px solid #cccccc"></p>{{end}}
+{{if .CID}}<p style="margin:0 0 8px 0"><img src="cid:{{.CID}}" width="600" alt="chart of the cost of {{.Object}} with its formula: against activity, or over time for a cost without a driver" style="max-width:100%;height:auto;border:1px solid #cccccc"></p>{{end}}
 {{if .Explain}}<p style="margin:0">To see more: <code style="background:#f2f2f2;padding:2px 4px">{{.Explain}}</code></p>{{end}}
 <p style="margin:0;color:#555555">Alert: <code>{{.Show}}</code></p>
 </td></tr>

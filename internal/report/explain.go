@@ -43,9 +43,10 @@ type Explanation struct {
 	Diagnostics DiagnosticsView    `json:"diagnostics"`
 	// Notes are warnings the caller adds, such as data changed since the
 	// analysis.
-	Notes    []string `json:"notes"`
-	Chart    string   `json:"chart,omitempty"`
-	Cautions string   `json:"cautions"`
+	Notes     []string `json:"notes"`
+	Chart     string   `json:"chart,omitempty"`      // the cost against the driver
+	TimeChart string   `json:"time_chart,omitempty"` // the cost over time
+	Cautions  string   `json:"cautions"`
 }
 
 // AnalysisInfo names the analysis the explanation comes from.
@@ -610,7 +611,7 @@ func explainDiagnostics(s *strings.Builder, d DiagnosticsView) {
 
 // explainNotes writes the caller's notes and where the chart went.
 func explainNotes(s *strings.Builder, e Explanation) {
-	if len(e.Notes) > 0 || e.Chart != "" {
+	if len(e.Notes) > 0 || e.Chart != "" || e.TimeChart != "" {
 		s.WriteString("\n")
 	}
 	for _, n := range e.Notes {
@@ -622,6 +623,9 @@ func explainNotes(s *strings.Builder, e Explanation) {
 		if e.Class == costdrift.Step && len(e.Diagnostics.Outliers) > 0 {
 			s.WriteString("The straight line's outliers are not marked on the step levels.\n")
 		}
+	}
+	if e.TimeChart != "" {
+		s.WriteString("Cost over time written to " + TerminalText(e.TimeChart) + "\n")
 	}
 }
 
