@@ -76,7 +76,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	if note := pointsNote(oa, pts); note != "" {
+	if note := pointsNote(oa, fittedPoints(e, b, pts)); note != "" {
 		ex.Notes = append(ex.Notes, note)
 	}
 	if !withChart {
@@ -334,6 +334,18 @@ func lagged(ctx context.Context, e *Env, db *sqlite.DB, o costdrift.CostObject, 
 		}
 	}
 	return out, nil
+}
+
+// fittedPoints are the points the behaviour was fitted on: after a change,
+// those from its first period on.
+func fittedPoints(e *Env, b costdrift.Behaviour, pts []chart.Point) []chart.Point {
+	var out []chart.Point
+	for _, p := range markBefore(e, b, pts) {
+		if !p.Before {
+			out = append(out, p)
+		}
+	}
+	return out
 }
 
 // pointsNote compares the periods read now with what the analysis stored:
