@@ -29,6 +29,11 @@ func TestGoldenOutputs(t *testing.T) {
 		{"budget-2026-q3", []string{"budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv")}},
 		{"variance-2026-06", []string{"variance", "--period", "2026-06", "--plan", filepath.Join(dir, "plans", "plan-2026-q2.csv")}},
 		{"alerts-list", []string{"alerts", "list", "--status", "all"}},
+		{"history-6110-PAINT", []string{"history", "6110/PAINT"}},
+		{"history-6400-ASSY", []string{"history", "6400/ASSY"}},
+		{"history-6400-ASSY-json", []string{"history", "6400/ASSY", "--format", "json"}},
+		{"report-json", []string{"report", "--format", "json"}},
+		{"explain-6110-PAINT-json", []string{"explain", "6110/PAINT", "--format", "json"}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
