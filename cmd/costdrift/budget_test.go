@@ -183,7 +183,7 @@ func TestBudgetOfTheDemoPlan(t *testing.T) {
 	if len(sheet) < 1+len(rows) || sheet[0][11] != "budget" || sheet[1][2] != "5100/WELD" {
 		t.Fatalf("XLSX: %d rows, header %v, first %v", len(sheet), sheet[0], sheet[1])
 	}
-	v, _ := f.GetCellValue("budget", "L2")
+	v, _ := f.GetCellValue("budget", "L2", excelize.Options{RawCellValue: true}) // the stored number, not as its format shows it
 	if got, err := strconv.ParseFloat(v, 64); err != nil || !near(got, *rows[0].Budget) {
 		t.Errorf("XLSX L2 = %q, JSON budget %v", v, *rows[0].Budget)
 	}

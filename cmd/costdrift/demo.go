@@ -80,7 +80,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	}
 	run := res.Run
 	fmt.Fprintln(a.out)
-	if err := writeReport(ctx, db, "table", e.Currency.Code, a.out); err != nil {
+	if err := a.writeReport(ctx, e, db, outputFlags{format: "table"}, report.Filter{}); err != nil {
 		return err
 	}
 
