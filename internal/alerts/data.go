@@ -22,7 +22,8 @@ const OutOfRangeMargin = 0.10
 // outside the 95 % prediction interval of the formula fitted without it:
 // info for a one-off, warning when the period before was outside on the same
 // side too (README, Alerts: a lone spending outlier is info).
-func Spending(current []costdrift.Behaviour, names map[string]string) []costdrift.Alert {
+// Amounts in the message are of currency ("" leaves it unsaid).
+func Spending(current []costdrift.Behaviour, names map[string]string, currency string) []costdrift.Alert {
 	var out []costdrift.Alert
 	for _, b := range current {
 		n := len(b.Spending)
@@ -44,7 +45,8 @@ func Spending(current []costdrift.Behaviour, names map[string]string) []costdrif
 		out = append(out, costdrift.Alert{
 			Kind: costdrift.AlertSpendingOutlier, Object: b.Object.String(), Severity: sev, Period: c.Period,
 			Message: fmt.Sprintf("%s: %s cost %s is %s the %s the formula fitted without that period expects (95 %% interval %s to %s)",
-				label(b, names), c.Period, present.Amount(c.Actual), side, present.Amount(c.Expected), present.Amount(c.Low), present.Amount(c.High)),
+				label(b, names), c.Period, present.Money(c.Actual, currency), side, present.Money(c.Expected, currency), present.Amount(c.Low),
+				present.Money(c.High, currency)),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertSpendingOutlier, b.Object.String(), c.Period),
 			Evidence: costdrift.AlertEvidence{Period: new(c.Period), Actual: new(c.Actual), Expected: new(c.Expected), Low95: new(c.Low),
 				High95: new(c.High), Activity: new(c.Activity), FormulaFittedWithoutIt: new(true), Repeats: new(sev == costdrift.SeverityWarning)},

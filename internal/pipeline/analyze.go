@@ -368,8 +368,8 @@ func raiseAnalysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, gaps []cost
 	}
 	var behaviour, spending, outOfRange []costdrift.Alert
 	err = db.EachCurrentBehaviour(ctx, batchObjects, func(current []costdrift.Behaviour) error {
-		behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
-		spending = append(spending, alerts.Spending(current, names)...)
+		behaviour = append(behaviour, alerts.Behaviour(current, previous, names, e.Currency.Code)...)
+		spending = append(spending, alerts.Spending(current, names, e.Currency.Code)...)
 		outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, activity, period), names)...)
 		return nil
 	})
