@@ -233,9 +233,9 @@ func (t Timeline) allNonNegative() bool {
 type periodTicks struct{ periods []string }
 
 // Ticks implements plot.Ticker.
-func (pt periodTicks) Ticks(min, max float64) []plot.Tick {
+func (pt periodTicks) Ticks(_, _ float64) []plot.Tick {
 	n := len(pt.periods)
-	every := max1((n + 7) / 8)
+	every := max(1, (n+7)/8)
 	ticks := make([]plot.Tick, 0, n)
 	for i, p := range pt.periods {
 		label := ""
@@ -245,13 +245,6 @@ func (pt periodTicks) Ticks(min, max float64) []plot.Tick {
 		ticks = append(ticks, plot.Tick{Value: float64(i), Label: label})
 	}
 	return ticks
-}
-
-func max1(n int) int {
-	if n < 1 {
-		return 1
-	}
-	return n
 }
 
 // changeLines draws a dashed vertical line between the last period of one

@@ -5,6 +5,7 @@ import (
 	"html/template"
 	"io"
 	"regexp"
+	"strconv"
 	"strings"
 
 	"github.com/costdrift/costdrift/internal/present"
@@ -90,7 +91,7 @@ func HTML(w io.Writer, r HTMLReport) error {
 		Cautions string
 	}{HTMLReport: r, Cautions: Caution}
 	for i, row := range r.Rows {
-		l := htmlLine{Anchor: "object-" + present.Number(float64(i+1), 0), Object: row.Object, AccountName: row.AccountName,
+		l := htmlLine{Anchor: "object-" + strconv.Itoa(i+1), Object: row.Object, AccountName: row.AccountName,
 			Class: string(row.Class), Formula: row.Formula, R2: "-", N: present.Number(float64(row.N), 0), Range: "-",
 			Since: row.Since, Reason: row.Reason}
 		if row.R2 != nil {
