@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"maps"
+	"math"
 	"slices"
 	"strconv"
 	"strings"
@@ -17,6 +18,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/present"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -401,20 +403,37 @@ func evidenceRows(rows *[]evidenceRow, indent string, m map[string]any) {
 				}
 			}
 		default:
-			*rows = append(*rows, evidenceRow{label: label, value: evidenceValue(v)})
+			*rows = append(*rows, evidenceRow{label: label, value: evidenceFigure(k, v)})
 		}
 	}
 }
 
-// evidenceValue writes a scalar as read from JSON; numbers in the shortest
-// form that reads back exactly (0.0012, 36, 1.5e-07), so a p-value is shown
-// as stored.
+// evidenceFigure writes one evidence value for a reader: a p-value no
+// finer than the tests resolve, a statistic beyond a sane range in words,
+// other numbers through evidenceValue. JSON output keeps the raw numbers.
+func evidenceFigure(key string, v any) string {
+	f, ok := v.(float64)
+	switch {
+	case ok && key == "p":
+		return present.PValue(f, present.AnalyticResolution)
+	case ok && key == "statistic":
+		return present.Statistic(f)
+	}
+	return evidenceValue(v)
+}
+
+// evidenceValue writes a scalar as read from JSON: whole numbers as they
+// are, others in up to six significant digits with thousands separators
+// (0.0012, 36, 2,800.5), never in exponent notation.
 func evidenceValue(v any) string {
 	switch v := v.(type) {
 	case nil:
 		return "-"
 	case float64:
-		return strconv.FormatFloat(v, 'g', -1, 64)
+		if v == math.Trunc(v) && math.Abs(v) < 1e15 {
+			return strconv.FormatFloat(v, 'f', 0, 64)
+		}
+		return present.Significant(v, 6)
 	case string:
 		return report.TerminalText(v)
 	case bool:

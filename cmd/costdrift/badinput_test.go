@@ -12,10 +12,18 @@ import (
 // as one clear source error; none crashes; every row read is either stored
 // or rejected (README, Sources: a row that cannot be read goes to the rejects table).
 func TestBadInputCorpus(t *testing.T) {
+	tests := ledgerCorpus()
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) { checkCorpusCase(t, tc, "") })
+	}
+}
+
+// ledgerCorpus is the malformed ledger files of TestBadInputCorpus.
+func ledgerCorpus() []corpusCase {
 	const h = "entry_id,line,date,account,cost_center,amount,description\n"
 	const good = "G1,1,2026-01-05,6100,WELD,10.00,ok\n"
 	huge := strings.Repeat("x", 10<<20)
-	tests := []corpusCase{
+	return []corpusCase{
 		{"truncated last row", h + good + "T1,1,2026-01-0", 1, 1, "has 3 fields", false},
 		{"extra field", h + good + "X1,1,2026-01-05,6100,WELD,1.00,a,b\n", 1, 1, "has 8 fields, the header has 7", false},
 		{"missing field", h + good + "M1,1,2026-01-05,6100,1.00,a\n", 1, 1, "has 6 fields", false},
@@ -59,9 +67,6 @@ func TestBadInputCorpus(t *testing.T) {
 		{"only whitespace", " \n\n ", 0, 0, "is empty", true},
 		{"header without required columns", "a,b,c\n1,2,3\n", 0, 0, "header has no column entry_id, date, account", true},
 		{"binary garbage", "\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", 0, 0, "", true},
-	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) { checkCorpusCase(t, tc, "") })
 	}
 }
 

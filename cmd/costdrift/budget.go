@@ -5,7 +5,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"slices"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 	"github.com/xuri/excelize/v2"
@@ -13,6 +15,7 @@ import (
 	"github.com/costdrift/costdrift/internal/atomicfile"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/present"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -159,15 +162,32 @@ func (a *app) savedNote(what, save, view string, out outputFlags) {
 	fmt.Fprintf(a.errw, "%s: kept in the store under the name %s (view %s)\n", what, report.TerminalText(save), view)
 }
 
-// writeXLSX writes cells to one sheet of a new workbook, with the notes and
-// cautions below the table.
-func writeXLSX(w io.Writer, sheet string, cells [][]any) error {
+// writeXLSX writes cells (the header first) to one sheet of a new
+// workbook: numbers with the format of their column (report.KindOf), each
+// column as wide as its widest cell, the header row frozen, the notes and
+// the cautions below the table, and document properties that name
+// costdrift and its version as the workbook's author.
+func writeXLSX(w io.Writer, sheet string, cells [][]any, title string, notes []string, at time.Time) error {
 	f := excelize.NewFile()
 	defer f.Close()
 	if err := f.SetSheetName("Sheet1", sheet); err != nil {
 		return err
 	}
-	rows := append(cells, nil, []any{strings.ToUpper(costdrift.Independence[:1]) + costdrift.Independence[1:] + "."})
+	author := "costdrift " + version
+	if err := f.SetDocProps(&excelize.DocProperties{Creator: author, LastModifiedBy: author, Title: title,
+		Description: "Written by " + author + " from the store's analysis. " + strings.ReplaceAll(report.Caution, "\n", " "),
+		Category:    "cost behaviour", Version: version,
+		Created: at.UTC().Format(time.RFC3339), Modified: at.UTC().Format(time.RFC3339)}); err != nil {
+		return err
+	}
+	if err := f.SetAppProps(&excelize.AppProperties{Application: "costdrift", AppVersion: xlsxAppVersion(version)}); err != nil {
+		return err
+	}
+	rows := slices.Clone(cells)
+	rows = append(rows, nil)
+	for _, n := range notes {
+		rows = append(rows, []any{n})
+	}
 	for _, line := range strings.Split(report.Caution, "\n") {
 		rows = append(rows, []any{line})
 	}
@@ -183,11 +203,105 @@ func writeXLSX(w io.Writer, sheet string, cells [][]any) error {
 			return err
 		}
 	}
+	if len(cells) > 0 {
+		if err := formatColumns(f, sheet, cells); err != nil {
+			return err
+		}
+	}
 	if err := f.SetPanes(sheet, &excelize.Panes{Freeze: true, YSplit: 1, TopLeftCell: "A2", ActivePane: "bottomLeft"}); err != nil {
 		return err
 	}
 	_, err := f.WriteTo(w)
 	return err
+}
+
+// xlsxNumberFormats are the custom number formats of the column kinds:
+// money with two decimals and thousands separators, rates with two to six
+// decimals, R² with three, counts whole; driver values as measured.
+var xlsxNumberFormats = map[report.ColumnKind]string{
+	report.MoneyColumn:    "#,##0.00",
+	report.RateColumn:     "#,##0.00####",
+	report.RatioColumn:    "0.000",
+	report.CountColumn:    "0",
+	report.ActivityColumn: "#,##0.######",
+}
+
+// formatColumns gives the table's columns their number format and width
+// and the header row bold type.
+func formatColumns(f *excelize.File, sheet string, cells [][]any) error {
+	header := cells[0]
+	bold, err := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"F3F1EC"}}})
+	if err != nil {
+		return err
+	}
+	last, err := excelize.CoordinatesToCellName(len(header), 1)
+	if err != nil {
+		return err
+	}
+	if err := f.SetCellStyle(sheet, "A1", last, bold); err != nil {
+		return err
+	}
+	for c, h := range header {
+		name, _ := h.(string)
+		kind := report.KindOf(name)
+		width := len([]rune(name)) + 2
+		for _, row := range cells[1:] {
+			if c < len(row) {
+				width = max(width, cellWidth(row[c], kind)+2)
+			}
+		}
+		col, err := excelize.ColumnNumberToName(c + 1)
+		if err != nil {
+			return err
+		}
+		if err := f.SetColWidth(sheet, col, col, float64(min(width, 60))); err != nil {
+			return err
+		}
+		numFmt, ok := xlsxNumberFormats[kind]
+		if !ok || len(cells) < 2 {
+			continue
+		}
+		style, err := f.NewStyle(&excelize.Style{CustomNumFmt: &numFmt})
+		if err != nil {
+			return err
+		}
+		from, _ := excelize.CoordinatesToCellName(c+1, 2)
+		to, _ := excelize.CoordinatesToCellName(c+1, len(cells))
+		if err := f.SetCellStyle(sheet, from, to, style); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// cellWidth is about how many characters a cell shows.
+func cellWidth(v any, kind report.ColumnKind) int {
+	switch x := v.(type) {
+	case nil:
+		return 0
+	case float64:
+		switch kind {
+		case report.MoneyColumn:
+			return len(present.Amount(x))
+		case report.RateColumn:
+			return len(present.Rate(x)) + 2
+		}
+		return len(present.Activity(x))
+	case string:
+		return len([]rune(x))
+	}
+	return len(fmt.Sprint(v))
+}
+
+// xlsxAppVersion is the version as the application properties hold it,
+// which spreadsheets read as NN.NNNN: a version such as v1.2.3 becomes
+// 1.0203, anything else 0.0.
+func xlsxAppVersion(v string) string {
+	var major, minor, patch int
+	if n, _ := fmt.Sscanf(strings.TrimPrefix(v, "v"), "%d.%d.%d", &major, &minor, &patch); n == 0 {
+		return "0.0"
+	}
+	return fmt.Sprintf("%d.%02d%02d", major, minor%100, patch%100)
 }
 
 // budget budgets a plan, keeps it under the name save unless that is "",
@@ -199,7 +313,7 @@ func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPa
 	}
 	rows := report.BudgetRows(res.Lines, res.Names)
 	defer a.savedNote("budget", save, "flexible_budget", out)
-	return out.render(a.out, formats{sheet: "budget",
+	return out.render(a.out, formats{sheet: "budget", title: "Flexible budget from plan " + res.Plan, at: e.Now(),
 		json:  func(w io.Writer) error { return report.BudgetJSON(w, rows) },
 		csv:   func(w io.Writer) error { return report.BudgetCSV(w, rows) },
 		cells: func() [][]any { return report.BudgetCells(rows) },
@@ -220,7 +334,7 @@ func (a *app) variance(ctx context.Context, e *pipeline.Env, db *sqlite.DB, peri
 	}
 	rows := report.VarianceRows(res.Lines, res.Names)
 	defer a.savedNote("variance", save, "spending_variances", out)
-	return out.render(a.out, formats{sheet: "variance",
+	return out.render(a.out, formats{sheet: "variance", title: "Variances for " + period, at: e.Now(),
 		json:  func(w io.Writer) error { return report.VarianceJSON(w, rows) },
 		csv:   func(w io.Writer) error { return report.VarianceCSV(w, rows) },
 		cells: func() [][]any { return report.VarianceCells(rows) },
@@ -231,7 +345,8 @@ func (a *app) variance(ctx context.Context, e *pipeline.Env, db *sqlite.DB, peri
 // formats is one result rendered in each output format: JSON, CSV, the
 // cells of an XLSX sheet, and the table for a terminal.
 type formats struct {
-	sheet            string
+	sheet, title     string
+	at               time.Time // when the workbook is written
 	json, csv, table func(io.Writer) error
 	cells            func() [][]any
 }
@@ -245,8 +360,16 @@ func (o *outputFlags) render(out io.Writer, f formats) error {
 		case "csv":
 			return f.csv(w)
 		case "xlsx":
-			return writeXLSX(w, f.sheet, f.cells())
+			return writeXLSX(w, f.sheet, f.cells(), f.title, []string{sentence(costdrift.Independence) + "."}, f.at)
 		}
 		return f.table(w)
 	})
+}
+
+// sentence starts s with a capital letter.
+func sentence(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
 }

@@ -183,7 +183,7 @@ func TestBudgetOfTheDemoPlan(t *testing.T) {
 	if len(sheet) < 1+len(rows) || sheet[0][11] != "budget" || sheet[1][2] != "5100/WELD" {
 		t.Fatalf("XLSX: %d rows, header %v, first %v", len(sheet), sheet[0], sheet[1])
 	}
-	v, _ := f.GetCellValue("budget", "L2")
+	v, _ := f.GetCellValue("budget", "L2", excelize.Options{RawCellValue: true}) // the stored number, not as its format shows it
 	if got, err := strconv.ParseFloat(v, 64); err != nil || !near(got, *rows[0].Budget) {
 		t.Errorf("XLSX L2 = %q, JSON budget %v", v, *rows[0].Budget)
 	}
@@ -375,5 +375,43 @@ func TestPlanFigureMustMatchTheFittedSeries(t *testing.T) {
 	}
 	if tubing := got["5100/WELD"]; tubing.Budget == nil || *tubing.Activity != 1500 {
 		t.Errorf("5100/WELD on company-wide frames: %+v", tubing)
+	}
+}
+
+// A plan without a driver's figure: for a period not yet closed the budget
+// cannot be made and says which figure is missing; for a closed period the
+// actual activity stands in and the line says so (the test clock's
+// 2026-06 is closed and has actual activity, 2027-01 is not closed).
+func TestPlanWithoutADriversFigure(t *testing.T) {
+	dir := demoDir(t)
+	cfg := filepath.Join(dir, "costdrift.yaml")
+	plan := func(period string) string {
+		path := filepath.Join(t.TempDir(), "plan-"+period+".csv")
+		body := "period,driver,value,cost_center\n" + period + ",frames_built,1500,\n" + period + ",machine_hours,1400,WELD\n" + period + ",machine_hours,900,PAINT\n"
+		if err := os.WriteFile(path, []byte(body), 0o600); err != nil {
+			t.Fatal(err)
+		}
+		return path
+	}
+	_, err := run(t, "--config", cfg, "budget", "--plan", plan("2027-01"))
+	if err == nil || !strings.Contains(err.Error(), "no shipments for 2027-01") || !strings.Contains(err.Error(), "not closed") {
+		t.Errorf("a future period without planned shipments: %v", err)
+	}
+	var rows []struct {
+		Object  string `json:"object"`
+		Warning string `json:"warning"`
+	}
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "budget", "--plan", plan("2026-06"), "--format", "json")), &rows); err != nil {
+		t.Fatal(err)
+	}
+	flagged := map[string]bool{}
+	for _, r := range rows {
+		if strings.Contains(r.Warning, "no planned shipments for 2026-06, a closed period: budgeted at its actual activity") {
+			flagged[r.Object] = true
+		}
+	}
+	// The two objects on shipments, freight and packaging, and no other.
+	if len(flagged) != 2 || !flagged["6400/ASSY"] || !flagged["6420/ASSY"] {
+		t.Errorf("flagged lines %v, want 6400/ASSY and 6420/ASSY", flagged)
 	}
 }

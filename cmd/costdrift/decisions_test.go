@@ -367,7 +367,7 @@ func TestPinReviewAlerts(t *testing.T) {
 		t.Fatalf("%d pin_review alerts after the rent rose 15 %%, want 1", n)
 	}
 	list := mustRun(t, "--config", cfg, "alerts", "list", "--kind", "pin_review")
-	if !strings.Contains(list, "6100/WELD Rent: the data contradict the pinned formula (pinned 4200.00, the data say 4830.00 over 12 periods)") {
+	if !strings.Contains(list, "6100/WELD Rent: the data contradict the pinned formula (pinned 4,200.00, the data say 4,830.00 EUR over 12 periods)") {
 		t.Errorf("alerts list --kind pin_review:\n%s", list)
 	}
 	// Unpinned, the contradiction resolves.

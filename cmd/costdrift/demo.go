@@ -85,7 +85,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	}
 	run := res.Run
 	fmt.Fprintln(a.out)
-	if err := writeReport(ctx, e, db, "table", a.out); err != nil {
+	if err := a.writeReport(ctx, e, db, outputFlags{format: "table"}, report.Filter{}); err != nil {
 		return err
 	}
 

@@ -23,8 +23,11 @@ centre), what the latest analysis stored: the class and formula with the
 reason, every driver tried with its p-values before and after Holm's
 correction, the model comparison on the chosen driver, the high-low estimate
 beside least squares, and the diagnostics (Durbin–Watson, a robust fit,
-outliers). It reads the store and fits nothing. --chart draws cost against
-the chosen driver, as PNG or SVG by the file's extension.`,
+outliers). It reads the store and fits nothing. --chart FILE draws the cost
+over the periods, with the formula and any change marked, for every object;
+for an object with a driver, FILE is the cost against that driver and the
+cost over time goes beside it, into FILE's name with "-over-time" before the
+extension. PNG or SVG by the file's extension.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if format != "text" && format != "json" {
@@ -36,15 +39,23 @@ the chosen driver, as PNG or SVG by the file's extension.`,
 				}
 			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				ex, sc, err := pipeline.Explain(cmd.Context(), e, db, args[0], chartPath != "")
+				ex, charts, err := pipeline.Explain(cmd.Context(), e, db, args[0], chartPath != "")
 				if err != nil {
 					return err
 				}
-				if sc != nil {
-					if err := chart.WriteFile(chartPath, *sc); err != nil {
+				if charts != nil {
+					timelinePath := chartPath
+					if charts.Scatter != nil {
+						if err := chart.WriteFile(chartPath, *charts.Scatter); err != nil {
+							return err
+						}
+						ex.Chart = chartPath
+						timelinePath = overTime(chartPath)
+					}
+					if err := chart.WriteFile(timelinePath, *charts.Timeline); err != nil {
 						return err
 					}
-					ex.Chart = chartPath
+					ex.TimeChart = timelinePath
 				}
 				if format == "json" {
 					return report.ExplainJSON(a.out, ex)
@@ -54,6 +65,13 @@ the chosen driver, as PNG or SVG by the file's extension.`,
 		},
 	}
 	cmd.Flags().StringVar(&format, "format", "text", "text or json")
-	cmd.Flags().StringVar(&chartPath, "chart", "", "also draw cost against the chosen driver into `FILE` (.png or .svg)")
+	cmd.Flags().StringVar(&chartPath, "chart", "", "also draw the charts into `FILE` (.png or .svg): cost against the driver, and cost over time beside it")
 	return cmd
+}
+
+// overTime is where the cost-over-time chart goes beside the scatter in
+// path: "6200.png" → "6200-over-time.png".
+func overTime(path string) string {
+	ext := filepath.Ext(path)
+	return strings.TrimSuffix(path, ext) + "-over-time" + ext
 }

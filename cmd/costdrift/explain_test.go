@@ -201,18 +201,51 @@ func TestExplainDemo(t *testing.T) {
 		}
 	})
 
-	t.Run("an object without a driver has no chart", func(t *testing.T) {
-		path := filepath.Join(t.TempDir(), "rent.png")
-		_, err := run(t, "--config", cfg, "explain", "6100/WELD", "--chart", path)
-		if err == nil || !strings.Contains(err.Error(), "6100/WELD is fixed with no driver") || strings.Contains(err.Error(), "\n") {
-			t.Errorf("error %v, want one line saying 6100/WELD has no driver", err)
+	// 6400/ASSY changed behaviour in 2025-02 and is fitted on the 17
+	// periods since; nothing changed after the analysis, so explain says
+	// nothing of changed data (the 36 periods of the window are not the 17
+	// fitted).
+	t.Run("an object with a break has no note of changed data", func(t *testing.T) {
+		out := mustRun(t, "--config", cfg, "explain", "6400/ASSY")
+		if strings.Contains(out, "changed since analysis") {
+			t.Errorf("explain 6400/ASSY claims changed data:\n%s", out)
 		}
-		if _, err := os.Stat(path); !errors.Is(err, os.ErrNotExist) {
-			t.Errorf("%s written anyway", path)
-		}
-		// Without --chart it is explained.
-		if out := mustRun(t, "--config", cfg, "explain", "6100/WELD"); !strings.Contains(out, "class      fixed") {
-			t.Errorf("explain 6100/WELD:\n%s", out)
+	})
+
+	// Every class has a chart: an object without a driver its cost over
+	// time, in FILE; one with a driver the scatter in FILE and the cost over
+	// time beside it. The explanation is printed either way.
+	t.Run("every class has a chart", func(t *testing.T) {
+		for _, c := range []struct{ object, class, file, scatter, timeline string }{
+			{"6100/WELD", "fixed", "rent.png", "", "rent.png"},
+			{"6110/PAINT", "fixed", "lease.svg", "", "lease.svg"},
+			{"6600/ASSY", "unexplained", "marketing.png", "", "marketing.png"},
+			{"6400/ASSY", "variable", "freight.png", "freight.png", "freight-over-time.png"},
+			{"6300/ASSY", "step", "supervision.svg", "supervision.svg", "supervision-over-time.svg"},
+		} {
+			dir := t.TempDir()
+			out := mustRun(t, "--config", cfg, "explain", c.object, "--chart", filepath.Join(dir, c.file))
+			if !strings.Contains(out, "class      "+c.class) || !strings.Contains(out, "Formulas are statistical estimates") {
+				t.Errorf("explain %s --chart does not print the explanation:\n%s", c.object, out)
+			}
+			if c.scatter != "" && !strings.Contains(out, "Chart written to "+filepath.Join(dir, c.scatter)) {
+				t.Errorf("%s: output does not name the scatter:\n%s", c.object, out)
+			}
+			if !strings.Contains(out, "Cost over time written to "+filepath.Join(dir, c.timeline)) {
+				t.Errorf("%s: output does not name the cost over time:\n%s", c.object, out)
+			}
+			data, err := os.ReadFile(filepath.Join(dir, c.timeline))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if strings.HasSuffix(c.timeline, ".svg") && !bytes.Contains(data, []byte(c.object)) {
+				t.Errorf("%s does not name %s", c.timeline, c.object)
+			}
+			if strings.HasSuffix(c.timeline, ".png") {
+				if _, err := png.Decode(bytes.NewReader(data)); err != nil {
+					t.Errorf("%s: %v", c.timeline, err)
+				}
+			}
 		}
 	})
 

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -29,10 +30,44 @@ func TestGoldenOutputs(t *testing.T) {
 		{"budget-2026-q3", []string{"budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv")}},
 		{"variance-2026-06", []string{"variance", "--period", "2026-06", "--plan", filepath.Join(dir, "plans", "plan-2026-q2.csv")}},
 		{"alerts-list", []string{"alerts", "list", "--status", "all"}},
+		{"history-6110-PAINT", []string{"history", "6110/PAINT"}},
+		{"history-6400-ASSY", []string{"history", "6400/ASSY"}},
+		{"history-6400-ASSY-json", []string{"history", "6400/ASSY", "--format", "json"}},
+		{"report-json", []string{"report", "--format", "json"}},
+		{"explain-6110-PAINT-json", []string{"explain", "6110/PAINT", "--format", "json"}},
+		{"report-csv", []string{"report", "--format", "csv"}},
+		{"report-xlsx", []string{"report", "--format", "xlsx"}},
+		{"report-html", []string{"report", "--format", "html"}},
+		{"budget-2026-q3-json", []string{"budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv"), "--format", "json"}},
+		{"budget-2026-q3-xlsx", []string{"budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv"), "--format", "xlsx"}},
+		{"budget-2026-q3-csv", []string{"budget", "--plan", filepath.Join(dir, "plans", "plan-2026-q3.csv"), "--format", "csv"}},
+		{"variance-2026-06-json", []string{"variance", "--period", "2026-06", "--plan", filepath.Join(dir, "plans", "plan-2026-q2.csv"), "--format", "json"}},
+		{"variance-2026-06-csv", []string{"variance", "--period", "2026-06", "--plan", filepath.Join(dir, "plans", "plan-2026-q2.csv"), "--format", "csv"}},
+		{"variance-2026-06-xlsx", []string{"variance", "--period", "2026-06", "--plan", filepath.Join(dir, "plans", "plan-2026-q2.csv"), "--format", "xlsx"}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
-			out := mustRun(t, append([]string{"--config", cfg}, tc.args...)...)
+			var out string
+			if strings.HasSuffix(tc.name, "-xlsx") {
+				// A workbook's golden file is its cells' values, one row a
+				// line, tab-separated, as a program reading it sees them.
+				path := filepath.Join(t.TempDir(), "out.xlsx")
+				mustRun(t, append(append([]string{"--config", cfg}, tc.args...), "--output", path)...)
+				_, rows := xlsxCells(t, path)
+				var b strings.Builder
+				for _, r := range rows {
+					b.WriteString(strings.Join(r, "\t") + "\n")
+				}
+				out = b.String()
+			} else {
+				out = mustRun(t, append([]string{"--config", cfg}, tc.args...)...)
+			}
+			if strings.HasSuffix(tc.name, "-html") {
+				// The charts are checked where they are drawn
+				// (internal/chart) and rendered (TestHTMLReportRendersInChromium);
+				// the golden file keeps the page around them.
+				out = inlineChart.ReplaceAllString(out, "<svg>…</svg>")
+			}
 			// The demo folder is a new temporary one each run.
 			out = strings.ReplaceAll(out, dir, "DEMO")
 			path := filepath.Join("testdata", "golden", tc.name+".txt")
@@ -53,6 +88,9 @@ func TestGoldenOutputs(t *testing.T) {
 		})
 	}
 }
+
+// inlineChart is an SVG chart inline in an HTML page.
+var inlineChart = regexp.MustCompile(`(?s)<svg .*?</svg>`)
 
 // diffLines shows the first lines where two texts differ, with line numbers.
 func diffLines(want, got string) string {

@@ -174,15 +174,16 @@ func TestMailCycleServerDownThenBack(t *testing.T) {
 		}
 	}
 	freight := got["freight@example.test"][0]
-	// 6400/ASSY is variable on shipments: its chart is drawn; 6110/PAINT is
-	// fixed, with no activity to draw against.
+	// 6400/ASSY is variable on shipments: its scatter is drawn; 6110/PAINT
+	// is fixed, with no activity to draw against: its cost over time is.
 	if len(freight.Inline) != 1 || freight.Inline[0].ContentType != "image/png" || !strings.Contains(freight.HTML, "cid:"+freight.Inline[0].ContentID) {
 		t.Errorf("freight digest: inline parts %+v", freight.Inline)
 	}
-	if len(got["paint@example.test"][0].Inline) != 0 {
-		t.Errorf("paint digest has a chart for a fixed cost")
+	if paint := got["paint@example.test"][0]; len(paint.Inline) != 1 || paint.Inline[0].ContentType != "image/png" ||
+		!strings.Contains(paint.HTML, "cid:"+paint.Inline[0].ContentID) {
+		t.Errorf("paint digest: inline parts %+v, want the fixed cost's cost over time", paint.Inline)
 	}
-	for _, want := range []string{"costdrift explain 6400/ASSY", "Since: 2025-02", "was  14.4756 × shipments", "now  11.9174 × shipments", "p-value: < 0.001", "Formulas are statistical estimates"} {
+	for _, want := range []string{"costdrift explain 6400/ASSY", "Since: 2025-02", "was  14.48 × shipments", "now  11.92 × shipments", "p-value: < 0.001", "Formulas are statistical estimates"} {
 		if !strings.Contains(freight.Text, want) {
 			t.Errorf("freight text part lacks %q:\n%s", want, freight.Text)
 		}

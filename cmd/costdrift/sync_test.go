@@ -279,8 +279,9 @@ func TestSyncStoppedBySignalSaysWhatSynced(t *testing.T) {
 	}
 	// The accounts and activity sources come first and take milliseconds;
 	// the 240,000 ledger rows take most of a second.
-	waitFor(t, 10*time.Second, "the activity source to finish", func() bool {
-		return tryCount(store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'ops' AND status = 'ok'") == 1
+	waitFor(t, 10*time.Second, "the activity source to finish and the ledger's to begin", func() bool {
+		return tryCount(store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'ops' AND status = 'ok'") == 1 &&
+			tryCount(store, "SELECT COUNT(*) FROM sync_runs WHERE source = 'gl' AND status = 'running'") == 1
 	}, logs)
 	if err := cmd.Process.Signal(syscall.SIGTERM); err != nil {
 		t.Fatal(err)

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // ConfirmPeriods: a shift found with fewer periods than this after its
@@ -44,8 +45,9 @@ var BehaviourKinds = []costdrift.AlertKind{costdrift.AlertReclassified, costdrif
 // or driver is fingerprinted by the behaviour it replaced (its start), not
 // by the new one's, whose first period moves with the window: it stays one
 // alert from one analysis to the next. An alert holds while the current
-// behaviour is the changed one, and resolves when it is replaced.
-func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Behaviour, names map[string]string) []costdrift.Alert {
+// behaviour is the changed one, and resolves when it is replaced. Amounts
+// in the messages are of currency ("" leaves it unsaid).
+func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Behaviour, names map[string]string, currency string) []costdrift.Alert {
 	var out []costdrift.Alert
 	for _, b := range current {
 		object := b.Object.String()
@@ -93,7 +95,7 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertFixedShift, Object: object, Severity: shiftSeverity(fixed, watch), Period: k.Period,
 					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s", label, direction(fixed), 100*math.Abs(fixedChange(k, level)),
-						k.Period, money(k.FixedBefore), money(k.FixedAfter)),
+						k.Period, money(k.FixedBefore), present.Money(k.FixedAfter, currency)),
 					Fingerprint: costdrift.Fingerprint(costdrift.AlertFixedShift, object, k.Period),
 					Evidence:    ev,
 				})
@@ -102,7 +104,7 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertRateShift, Object: object, Severity: shiftSeverity(rate, watch), Period: k.Period,
 					Message: fmt.Sprintf("%s: rate per %s %s from %s, %s to %s (%.0f %% of the cost at the activity before)", label,
-						unit(b, k.Driver), direction(rate), k.Period, rateText(k.RateBefore), rateText(k.RateAfter), 100*math.Abs(rate)),
+						unit(b, k.Driver), direction(rate), k.Period, rateText(k.RateBefore), perCurrency(rateText(k.RateAfter), currency), 100*math.Abs(rate)),
 					Fingerprint: costdrift.Fingerprint(costdrift.AlertRateShift, object, k.Period),
 					Evidence:    ev,
 				})
@@ -181,13 +183,16 @@ func unit(b costdrift.Behaviour, driver string) string {
 	return "unit of " + strings.ReplaceAll(driver, "_", " ")
 }
 
-func money(v float64) string { return fmt.Sprintf("%.2f", v) }
+func money(v float64) string { return present.Amount(v) }
 
-func rateText(v float64) string {
-	if math.Abs(v) < 1 {
-		return fmt.Sprintf("%.4f", v)
+func rateText(v float64) string { return present.Rate(v) }
+
+// perCurrency adds the currency to a figure; "" leaves it as it is.
+func perCurrency(figure, currency string) string {
+	if currency == "" {
+		return figure
 	}
-	return fmt.Sprintf("%.2f", v)
+	return figure + " " + currency
 }
 
 // evidence of a change of class or driver: both behaviours' formulas, and

@@ -41,7 +41,7 @@ func TestShifts(t *testing.T) {
 		{"doubled", lease(5700), []costdrift.AlertKind{costdrift.AlertFixedShift}},
 	}
 	for _, tc := range tests {
-		got := Behaviour([]costdrift.Behaviour{tc.b}, nil, map[string]string{"6110": "Equipment lease"})
+		got := Behaviour([]costdrift.Behaviour{tc.b}, nil, map[string]string{"6110": "Equipment lease"}, "")
 		if len(got) != len(tc.kinds) {
 			t.Fatalf("%s: %d alerts %+v, want %v", tc.name, len(got), got, tc.kinds)
 		}
@@ -56,12 +56,12 @@ func TestShifts(t *testing.T) {
 		if tc.name == "doubled" && got[0].Severity != costdrift.SeverityCritical {
 			t.Errorf("doubled: severity %s, want critical", got[0].Severity)
 		}
-		if tc.name == "lease renewed" && (got[0].Severity != costdrift.SeverityWarning || !strings.Contains(got[0].Message, "6110/PAINT Equipment lease: fixed cost per period rose 18 % from 2025-07, 2800.00 to 3300.00")) {
+		if tc.name == "lease renewed" && (got[0].Severity != costdrift.SeverityWarning || !strings.Contains(got[0].Message, "6110/PAINT Equipment lease: fixed cost per period rose 18 % from 2025-07, 2,800.00 to 3,300.00")) {
 			t.Errorf("lease: %+v", got[0])
 		}
 	}
 	// The same break gives the same fingerprint on every evaluation.
-	a, b := Behaviour([]costdrift.Behaviour{lease(3300)}, nil, nil), Behaviour([]costdrift.Behaviour{lease(3310)}, nil, nil)
+	a, b := Behaviour([]costdrift.Behaviour{lease(3300)}, nil, nil, ""), Behaviour([]costdrift.Behaviour{lease(3310)}, nil, nil, "")
 	if a[0].Fingerprint != b[0].Fingerprint {
 		t.Error("fingerprint changed between evaluations of the same break")
 	}
@@ -71,19 +71,19 @@ func TestReclassifiedAndDriverChanged(t *testing.T) {
 	before := costdrift.Behaviour{Object: costdrift.CostObject{Account: "6200", CostCenter: "WELD"}, Class: costdrift.Fixed, FixedPerPeriod: 3000}
 	now := before
 	now.Class, now.Driver, now.Since, now.FixedPerPeriod, now.VariableRate = costdrift.Mixed, "machine_hours", "2026-01", 1800, 2.4
-	got := Behaviour([]costdrift.Behaviour{now}, map[string]costdrift.Behaviour{"6200/WELD": before}, nil)
+	got := Behaviour([]costdrift.Behaviour{now}, map[string]costdrift.Behaviour{"6200/WELD": before}, nil, "")
 	if len(got) != 1 || got[0].Kind != costdrift.AlertReclassified || got[0].Severity != costdrift.SeverityWarning ||
 		got[0].Message != "6200/WELD is now mixed on machine hours (was fixed) since 2026-01" {
 		t.Fatalf("reclassified: %+v", got)
 	}
 	other := now
 	other.Driver, other.Lag = "frames_built", 1
-	got = Behaviour([]costdrift.Behaviour{other}, map[string]costdrift.Behaviour{"6200/WELD": now}, nil)
+	got = Behaviour([]costdrift.Behaviour{other}, map[string]costdrift.Behaviour{"6200/WELD": now}, nil, "")
 	if len(got) != 1 || got[0].Kind != costdrift.AlertDriverChanged || !strings.Contains(got[0].Message, "frames built of the period before now (was machine hours)") {
 		t.Fatalf("driver changed: %+v", got)
 	}
 	// Unchanged behaviour raises nothing, so its alerts resolve.
-	if got := Behaviour([]costdrift.Behaviour{now}, map[string]costdrift.Behaviour{}, nil); len(got) != 0 {
+	if got := Behaviour([]costdrift.Behaviour{now}, map[string]costdrift.Behaviour{}, nil, ""); len(got) != 0 {
 		t.Errorf("no previous behaviour: %+v", got)
 	}
 }
@@ -94,13 +94,13 @@ func TestReclassifiedAndDriverChanged(t *testing.T) {
 func TestShiftIsWatchedUntilConfirmed(t *testing.T) {
 	early := lease(3300)
 	early.Break.Periods = 2
-	got := Behaviour([]costdrift.Behaviour{early}, nil, nil)
+	got := Behaviour([]costdrift.Behaviour{early}, nil, nil, "")
 	if len(got) != 1 || got[0].Severity != costdrift.SeverityInfo || got[0].Kind != costdrift.AlertFixedShift {
 		t.Fatalf("a shift seen in 2 periods: %+v, want one info fixed_shift", got)
 	}
 	confirmed := lease(3300)
 	confirmed.Break.Periods = 3
-	again := Behaviour([]costdrift.Behaviour{confirmed}, nil, nil)
+	again := Behaviour([]costdrift.Behaviour{confirmed}, nil, nil, "")
 	if len(again) != 1 || again[0].Severity != costdrift.SeverityWarning || again[0].Fingerprint != got[0].Fingerprint {
 		t.Fatalf("the same shift in 3 periods: %+v, want a warning with the watch's fingerprint", again)
 	}
@@ -117,12 +117,12 @@ func TestMixedFixedPartShift(t *testing.T) {
 			Break: &costdrift.Break{Period: "2025-09", Driver: "machine_hours", P: 0.001, FixedBefore: fixedBefore, FixedAfter: fixedAfter,
 				RateBefore: 2, RateAfter: 2, LevelBefore: 4000, ActivityBefore: (4000 - fixedBefore) / 2, Periods: 4}}
 	}
-	got := Behaviour([]costdrift.Behaviour{mixed(2000, 2300)}, nil, nil)
+	got := Behaviour([]costdrift.Behaviour{mixed(2000, 2300)}, nil, nil, "")
 	if len(got) != 1 || got[0].Kind != costdrift.AlertFixedShift || got[0].Severity != costdrift.SeverityWarning ||
-		!strings.Contains(got[0].Message, "fixed cost per period rose 15 % from 2025-09, 2000.00 to 2300.00") {
+		!strings.Contains(got[0].Message, "fixed cost per period rose 15 % from 2025-09, 2,000.00 to 2,300.00") {
 		t.Fatalf("fixed part 2,000 -> 2,300: %+v", got)
 	}
-	if got := Behaviour([]costdrift.Behaviour{mixed(300, 345)}, nil, nil); len(got) != 0 {
+	if got := Behaviour([]costdrift.Behaviour{mixed(300, 345)}, nil, nil, ""); len(got) != 0 {
 		t.Errorf("fixed part 300 -> 345 under a cost of 4,000: %+v, want no alert", got)
 	}
 }
@@ -138,13 +138,13 @@ func TestChangeKeepsItsFingerprintAsTheWindowMoves(t *testing.T) {
 	later := now
 	later.Since = "2023-03"
 	previous := map[string]costdrift.Behaviour{"6200/WELD": before}
-	a, b := Behaviour([]costdrift.Behaviour{now}, previous, nil), Behaviour([]costdrift.Behaviour{later}, previous, nil)
+	a, b := Behaviour([]costdrift.Behaviour{now}, previous, nil, ""), Behaviour([]costdrift.Behaviour{later}, previous, nil, "")
 	if len(a) != 1 || len(b) != 1 || a[0].Fingerprint != b[0].Fingerprint {
 		t.Errorf("reclassified: fingerprints %v and %v a month apart, want one alert", a, b)
 	}
 	now.Class, later.Class, before.Class, before.Driver = costdrift.Mixed, costdrift.Mixed, costdrift.Mixed, "labour_hours"
 	previous["6200/WELD"] = before
-	a, b = Behaviour([]costdrift.Behaviour{now}, previous, nil), Behaviour([]costdrift.Behaviour{later}, previous, nil)
+	a, b = Behaviour([]costdrift.Behaviour{now}, previous, nil, ""), Behaviour([]costdrift.Behaviour{later}, previous, nil, "")
 	if len(a) != 1 || len(b) != 1 || a[0].Kind != costdrift.AlertDriverChanged || a[0].Fingerprint != b[0].Fingerprint {
 		t.Errorf("driver changed: fingerprints %v and %v a month apart, want one alert", a, b)
 	}
@@ -160,7 +160,7 @@ func TestOffsettingShiftsRaiseNothing(t *testing.T) {
 		Driver: "machine_hours", FixedPerPeriod: 3000, VariableRate: 3.5, Since: "2024-03",
 		Break: &costdrift.Break{Period: "2024-03", Driver: "machine_hours", P: 0.004, FixedBefore: 5000, FixedAfter: 3000,
 			RateBefore: 2.5, RateAfter: 3.5, LevelBefore: 10000, ActivityBefore: 2000, Periods: 14}}
-	if got := Behaviour([]costdrift.Behaviour{b}, nil, nil); len(got) != 0 {
+	if got := Behaviour([]costdrift.Behaviour{b}, nil, nil, ""); len(got) != 0 {
 		t.Errorf("offsetting fixed part and rate: %+v, want no alert", got)
 	}
 }

@@ -3,9 +3,9 @@ package alerts
 import (
 	"fmt"
 	"math"
-	"strings"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // AnalysisKinds are the kinds evaluated after every analysis: behaviour
@@ -23,7 +23,8 @@ const OutOfRangeMargin = 0.10
 // outside the 95 % prediction interval of the formula fitted without it:
 // info for a one-off, warning when the period before was outside on the same
 // side too (README, Alerts: a lone spending outlier is info).
-func Spending(current []costdrift.Behaviour, names map[string]string) []costdrift.Alert {
+// Amounts in the message are of currency ("" leaves it unsaid).
+func Spending(current []costdrift.Behaviour, names map[string]string, currency string) []costdrift.Alert {
 	var out []costdrift.Alert
 	for _, b := range current {
 		n := len(b.Spending)
@@ -44,8 +45,9 @@ func Spending(current []costdrift.Behaviour, names map[string]string) []costdrif
 		}
 		out = append(out, costdrift.Alert{
 			Kind: costdrift.AlertSpendingOutlier, Object: b.Object.String(), Severity: sev, Period: c.Period,
-			Message: fmt.Sprintf("%s: %s cost %.2f is %s the expected %.2f (95 %% interval %.2f to %.2f)",
-				label(b, names), c.Period, c.Actual, side, c.Expected, c.Low, c.High),
+			Message: fmt.Sprintf("%s: %s cost %s is %s the %s the formula fitted without that period expects (95 %% interval %s to %s)",
+				label(b, names), c.Period, present.Money(c.Actual, currency), side, present.Money(c.Expected, currency), present.Amount(c.Low),
+				present.Money(c.High, currency)),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertSpendingOutlier, b.Object.String(), c.Period),
 			Evidence: costdrift.AlertEvidence{Period: new(c.Period), Actual: new(c.Actual), Expected: new(c.Expected), Low95: new(c.Low),
 				High95: new(c.High), Activity: new(c.Activity), FormulaFittedWithoutIt: new(true), Repeats: new(sev == costdrift.SeverityWarning)},
@@ -81,8 +83,9 @@ func OutOfRange(current []costdrift.Behaviour, newest map[string]NewestActivity,
 		}
 		out = append(out, costdrift.Alert{
 			Kind: costdrift.AlertOutOfRange, Object: b.Object.String(), Severity: costdrift.SeverityInfo, Period: a.Period,
-			Message: fmt.Sprintf("%s: %s activity %.1f %s is %.0f %% outside the relevant range %.1f to %.1f; the formula does not hold there",
-				label(b, names), a.Period, a.Value, strings.ReplaceAll(b.Driver, "_", " "), 100*beyond, b.RangeMin, b.RangeMax),
+			Message: fmt.Sprintf("%s: %s activity %s %s is %s outside the relevant range %s; the formula does not hold there",
+				label(b, names), a.Period, present.Activity(a.Value), present.DriverWords(b.Driver), present.Percent(beyond),
+				present.ActivityRange(b.RangeMin, b.RangeMax)),
 			Fingerprint: costdrift.Fingerprint(costdrift.AlertOutOfRange, b.Object.String(), a.Period),
 			Evidence: costdrift.AlertEvidence{Period: new(a.Period), Activity: new(a.Value), RangeMin: new(b.RangeMin), RangeMax: new(b.RangeMax),
 				Driver: new(b.Driver)},

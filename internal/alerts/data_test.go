@@ -2,6 +2,7 @@ package alerts
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
@@ -24,7 +25,7 @@ func TestSpendingOutlier(t *testing.T) {
 	}
 	for _, tc := range tests {
 		b.Spending = tc.checks
-		got := Spending([]costdrift.Behaviour{b}, nil)
+		got := Spending([]costdrift.Behaviour{b}, nil, "")
 		if tc.want == "" {
 			if len(got) != 0 {
 				t.Errorf("%s: %+v", tc.name, got)
@@ -87,5 +88,32 @@ func TestSourceRules(t *testing.T) {
 	stale := StaleSource(states)
 	if len(stale) != 1 || stale[0].Object != "old" {
 		t.Errorf("stale %+v, want only old", stale)
+	}
+}
+
+// Messages give money with thousands separators and the currency, and say
+// where the expected cost comes from: the formula fitted without the period,
+// which is why it differs from the variance's flexible budget (the formula
+// fitted with it).
+func TestMessagesNameTheCurrency(t *testing.T) {
+	b := costdrift.Behaviour{Object: costdrift.CostObject{Account: "6500", CostCenter: "WELD"},
+		Spending: []costdrift.SpendingCheck{{Period: "2026-06", Actual: 2251.14, Expected: 2371.67, Low: 2287.14, High: 2456.2}}}
+	got := Spending([]costdrift.Behaviour{b}, map[string]string{"6500": "Maintenance"}, "EUR")
+	want := "6500/WELD Maintenance: 2026-06 cost 2,251.14 EUR is below the 2,371.67 EUR the formula fitted without that period expects " +
+		"(95 % interval 2,287.14 to 2,456.20 EUR)"
+	if len(got) != 1 || got[0].Message != want {
+		t.Errorf("spending outlier: %+v\nwant %q", got, want)
+	}
+	shifts := Behaviour([]costdrift.Behaviour{lease(3300), freight(11.92)}, nil, map[string]string{"6110": "Equipment lease", "6400": "Freight out"}, "EUR")
+	var messages []string
+	for _, a := range shifts {
+		messages = append(messages, a.Message)
+	}
+	all := strings.Join(messages, "\n")
+	for _, w := range []string{"fixed cost per period rose 18 % from 2025-07, 2,800.00 to 3,300.00 EUR",
+		"rate per shipment fell from 2025-02, 14.50 to 11.92 EUR"} {
+		if !strings.Contains(all, w) {
+			t.Errorf("messages lack %q:\n%s", w, all)
+		}
 	}
 }

@@ -17,7 +17,9 @@ const PinTestName = "F test of the pinned coefficients (Benjamini–Hochberg ove
 // pin whose last period lies before period, an alert that it expired. A
 // pin made again is a new decision and so a new condition: the
 // fingerprint carries the decision's id.
-func PinReview(pins map[string]costdrift.Pin, tests []costdrift.PinTest, period string, names map[string]string) []costdrift.Alert {
+//
+// Amounts in the messages are of currency ("" leaves it unsaid).
+func PinReview(pins map[string]costdrift.Pin, tests []costdrift.PinTest, period string, names map[string]string, currency string) []costdrift.Alert {
 	var out []costdrift.Alert
 	for _, t := range tests {
 		if !t.Contradicted {
@@ -25,14 +27,15 @@ func PinReview(pins map[string]costdrift.Pin, tests []costdrift.PinTest, period 
 		}
 		p := t.Pin
 		object := p.Object
-		data := fmt.Sprintf("the data say %s", money(t.DataFixed))
+		data := fmt.Sprintf("the data say %s", perCurrency(money(t.DataFixed), currency))
 		pinned := money(p.Fixed)
 		switch p.Class {
 		case costdrift.Variable:
-			data, pinned = fmt.Sprintf("the data say %s per unit", strconv.FormatFloat(t.DataRate, 'g', 4, 64)), strconv.FormatFloat(p.Rate, 'g', 4, 64)+" per unit"
+			data = fmt.Sprintf("the data say %s per unit", perCurrency(rateText(t.DataRate), currency))
+			pinned = rateText(p.Rate) + " per unit"
 		case costdrift.Mixed:
-			data = fmt.Sprintf("the data say %s + %s per unit", money(t.DataFixed), strconv.FormatFloat(t.DataRate, 'g', 4, 64))
-			pinned = fmt.Sprintf("%s + %s per unit", money(p.Fixed), strconv.FormatFloat(p.Rate, 'g', 4, 64))
+			data = fmt.Sprintf("the data say %s + %s per unit", money(t.DataFixed), perCurrency(rateText(t.DataRate), currency))
+			pinned = fmt.Sprintf("%s + %s per unit", money(p.Fixed), rateText(p.Rate))
 		}
 		ev := costdrift.AlertEvidence{Test: new(PinTestName), Statistic: new(t.F), P: new(t.P), N: new(t.N),
 			PinnedFixed: new(p.Fixed), PinnedRate: new(p.Rate), DataFixed: new(t.DataFixed), DataRate: new(t.DataRate)}

@@ -19,13 +19,13 @@ func TestPinReview(t *testing.T) {
 		{Pin: rent, N: 12, F: 674.2, P: 1e-11, DataFixed: 4830.12, Contradicted: true},
 		{Pin: calm, N: 36, F: 1.0, P: 0.32, DataFixed: 2600.45},
 	}
-	got := PinReview(pins, tests, "2026-07", map[string]string{"6100": "Rent", "6110": "Equipment lease"})
+	got := PinReview(pins, tests, "2026-07", map[string]string{"6100": "Rent", "6110": "Equipment lease"}, "EUR")
 	if len(got) != 2 {
 		t.Fatalf("%d alerts, want 2: %+v", len(got), got)
 	}
 	c, x := got[0], got[1]
 	if c.Kind != costdrift.AlertPinReview || c.Object != "6100/WELD" || c.Severity != costdrift.SeverityWarning ||
-		c.Message != "6100/WELD Rent: the data contradict the pinned formula (pinned 4200.00, the data say 4830.12 over 12 periods); review the pin" ||
+		c.Message != "6100/WELD Rent: the data contradict the pinned formula (pinned 4,200.00, the data say 4,830.12 EUR over 12 periods); review the pin" ||
 		c.Fingerprint != costdrift.Fingerprint(costdrift.AlertPinReview, "6100/WELD", "contradicted 7") ||
 		*c.Evidence.P != 1e-11 || *c.Evidence.PinnedFixed != 4200 || *c.Evidence.DataFixed != 4830.12 || *c.Evidence.N != 12 {
 		t.Errorf("contradiction alert %+v", c)
@@ -39,7 +39,7 @@ func TestPinReview(t *testing.T) {
 			t.Error(err)
 		}
 	}
-	if got := PinReview(pins, tests, "2026-06", nil); len(got) != 1 {
+	if got := PinReview(pins, tests, "2026-06", nil, "EUR"); len(got) != 1 {
 		t.Errorf("in the pin's last period: %d alerts, want only the contradiction", len(got))
 	}
 }

@@ -10,6 +10,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/fit"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // Settings are the method settings (the README's method defaults in brackets).
@@ -555,8 +556,8 @@ func driverLabel(c *candidate) string {
 
 // pText writes a p-value the way a reason shows it.
 func pText(p float64) string {
-	if p < 0.001 {
-		return "p < 0.001"
+	if p < present.AnalyticResolution {
+		return "p " + present.PValue(p, present.AnalyticResolution)
 	}
-	return fmt.Sprintf("p = %.3f", p)
+	return "p = " + present.PValue(p, present.AnalyticResolution)
 }

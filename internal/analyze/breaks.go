@@ -11,6 +11,7 @@ import (
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/drift"
 	"github.com/costdrift/costdrift/internal/fit"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // HansenMargin: a sup-F whose Hansen p-value is below the level divided by
@@ -109,8 +110,8 @@ func withBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s Se
 		pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = sideFormula(res.x, res.y, split, len(res.y), false)
 		if !(pb.VariableRate > 0) {
 			implausible = provisionalRate(pb, brk, res.x[split:], post)
-		} else {
-			implausible = keepRate(pb, brk, res.x[split:], post)
+		} else if implausible = keepRate(pb, brk, res.x[split:], post); implausible == "" {
+			implausible = negativeFixedPart(pb, brk, res.x[split:], post, s.Alpha)
 		}
 		brk.FixedAfter, brk.RateAfter = pb.FixedPerPeriod, pb.VariableRate
 	default:
@@ -161,8 +162,33 @@ func provisionalRate(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float
 		why = fmt.Sprintf("the rate from before the break, %s, would leave a negative fixed part", rateOf(rate, pb.Unit, pb.Driver))
 	}
 	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = meanOf(y), 0, keptRateTerms(x, y, 0, 0)
-	return fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost and %s, so the cost is taken at its mean since the break, %.2f, until a rate can be fitted",
-		refitted, why, pb.FixedPerPeriod)
+	return fmt.Sprintf("; the rate refitted on them, %s, is implausible for a cost and %s, so the cost is taken at its mean since the break, %s, until a rate can be fitted",
+		refitted, why, present.Amount(pb.FixedPerPeriod))
+}
+
+// negativeFixedPart replaces the provisional formula of a mixed cost whose
+// refitted rate is positive but whose fixed part is below zero beyond its
+// uncertainty (negative, and its two-sided p-value below alpha), where the
+// rate from before the break cannot be kept (keepRate): a cost that is
+// less than nothing at zero activity is implausible, and a line through so
+// few periods extrapolates their noise to zero activity. The formula is the
+// mean cost since the break, as in provisionalRate, until enough periods
+// follow the break to estimate a formula. It returns the reason's clause,
+// "" when the fixed part is plausible.
+func negativeFixedPart(pb *costdrift.Behaviour, brk *costdrift.Break, x, y []float64, alpha float64) string {
+	r, err := fit.Line(x, y)
+	if err != nil || !(r.Coef[0] < 0) || !(r.P[0] < alpha) {
+		return ""
+	}
+	refitted := fmt.Sprintf("%s + %s", present.Amount(r.Coef[0]), rateOf(r.Coef[1], pb.Unit, pb.Driver))
+	why := "the rate from before the break is not positive"
+	if brk.RateBefore > 0 {
+		why = fmt.Sprintf("the rate from before the break, %s, would leave a negative fixed part too", rateOf(brk.RateBefore, pb.Unit, pb.Driver))
+	}
+	pb.FixedPerPeriod, pb.VariableRate, pb.Prediction = meanOf(y), 0, keptRateTerms(x, y, 0, 0)
+	return fmt.Sprintf("; the formula refitted on them, %s, has a fixed part below zero beyond its uncertainty (p %s), implausible for a cost, and %s: "+
+		"too few periods since the change to estimate a formula, so the cost is taken at its mean since the break, %s",
+		refitted, present.PValue(r.P[0], present.AnalyticResolution), why, present.Amount(pb.FixedPerPeriod))
 }
 
 // keepRate replaces the provisional formula of a mixed cost whose rate
@@ -221,7 +247,7 @@ func rateOf(rate float64, unit, driver string) string {
 	if unit == "" {
 		unit = "unit of " + strings.ReplaceAll(driver, "_", " ")
 	}
-	return fmt.Sprintf("%.4g per %s", rate, unit)
+	return present.RatePer(rate, unit)
 }
 
 // EndPeriods are the numbers of newest periods the end-of-window test
@@ -504,10 +530,11 @@ func breakText(b *costdrift.Break, s Settings) string {
 	if strings.HasPrefix(b.Test, "shift") {
 		name = fmt.Sprintf("newest %d periods shifted, t", b.Periods)
 	}
+	resolution := present.AnalyticResolution
 	if strings.Contains(b.Test, "bootstrap") {
-		return fmt.Sprintf("%s %s, p %s", name, statText(b.Statistic), pValueText(b.P, s.Replicates))
+		resolution = present.BootstrapResolution(s.Replicates)
 	}
-	return fmt.Sprintf("%s %s, p %.3g", name, statText(b.Statistic), b.P)
+	return fmt.Sprintf("%s %s, p %s", name, present.Statistic(b.Statistic), present.PValue(b.P, resolution))
 }
 
 // sideFormula fits one side of a break: a line on the driver (through the
@@ -545,20 +572,4 @@ func seedFor(seed uint64, o costdrift.CostObject) uint64 {
 	h := fnv.New64a()
 	h.Write([]byte(o.String()))
 	return seed ^ h.Sum64()
-}
-
-// pValueText writes a bootstrap p-value; the smallest one B replicates can
-// give is 1/(B+1).
-func pValueText(p float64, replicates int) string {
-	if p <= 1/float64(replicates+1) {
-		return fmt.Sprintf("<= %.4g", 1/float64(replicates+1))
-	}
-	return fmt.Sprintf("%.3f", p)
-}
-
-func statText(v float64) string {
-	if v >= 1e6 {
-		return fmt.Sprintf("%.3g", v)
-	}
-	return fmt.Sprintf("%.1f", v)
 }

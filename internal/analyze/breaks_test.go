@@ -58,27 +58,43 @@ func TestProvisionalRefitNeverUsesANegativeRate(t *testing.T) {
 		// 0: the formula is the mean since the break.
 		rate      float64
 		reasonHas string
+		// prior, when set, is the behaviour the object had before this
+		// analysis, which keeps a mixed cost mixed over the whole window.
+		prior *costdrift.Behaviour
 	}{
 		// Designed 1,500 + 11/shipment, from 2026-01 3,000 + 11/shipment.
 		{"mixed: rate kept, fixed part refitted", provisionalPanel(4, 1500, 11, 3000, 11, true),
-			costdrift.Mixed, 11, "the rate from before the break"},
+			costdrift.Mixed, 11, "the rate from before the break", nil},
 		// Designed 1,500 + 11/shipment, from 2026-01 800 + 6/shipment: with
 		// the old rate the fixed part since would be negative.
 		{"mixed: mean since the break", provisionalPanel(6, 1500, 11, 800, 6, true),
-			costdrift.Mixed, 0, "mean since the break"},
+			costdrift.Mixed, 0, "mean since the break", nil},
+		// Designed 6,000 + 11/shipment, from 2026-01 −2,000 + 12/shipment,
+		// the object mixed before this analysis: the refitted rate is
+		// positive but its fixed part (about −2,450) is far below zero, and
+		// with the old rate the fixed part since would be negative too.
+		{"mixed: negative fixed part, mean since the break", provisionalPanel(8, 6000, 11, -2000, 12, false),
+			costdrift.Mixed, 0, "too few periods since the change to estimate",
+			&costdrift.Behaviour{Class: costdrift.Mixed, Driver: "shipments", FixedPerPeriod: 6000, VariableRate: 11, N: 36}},
 		// Designed 12/shipment, from 2026-01 credits of 1/shipment.
 		{"variable: formula from before kept", provisionalPanel(2, 0, 12, 0, -1, false),
-			costdrift.Variable, 12, "the formula from before the break"},
+			costdrift.Variable, 12, "the formula from before the break", nil},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			p := tc.panel
-			b := Object(p, &p.Objects[0], driftSettings).Behaviour
+			s := driftSettings
+			if tc.prior != nil {
+				prior := *tc.prior
+				prior.Object = p.Objects[0].Object
+				s.Prior = map[string]costdrift.Behaviour{prior.Object.String(): prior}
+			}
+			b := Object(p, &p.Objects[0], s).Behaviour
 			if b.Break == nil || !b.Break.Provisional || b.Break.Period != "2026-01" || b.Break.Periods != 6 {
 				t.Fatalf("want a provisional break at 2026-01 with 6 periods since, got %+v (%s)", b.Break, b.Reason)
 			}
 			if b.Class != tc.class || b.Driver != "shipments" {
-				t.Fatalf("the provisional behaviour keeps class %s on shipments, got %s on %q", tc.class, b.Class, b.Driver)
+				t.Fatalf("the provisional behaviour keeps class %s on shipments, got %s on %q (%s)", tc.class, b.Class, b.Driver, b.Reason)
 			}
 			if b.VariableRate < 0 || b.FixedPerPeriod < 0 {
 				t.Errorf("provisional formula %.2f + %.4f per shipment: a negative part is implausible for a cost (%s)", b.FixedPerPeriod, b.VariableRate, b.Reason)

@@ -26,6 +26,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/fit"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // unknown is an estimate with no figure yet.
@@ -126,7 +127,25 @@ func Evaluate(b *costdrift.Behaviour, x1, x2 float64) (costdrift.Estimate, error
 	_, se := t.Predict(row)
 	e.SE, e.DF = se, float64(t.DF)
 	interval(&e)
+	cutAtZero(&e)
 	return e, nil
+}
+
+// CutAtZero is the warning of an interval cut at zero.
+const CutAtZero = "interval cut at zero: a cost cannot be negative"
+
+// cutAtZero cuts the lower ends of e's intervals at zero where they reach
+// below it: a cost cannot be negative, and the normal-theory interval
+// around a small cost with a large spread would say it could (README,
+// Budgets and variances). The budget and the upper ends are left as they
+// are; a budget already below zero is flagged as negative instead.
+func cutAtZero(e *costdrift.Estimate) {
+	if !(e.Value >= 0) || !(e.Low95 < 0) {
+		return
+	}
+	e.Low95 = 0
+	e.Low80 = math.Max(e.Low80, 0)
+	e.Warnings = append(e.Warnings, CutAtZero)
 }
 
 // interval sets e's 80 and 95 % intervals from its Value, SE and DF.
@@ -175,13 +194,8 @@ func pendingText(p *costdrift.Pending) string {
 	return s
 }
 
-// num writes an activity figure briefly.
-func num(v float64) string {
-	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
-		return fmt.Sprintf("%.0f", v)
-	}
-	return fmt.Sprintf("%.2f", v)
-}
+// num writes an activity figure briefly (present.Activity).
+func num(v float64) string { return present.Activity(v) }
 
 // Flexible budgets every behaviour for every period at the activity the
 // lookup gives, one line per behaviour and period in that order. A driver
@@ -198,7 +212,7 @@ func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Looku
 			l.Estimate = unknown()
 			var missing []string
 			if needsDriver(b) {
-				l.Driver = b.Driver
+				l.Driver, l.Lag = b.Driver, b.Lag
 				at := shift(period, -b.Lag)
 				if v, ok := activity(at, b.Driver, b.Object.CostCenter); ok {
 					l.Activity = v
@@ -206,7 +220,7 @@ func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Looku
 					missing = append(missing, activityNeed(b.Driver, at, b.Lag))
 				}
 				if b.Driver2 != "" {
-					l.Driver2 = b.Driver2
+					l.Driver2, l.Lag2 = b.Driver2, b.Lag2
 					at2 := shift(period, -b.Lag2)
 					if v, ok := activity(at2, b.Driver2, b.Object.CostCenter); ok {
 						l.Activity2 = v
@@ -294,6 +308,7 @@ func (s *sum) estimate() costdrift.Estimate {
 		e.SE = math.Sqrt(s.variance)
 		e.DF = s.variance * s.variance / s.dfDenominator
 		interval(&e)
+		cutAtZero(&e)
 		e.Warnings = append(e.Warnings, fmt.Sprintf("%s (Welch–Satterthwaite df %.1f)", costdrift.Independence, e.DF))
 	}
 	if s.skipped > 0 {

@@ -2,6 +2,7 @@ package budget
 
 import (
 	"math"
+	"slices"
 	"strings"
 	"testing"
 
@@ -359,5 +360,38 @@ func TestNegativeRateIsFlagged(t *testing.T) {
 	tot := Totals(lines)
 	if !strings.Contains(tot[0].Warning, "1 object(s) with a negative budget") || strings.Contains(tot[2].Warning, "negative budget") {
 		t.Errorf("totals' warnings %q (2026-07) and %q (2026-08)", tot[0].Warning, tot[2].Warning)
+	}
+}
+
+// A cost cannot go below zero: a prediction interval that reaches below
+// zero is cut at zero and says so; the budget itself and the upper bound
+// are left as the formula gives them. Hand-worked (common practice): a
+// fixed cost fitted on 4 periods 100, 300, 100, 300 has mean 200, s² =
+// 4·100²/3 and se = s·sqrt(1 + 1/4) = 129.1; t(0.975, 3) = 3.182 puts the
+// 95 % interval at 200 ± 410.8, whose lower end −210.8 is cut to 0.
+func TestIntervalCutAtZero(t *testing.T) {
+	r, err := fit.OLS(nil, []float64{100, 300, 100, 300}, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	terms := costdrift.PredictionTerms(r.Terms())
+	b := costdrift.Behaviour{Object: obj("6600", "ASSY"), Class: costdrift.Fixed, FixedPerPeriod: 200, Prediction: &terms}
+	e, err := Evaluate(&b, 0, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 200 + 3.182446 · 129.0994 = 610.85 (t from a general statistics
+	// package's Student t quantile, 3 df, from memory: 3.182).
+	if e.Value != 200 || e.Low95 != 0 || e.Low80 != 0 || !near(e.High95, 610.85, 1e-4) {
+		t.Errorf("budget %v, 80 %% %v to %v, 95 %% %v to %v; want the lower ends cut to 0 and 95 %% up to 610.85", e.Value, e.Low80, e.High80, e.Low95, e.High95)
+	}
+	if !slices.ContainsFunc(e.Warnings, func(w string) bool { return strings.Contains(w, "cut at zero") }) {
+		t.Errorf("warnings %q do not say the interval was cut at zero", e.Warnings)
+	}
+	// An interval above zero is left as it is, and says nothing.
+	terms.S /= 10
+	e, _ = Evaluate(&b, 0, 0)
+	if !(e.Low95 > 0) || slices.ContainsFunc(e.Warnings, func(w string) bool { return strings.Contains(w, "cut at zero") }) {
+		t.Errorf("a narrow interval: %v to %v, %q", e.Low95, e.High95, e.Warnings)
 	}
 }

@@ -24,7 +24,7 @@ func Variances(behaviours []costdrift.Behaviour, period string, actual map[strin
 		l.Actual = actual[b.Object.String()]
 		flex := Flexible([]costdrift.Behaviour{*b}, []string{period}, actualActivity, shift)[0]
 		l.Flexible = flex.Estimate
-		l.Driver = flex.Driver
+		l.Driver, l.Lag = flex.Driver, flex.Lag
 		l.ActualActivity = flex.Activity
 		warnings := flex.Warnings
 		if !math.IsNaN(l.Flexible.Value) {

@@ -164,6 +164,7 @@ func drawLegend(c draw.Canvas, sty text.Style, items []legendItem) vg.Length {
 // grid, high-low line, previous formula, fit or steps, points, outliers,
 // high-low rings, labels.
 func (s Scatter) plot() (*plot.Plot, []legendItem) {
+	s, before := s.splitBefore()
 	p := s.axes()
 	// The legend lists markers, then formulas, then the range.
 	lo, hi := s.relevantRange()
@@ -172,6 +173,7 @@ func (s Scatter) plot() (*plot.Plot, []legendItem) {
 	p.Add(&plotter.Grid{Horizontal: draw.LineStyle{Color: colGrid, Width: 0.5}})
 	items := s.addFormulas(p, lo, hi)
 	markers, notes := s.addPoints(p)
+	markers = append(markers, addBefore(p, before)...)
 	items = append(append(markers, items...), legendItem{"relevant range", band})
 	if len(notes) > 0 {
 		p.Add(&noteLabels{notes: notes, style: textStyle(noteSize, colSubtle)})

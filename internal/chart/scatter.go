@@ -48,6 +48,9 @@ type Point struct {
 	Activity float64
 	Cost     float64
 	Outlier  bool
+	// Before marks a period before the behaviour's change: the formula
+	// drawn was not fitted on it, so it is drawn apart (a grey ring).
+	Before bool
 }
 
 // Line is a cost formula cost = Fixed + Rate·activity. Label is its legend text;
@@ -211,20 +214,39 @@ func sortedSteps(steps []StepLevel) []StepLevel {
 	return out
 }
 
-// WritePNG draws s as a widthPx × heightPx PNG. Up to 720×480 px the text keeps
+// WritePNG draws s as a widthPx × heightPx PNG (see writePNG).
+func (s Scatter) WritePNG(w io.Writer, widthPx, heightPx int) error {
+	return writePNG(s, w, widthPx, heightPx)
+}
+
+// WriteSVG draws s as an SVG document of widthPt × heightPt points (see
+// writeSVG).
+func (s Scatter) WriteSVG(w io.Writer, widthPt, heightPt float64) error {
+	return writeSVG(s, w, widthPt, heightPt)
+}
+
+// Drawing is a chart this package draws: the scatter of cost against
+// activity, or the timeline of cost over the periods.
+type Drawing interface {
+	// Validate reports why the chart cannot be drawn.
+	Validate() error
+	draw(c draw.Canvas) error
+}
+
+// writePNG draws d as a widthPx × heightPx PNG. Up to 720×480 px the text keeps
 // its size in pixels; a larger image is drawn at a higher resolution, so it is
 // the same chart, sharper, rather than the same text on a larger page.
-func (s Scatter) WritePNG(w io.Writer, widthPx, heightPx int) error {
+func writePNG(d Drawing, w io.Writer, widthPx, heightPx int) error {
 	if widthPx < minPx || heightPx < minPx || widthPx > maxPx || heightPx > maxPx {
 		return fmt.Errorf("chart: png size %d×%d px outside %d–%d px", widthPx, heightPx, minPx, maxPx)
 	}
-	if err := s.Validate(); err != nil {
+	if err := d.Validate(); err != nil {
 		return err
 	}
 	scale := math.Max(1, math.Min(float64(widthPx)/DefaultWidthPx, float64(heightPx)/DefaultHeightPx))
 	img := image.NewRGBA(image.Rect(0, 0, widthPx, heightPx))
 	cv := vgimg.NewWith(vgimg.UseImage(img), vgimg.UseDPI(int(math.Round(96*scale))))
-	if err := s.draw(draw.New(cv)); err != nil {
+	if err := d.draw(draw.New(cv)); err != nil {
 		return err
 	}
 	// BestSpeed: a mail of alerts draws one chart per alert, and the
@@ -237,20 +259,20 @@ func (s Scatter) WritePNG(w io.Writer, widthPx, heightPx int) error {
 	return nil
 }
 
-// WriteSVG draws s as an SVG document of widthPt × heightPt points.
+// writeSVG draws d as an SVG document of widthPt × heightPt points.
 //
 // Fonts are not embedded (that would add about a megabyte per chart); the text
 // names Liberation Sans, whose widths the layout was measured with, followed by
 // Arial, which has the same metrics, and the generic sans-serif.
-func (s Scatter) WriteSVG(w io.Writer, widthPt, heightPt float64) error {
+func writeSVG(d Drawing, w io.Writer, widthPt, heightPt float64) error {
 	if !(widthPt >= minPt && widthPt <= maxPt && heightPt >= minPt && heightPt <= maxPt) {
 		return fmt.Errorf("chart: svg size %g×%g pt outside %g–%g pt", widthPt, heightPt, minPt, maxPt)
 	}
-	if err := s.Validate(); err != nil {
+	if err := d.Validate(); err != nil {
 		return err
 	}
 	cv := vgsvg.New(vg.Points(widthPt), vg.Points(heightPt))
-	if err := s.draw(draw.New(cv)); err != nil {
+	if err := d.draw(draw.New(cv)); err != nil {
 		return err
 	}
 	var buf bytes.Buffer
@@ -268,18 +290,18 @@ func (s Scatter) WriteSVG(w io.Writer, widthPt, heightPt float64) error {
 	return nil
 }
 
-// WriteFile draws s into path at the default size, as PNG or SVG by the
+// WriteFile draws d into path at the default size, as PNG or SVG by the
 // extension (.png or .svg, any case). The file is written whole or not at all
 // and owner-only (mode 0600), because the chart shows ledger figures: an
 // existing file at path is replaced, and left as it was when the write fails.
-func WriteFile(path string, s Scatter) error {
+func WriteFile(path string, d Drawing) error {
 	var buf bytes.Buffer
 	var err error
 	switch ext := strings.ToLower(filepath.Ext(path)); ext {
 	case ".png":
-		err = s.WritePNG(&buf, DefaultWidthPx, DefaultHeightPx)
+		err = writePNG(d, &buf, DefaultWidthPx, DefaultHeightPx)
 	case ".svg":
-		err = s.WriteSVG(&buf, DefaultWidthPt, DefaultHeightPt)
+		err = writeSVG(d, &buf, DefaultWidthPt, DefaultHeightPt)
 	default:
 		return fmt.Errorf("chart: %s: extension %q not supported; use .png or .svg", path, ext)
 	}

@@ -41,6 +41,9 @@ type BudgetLine struct {
 	Activity  float64 // planned activity of Driver; NaN without a driver
 	Driver2   string
 	Activity2 float64
+	// Lag and Lag2 are how many periods before the line's period each
+	// driver's activity is taken (the formula's lags).
+	Lag, Lag2 int
 	Objects   int // objects in the sum (1 for an object's line)
 	Estimate
 	Warning string // every warning, joined with "; "
@@ -65,6 +68,7 @@ type VarianceLine struct {
 	Driver         string
 	ActualActivity float64 // NaN without a driver
 	PlanActivity   float64 // NaN without a driver or a plan
+	Lag            int     // the activities are of this many periods before Period
 	Objects        int
 	Actual         float64
 	// Flexible is the formula at actual activity with its intervals; the

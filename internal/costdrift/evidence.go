@@ -186,10 +186,12 @@ func (e *AlertEvidence) UnmarshalJSON(data []byte) error {
 
 // finiteJSON replaces numbers that are not finite by nil in the shapes
 // evidence is built from: maps, slices of any or of float64, and floats.
+// Beyond ±1e300 counts as infinite: the store writes an infinite break
+// statistic as the largest float, JSON having no infinity.
 func finiteJSON(v any) any {
 	switch v := v.(type) {
 	case float64:
-		if math.IsNaN(v) || math.IsInf(v, 0) {
+		if math.IsNaN(v) || math.IsInf(v, 0) || math.Abs(v) > 1e300 {
 			return nil
 		}
 	case float32:

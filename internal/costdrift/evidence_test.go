@@ -91,3 +91,17 @@ func TestAlertEvidenceOther(t *testing.T) {
 		t.Error("a JSON array read as evidence")
 	}
 }
+
+// TestAlertEvidenceHasNoStandInForInfinity: the store writes an infinite
+// break statistic (an exact step) as the largest float, which JSON can
+// hold; evidence shows it as null, as it shows an infinity, so no output
+// carries 1.7976931348623157e+308.
+func TestAlertEvidenceHasNoStandInForInfinity(t *testing.T) {
+	for _, v := range []float64{math.MaxFloat64, -math.MaxFloat64, math.Inf(1)} {
+		e := AlertEvidence{Statistic: &v}
+		got, err := json.Marshal(e)
+		if err != nil || string(got) != `{"statistic":null}` {
+			t.Errorf("statistic %g: %s (%v), want null", v, got, err)
+		}
+	}
+}

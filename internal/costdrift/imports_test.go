@@ -29,6 +29,7 @@ var (
 		"money":      nil,
 		"calendar":   nil,
 		"atomicfile": nil,
+		"present":    nil,
 		"fit":        {"analyze", "budget", "drift"},
 		"drift":      {"analyze", "budget", "fit"},
 	}

@@ -241,7 +241,7 @@ func TestHTMLEscapesEverything(t *testing.T) {
 		t.Errorf("HTML part lacks the escaped account name")
 	}
 	for _, want := range []string{`src="cid:chart-8@costdrift"`, `src="cid:chart-7@costdrift"`, "costdrift explain 6300/PAINT",
-		"Formulas are statistical estimates", "850.00 &#43; 3.125 × machine hours", "2100.00", "&lt; 0.001", "0.995"} {
+		"Formulas are statistical estimates", "850.00 &#43; 3.13 × machine hours", "2,100.00", "&lt; 0.001", "0.995"} {
 		if !strings.Contains(html, want) {
 			t.Errorf("HTML part lacks %q", want)
 		}

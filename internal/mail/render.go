@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // Item is one alert in a digest, with its scatter chart as PNG bytes when
@@ -224,7 +225,7 @@ func views(items []Item) []view {
 		}
 		if ev.RangeMin != nil {
 			v.Changes = append(v.Changes, row{"activity in " + text(value(ev.Period)),
-				"relevant range " + number(value(ev.RangeMin)) + " to " + number(value(ev.RangeMax)), number(value(ev.Activity))})
+				"relevant range " + activity(value(ev.RangeMin)) + " to " + activity(value(ev.RangeMax)), activity(value(ev.Activity))})
 		}
 		v.Evidence = evidenceRows(ev)
 		if embed[a.ID] {
@@ -321,7 +322,7 @@ var htmlTmpl = htmltemplate.Must(htmltemplate.New("html").Parse(`<!DOCTYPE html>
 {{if .Evidence}}<table cellpadding="2" cellspacing="0" style="margin:0 0 8px 0;color:#333333">
 {{range .Evidence}}<tr><td style="color:#555555;padding-right:12px">{{.Name}}</td><td>{{.After}}</td></tr>
 {{end}}</table>{{end}}
-{{if .CID}}<p style="margin:0 0 8px 0"><img src="cid:{{.CID}}" width="600" alt="scatter of cost against activity for {{.Object}}, with the previous and the new formula" style="max-width:100%;height:auto;border:1px solid #cccccc"></p>{{end}}
+{{if .CID}}<p style="margin:0 0 8px 0"><img src="cid:{{.CID}}" width="600" alt="chart of the cost of {{.Object}} with its formula: against activity, or over time for a cost without a driver" style="max-width:100%;height:auto;border:1px solid #cccccc"></p>{{end}}
 {{if .Explain}}<p style="margin:0">To see more: <code style="background:#f2f2f2;padding:2px 4px">{{.Explain}}</code></p>{{end}}
 <p style="margin:0;color:#555555">Alert: <code>{{.Show}}</code></p>
 </td></tr>
@@ -397,13 +398,14 @@ func value[T any](p *T) any {
 	return *p
 }
 
-// statistic shows a test statistic with two decimals, or with three
-// significant digits from a million on.
+// statistic shows a test statistic (present.Statistic): one decimal, or
+// "exact fit" beyond a sane range.
 func statistic(v any) string {
-	if f, ok := float(v); ok && math.Abs(f) >= 1e6 {
-		return strconv.FormatFloat(f, 'g', 3, 64)
+	f, ok := float(v)
+	if !ok {
+		return ""
 	}
-	return fixed(v, 2)
+	return present.Statistic(f)
 }
 
 // text shows an evidence value: strings as they are, whole numbers without
@@ -427,7 +429,7 @@ func text(v any) string {
 		if x == math.Trunc(x) && math.Abs(x) < 1e15 {
 			return strconv.FormatFloat(x, 'f', 0, 64)
 		}
-		return strconv.FormatFloat(x, 'g', 6, 64)
+		return present.Significant(x, 6)
 	}
 	return oneLine(fmt.Sprint(v))
 }
@@ -449,22 +451,29 @@ func fixed(v any, digits int) string {
 	if !ok {
 		return ""
 	}
-	return strconv.FormatFloat(f, 'f', digits, 64)
+	return present.Number(f, digits)
 }
 
-// number is an amount with two decimals.
+// number is an amount with two decimals and thousands separators.
 func number(v any) string { return fixed(v, 2) }
 
-// pValue shows p with three decimals, or "< 0.001".
+// activity is a driver value (present.Activity).
+func activity(v any) string {
+	f, ok := float(v)
+	if !ok {
+		return ""
+	}
+	return present.Activity(f)
+}
+
+// pValue shows p with three decimals, or "< 0.001": the finest the
+// analysis's tests resolve (present.PValue).
 func pValue(v any) string {
 	f, ok := float(v)
 	if !ok {
 		return ""
 	}
-	if f < 0.001 {
-		return "< 0.001"
-	}
-	return strconv.FormatFloat(f, 'f', 3, 64)
+	return present.PValue(f, present.AnalyticResolution)
 }
 
 // formula writes fixed + rate × driver, the cost per period.
@@ -482,15 +491,8 @@ func formula(fixedPart, rate any, driver string) string {
 	return number(f) + " + " + rateText(r) + " × " + words(driver)
 }
 
-// rateText shows a rate with up to four decimals and at least two:
-// 14.48, 3.125, 0.0412.
-func rateText(r float64) string {
-	s := strconv.FormatFloat(r, 'f', 4, 64)
-	for strings.HasSuffix(s, "0") && len(s)-strings.IndexByte(s, '.') > 3 {
-		s = s[:len(s)-1]
-	}
-	return s
-}
+// rateText shows a rate (present.Rate): 14.48, 0.0412.
+func rateText(r float64) string { return present.Rate(r) }
 
 func words(s string) string { return strings.ReplaceAll(s, "_", " ") }
 

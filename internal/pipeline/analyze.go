@@ -151,7 +151,7 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w", err)
 	}
-	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, previous: previous,
+	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, currency: e.Currency.Code, previous: previous,
 		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
 		window: window, drivers: drivers, excluded: excluded,
 		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
@@ -192,6 +192,7 @@ type stream struct {
 	res      *AnalysisResult
 	settings analyze.Settings
 	names    map[string]string
+	currency string            // the currency code the alerts' messages give amounts in
 	previous map[string]string // input hash by object; nil to analyse all
 	hasher   *analyze.InputHasher
 	window   *series.Window
@@ -369,8 +370,8 @@ func (s *stream) raise(saved []costdrift.Behaviour) error {
 		return fmt.Errorf("read the behaviours stored: %w", err)
 	}
 	res := s.res
-	res.behaviourAlerts = append(res.behaviourAlerts, alerts.Behaviour(current, previous, s.names)...)
-	res.spendingAlerts = append(res.spendingAlerts, alerts.Spending(current, s.names)...)
+	res.behaviourAlerts = append(res.behaviourAlerts, alerts.Behaviour(current, previous, s.names, s.currency)...)
+	res.spendingAlerts = append(res.spendingAlerts, alerts.Spending(current, s.names, s.currency)...)
 	res.rangeAlerts = append(res.rangeAlerts, alerts.OutOfRange(current, newestActivity(current, res.activity, res.Run.WindowTo), s.names)...)
 	for _, o := range objects {
 		res.refitted[o] = true
@@ -441,8 +442,8 @@ func analysisAlerts(ctx context.Context, e *Env, db *sqlite.DB, res *AnalysisRes
 					pinned = append(pinned, b)
 				}
 			}
-			behaviour = append(behaviour, alerts.Behaviour(current, previous, names)...)
-			spending = append(spending, alerts.Spending(current, names)...)
+			behaviour = append(behaviour, alerts.Behaviour(current, previous, names, e.Currency.Code)...)
+			spending = append(spending, alerts.Spending(current, names, e.Currency.Code)...)
 			outOfRange = append(outOfRange, alerts.OutOfRange(current, newestActivity(current, res.activity, period), names)...)
 			return nil
 		})

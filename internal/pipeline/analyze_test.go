@@ -243,8 +243,8 @@ func TestAlertRulesNeedOnlyBriefBehaviours(t *testing.T) {
 		t.Fatalf("%d behaviours, %d with diagnostics and prediction terms: the comparison needs the demo's evidence", len(brief), evidence)
 	}
 	rules := func(current []costdrift.Behaviour) []costdrift.Alert {
-		out := alerts.Behaviour(current, previous, names)
-		out = append(out, alerts.Spending(current, names)...)
+		out := alerts.Behaviour(current, previous, names, e.Currency.Code)
+		out = append(out, alerts.Spending(current, names, e.Currency.Code)...)
 		return append(out, alerts.OutOfRange(current, newestActivity(current, res.activity, res.Run.WindowTo), names)...)
 	}
 	got, want := rules(brief), rules(full)
@@ -329,5 +329,18 @@ func TestAlertsRaisedAsBatchesAreStoredAreThoseReadBack(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// A sync stopped before a source has begun says so, as one stopped part
+// way through a source does, rather than failing with the bare error.
+func TestSyncStoppedBeforeASourceBegins(t *testing.T) {
+	e, db := syncedDemo(t)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	_, err := Sync(ctx, e, db, nil)
+	if err == nil || !errors.Is(err, context.Canceled) || !strings.Contains(err.Error(), "sync interrupted: 0 of ") ||
+		!strings.Contains(err.Error(), " not begun; sync again to complete it") {
+		t.Errorf("sync with its context ended: %v", err)
 	}
 }

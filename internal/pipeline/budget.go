@@ -55,7 +55,12 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (
 	if err != nil {
 		return BudgetResult{}, fmt.Errorf("budget: %w", err)
 	}
-	lines := budget.Flexible(bs, plan.periods(), activityLookup(actual, plan.activityIndex, actual), e.Calendar.Shift)
+	lookup, gaps := plannedLookup(e, actual, &plan)
+	lines := budget.Flexible(bs, plan.periods(), lookup, e.Calendar.Shift)
+	if err := gaps.err(plan.name); err != nil {
+		return BudgetResult{}, err
+	}
+	gaps.flagBudget(lines, e.Calendar.Shift)
 	noteSource(lines, source)
 	lines = append(lines, budget.Totals(lines)...)
 	lines = orderBudget(lines)
@@ -140,13 +145,14 @@ func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath, save
 	}
 	var plan *planFile
 	var planLookup budget.Lookup
+	var gaps *planGaps
 	if planPath != "" {
 		p, err := readPlan(ctx, e, planPath, known)
 		if err != nil {
 			return res, err
 		}
 		plan = &p
-		planLookup = activityLookup(actualActivity, plan.activityIndex, actualActivity)
+		planLookup, gaps = plannedLookup(e, actualActivity, plan)
 	}
 	costs, unknown, posted, err := periodCosts(ctx, e, db, period)
 	if err != nil {
@@ -182,6 +188,11 @@ func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath, save
 	}
 	lines := budget.Variances(bs, period, costs, activityLookup(actualActivity, actualActivity), planLookup, e.Calendar.Shift)
 	for i := range lines { // one line per behaviour, in order
+		if gaps != nil {
+			if n := gaps.note(period, lines[i].Driver, lines[i].Object.CostCenter, lines[i].Lag, e.Calendar.Shift, "static budget"); n != "" {
+				lines[i].Warning = strings.TrimPrefix(lines[i].Warning+"; "+n, "; ")
+			}
+		}
 		if note := sourceNotes[source[bs[i].Object.String()]]; note != "" {
 			lines[i].Warning = joinNote(note, lines[i].Warning)
 			if source[bs[i].Object.String()] == report.SourcePinned {

@@ -205,9 +205,7 @@ func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.A
 			it.Object, it.AccountName = o, names[o.Account]
 			if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
 				it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
-				if oa.Behaviour.Driver != "" {
-					analyses[al.ID] = oa
-				}
+				analyses[al.ID] = oa
 			}
 		}
 		out[al.ID] = it
@@ -397,16 +395,26 @@ func oneLineError(err error) string {
 	return strings.Join(strings.Fields(err.Error()), " ")
 }
 
-// alertChart draws the scatter of the alert's object as in `costdrift
-// explain --chart`, with the formula before the change dashed when the
-// evidence has it on the same driver; nil when the store lacks the data
-// (no analysis, no driver, no points).
+// alertChart draws the chart of the alert's object as `costdrift explain
+// --chart` does: the scatter, with the formula before the change dashed
+// when the evidence has it on the same driver, or for an object without a
+// driver its cost over time; nil when the store lacks the data (no
+// analysis, no points).
 func alertChart(ctx context.Context, e *Env, db *sqlite.DB, costsOf costReader, al costdrift.Alert, oa sqlite.ObjectAnalysis, names map[string]string) []byte {
-	if oa.Behaviour.Driver == "" {
-		return nil
-	}
 	b := oa.Behaviour
 	maxLag := widestLag(oa.Settings, b.Lag)
+	if b.Driver == "" {
+		ex := report.Explain(report.ExplainInput{Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Fits: oa.Fits})
+		tl, err := timeline(ctx, e, db, costsOf, oa, names[b.Object.Account], ex.Formula, maxLag)
+		if err != nil {
+			return nil
+		}
+		var buf bytes.Buffer
+		if err := tl.WritePNG(&buf, chart.DefaultWidthPx, chart.DefaultHeightPx); err != nil {
+			return nil
+		}
+		return buf.Bytes()
+	}
 	pts, err := analysedPoints(ctx, e, db, costsOf, oa, maxLag)
 	if err != nil {
 		return nil

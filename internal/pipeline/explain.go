@@ -17,11 +17,19 @@ import (
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
+// Charts are the charts of one cost object: its cost over the periods
+// (every object has one) and its cost against the chosen driver (nil for
+// an object without a driver).
+type Charts struct {
+	Timeline *chart.Timeline
+	Scatter  *chart.Scatter
+}
+
 // Explain gathers the evidence behind one object's behaviour from what the
 // latest analysis stored, and the data it was fitted on as the store holds
-// them now; with withChart, the chart of cost against the chosen driver
-// too (an object without a driver has none: an error says so).
-func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChart bool) (report.Explanation, *chart.Scatter, error) {
+// them now; with withChart, its charts too: the cost over time for every
+// object, and the cost against the chosen driver for one that has a driver.
+func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChart bool) (report.Explanation, *Charts, error) {
 	oa, err := db.ObjectAnalysis(ctx, object)
 	switch {
 	case errors.Is(err, sqlite.ErrNoAnalysis):
@@ -32,10 +40,6 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	b := oa.Behaviour
-	if withChart && b.Driver == "" {
-		return report.Explanation{}, nil, fmt.Errorf("%s is %s with no driver: there is no activity to draw its cost against, so --chart cannot be used",
-			object, strings.ReplaceAll(string(b.Class), "_", " "))
-	}
 	names, err := db.AccountNames(ctx)
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
@@ -62,15 +66,23 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if note != "" {
 		ex.Notes = append(ex.Notes, note)
 	}
-	if b.Driver == "" {
-		return ex, nil, nil
-	}
 	maxLag := widestLag(oa.Settings, b.Lag)
+	var charts *Charts
+	if withChart {
+		tl, err := timeline(ctx, e, db, db.CostPerPeriod, oa, names[b.Object.Account], ex.Formula, maxLag)
+		if err != nil {
+			return ex, nil, fmt.Errorf("explain %s: chart: %w", object, err)
+		}
+		charts = &Charts{Timeline: &tl}
+	}
+	if b.Driver == "" {
+		return ex, charts, nil
+	}
 	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, maxLag)
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	if note := pointsNote(oa, pts, excluded); note != "" {
+	if note := pointsNote(oa, fittedPoints(e, b, pts), excluded); note != "" {
 		ex.Notes = append(ex.Notes, note)
 	}
 	if !withChart {
@@ -80,7 +92,8 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: chart: %w", object, err)
 	}
-	return ex, &sc, nil
+	charts.Scatter = &sc
+	return ex, charts, nil
 }
 
 // refitLines adds to the stored fits the straight lines the store does not
@@ -330,6 +343,18 @@ func lagged(ctx context.Context, e *Env, db *sqlite.DB, o costdrift.CostObject, 
 	return out, nil
 }
 
+// fittedPoints are the points the behaviour was fitted on: after a change,
+// those from its first period on.
+func fittedPoints(e *Env, b costdrift.Behaviour, pts []chart.Point) []chart.Point {
+	var out []chart.Point
+	for _, p := range markBefore(e, b, pts) {
+		if !p.Before {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
 // pointsNote compares the periods read now with what the analysis stored:
 // a different count, or high-low ends with other values, mean the ledger or
 // activity changed since the analysis.
@@ -385,7 +410,7 @@ func scatter(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysi
 		Title:  title + ": " + formula,
 		XLabel: report.DriverLabel(b.Driver, b.Lag),
 		YLabel: "cost per period (" + e.Currency.Code + ")",
-		Points: pts, RangeMin: b.RangeMin, RangeMax: b.RangeMax,
+		Points: markBefore(e, b, pts), RangeMin: b.RangeMin, RangeMax: b.RangeMax,
 	}
 	excluded, err := db.Exclusions(ctx)
 	if err != nil {
@@ -405,7 +430,6 @@ func scatter(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysi
 		// The stored outliers of a step cost are those of the straight line
 		// on its driver, which a step cost does not follow: marked on the
 		// levels they would flag points that sit on them.
-		s.Points = slices.Clone(pts)
 		for i := range s.Points {
 			s.Points[i].Outlier = false
 		}

@@ -256,5 +256,5 @@ func reviewPins(ctx context.Context, e *Env, db *sqlite.DB, pins map[string]cost
 		tests = append(tests, t)
 	}
 	analyze.ControlPins(tests, e.Config.Analysis.BreakAlpha)
-	return alerts.PinReview(pins, tests, now, names), nil
+	return alerts.PinReview(pins, tests, now, names, e.Currency.Code), nil
 }

@@ -56,6 +56,10 @@ func Sync(ctx context.Context, e *Env, db *sqlite.DB, done func(SourceResult)) (
 	for _, j := range jobs {
 		run := costdrift.SyncRun{Source: j.src.Name, Role: j.role, Kind: j.src.Kind}
 		if err := db.BeginSync(ctx, &run); err != nil {
+			if ctx.Err() != nil {
+				return results, fmt.Errorf("sync interrupted: %d of %d sources synced; %s not begun; sync again to complete it: %w",
+					synced, len(jobs), j.src.Name, ctx.Err())
+			}
 			return results, err
 		}
 		notes, err := syncSource(ctx, e, db, j.role, j.src, &run)

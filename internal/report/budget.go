@@ -5,10 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"text/tabwriter"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // BudgetRow is one budget line as the JSON, CSV and XLSX outputs write it.
@@ -36,6 +38,10 @@ type BudgetRow struct {
 	Objects     int                `json:"objects"`
 	SE          *float64           `json:"se"`
 	DF          *float64           `json:"df"`
+	// Lag and Lag2: the activities are of this many periods before the
+	// line's period; null without a driver.
+	Lag  *int `json:"lag"`
+	Lag2 *int `json:"lag2"`
 }
 
 // BudgetRows turns budget lines (objects and totals) into rows, rounding
@@ -49,6 +55,12 @@ func BudgetRows(lines []costdrift.BudgetLine, names map[string]string) []BudgetR
 			SE: money(l.SE), DF: ptr(l.DF)}
 		if l.Kind == costdrift.LineObject {
 			r.Object, r.Account, r.AccountName, r.Class = l.Object.String(), l.Object.Account, names[l.Object.Account], string(l.Class)
+		}
+		if l.Driver != "" {
+			r.Lag = new(l.Lag)
+		}
+		if l.Driver2 != "" {
+			r.Lag2 = new(l.Lag2)
 		}
 		rows = append(rows, r)
 	}
@@ -69,7 +81,7 @@ func BudgetJSON(w io.Writer, rows []BudgetRow) error { return EncodeJSON(w, rows
 
 // budgetHeader names the columns of the CSV and XLSX outputs.
 var budgetHeader = []string{"line", "period", "object", "account", "account_name", "cost_center", "class", "driver", "activity",
-	"driver2", "activity2", "budget", "low80", "high80", "low95", "high95", "warning"}
+	"driver2", "activity2", "budget", "low80", "high80", "low95", "high95", "warning", "lag", "lag2"}
 
 // BudgetCells is the rows as a table of cells for a spreadsheet: text as
 // string, numbers as float64, absent numbers as nil; the header first.
@@ -77,7 +89,8 @@ func BudgetCells(rows []BudgetRow) [][]any {
 	out := [][]any{toAny(budgetHeader)}
 	for _, r := range rows {
 		out = append(out, []any{string(r.Line), r.Period, r.Object, r.Account, r.AccountName, r.CostCenter, r.Class, r.Driver, cell(r.Activity),
-			r.Driver2, cell(r.Activity2), cell(r.Budget), cell(r.Low80), cell(r.High80), cell(r.Low95), cell(r.High95), r.Warning})
+			r.Driver2, cell(r.Activity2), cell(r.Budget), cell(r.Low80), cell(r.High80), cell(r.Low95), cell(r.High95), r.Warning,
+			count(r.Lag), count(r.Lag2)})
 	}
 	return out
 }
@@ -92,7 +105,13 @@ func BudgetCSV(w io.Writer, rows []BudgetRow) error { return writeCSV(w, BudgetC
 // and the plan's name are shown through TerminalText.
 func BudgetTable(w io.Writer, rows []BudgetRow, currency, plan string) error {
 	fmt.Fprintf(w, "Flexible budget from plan %s (%s per period)\n", TerminalText(plan), currency)
-	notes := &noteList{}
+	objectWarnings := make([]string, 0, len(rows))
+	for _, r := range rows {
+		if r.Line == costdrift.LineObject {
+			objectWarnings = append(objectWarnings, r.Warning)
+		}
+	}
+	notes := &noteList{shared: sharedParts(objectWarnings)}
 	period := ""
 	var tw *tabwriter.Writer
 	flush := func() error {
@@ -113,9 +132,9 @@ func BudgetTable(w io.Writer, rows []BudgetRow, currency, plan string) error {
 		}
 		name, what, act := lineNames(r.Line, r.Object, r.AccountName, r.CostCenter, r.Objects)
 		if r.Activity != nil {
-			act = Activity(*r.Activity) + " " + TerminalText(words(r.Driver))
+			act = Activity(*r.Activity) + " " + TerminalText(words(r.Driver)) + before(r.Lag)
 			if r.Activity2 != nil {
-				act += " + " + Activity(*r.Activity2) + " " + TerminalText(words(r.Driver2))
+				act += " + " + Activity(*r.Activity2) + " " + TerminalText(words(r.Driver2)) + before(r.Lag2)
 			}
 		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", name, what, TerminalText(r.Class), act, moneyText(r.Budget),
@@ -156,6 +175,7 @@ type VarianceRow struct {
 	Outside95        bool               `json:"outside95"`
 	Objects          int                `json:"objects"`
 	Warning          string             `json:"warning"`
+	Lag              *int               `json:"lag"` // the activities are of this many periods before; null without a driver
 }
 
 // VarianceRows turns variance lines into rows, rounding money to cents.
@@ -176,6 +196,9 @@ func VarianceRows(lines []costdrift.VarianceLine, names map[string]string) []Var
 		}
 		if l.Kind == costdrift.LineObject {
 			r.Object, r.Account, r.AccountName, r.Class = l.Object.String(), l.Object.Account, names[l.Object.Account], string(l.Class)
+		}
+		if l.Driver != "" {
+			r.Lag = new(l.Lag)
 		}
 		rows = append(rows, r)
 	}
@@ -199,7 +222,8 @@ func VarianceCells(rows []VarianceRow) [][]any {
 		}
 		out = append(out, []any{string(r.Line), r.Period, r.Object, r.Account, r.AccountName, r.CostCenter, r.Class, r.Driver,
 			cell(r.ActualActivity), cell(r.PlannedActivity), cell(r.Actual), cell(r.FlexibleBudget), cell(r.Low95), cell(r.High95),
-			cell(r.SpendingVariance), r.SpendingMark, cell(r.StaticBudget), cell(r.ActivityVariance), r.ActivityMark, outside, r.Warning})
+			cell(r.SpendingVariance), r.SpendingMark, cell(r.StaticBudget), cell(r.ActivityVariance), r.ActivityMark, outside, r.Warning,
+			count(r.Lag)})
 	}
 	return out
 }
@@ -219,7 +243,13 @@ func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan strin
 	}
 	fmt.Fprintln(w, title)
 	fmt.Fprintln(w)
-	notes := &noteList{}
+	objectWarnings := make([]string, 0, len(rows))
+	for _, r := range rows {
+		if r.Line == costdrift.LineObject {
+			objectWarnings = append(objectWarnings, r.Warning)
+		}
+	}
+	notes := &noteList{shared: sharedParts(objectWarnings)}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	head := "OBJECT\tACCOUNT\tACTIVITY\tACTUAL\tFLEXIBLE BUDGET\tSPENDING VAR.\t"
 	if plan != "" {
@@ -230,7 +260,7 @@ func VarianceTable(w io.Writer, rows []VarianceRow, currency, period, plan strin
 	for _, r := range rows {
 		name, what, act := lineNames(r.Line, r.Object, r.AccountName, r.CostCenter, r.Objects)
 		if r.ActualActivity != nil {
-			act = Activity(*r.ActualActivity) + " " + TerminalText(words(r.Driver))
+			act = Activity(*r.ActualActivity) + " " + TerminalText(words(r.Driver)) + before(r.Lag)
 		}
 		actual := moneyText(r.Actual)
 		if r.Outside95 {
@@ -303,30 +333,50 @@ func marked(v *float64, mark string) string {
 	if mark == "" {
 		return moneyText(v)
 	}
-	return Number(math.Abs(*v), 2) + " " + mark
+	return present.Amount(math.Abs(*v)) + " " + mark
 }
 
 func moneyText(v *float64) string {
 	if v == nil {
 		return "-"
 	}
-	return Number(*v, 2)
+	return present.Amount(*v)
 }
 
 func interval(lo, hi *float64) string {
 	if lo == nil || hi == nil {
 		return "-"
 	}
-	return Number(*lo, 0) + " – " + Number(*hi, 0)
+	return present.Number(*lo, 0) + " – " + present.Number(*hi, 0)
 }
 
-// noteList numbers distinct warnings for a table's NOTE column.
+// before labels an activity taken from a period before the line's: a
+// lagged driver's figure is not the period's own.
+func before(lag *int) string {
+	switch {
+	case lag == nil || *lag == 0:
+		return ""
+	case *lag == 1:
+		return " (period before)"
+	}
+	return fmt.Sprintf(" (%d periods before)", *lag)
+}
+
+// noteList numbers distinct warnings for a table's NOTE column. A part of
+// a warning that every object line carries (shared) is no note: a mark on
+// every line tells the reader nothing, so it is said once, below.
 type noteList struct {
-	texts []string
-	index map[string]int
+	texts  []string
+	index  map[string]int
+	shared []string
 }
 
 func (n *noteList) add(text string) string {
+	if len(n.shared) > 0 {
+		parts := strings.Split(text, "; ")
+		parts = slices.DeleteFunc(parts, func(p string) bool { return slices.Contains(n.shared, p) })
+		text = strings.Join(parts, "; ")
+	}
 	if text == "" {
 		return ""
 	}
@@ -343,13 +393,29 @@ func (n *noteList) add(text string) string {
 }
 
 func (n *noteList) write(w io.Writer) {
-	if len(n.texts) == 0 {
-		return
+	if len(n.texts) > 0 {
+		fmt.Fprintln(w, "\nNotes:")
+		for i, t := range n.texts {
+			fmt.Fprintf(w, "  [%d] %s\n", i+1, TerminalText(t))
+		}
 	}
-	fmt.Fprintln(w, "\nNotes:")
-	for i, t := range n.texts {
-		fmt.Fprintf(w, "  [%d] %s\n", i+1, TerminalText(t))
+	if len(n.shared) > 0 {
+		fmt.Fprintf(w, "\nEvery object line: %s.\n", TerminalText(strings.Join(n.shared, "; ")))
 	}
+}
+
+// sharedParts are the parts ("; "-separated) every one of two or more
+// warnings has; none when any warning is empty.
+func sharedParts(warnings []string) []string {
+	if len(warnings) < 2 {
+		return nil
+	}
+	shared := strings.Split(warnings[0], "; ")
+	for _, w := range warnings[1:] {
+		parts := strings.Split(w, "; ")
+		shared = slices.DeleteFunc(shared, func(p string) bool { return !slices.Contains(parts, p) })
+	}
+	return slices.DeleteFunc(shared, func(p string) bool { return p == "" })
 }
 
 func toAny(s []string) []any {

@@ -11,6 +11,7 @@ import (
 	"unicode/utf8"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // ExplainInput is what the store holds on one cost object, as explain reads
@@ -44,9 +45,10 @@ type Explanation struct {
 	Diagnostics DiagnosticsView    `json:"diagnostics"`
 	// Notes are warnings the caller adds, such as data changed since the
 	// analysis.
-	Notes    []string `json:"notes"`
-	Chart    string   `json:"chart,omitempty"`
-	Cautions string   `json:"cautions"`
+	Notes     []string `json:"notes"`
+	Chart     string   `json:"chart,omitempty"`      // the cost against the driver
+	TimeChart string   `json:"time_chart,omitempty"` // the cost over time
+	Cautions  string   `json:"cautions"`
 }
 
 // AnalysisInfo names the analysis the explanation comes from.
@@ -309,7 +311,7 @@ func highLowSentence(b costdrift.Behaviour, c *HighLowComparison) string {
 	if c.LeastSquares.Fixed != nil && c.LeastSquares.Rate != nil && c.HighLow.Fixed != nil && c.HighLow.Rate != nil {
 		df, dr := *c.HighLow.Fixed-*c.LeastSquares.Fixed, *c.HighLow.Rate-*c.LeastSquares.Rate
 		fmt.Fprintf(&s, " Here high-low puts the fixed part %s %s and the rate %s %s.",
-			Number(math.Abs(df), 2), higherLower(df), Number(math.Abs(dr), rateDecimals(dr)), higherLower(dr))
+			present.Amount(math.Abs(df)), higherLower(df), present.Rate(math.Abs(dr)), higherLower(dr))
 	}
 	if c.Warning != "" {
 		s.WriteString(" Warning: " + c.Warning + ".")
@@ -435,9 +437,9 @@ func explainHeader(s *strings.Builder, e Explanation, currency string) {
 		fitted += ", R² " + fmt.Sprintf("%.3f", *e.R2)
 	}
 	if e.RangeMin != nil && e.RangeMax != nil {
-		fitted += ", relevant range " + Activity(*e.RangeMin) + " – " + Activity(*e.RangeMax)
+		fitted += ", relevant range " + present.ActivityRange(*e.RangeMin, *e.RangeMax)
 		if e.Unit != "" {
-			fitted += " (" + TerminalText(e.Unit) + ")"
+			fitted += " (" + TerminalText(present.Plural(e.Unit)) + ")"
 		}
 	}
 	analysis := fmt.Sprintf("run %d", e.Analysis.RunID)
@@ -451,7 +453,7 @@ func explainHeader(s *strings.Builder, e Explanation, currency string) {
 	}
 	keyValues(s, [][2]string{
 		{"class", TerminalText(string(e.Class))},
-		{"formula", TerminalText(e.Formula)},
+		{"formula", TerminalText(strings.TrimSuffix(e.Formula+"; "+e.Gaps, "; "))},
 		{"driver", driver},
 		{"fitted on", fitted},
 		{"reason", TerminalText(e.Reason)},
@@ -484,7 +486,7 @@ func explainDrivers(s *strings.Builder, e Explanation, currency string) {
 		case !d.Significant:
 			note = "not significant"
 		}
-		t.add(rank, TerminalText(d.Driver), fmt.Sprint(d.Lag), num(d.Rate, 4), pValue(d.P), pValue(d.HolmP), num(d.R2, 3), press(d.PRESSPerPeriod), fmt.Sprint(d.N), note)
+		t.add(rank, TerminalText(d.Driver), fmt.Sprint(d.Lag), rate(d.Rate), pValue(d.P), pValue(d.HolmP), num(d.R2, 3), press(d.PRESSPerPeriod), fmt.Sprint(d.N), note)
 	}
 	t.write(s, "  ")
 	fmt.Fprintf(s, "  PRESS/N: mean squared error (%s²) of predicting each period from the others; lower is better.\n", currency)
@@ -561,9 +563,9 @@ func explainHighLow(s *strings.Builder, e Explanation) {
 	t.write(s, "  ")
 	s.WriteString("\n")
 	t = table{header: []string{"", "FIXED", "RATE", "PERIODS"}, right: "lrrr"}
-	t.add("high-low", num(c.HighLow.Fixed, 2), num(c.HighLow.Rate, 4), "2")
+	t.add("high-low", num(c.HighLow.Fixed, 2), rate(c.HighLow.Rate), "2")
 	if c.N > 0 {
-		t.add("least squares", num(c.LeastSquares.Fixed, 2), num(c.LeastSquares.Rate, 4), fmt.Sprint(c.N))
+		t.add("least squares", num(c.LeastSquares.Fixed, 2), rate(c.LeastSquares.Rate), fmt.Sprint(c.N))
 	}
 	t.write(s, "  ")
 	wrap(s, TerminalText(c.Explanation), "  ", textWidth)
@@ -584,9 +586,9 @@ func explainDiagnostics(s *strings.Builder, d DiagnosticsView) {
 	}
 	if d.Robust != nil {
 		t := table{header: []string{"", "FIXED", "RATE"}, right: "lrr"}
-		t.add("robust (Huber)", num(d.Robust.Fixed, 2), num(d.Robust.Rate, 4))
+		t.add("robust (Huber)", num(d.Robust.Fixed, 2), rate(d.Robust.Rate))
 		if d.LeastSquares != nil {
-			t.add("least squares", num(d.LeastSquares.Fixed, 2), num(d.LeastSquares.Rate, 4))
+			t.add("least squares", num(d.LeastSquares.Fixed, 2), rate(d.LeastSquares.Rate))
 		}
 		t.write(s, "  ")
 		if d.RobustNote != "" {
@@ -627,7 +629,7 @@ func explainExcluded(s *strings.Builder, e Explanation) {
 
 // explainNotes writes the caller's notes and where the chart went.
 func explainNotes(s *strings.Builder, e Explanation) {
-	if len(e.Notes) > 0 || e.Chart != "" {
+	if len(e.Notes) > 0 || e.Chart != "" || e.TimeChart != "" {
 		s.WriteString("\n")
 	}
 	for _, n := range e.Notes {
@@ -639,6 +641,9 @@ func explainNotes(s *strings.Builder, e Explanation) {
 		if e.Class == costdrift.Step && len(e.Diagnostics.Outliers) > 0 {
 			s.WriteString("The straight line's outliers are not marked on the step levels.\n")
 		}
+	}
+	if e.TimeChart != "" {
+		s.WriteString("Cost over time written to " + TerminalText(e.TimeChart) + "\n")
 	}
 }
 
@@ -716,16 +721,9 @@ func wrap(s *strings.Builder, text, indent string, width int) {
 	}
 }
 
-// Activity formats a driver value with as many decimals as it has, up to
-// two: 681, 1,533.1, 12.25.
-func Activity(v float64) string {
-	for d := 0; d < 2; d++ {
-		if p := math.Pow10(d); math.Abs(math.Round(v*p)-v*p) < 1e-6*p {
-			return Number(v, d)
-		}
-	}
-	return Number(v, 2)
-}
+// Activity formats a driver value (present.Activity): 681, 1,533.1,
+// 12.25, 0.0512.
+func Activity(v float64) string { return present.Activity(v) }
 
 func num(v *float64, decimals int) string {
 	if v == nil {
@@ -734,15 +732,21 @@ func num(v *float64, decimals int) string {
 	return Number(*v, decimals)
 }
 
-// pValue shows a p-value with four decimals, and anything smaller as < 0.0001.
+// pValue shows a p-value of a t or F distribution: three decimals, and
+// anything below present.AnalyticResolution as < 0.001.
 func pValue(p *float64) string {
-	switch {
-	case p == nil:
+	if p == nil {
 		return "-"
-	case *p < 0.0001:
-		return "< 0.0001"
 	}
-	return fmt.Sprintf("%.4f", *p)
+	return present.PValue(*p, present.AnalyticResolution)
+}
+
+// rate shows a rate per unit (present.Rate).
+func rate(v *float64) string {
+	if v == nil {
+		return "-"
+	}
+	return present.Rate(*v)
 }
 
 // press shows a mean squared error: whole units once it is large.

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // Caution is the footer every report carries.
@@ -40,6 +41,8 @@ type Row struct {
 	Reason      string             `json:"reason"`
 	Until       string             `json:"until"`
 	HighLow     *costdrift.HighLow `json:"high_low"`
+	// Gaps says what a step cost is between its levels' ranges.
+	Gaps string `json:"step_gaps,omitempty"`
 
 	// A second driver, when the formula has one.
 	Driver2       *string  `json:"driver2"`
@@ -50,7 +53,7 @@ type Row struct {
 	Outliers []string `json:"outliers"`
 	// The dated break the behaviour starts at, and a change awaiting
 	// confirmation by the next analysis.
-	Break   *costdrift.Break   `json:"break"`
+	Break   *BreakView         `json:"break"`
 	Pending *costdrift.Pending `json:"pending"`
 
 	// What the accountant decided (README "The accountant's decisions"):
@@ -190,6 +193,13 @@ type Decided struct {
 	Approval *ApprovalInput
 }
 
+// BreakView is a dated break as JSON writes it: its statistic null where
+// it is infinite (an exact step, stored as the largest float).
+type BreakView struct {
+	costdrift.Break
+	Statistic *float64 `json:"statistic"`
+}
+
 // Rows turns behaviours into report rows.
 func Rows(bs []costdrift.Behaviour, names map[string]string) []Row {
 	return DecidedRows(bs, names, nil)
@@ -205,12 +215,15 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 			Object: b.Object.String(), Account: b.Object.Account, CostCenter: b.Object.CostCenter,
 			Class: b.Class, N: b.N, Since: b.Since, Until: b.Until, Steps: b.Steps,
 			AccountName: names[b.Object.Account], Unit: b.Unit, Reason: b.Reason, HighLow: b.HighLow,
-			Formula: Formula(b),
+			Formula: Formula(b), Gaps: StepGaps(b),
 		}
 		if r.Steps == nil {
 			r.Steps = []costdrift.StepLevel{}
 		}
-		r.Break, r.Pending = b.Break, b.Pending
+		if b.Break != nil {
+			r.Break = &BreakView{Break: *b.Break, Statistic: ptr(b.Break.Statistic)}
+		}
+		r.Pending = b.Pending
 		d := decided[r.Object]
 		r.ExcludedPeriods = make([]ExcludedPeriod, 0, len(d.Excluded))
 		for _, x := range d.Excluded {
@@ -296,7 +309,7 @@ func Table(w io.Writer, rows []Row, currency string) error {
 			r2 = fmt.Sprintf("%.2f", *r.R2)
 		}
 		if r.RangeMin != nil {
-			rng = Number(*r.RangeMin, 0) + " – " + Number(*r.RangeMax, 0)
+			rng = present.ActivityRange(*r.RangeMin, *r.RangeMax)
 		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%s\n", TerminalText(r.Object), clip(TerminalText(r.AccountName), 24),
 			TerminalText(string(r.Class)), TerminalText(r.Formula), r2, r.N, rng, TerminalText(r.Since))
@@ -337,9 +350,16 @@ func Table(w io.Writer, rows []Row, currency string) error {
 			}
 			fmt.Fprintf(w, "  %-12s left out of the fit: %s (costdrift explain %s)\n", "", strings.Join(periods, ", "), TerminalText(r.Object))
 		}
+		if r.Gaps != "" {
+			fmt.Fprintf(w, "  %-12s %s\n", "", r.Gaps)
+		}
 		if r.HighLow != nil {
 			hl := r.HighLow
-			fmt.Fprintf(w, "  %-12s high-low: cost = %s + %s (high %s, low %s)\n", "", Number(hl.Fixed, 2), Number(hl.Rate, rateDecimals(hl.Rate)),
+			unit := ""
+			if r.Driver != nil {
+				unit = present.UnitOf(r.Unit, *r.Driver) + lagText(*r.Lag)
+			}
+			fmt.Fprintf(w, "  %-12s high-low: cost = %s (high %s, low %s)\n", "", TerminalText(lineFormula(hl.Fixed, hl.Rate, unit)),
 				TerminalText(hl.HighPeriod), TerminalText(hl.LowPeriod))
 			if hl.Warning != "" {
 				fmt.Fprintf(w, "  %-12s warning: %s\n", "", TerminalText(hl.Warning))
@@ -352,42 +372,49 @@ func Table(w io.Writer, rows []Row, currency string) error {
 }
 
 // Formula writes a behaviour's cost formula out in words:
-// "cost = 4,210.00 + 1.87 per machine hour".
+// "cost = 4,210.00 + 1.87 per machine hour". A step cost's levels name
+// their activity ranges; StepGaps says what holds between them.
 func Formula(b costdrift.Behaviour) string {
 	per := "per " + unitName(b) + lagText(b.Lag)
 	if b.Driver2 != "" {
-		unit2 := b.Unit2
-		if unit2 == "" {
-			unit2 = "unit of " + strings.ReplaceAll(b.Driver2, "_", " ")
-		}
 		sign, rate := "+", b.VariableRate2
 		if rate < 0 {
 			sign, rate = "-", -rate
 		}
-		per += fmt.Sprintf(" %s %s per %s%s", sign, Number(rate, rateDecimals(rate)), unit2, lagText(b.Lag2))
+		per += fmt.Sprintf(" %s %s%s", sign, present.RatePer(rate, present.UnitOf(b.Unit2, b.Driver2)), lagText(b.Lag2))
 	}
 	switch b.Class {
 	case costdrift.Fixed:
-		return "cost = " + Number(b.FixedPerPeriod, 2)
+		return "cost = " + present.Amount(b.FixedPerPeriod)
 	case costdrift.Variable:
-		return "cost = " + Number(b.VariableRate, rateDecimals(b.VariableRate)) + " " + per
+		return "cost = " + present.Rate(b.VariableRate) + " " + per
 	case costdrift.Mixed:
 		sign, rate := "+", b.VariableRate
 		if rate < 0 {
 			sign, rate = "-", -rate
 		}
-		return fmt.Sprintf("cost = %s %s %s %s", Number(b.FixedPerPeriod, 2), sign, Number(rate, rateDecimals(rate)), per)
+		return fmt.Sprintf("cost = %s %s %s %s", present.Amount(b.FixedPerPeriod), sign, present.Rate(rate), per)
 	case costdrift.Step:
 		parts := make([]string, len(b.Steps))
 		for i, s := range b.Steps {
-			parts[i] = fmt.Sprintf("%s at %s–%s", Number(s.Level, 2), Number(s.From, 0), Number(s.To, 0))
+			parts[i] = fmt.Sprintf("%s at %s–%s", present.Amount(s.Level), present.Activity(s.From), present.Activity(s.To))
 		}
-		return "cost = " + strings.Join(parts, " | ") + " " + unitName(b) + lagText(b.Lag)
+		return "cost = " + strings.Join(parts, " | ") + " " + present.Plural(unitName(b)) + lagText(b.Lag)
 	case costdrift.Unexplained:
-		return "mean " + Number(b.MeanCost, 2) + " (no formula)"
+		return "mean " + present.Amount(b.MeanCost) + " (no formula)"
 	default:
 		return "-"
 	}
+}
+
+// StepGaps says which level a step cost takes between the activity ranges
+// its levels were observed in: the nearer one, as the budget evaluates it;
+// "" for a cost of another class or of one level.
+func StepGaps(b costdrift.Behaviour) string {
+	if b.Class != costdrift.Step || len(b.Steps) < 2 {
+		return ""
+	}
+	return "between two levels' ranges the nearer level applies"
 }
 
 func lagText(lag int) string {
@@ -400,44 +427,19 @@ func lagText(lag int) string {
 	return ""
 }
 
-func unitName(b costdrift.Behaviour) string {
-	if b.Unit != "" {
-		return b.Unit
-	}
-	return "unit of " + strings.ReplaceAll(b.Driver, "_", " ")
-}
-
-// rateDecimals shows small rates with enough digits to matter.
-func rateDecimals(v float64) int {
-	if math.Abs(v) < 1 && v != 0 {
-		return 4
-	}
-	return 2
-}
+func unitName(b costdrift.Behaviour) string { return present.UnitOf(b.Unit, b.Driver) }
 
 // Number formats v with the given decimals and comma thousands separators:
-// 4210.5 -> "4,210.50".
-func Number(v float64, decimals int) string {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return "-"
+// 4210.5 -> "4,210.50" (present.Number).
+func Number(v float64, decimals int) string { return present.Number(v, decimals) }
+
+// lineFormula writes cost = fixed ± rate per unit for a straight line.
+func lineFormula(fixed, rate float64, unit string) string {
+	sign := "+"
+	if rate < 0 {
+		sign, rate = "-", -rate
 	}
-	s := fmt.Sprintf("%.*f", decimals, math.Abs(v))
-	intPart, frac, _ := strings.Cut(s, ".")
-	var b strings.Builder
-	if v < 0 && strings.Trim(s, "0.") != "" {
-		b.WriteByte('-')
-	}
-	for i, c := range intPart {
-		if i > 0 && (len(intPart)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(c)
-	}
-	if decimals > 0 {
-		b.WriteByte('.')
-		b.WriteString(frac)
-	}
-	return b.String()
+	return fmt.Sprintf("cost = %s %s %s", present.Amount(fixed), sign, present.RatePer(rate, unit))
 }
 
 func clip(s string, n int) string {
@@ -448,12 +450,7 @@ func clip(s string, n int) string {
 	return string(r[:n-1]) + "…"
 }
 
-func ptr(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
+func ptr(v float64) *float64 { return present.Finite(v) }
 
 func round(v float64, d int) float64 {
 	p := math.Pow10(d)

@@ -50,10 +50,10 @@ func TestFormula(t *testing.T) {
 		{"fixed", costdrift.Behaviour{Class: costdrift.Fixed, FixedPerPeriod: 4200}, "cost = 4,200.00"},
 		{"step", costdrift.Behaviour{Class: costdrift.Step, Driver: "frames_built", Unit: "frame", Steps: []costdrift.StepLevel{
 			{From: 681, To: 999, Level: 6000}, {From: 1032, To: 1399, Level: 9000}, {From: 1412, To: 1669, Level: 12000}}},
-			"cost = 6,000.00 at 681–999 | 9,000.00 at 1,032–1,399 | 12,000.00 at 1,412–1,669 frame"},
+			"cost = 6,000.00 at 681–999 | 9,000.00 at 1,032–1,399 | 12,000.00 at 1,412–1,669 frames"},
 		{"two drivers", costdrift.Behaviour{Class: costdrift.Mixed, Driver: "machine_hours", Unit: "machine hour", FixedPerPeriod: 1000, VariableRate: 2,
 			Driver2: "orders", Unit2: "order", Lag2: 1, VariableRate2: 0.5},
-			"cost = 1,000.00 + 2.00 per machine hour + 0.5000 per order of the period before"},
+			"cost = 1,000.00 + 2.00 per machine hour + 0.50 per order of the period before"},
 		{"unexplained", costdrift.Behaviour{Class: costdrift.Unexplained, MeanCost: 2367.07}, "mean 2,367.07 (no formula)"},
 		{"insufficient", costdrift.Behaviour{Class: costdrift.InsufficientData}, "-"},
 	}
@@ -117,5 +117,46 @@ func TestTableIsAlignedAndCarriesCautions(t *testing.T) {
 		if !strings.Contains(out, want) {
 			t.Errorf("table lacks %q:\n%s", want, out)
 		}
+	}
+}
+
+// TestJSONBreakStatisticOfAnExactStep: the store reads an exact step's
+// infinite sup-F back as the largest float; the report's JSON writes null
+// for it, never 1.7976931348623157e+308, and keeps a finite one as it is.
+func TestJSONBreakStatisticOfAnExactStep(t *testing.T) {
+	for _, tc := range []struct {
+		statistic float64
+		want      string
+	}{
+		{math.MaxFloat64, `"statistic": null`},
+		{1.168231104512e+17, `"statistic": 116823110451200000`},
+	} {
+		b := costdrift.Behaviour{Object: costdrift.CostObject{Account: "6110", CostCenter: "PAINT"}, Class: costdrift.Fixed, FixedPerPeriod: 3300,
+			Break: &costdrift.Break{Period: "2025-07", Test: "sup-F", Statistic: tc.statistic}}
+		var out bytes.Buffer
+		if err := JSON(&out, Rows([]costdrift.Behaviour{b}, nil)); err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(out.String(), tc.want) || strings.Contains(out.String(), "e+") {
+			t.Errorf("statistic %g: JSON lacks %s or has an exponent:\n%s", tc.statistic, tc.want, out.String())
+		}
+	}
+}
+
+// TestStepGaps: a step cost says which level holds between its levels'
+// activity ranges, the nearer one, as budget.Evaluate takes it; a cost of
+// one level or of another class says nothing.
+func TestStepGaps(t *testing.T) {
+	step := costdrift.Behaviour{Class: costdrift.Step, Driver: "frames_built", Unit: "frame", Steps: []costdrift.StepLevel{
+		{From: 681, To: 999, Level: 6000}, {From: 1032, To: 1399, Level: 9000}}}
+	if got := StepGaps(step); got != "between two levels' ranges the nearer level applies" {
+		t.Errorf("step: %q", got)
+	}
+	step.Steps = step.Steps[:1]
+	if got := StepGaps(step); got != "" {
+		t.Errorf("one level: %q", got)
+	}
+	if got := StepGaps(costdrift.Behaviour{Class: costdrift.Mixed}); got != "" {
+		t.Errorf("mixed: %q", got)
 	}
 }

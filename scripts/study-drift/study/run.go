@@ -73,7 +73,7 @@ func Roll(companies []Company, s analyze.Settings, q float64) []Analysis {
 		a := Analysis{Newest: end - 1}
 		at := map[string]int{} // object -> index into a.Alerted
 		watched := map[string]bool{}
-		for _, al := range alerts.Behaviour(current, previous, nil) {
+		for _, al := range alerts.Behaviour(current, previous, nil, "") {
 			// The store keeps one alert per fingerprint while its condition
 			// lasts: what reaches the accountant is a new alert, or one
 			// escalated from a watch to a warning.
