@@ -59,7 +59,7 @@ type SkippedObject struct {
 // BatchObjects is how many cost objects an analysis reads, fits and stores
 // at a time: what it holds in memory depends on this, not on the number of
 // objects in the ledger.
-const BatchObjects = 500
+const BatchObjects = 250
 
 // batchObjects is BatchObjects; tests make it small to analyse in many batches.
 var batchObjects = BatchObjects
