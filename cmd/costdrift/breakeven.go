@@ -291,8 +291,8 @@ func breakevenCSV(w io.Writer, res pipeline.BreakEvenResult) error {
 		rows = append(rows, []string{"reference_volume", "", cell(res.ReferenceVolume), "", ""})
 	}
 	for _, p := range res.Parts {
-		rows = append(rows, []string{"fixed_per_period", p.Object.String(), cell(p.Fixed), "", ""},
-			[]string{"per_unit", p.Object.String(), cell(p.PerUnit), "", ""})
+		rows = append(rows, []string{"fixed_per_period", report.SafeCell(p.Object.String()), cell(p.Fixed), "", ""},
+			[]string{"per_unit", report.SafeCell(p.Object.String()), cell(p.PerUnit), "", ""})
 	}
 	if err := cw.WriteAll(rows); err != nil {
 		return err

@@ -10,6 +10,10 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/costdrift/costdrift/internal/budget"
+	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/pipeline"
 )
 
 type breakevenOut struct {
@@ -213,5 +217,44 @@ func TestBreakevenBadInput(t *testing.T) {
 				t.Errorf("err = %v, want one line with %q", err, c.want)
 			}
 		})
+	}
+}
+
+// An account code a spreadsheet would read as a formula is written as
+// text in the CSV (README, Command line).
+func TestBreakevenCSVCellsAreSafe(t *testing.T) {
+	nan := math.NaN()
+	res := pipeline.BreakEvenResult{BreakEven: budget.BreakEven{Driver: "units", Price: 50, ReferenceVolume: nan,
+		Parts: []budget.BreakEvenPart{{Object: costdrift.CostObject{Account: "=1+1", CostCenter: "WELD"}, Fixed: 100}}}}
+	var out strings.Builder
+	if err := breakevenCSV(&out, res); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(out.String(), "fixed_per_period,'=1+1/WELD,100") || strings.Contains(out.String(), ",=1+1") {
+		t.Errorf("csv:\n%s", out.String())
+	}
+}
+
+// --cost-center keeps that cost centre's formulas alone, and says when
+// its break-even lies below any volume it was observed at.
+func TestBreakevenOfOneCostCenter(t *testing.T) {
+	cfg := filepath.Join(demoDir(t), "costdrift.yaml")
+	b := breakevenJSONOf(t, "--config", cfg, "breakeven", "--volume", "frames_built", "--price", "65", "--cost-center", "WELD")
+	tubing := false
+	for _, c := range b.Costs {
+		if c.CostCenter != "WELD" {
+			t.Errorf("cost %s/%s outside WELD", c.Account, c.CostCenter)
+		}
+		tubing = tubing || c.Account == "5100"
+	}
+	if !tubing || len(b.Costs) < 3 {
+		t.Errorf("WELD's costs: %+v", b.Costs)
+	}
+	if !strings.Contains(strings.Join(b.Notes, "\n"), "lies outside the relevant range") {
+		t.Errorf("notes %q: want the break-even below the observed volumes said", b.Notes)
+	}
+	_, err := run(t, "--config", cfg, "breakeven", "--volume", "frames_built", "--price", "65", "--cost-center", "NOPE")
+	if err == nil || !strings.Contains(err.Error(), "no cost behaviour stored for NOPE") {
+		t.Errorf("unknown cost centre: err = %v", err)
 	}
 }
