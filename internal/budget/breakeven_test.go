@@ -244,3 +244,58 @@ func TestBreakEvenWithStepCosts(t *testing.T) {
 		t.Errorf("income %v, leverage %v; want 8,000 and 3.75", res.Income.Value, res.Leverage.Value)
 	}
 }
+
+// The relation between the drivers carries its own uncertainty: with the
+// cost formulas exact (5 a unit, 40 an hour), the cost per unit is
+// 5 + 40·b̂ and its
+// variance 40²·s²/Sxx, s² = RSS/(n − 2), the slope's variance of a
+// straight line by least squares (common practice), on n − 2 degrees of
+// freedom.
+func TestBreakEvenRelationUncertainty(t *testing.T) {
+	units := []float64{1000, 1400, 1800, 2200, 2600, 3000, 3400, 3800}
+	noise := []float64{12, -20, 5, 30, -25, 8, -14, 4}
+	hours := make([]float64, len(units))
+	for i, u := range units {
+		hours[i] = 20 + 0.5*u + noise[i]
+	}
+	var mx, my float64
+	for i := range units {
+		mx += units[i]
+		my += hours[i]
+	}
+	n := float64(len(units))
+	mx, my = mx/n, my/n
+	var sxx, sxy float64
+	for i := range units {
+		sxx += (units[i] - mx) * (units[i] - mx)
+		sxy += (units[i] - mx) * (hours[i] - my)
+	}
+	b := sxy / sxx
+	a := my - b*mx
+	var rss float64
+	for i := range units {
+		e := hours[i] - a - b*units[i]
+		rss += e * e
+	}
+	half := tQuantile(0.05, n-2) * 40 * math.Sqrt(rss/(n-2)/sxx)
+	mh := exactVariable("5300", "machine_hours", 40, 500, 2000)
+	mh.Prediction.Cov = []float64{0}
+	in := BreakEvenInput{Driver: "units", Price: 50, Reference: math.NaN(), Held: noHeld,
+		Pairs:      func(*costdrift.Behaviour, string) ([]float64, []float64) { return units, hours },
+		Behaviours: []costdrift.Behaviour{exactFixed("6000", 30000), exactVariable("5000", "units", 5, 500, 5000), mh}}
+	in.Behaviours[0].Prediction.Cov = []float64{0}
+	in.Behaviours[1].Prediction.Cov = []float64{0}
+	res, err := BreakEvenOf(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(res.Variable.Value-(5+40*b)) > 1e-9 {
+		t.Errorf("variable per unit %v, want 5 + 40·b̂ = %v", res.Variable.Value, 5+40*b)
+	}
+	if got := res.Variable.High - res.Variable.Value; math.Abs(got-half) > 1e-9*half {
+		t.Errorf("interval half-width %v, want t·40·s/√Sxx = %v", got, half)
+	}
+	if math.Abs(res.Fixed.Value-(30000+40*a)) > 1e-6 {
+		t.Errorf("fixed %v, want 30,000 + 40·â = %v", res.Fixed.Value, 30000+40*a)
+	}
+}
