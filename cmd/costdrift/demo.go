@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -129,6 +130,11 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	fmt.Fprintf(a.out, "\n%s against its flexible budget and the quarter's plan (costdrift variance --period %s --plan %s --save %s):\n\n",
 		run.WindowTo, run.WindowTo, closed, run.WindowTo)
 	if err := a.variance(ctx, e, db, run.WindowTo, closed, run.WindowTo, outputFlags{format: "table"}); err != nil {
+		return err
+	}
+	fmt.Fprintf(a.out, "\nThe frames' break-even at %s a frame, with the plan's first month as reference (costdrift breakeven --volume frames_built --price %s --plan %s):\n\n",
+		strconv.FormatFloat(demoFramePrice, 'f', -1, 64), strconv.FormatFloat(demoFramePrice, 'f', -1, 64), next)
+	if err := a.breakeven(ctx, e, db, pipeline.BreakEvenRequest{Driver: "frames_built", Price: demoFramePrice, PlanPath: next}, "table"); err != nil {
 		return err
 	}
 	if e.Config.Mail.SMTP.Host == "" {

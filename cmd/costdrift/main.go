@@ -79,7 +79,7 @@ classifies each cost as fixed, variable, mixed or step-fixed with its formula.`,
 	root.AddCommand(a.initCommand(), a.syncCommand(), a.analyzeCommand(), a.reportCommand(), a.explainCommand(), a.alertsMailCommand(), a.demoCommand(), a.versionCommand(),
 		a.runCommand(), a.statusCommand(), a.budgetCommand(), a.varianceCommand(), a.historyCommand(),
 		a.pinCommand(), a.unpinCommand(), a.excludeCommand(), a.includeCommand(),
-		a.approveCommand(), a.declineCommand(), a.proposalsCommand())
+		a.approveCommand(), a.declineCommand(), a.proposalsCommand(), a.breakevenCommand())
 	return root
 }
 
