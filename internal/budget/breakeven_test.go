@@ -80,7 +80,7 @@ func TestBreakEvenOutsideRelevantRange(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(strings.Join(res.Notes, "\n"), "break-even volume 3000 lies outside the relevant range 3500 to 6000") {
+	if !strings.Contains(strings.Join(res.Notes, "\n"), "break-even volume 3,000 lies outside the relevant range 3,500 to 6,000") {
 		t.Errorf("notes = %q, want the break-even outside the range said", res.Notes)
 	}
 }
