@@ -8,13 +8,13 @@ import (
 	"io"
 	"math"
 	"strconv"
-	"strings"
 	"text/tabwriter"
 
 	"github.com/spf13/cobra"
 
 	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/present"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -107,8 +107,8 @@ func figures(res pipeline.BreakEvenResult) (core, atReference []figure) {
 	unit := unitName(res)
 	amount := func(v float64) string { return amountText(v, 2) }
 	units := func(v float64) string { return amountText(v, 0) }
-	pct := func(v float64) string { return strconv.FormatFloat(100*v, 'f', 1, 64) + " %" }
-	times := func(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) }
+	pct := func(v float64) string { return present.Number(100*v, 1) + " %" }
+	times := func(v float64) string { return present.Number(v, 2) }
 	core = []figure{
 		{"fixed_per_period", "fixed cost per period", res.Fixed, amount},
 		{"variable_per_unit", "variable cost per " + unit, res.Variable, amount},
@@ -137,28 +137,13 @@ func unitName(res pipeline.BreakEvenResult) string {
 	return "unit of " + res.Driver
 }
 
-// amountText writes v with digits decimals and thousands separators.
+// amountText writes v with digits decimals and thousands separators, "–"
+// when the data give no figure.
 func amountText(v float64, digits int) string {
 	if math.IsNaN(v) {
 		return "–"
 	}
-	s := strconv.FormatFloat(math.Abs(v), 'f', digits, 64)
-	whole, frac, _ := strings.Cut(s, ".")
-	var b strings.Builder
-	for i, c := range whole {
-		if i > 0 && (len(whole)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(c)
-	}
-	out := b.String()
-	if frac != "" {
-		out += "." + frac
-	}
-	if v < 0 && out != strings.Repeat("0", len(out)) {
-		out = "-" + out
-	}
-	return out
+	return present.Number(v, digits)
 }
 
 func intervalText(f figure) string {
@@ -206,7 +191,7 @@ func breakevenTable(w io.Writer, res pipeline.BreakEvenResult, currency string) 
 	fmt.Fprintln(tw, "cost object\tname\tclass\tfixed per period\tper "+report.TerminalText(unitName(res))+"\thow")
 	for _, p := range res.Parts {
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", report.TerminalText(p.Object.String()), report.TerminalText(res.Names[p.Object.Account]),
-			p.Class, amountText(p.Fixed, 2), amountText(p.PerUnit, 4), report.TerminalText(p.How))
+			p.Class, amountText(p.Fixed, 2), present.Rate(p.PerUnit), report.TerminalText(p.How))
 	}
 	if err := tw.Flush(); err != nil {
 		return err

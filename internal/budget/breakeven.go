@@ -29,6 +29,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/fit"
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // Range is a figure with its 95 % interval; a bound the data cannot set is
@@ -522,8 +523,8 @@ func t95(df float64) float64 {
 	return tQuantile(0.05, df)
 }
 
-// money writes an amount with two decimals.
-func money(v float64) string { return fmt.Sprintf("%.2f", v) }
+// money writes an amount with two decimals and thousands separators.
+func money(v float64) string { return present.Amount(v) }
 
 // num4 writes a relation's coefficient in four significant digits.
-func num4(v float64) string { return fmt.Sprintf("%.4g", v) }
+func num4(v float64) string { return present.Significant(v, 4) }
