@@ -788,29 +788,23 @@ func scanPrevious(rows *sql.Rows, out map[string]costdrift.Behaviour) error {
 func (w *AnalysisWriter) Stored(ctx context.Context, objects []string) ([]costdrift.Behaviour, map[string]costdrift.Behaviour, error) {
 	var current []costdrift.Behaviour
 	previous := map[string]costdrift.Behaviour{}
-	const chunk = 1000 // well below SQLite's 32,766 parameters
-	for len(objects) > 0 {
-		n := min(chunk, len(objects))
-		args := make([]any, n)
-		for i, o := range objects[:n] {
-			args[i] = o
-		}
-		err := eachBehaviourOf(ctx, w.tx, briefColumns, `valid_to_run_at IS NULL AND object IN (`+placeholders(n)+`)`,
+	err := inChunks(objects, func(in string, args []any) error {
+		err := eachBehaviourOf(ctx, w.tx, briefColumns, `valid_to_run_at IS NULL AND object IN (`+in+`)`,
 			func(b costdrift.Behaviour) error {
 				current = append(current, b)
 				return nil
 			}, args...)
 		if err != nil {
-			return nil, nil, err
+			return err
 		}
-		rows, err := w.tx.QueryContext(ctx, previousBehaviourQuery+` AND h.object IN (`+placeholders(n)+`)`, args...)
+		rows, err := w.tx.QueryContext(ctx, previousBehaviourQuery+` AND h.object IN (`+in+`)`, args...)
 		if err != nil {
-			return nil, nil, err
+			return err
 		}
-		if err := scanPrevious(rows, previous); err != nil {
-			return nil, nil, err
-		}
-		objects = objects[n:]
+		return scanPrevious(rows, previous)
+	})
+	if err != nil {
+		return nil, nil, err
 	}
 	return current, previous, nil
 }

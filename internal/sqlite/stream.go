@@ -89,7 +89,20 @@ func (db *DB) ObjectCostTotals(ctx context.Context, o costdrift.CostObject, acco
 // object; an object without one is left out.
 func (db *DB) CurrentBehaviourOf(ctx context.Context, objects []string) (map[string]costdrift.Behaviour, error) {
 	out := make(map[string]costdrift.Behaviour, len(objects))
-	// SQLite takes up to 32,766 parameters; a batch stays well below.
+	err := inChunks(objects, func(in string, args []any) error {
+		bs, err := db.behaviours(ctx, `valid_to_run_at IS NULL AND object IN (`+in+`)`, args...)
+		for _, b := range bs {
+			out[b.Object.String()] = b
+		}
+		return err
+	})
+	return out, err
+}
+
+// inChunks calls fn with the objects a chunk at a time: in is the list of
+// placeholders of an IN (...) and args the objects it binds. SQLite takes
+// up to 32,766 parameters; a chunk stays well below.
+func inChunks(objects []string, fn func(in string, args []any) error) error {
 	const chunk = 1000
 	for len(objects) > 0 {
 		n := min(chunk, len(objects))
@@ -97,16 +110,12 @@ func (db *DB) CurrentBehaviourOf(ctx context.Context, objects []string) (map[str
 		for i, o := range objects[:n] {
 			args[i] = o
 		}
-		bs, err := db.behaviours(ctx, `valid_to_run_at IS NULL AND object IN (`+placeholders(n)+`)`, args...)
-		if err != nil {
-			return nil, err
-		}
-		for _, b := range bs {
-			out[b.Object.String()] = b
+		if err := fn(placeholders(n), args); err != nil {
+			return err
 		}
 		objects = objects[n:]
 	}
-	return out, nil
+	return nil
 }
 
 // CurrentChoiceOf returns, of the open behaviour of each object named, by
@@ -117,36 +126,27 @@ func (db *DB) CurrentBehaviourOf(ctx context.Context, objects []string) (map[str
 // behaviour is left out.
 func (db *DB) CurrentChoiceOf(ctx context.Context, objects []string) (map[string]costdrift.Behaviour, error) {
 	out := make(map[string]costdrift.Behaviour, len(objects))
-	const chunk = 1000 // well below SQLite's 32,766 parameters
-	for len(objects) > 0 {
-		n := min(chunk, len(objects))
-		args := make([]any, n)
-		for i, o := range objects[:n] {
-			args[i] = o
-		}
+	err := inChunks(objects, func(in string, args []any) error {
 		rows, err := db.db.QueryContext(ctx, `SELECT account, cost_center, class, COALESCE(driver, ''), lag
-			FROM behaviour_history WHERE valid_to_run_at IS NULL AND object IN (`+placeholders(n)+`)`, args...)
+			FROM behaviour_history WHERE valid_to_run_at IS NULL AND object IN (`+in+`)`, args...)
 		if err != nil {
-			return nil, err
+			return err
 		}
+		defer rows.Close()
 		for rows.Next() {
 			var b costdrift.Behaviour
 			var class string
 			var lag sql.NullInt64
 			if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &lag); err != nil {
-				rows.Close()
-				return nil, err
+				return err
 			}
 			b.Class, b.Lag = costdrift.Class(class), int(lag.Int64)
 			out[b.Object.String()] = b
 		}
-		if err := rows.Close(); err != nil {
-			return nil, err
-		}
-		if err := rows.Err(); err != nil {
-			return nil, err
-		}
-		objects = objects[n:]
+		return rows.Err()
+	})
+	if err != nil {
+		return nil, err
 	}
 	return out, nil
 }
