@@ -1,0 +1,257 @@
+package main
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"io"
+	"net/http"
+	"net/http/httptest"
+	"net/url"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/sqlite"
+	"github.com/costdrift/costdrift/internal/web"
+)
+
+// webView builds the web view of the demo in dir as `costdrift serve`
+// does, with the given proxy header ("" for loopback only).
+func webView(t *testing.T, dir, authHeader string) (*web.Server, *pipeline.Env, *sqlite.DB) {
+	t.Helper()
+	e, err := pipeline.Load(filepath.Join(dir, "costdrift.yaml"), today)
+	if err != nil {
+		t.Fatal(err)
+	}
+	e.Config.HTTP.AuthHeader = authHeader
+	db, err := e.OpenToRead(context.Background(), true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { db.Close() })
+	v, err := newView(e, func() *pipeline.Env { return e }, db, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v, e, db
+}
+
+// fetch fetches path from srv and returns the status and body.
+func fetch(t *testing.T, srv *httptest.Server, path string) (*http.Response, string) {
+	t.Helper()
+	res, err := srv.Client().Get(srv.URL + path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer res.Body.Close()
+	b, err := io.ReadAll(res.Body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res, string(b)
+}
+
+// tagText is a page's text without its markup, spaces folded, for checks
+// of what a reader sees.
+func tagText(html string) string {
+	s := regexp.MustCompile(`(?s)<svg.*?</svg>|<[^>]*>`).ReplaceAllString(html, " ")
+	for _, r := range [][2]string{{"&#43;", "+"}, {"&amp;", "&"}, {"&lt;", "<"}, {"&gt;", ">"}, {"&#39;", "'"}, {"&#34;", `"`}, {"&quot;", `"`}} {
+		s = strings.ReplaceAll(s, r[0], r[1])
+	}
+	return strings.Join(strings.Fields(s), " ")
+}
+
+// Every page of the demo answers 200 with the security headers, shows what
+// the store holds, and carries the cautions in its footer.
+func TestWebPagesShowTheStore(t *testing.T) {
+	dir := demoDir(t)
+	v, _, _ := webView(t, dir, "")
+	srv := httptest.NewServer(v.Handler())
+	defer srv.Close()
+	store := filepath.Join(dir, "costdrift.db")
+	rows := reportJSON(t, filepath.Join(dir, "costdrift.yaml"))
+
+	res, body := fetch(t, srv, "/")
+	if res.StatusCode != 200 {
+		t.Fatalf("/: %d\n%s", res.StatusCode, body)
+	}
+	csp := res.Header.Get("Content-Security-Policy")
+	for _, want := range []string{"default-src 'none'", "frame-ancestors 'none'", "form-action 'self'"} {
+		if !strings.Contains(csp, want) {
+			t.Errorf("Content-Security-Policy %q lacks %q", csp, want)
+		}
+	}
+	if strings.Contains(csp, "script-src") {
+		t.Errorf("Content-Security-Policy %q allows a script", csp)
+	}
+	if got := res.Header.Get("X-Frame-Options"); got != "DENY" {
+		t.Errorf("X-Frame-Options %q, want DENY", got)
+	}
+	var csrf *http.Cookie
+	for _, c := range res.Cookies() {
+		if c.Name == "costdrift_csrf" {
+			csrf = c
+		}
+	}
+	if csrf == nil || !csrf.HttpOnly || csrf.SameSite != http.SameSiteStrictMode || csrf.Secure {
+		t.Errorf("cookie %+v: want costdrift_csrf, HttpOnly, SameSite=Strict, not Secure over plain HTTP", csrf)
+	}
+	text := tagText(body)
+	// The demo's classes per cost centre, counted in the store; the
+	// overview's row for WELD must say the same.
+	wantWeld := []string{"WELD"}
+	for _, class := range []string{"fixed", "variable", "mixed", "step", "unexplained", "insufficient_data"} {
+		wantWeld = append(wantWeld, itoa(count(t, store, `SELECT COUNT(*) FROM current_behaviour WHERE cost_center = 'WELD' AND class = '`+class+`'`)))
+	}
+	wantWeld = append(wantWeld, itoa(count(t, store, `SELECT COUNT(*) FROM current_behaviour WHERE cost_center = 'WELD'`)))
+	if !strings.Contains(text, strings.Join(wantWeld, " ")) {
+		t.Errorf("overview lacks the WELD row %q:\n%s", strings.Join(wantWeld, " "), text)
+	}
+	for _, sev := range []string{"critical", "warning", "info"} {
+		n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE status = 'open' AND severity = '`+sev+`'`)
+		if !strings.Contains(text, itoa(n)+" "+sev) {
+			t.Errorf("overview lacks %d open %s alerts:\n%s", n, sev, text)
+		}
+	}
+	for _, want := range []string{"Formulas are statistical estimates", "They are not advice", "your organisation's policies", "Ledger data is confidential"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("footer lacks %q", want)
+		}
+	}
+
+	res, body = fetch(t, srv, "/objects")
+	if res.StatusCode != 200 {
+		t.Fatalf("/objects: %d", res.StatusCode)
+	}
+	text = tagText(body)
+	if n := count(t, store, `SELECT COUNT(*) FROM current_behaviour`); !strings.Contains(text, "Objects 1–"+itoa(n)+" of "+itoa(n)) {
+		t.Errorf("objects page lacks the count of %d:\n%s", n, text)
+	}
+	for object, r := range rows {
+		if !strings.Contains(text, object+" "+r["account_name"].(string)) || !strings.Contains(text, r["formula"].(string)) {
+			t.Errorf("objects page lacks %s with %q", object, r["formula"])
+		}
+	}
+	_, body = fetch(t, srv, "/objects?cost_center=PAINT&class=fixed")
+	text = tagText(body)
+	want := count(t, store, `SELECT COUNT(*) FROM current_behaviour WHERE cost_center = 'PAINT' AND class = 'fixed'`)
+	if !strings.Contains(text, "of "+itoa(want)) || strings.Contains(text, "/WELD") {
+		t.Errorf("PAINT's fixed objects: want %d, no WELD:\n%s", want, text)
+	}
+
+	res, body = fetch(t, srv, "/object?o="+url.QueryEscape("6200/WELD"))
+	if res.StatusCode != 200 {
+		t.Fatalf("/object 6200/WELD: %d\n%s", res.StatusCode, body)
+	}
+	text = tagText(body)
+	for _, want := range []string{rows["6200/WELD"]["formula"].(string), rows["6200/WELD"]["reason"].(string), "Drivers tried", "High-low beside least squares", "Diagnostics"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("object page lacks %q:\n%s", want, text)
+		}
+	}
+	if n := strings.Count(body, "<svg "); n != 2 {
+		t.Errorf("object page has %d charts, want 2 (over time, against the driver)", n)
+	}
+	if res, _ := fetch(t, srv, "/object?o=9999/NOPE"); res.StatusCode != http.StatusNotFound {
+		t.Errorf("an unknown object answers %d, want 404", res.StatusCode)
+	}
+	if res, body := fetch(t, srv, "/static/style.css"); res.StatusCode != 200 || !strings.Contains(body, "@media print") {
+		t.Errorf("stylesheet: %d", res.StatusCode)
+	}
+}
+
+func itoa(n int) string { return strconv.Itoa(n) }
+
+// Off this machine the view answers only through the trusted proxy, which
+// names the user; `serve` and `run` refuse to listen beyond loopback
+// without it.
+func TestWebNeedsAuthenticationOffLoopback(t *testing.T) {
+	dir := demoDir(t)
+	local, _, _ := webView(t, dir, "")
+	r := httptest.NewRequest("GET", "/", nil)
+	r.RemoteAddr = "192.0.2.7:50000"
+	w := httptest.NewRecorder()
+	local.Handler().ServeHTTP(w, r)
+	if w.Code != http.StatusForbidden {
+		t.Errorf("a remote client without a proxy: %d, want 403", w.Code)
+	}
+	proxied, _, _ := webView(t, dir, "X-Remote-User")
+	for _, tc := range []struct {
+		user string
+		code int
+	}{{"", http.StatusForbidden}, {"kari.nordmann", http.StatusOK}} {
+		r := httptest.NewRequest("GET", "/", nil)
+		r.RemoteAddr = "192.0.2.7:50000"
+		if tc.user != "" {
+			r.Header.Set("X-Remote-User", tc.user)
+		}
+		w := httptest.NewRecorder()
+		proxied.Handler().ServeHTTP(w, r)
+		if w.Code != tc.code {
+			t.Errorf("proxy header %q: %d, want %d", tc.user, w.Code, tc.code)
+		}
+		if tc.code == 200 && !strings.Contains(w.Body.String(), "Signed in as <strong>kari.nordmann</strong>") {
+			t.Errorf("the page does not name the proxy's user")
+		}
+	}
+
+	if err := checkListen("0.0.0.0:0", false, ""); err == nil || !strings.Contains(err.Error(), "not a loopback address") {
+		t.Errorf("remote without allow_remote: %v", err)
+	}
+	if err := checkListen("0.0.0.0:0", true, ""); !errors.Is(err, web.ErrRemoteWithoutAuth) {
+		t.Errorf("allow_remote without auth: %v, want ErrRemoteWithoutAuth", err)
+	}
+	if err := checkListen("0.0.0.0:0", true, "X-Remote-User"); err != nil {
+		t.Errorf("allow_remote with a proxy header: %v", err)
+	}
+	if err := checkListen("127.0.0.1:0", false, ""); err != nil {
+		t.Errorf("loopback: %v", err)
+	}
+	// The commands themselves refuse, before they open anything.
+	cfg := filepath.Join(t.TempDir(), "costdrift.yaml")
+	writeFile(t, cfg, "store: "+filepath.Join(filepath.Dir(ownDemo(t)), "costdrift.db")+"\ncurrency: EUR\nhttp:\n  listen: 0.0.0.0:0\n  allow_remote: true\n")
+	for _, command := range []string{"serve", "run"} {
+		if _, err := run(t, "--config", cfg, command); !errors.Is(err, web.ErrRemoteWithoutAuth) {
+			t.Errorf("%s with allow_remote and no auth: %v, want ErrRemoteWithoutAuth", command, err)
+		}
+	}
+}
+
+// Hostile account names and searches are shown as text, never obeyed as
+// markup, on every page.
+func TestWebEscapesHostileText(t *testing.T) {
+	dir := filepath.Dir(ownDemo(t))
+	db, err := sql.Open("sqlite3", filepath.Join(dir, "costdrift.db"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	const evil = `Power <script>alert("x")</script> <img src=x onerror=alert(1)> & "quoted"`
+	if _, err := db.Exec(`UPDATE accounts SET name = ? WHERE account = '6200'`, evil); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+	v, _, _ := webView(t, dir, "")
+	srv := httptest.NewServer(v.Handler())
+	defer srv.Close()
+	for _, path := range []string{"/", "/objects", "/objects?q=" + url.QueryEscape(evil), "/objects?q=" + url.QueryEscape(`"><script>alert(2)</script>`),
+		"/object?o=" + url.QueryEscape("6200/WELD"), "/object?o=" + url.QueryEscape("<script>alert(3)</script>")} {
+		_, body := fetch(t, srv, path)
+		for _, bad := range []string{"<script", "<img"} {
+			if strings.Contains(body, bad) {
+				t.Errorf("%s: the page holds %q unescaped", path, bad)
+			}
+		}
+	}
+	_, body := fetch(t, srv, "/object?o="+url.QueryEscape("6200/WELD"))
+	if !strings.Contains(tagText(body), evil) {
+		t.Errorf("the object page does not show the account's name as text")
+	}
+	_, body = fetch(t, srv, "/objects?q="+url.QueryEscape("script>alert"))
+	if !strings.Contains(tagText(body), "6200/WELD") || !strings.Contains(tagText(body), "of 2") {
+		t.Errorf("a search on the hostile name finds the two 6200 objects:\n%s", tagText(body))
+	}
+}
