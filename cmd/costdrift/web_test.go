@@ -4,10 +4,13 @@ import (
 	"context"
 	"database/sql"
 	"errors"
+	"html"
 	"io"
 	"net/http"
+	"net/http/cookiejar"
 	"net/http/httptest"
 	"net/url"
+	"os"
 	"path/filepath"
 	"regexp"
 	"strconv"
@@ -237,7 +240,7 @@ func TestWebEscapesHostileText(t *testing.T) {
 	v, _, _ := webView(t, dir, "")
 	srv := httptest.NewServer(v.Handler())
 	defer srv.Close()
-	for _, path := range []string{"/", "/objects", "/objects?q=" + url.QueryEscape(evil), "/objects?q=" + url.QueryEscape(`"><script>alert(2)</script>`),
+	for _, path := range []string{"/", "/alerts?status=all", "/proposals", "/objects", "/objects?q=" + url.QueryEscape(evil), "/objects?q=" + url.QueryEscape(`"><script>alert(2)</script>`),
 		"/object?o=" + url.QueryEscape("6200/WELD"), "/object?o=" + url.QueryEscape("<script>alert(3)</script>")} {
 		_, body := fetch(t, srv, path)
 		for _, bad := range []string{"<script", "<img"} {
@@ -253,5 +256,161 @@ func TestWebEscapesHostileText(t *testing.T) {
 	_, body = fetch(t, srv, "/objects?q="+url.QueryEscape("script>alert"))
 	if !strings.Contains(tagText(body), "6200/WELD") || !strings.Contains(tagText(body), "of 2") {
 		t.Errorf("a search on the hostile name finds the two 6200 objects:\n%s", tagText(body))
+	}
+}
+
+// formToken is the CSRF token of the first form on a page.
+var formToken = regexp.MustCompile(`name="csrf" value="([^"]+)"`)
+
+// browser is a client with a cookie jar, as a browser keeps its cookies.
+func browser(t *testing.T, srv *httptest.Server) *http.Client {
+	t.Helper()
+	jar, err := cookiejar.New(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := *srv.Client() // a copy: the server's client is one for every caller
+	c.Jar = jar
+	c.CheckRedirect = func(*http.Request, []*http.Request) error { return http.ErrUseLastResponse }
+	return &c
+}
+
+// open fetches a page with c and returns its CSRF token.
+func open(t *testing.T, c *http.Client, srv *httptest.Server, path string) string {
+	t.Helper()
+	res, err := c.Get(srv.URL + path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, _ := io.ReadAll(res.Body)
+	res.Body.Close()
+	m := formToken.FindStringSubmatch(string(b))
+	if res.StatusCode != 200 || m == nil {
+		t.Fatalf("%s: %d, no form token", path, res.StatusCode)
+	}
+	return html.UnescapeString(m[1])
+}
+
+func post(t *testing.T, c *http.Client, srv *httptest.Server, path string, form url.Values) (int, string) {
+	t.Helper()
+	res, err := c.PostForm(srv.URL+path, form)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer res.Body.Close()
+	b, _ := io.ReadAll(res.Body)
+	return res.StatusCode, res.Header.Get("Location") + string(b)
+}
+
+// Decisions are forms that POST with the page's token: without it, with
+// another browser's, or as a GET nothing is stored; with it the decision
+// is stored under the signed-in user and the browser is sent back to see
+// it.
+func TestWebDecisions(t *testing.T) {
+	cfg := ownDemo(t)
+	dir := filepath.Dir(cfg)
+	text, err := os.ReadFile(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	writeFile(t, cfg, strings.Replace(string(text), "approval: none ", "approval: required", 1))
+	store := filepath.Join(dir, "costdrift.db")
+	v, _, _ := webView(t, dir, "X-Remote-User")
+	proxy := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		r.Header.Set("X-Remote-User", "ana.accountant")
+		v.Handler().ServeHTTP(w, r)
+	}))
+	defer proxy.Close()
+	decisions := func() int { return count(t, store, `SELECT COUNT(*) FROM decisions`) }
+	openAlerts := func() int { return count(t, store, `SELECT COUNT(*) FROM alerts WHERE status = 'open'`) }
+	before, open0 := decisions(), openAlerts()
+
+	c := browser(t, proxy)
+	token := open(t, c, proxy, "/alerts")
+	other := open(t, browser(t, proxy), proxy, "/alerts") // another browser's cookie and token
+	ack := url.Values{"alert": {"1"}, "note": {"lease renewed in July, as agreed"}}
+
+	// Every page and every GET of an action leaves the store as it was.
+	for _, path := range []string{"/", "/objects", "/object?o=6200%2FWELD", "/alerts", "/alerts?status=all", "/proposals",
+		"/alerts/ack?alert=1&csrf=" + url.QueryEscape(token), "/object/pin", "/object/exclude", "/proposals/decide"} {
+		res, err := c.Get(proxy.URL + path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		res.Body.Close()
+		isAction := !strings.HasPrefix(path, "/alerts?") && strings.Count(path, "/") == 2
+		if isAction && res.StatusCode != http.StatusMethodNotAllowed {
+			t.Errorf("GET %s: %d, want 405", path, res.StatusCode)
+		}
+	}
+	for _, tc := range []struct {
+		name  string
+		token string
+	}{{"no token", ""}, {"another browser's token", other}, {"a forged token", "AAAA" + token[4:]}} {
+		form := url.Values{"csrf": {tc.token}}
+		for k, v := range ack {
+			form[k] = v
+		}
+		if code, _ := post(t, c, proxy, "/alerts/ack", form); code != http.StatusForbidden {
+			t.Errorf("ack with %s: %d, want 403", tc.name, code)
+		}
+	}
+	if decisions() != before || openAlerts() != open0 {
+		t.Fatalf("the store changed without a valid POST: decisions %d → %d, open alerts %d → %d", before, decisions(), open0, openAlerts())
+	}
+
+	ack.Set("csrf", token)
+	if code, body := post(t, c, proxy, "/alerts/ack", ack); code != http.StatusSeeOther || !strings.HasPrefix(body, "/alerts#alert-1") {
+		t.Errorf("ack: %d %s, want 303 to /alerts#alert-1", code, body)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE id = 1 AND status = 'acknowledged'`); n != 1 {
+		t.Error("alert 1 is not acknowledged")
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE kind = 'note' AND alert_id = 1 AND made_by = 'ana.accountant' AND reason = 'lease renewed in July, as agreed'`); n != 1 {
+		t.Error("the note is not in the audit trail under the proxy's user")
+	}
+
+	token = open(t, c, proxy, "/object?o=6500%2FWELD")
+	pin := url.Values{"csrf": {token}, "object": {"6500/WELD"}, "class": {"fixed"}, "fixed": {"1200.00"}, "reason": {"service contract to 2027"}}
+	if code, body := post(t, c, proxy, "/object/pin", pin); code != http.StatusSeeOther || body != "/object?o=6500%2FWELD" {
+		t.Errorf("pin: %d %s", code, body)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM current_pins WHERE object = '6500/WELD' AND class = 'fixed' AND made_by = 'ana.accountant'`); n != 1 {
+		t.Errorf("the pin is not stored under the proxy's user")
+	}
+	_, page := fetch(t, proxy, "/object?o=6500%2FWELD")
+	if text := tagText(page); !strings.Contains(text, "Pinned cost = 1,200.00 by ana.accountant") || !strings.Contains(text, "service contract to 2027") {
+		t.Errorf("the object page does not show the pin:\n%s", text)
+	}
+	// A pin the pipeline refuses stores nothing and says why, 400.
+	pin.Set("reason", "")
+	n0 := decisions()
+	if code, body := post(t, c, proxy, "/object/pin", pin); code != http.StatusBadRequest || !strings.Contains(body, "reason") {
+		t.Errorf("pin without a reason: %d\n%s", code, body)
+	}
+	exclude := url.Values{"csrf": {token}, "object": {"6200/WELD"}, "periods": {"2025-03, 2025-04"}, "reason": {"meter fault"}}
+	if code, _ := post(t, c, proxy, "/object/exclude", exclude); code != http.StatusSeeOther {
+		t.Errorf("exclude: %d", code)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE kind = 'exclude' AND object = '6200/WELD' AND made_by = 'ana.accountant'`); n != 2 || decisions() != n0+2 {
+		t.Errorf("%d exclusions stored under the proxy's user, want 2", n)
+	}
+
+	token = open(t, c, proxy, "/proposals")
+	_, page = fetch(t, proxy, "/proposals")
+	if !strings.Contains(tagText(page), "6100/WELD") {
+		t.Fatalf("proposals page lacks 6100/WELD:\n%s", tagText(page))
+	}
+	if code, _ := post(t, c, proxy, "/proposals/decide", url.Values{"csrf": {token}, "object": {"6100/WELD"}, "decision": {"decline"}}); code != http.StatusBadRequest {
+		t.Errorf("decline without a reason: %d, want 400", code)
+	}
+	if code, _ := post(t, c, proxy, "/proposals/decide", url.Values{"csrf": {token}, "object": {"6100/WELD"}, "decision": {"approve"}, "reason": {"matches the lease"}}); code != http.StatusSeeOther {
+		t.Errorf("approve: %d", code)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE kind = 'approve' AND object = '6100/WELD' AND made_by = 'ana.accountant' AND reason = 'matches the lease'`); n != 1 {
+		t.Error("the approval is not in the audit trail under the proxy's user")
+	}
+	if _, page = fetch(t, proxy, "/proposals"); strings.Contains(tagText(page), "6100/WELD") {
+		t.Error("6100/WELD still waits after its approval")
 	}
 }

@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strings"
+	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/report"
@@ -102,4 +104,94 @@ func ObjectAnalysed(ctx context.Context, db *sqlite.DB, object string) (bool, er
 		return false, fmt.Errorf("object %s: %w", object, err)
 	}
 	return true, nil
+}
+
+// Acknowledge marks alert id as seen, until period until ("" until its
+// condition changes), and adds the note, when there is one, to its thread
+// under by, as `costdrift alerts ack` does.
+func Acknowledge(ctx context.Context, e *Env, db *sqlite.DB, id int64, until, by, note string) error {
+	if until = strings.TrimSpace(until); until != "" {
+		if _, err := e.Calendar.Parse(until); err != nil {
+			return fmt.Errorf("until: %v; give a period of the %s calendar the store uses", err, e.Calendar.Kind())
+		}
+	}
+	if err := db.AckAlert(ctx, id, until); err != nil {
+		if errors.Is(err, sqlite.ErrAlertNotFound) {
+			return fmt.Errorf("no alert %d", id)
+		}
+		return fmt.Errorf("alert %d: %w", id, err)
+	}
+	if note = strings.TrimSpace(note); note != "" {
+		if err := db.NoteAlert(ctx, id, by, note, e.Now()); err != nil {
+			return fmt.Errorf("alert %d: note: %w", id, err)
+		}
+	}
+	return nil
+}
+
+// AlertView is an alert with its thread of notes.
+type AlertView struct {
+	costdrift.Alert
+	Notes []costdrift.Decision
+}
+
+// ViewAlerts lists the alerts of a status (open, acknowledged, resolved,
+// or sqlite.AlertStatusAll), each with its notes.
+func ViewAlerts(ctx context.Context, db *sqlite.DB, status string) ([]AlertView, error) {
+	as, err := db.Alerts(ctx, sqlite.AlertFilter{Status: status})
+	if err != nil {
+		return nil, fmt.Errorf("alerts: %w", err)
+	}
+	out := make([]AlertView, len(as))
+	for i, a := range as {
+		notes, err := db.AlertNotes(ctx, a.ID)
+		if err != nil {
+			return nil, fmt.Errorf("alert %d: %w", a.ID, err)
+		}
+		out[i] = AlertView{Alert: a, Notes: notes}
+	}
+	return out, nil
+}
+
+// ProposalView is a formula waiting for approval, as the proposals page
+// shows it: the object, the analysis's formula, and the one budgets use
+// until it is approved ("" before any approval).
+type ProposalView struct {
+	Object      string
+	AccountName string
+	Class       costdrift.Class
+	Proposed    string
+	Since       string
+	ProposedAt  time.Time
+	Approved    string
+	ApprovedBy  string
+	Declined    bool // the latest decision on this formula was to decline it
+	Reason      string
+}
+
+// ViewProposals lists what waits for approval, oldest first, and whether
+// analysis.approval requires it at all.
+func ViewProposals(ctx context.Context, e *Env, db *sqlite.DB) ([]ProposalView, bool, error) {
+	if !approvalRequired(e) {
+		return nil, false, nil
+	}
+	ps, err := Proposals(ctx, db)
+	if err != nil {
+		return nil, true, fmt.Errorf("proposals: %w", err)
+	}
+	names, err := db.AccountNames(ctx)
+	if err != nil {
+		return nil, true, fmt.Errorf("proposals: %w", err)
+	}
+	out := make([]ProposalView, len(ps))
+	for i, p := range ps {
+		v := ProposalView{Object: p.Current.Object.String(), AccountName: names[p.Current.Object.Account], Class: p.Current.Class,
+			Proposed: report.Formula(p.Current), Since: p.State.CurrentSince, ProposedAt: p.State.ProposedAt, Reason: p.Current.Reason,
+			Declined: p.State.LastKind == costdrift.DecisionDecline && p.State.LastID == p.State.CurrentID}
+		if p.Approved != nil {
+			v.Approved, v.ApprovedBy = report.Formula(*p.Approved), p.State.ApprovedBy
+		}
+		out[i] = v
+	}
+	return out, true, nil
 }

@@ -284,6 +284,11 @@ var funcs = template.FuncMap{
 		return t.UTC().Format("2006-01-02 15:04 UTC")
 	},
 	"add": func(a, b int) int { return a + b },
+	// sourceKind: the alert is about a source, named by the source's name,
+	// not about a cost object.
+	"sourceKind": func(k costdrift.AlertKind) bool {
+		return k == costdrift.AlertStaleSource || k == costdrift.AlertSourceFailure || k == costdrift.AlertDataQuality
+	},
 	"deref": func(s *string) string {
 		if s == nil {
 			return ""

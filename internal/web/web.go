@@ -98,6 +98,14 @@ func (s *Server) Mount(mux *http.ServeMux) {
 	mux.Handle("GET /{$}", s.page(s.overview))
 	mux.Handle("GET /objects", s.page(s.objects))
 	mux.Handle("GET /object", s.page(s.object))
+	mux.Handle("GET /alerts", s.page(s.alerts))
+	mux.Handle("GET /proposals", s.page(s.proposals))
+	// Decisions are POSTs only: a GET of these answers 405 and changes
+	// nothing.
+	mux.Handle("POST /alerts/ack", s.action(s.ack))
+	mux.Handle("POST /object/pin", s.action(s.pin))
+	mux.Handle("POST /object/exclude", s.action(s.exclude))
+	mux.Handle("POST /proposals/decide", s.action(s.approve))
 }
 
 // Handler is the view on its own, as `costdrift serve` serves it.
