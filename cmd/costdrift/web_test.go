@@ -4,6 +4,7 @@ import (
 	"context"
 	"database/sql"
 	"errors"
+	"fmt"
 	"html"
 	"io"
 	"net/http"
@@ -18,6 +19,7 @@ import (
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/present"
 	"github.com/costdrift/costdrift/internal/sqlite"
 	"github.com/costdrift/costdrift/internal/web"
 )
@@ -240,7 +242,7 @@ func TestWebEscapesHostileText(t *testing.T) {
 	v, _, _ := webView(t, dir, "")
 	srv := httptest.NewServer(v.Handler())
 	defer srv.Close()
-	for _, path := range []string{"/", "/alerts?status=all", "/proposals", "/objects", "/objects?q=" + url.QueryEscape(evil), "/objects?q=" + url.QueryEscape(`"><script>alert(2)</script>`),
+	for _, path := range []string{"/", "/alerts?status=all", "/proposals", "/budgets?plan=plan-2026-q3", "/budgets?variance=2026-06", "/sources", "/objects", "/objects?q=" + url.QueryEscape(evil), "/objects?q=" + url.QueryEscape(`"><script>alert(2)</script>`),
 		"/object?o=" + url.QueryEscape("6200/WELD"), "/object?o=" + url.QueryEscape("<script>alert(3)</script>")} {
 		_, body := fetch(t, srv, path)
 		for _, bad := range []string{"<script", "<img"} {
@@ -331,7 +333,7 @@ func TestWebDecisions(t *testing.T) {
 	ack := url.Values{"alert": {"1"}, "note": {"lease renewed in July, as agreed"}}
 
 	// Every page and every GET of an action leaves the store as it was.
-	for _, path := range []string{"/", "/objects", "/object?o=6200%2FWELD", "/alerts", "/alerts?status=all", "/proposals",
+	for _, path := range []string{"/", "/objects", "/object?o=6200%2FWELD", "/alerts", "/alerts?status=all", "/proposals", "/budgets?plan=plan-2026-q3", "/sources",
 		"/alerts/ack?alert=1&csrf=" + url.QueryEscape(token), "/object/pin", "/object/exclude", "/proposals/decide"} {
 		res, err := c.Get(proxy.URL + path)
 		if err != nil {
@@ -412,5 +414,94 @@ func TestWebDecisions(t *testing.T) {
 	}
 	if _, page = fetch(t, proxy, "/proposals"); strings.Contains(tagText(page), "6100/WELD") {
 		t.Error("6100/WELD still waits after its approval")
+	}
+}
+
+// The sources page shows every reject of the bad-input corpus with its
+// reason, counted by file, and the rows as read escaped; the budgets page
+// shows the saved budget's and variance report's figures as the store's
+// views round them.
+func TestWebSourcesAndBudgets(t *testing.T) {
+	cfg, dir := setup(t, "")
+	gl := filepath.Join(dir, "data", "gl")
+	os.Remove(filepath.Join(gl, "gl.csv"))
+	want := map[string]corpusCase{}
+	for i, tc := range ledgerCorpus() {
+		if tc.fails || tc.rejected == 0 || len(tc.content) > 1<<20 {
+			continue
+		}
+		name := fmt.Sprintf("case-%02d.csv", i)
+		writeFile(t, filepath.Join(gl, name), strings.ReplaceAll(tc.content, "G1,1,", fmt.Sprintf("G%d,1,", i)))
+		want[name] = tc
+	}
+	writeFile(t, filepath.Join(gl, "hostile.csv"), "entry_id,line,date,account,cost_center,amount,description\n"+
+		"H0,1,2026-01-05,6100,WELD,1.00,ok\nH0,2,2026-01-05,6100,WELD,-1.00,ok\n"+
+		"H1,1,2026-02-30,6100,<b>WELD</b>,1.00,<script>alert(1)</script>\n")
+	mustRun(t, "--config", cfg, "sync")
+	v, _, _ := webView(t, dir, "")
+	srv := httptest.NewServer(v.Handler())
+	defer srv.Close()
+	res, body := fetch(t, srv, "/sources")
+	if res.StatusCode != 200 {
+		t.Fatalf("/sources: %d", res.StatusCode)
+	}
+	if strings.Contains(body, "<script") || strings.Contains(body, "<b>") {
+		t.Error("the sources page holds a rejected row's markup unescaped")
+	}
+	text := tagText(body)
+	for name, tc := range want {
+		path := filepath.Join("data", "gl", name) // as the rejects' locations name it, relative to the config
+		if !strings.Contains(text, path+" ") {
+			t.Errorf("the sources page does not list %s", name)
+			continue
+		}
+		if !strings.Contains(text, tc.reason) {
+			t.Errorf("%s (%s): reason %q not shown", name, tc.name, tc.reason)
+		}
+		// The file's row: path, loaded at, rows stored, rows rejected. A
+		// duplicate key is found across a load, and its reject names the
+		// entry, not a line of the file.
+		perFile := tc.rejected
+		if tc.reason == "duplicate key" {
+			perFile = 0
+		}
+		row := regexp.MustCompile(regexp.QuoteMeta(path) + ` \S+ (\d+) (\d+)`).FindStringSubmatch(text)
+		if row == nil || row[1] != itoa(tc.stored) || row[2] != itoa(perFile) {
+			t.Errorf("%s (%s): file row %q, want %d stored and %d rejected", name, tc.name, row, tc.stored, perFile)
+		}
+	}
+	if !strings.Contains(text, "<script>alert(1)</script>") {
+		t.Error("the hostile row is not shown as text")
+	}
+	rejects := count(t, filepath.Join(dir, "costdrift.db"), `SELECT COUNT(*) FROM rejects`)
+	if !strings.Contains(text, "The newest "+itoa(min(rejects, 200))+" of "+itoa(rejects)+" rejected rows") {
+		t.Errorf("the sources page does not count %d rejects", rejects)
+	}
+
+	demo := demoDir(t)
+	v, _, _ = webView(t, demo, "")
+	demoSrv := httptest.NewServer(v.Handler())
+	defer demoSrv.Close()
+	store := filepath.Join(demo, "costdrift.db")
+	for _, tc := range []struct{ path, query string }{
+		{"/budgets?plan=plan-2026-q3", `SELECT printf('%s %s', object, budget) FROM flexible_budget WHERE plan = 'plan-2026-q3' AND period = '2026-07' AND object = '6200/WELD'`},
+		{"/budgets?variance=2026-06", `SELECT printf('%s %.2f', object, spending_variance) FROM spending_variances WHERE name = '2026-06' AND object = '6200/WELD'`},
+	} {
+		db, err := sql.Open("sqlite3", "file:"+store+"?mode=ro")
+		if err != nil {
+			t.Fatal(err)
+		}
+		var line string
+		err = db.QueryRow(tc.query).Scan(&line)
+		db.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		object, figure, _ := strings.Cut(line, " ")
+		f, _ := strconv.ParseFloat(figure, 64)
+		_, body := fetch(t, demoSrv, tc.path)
+		if text := tagText(body); !strings.Contains(text, object+" Power") || !strings.Contains(text, present.Number(f, 2)) {
+			t.Errorf("%s lacks %s with %s:\n%s", tc.path, object, present.Number(f, 2), text)
+		}
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
@@ -194,4 +195,85 @@ func ViewProposals(ctx context.Context, e *Env, db *sqlite.DB) ([]ProposalView, 
 		out[i] = v
 	}
 	return out, true, nil
+}
+
+// Budgets is the budgets page: the names saved, and the lines of the one
+// asked for.
+type Budgets struct {
+	BudgetNames, VarianceNames []string
+	Budget                     []sqlite.SavedBudgetLine
+	Variance                   []sqlite.SavedVarianceLine
+}
+
+// ViewBudgets reads the saved budget plan and variance report name (either
+// may be ""), with the names of every saved one.
+func ViewBudgets(ctx context.Context, db *sqlite.DB, plan, name string) (Budgets, error) {
+	var b Budgets
+	var err error
+	if b.BudgetNames, b.VarianceNames, err = db.SavedNames(ctx); err != nil {
+		return b, err
+	}
+	if plan != "" {
+		if b.Budget, err = db.SavedBudget(ctx, plan); err != nil {
+			return b, err
+		}
+	}
+	if name != "" {
+		if b.Variance, err = db.SavedVariance(ctx, name); err != nil {
+			return b, err
+		}
+	}
+	return b, nil
+}
+
+// Sources is the sources page: the latest sync runs, the files loaded and
+// the newest rejects with their reasons.
+type Sources struct {
+	Runs     []costdrift.SyncRun
+	Files    []SourceFileView
+	Rejects  []costdrift.Reject
+	Rejected int // rejects the store holds in all
+}
+
+// SourceFileView is a file loaded, named as its rejects' locations name it
+// (relative to the config's folder for a source configured so), with the
+// rows rejected by the sync that loaded it.
+type SourceFileView struct {
+	sqlite.SourceFileRow
+	Display  string
+	Rejected int
+}
+
+// ViewSources reads the sources page: up to runs sync runs and rejects
+// rejects.
+func ViewSources(ctx context.Context, e *Env, db *sqlite.DB, runs, rejects int) (Sources, error) {
+	var s Sources
+	var err error
+	if s.Runs, err = db.SyncRuns(ctx, runs); err != nil {
+		return s, fmt.Errorf("sources: %w", err)
+	}
+	files, err := db.SourceFileRows(ctx)
+	if err != nil {
+		return s, err
+	}
+	byFile, err := db.RejectsByFile(ctx)
+	if err != nil {
+		return s, err
+	}
+	configured := map[string]config.Source{}
+	for _, rs := range e.sources() {
+		configured[rs.src.Name] = rs.src
+	}
+	for _, f := range files {
+		display := f.Path
+		if src, ok := configured[f.Source]; ok {
+			display = displayPath(e, src, f.Path)
+		}
+		s.Files = append(s.Files, SourceFileView{SourceFileRow: f, Display: display,
+			Rejected: byFile[sqlite.RejectFile{SyncRunID: f.SyncRunID, Source: f.Source, File: display}]})
+	}
+	if s.Rejects, s.Rejected, err = db.RecentRejects(ctx, rejects); err != nil {
+		return s, err
+	}
+	return s, nil
 }

@@ -154,3 +154,31 @@ func (s *Server) proposals(ctx context.Context, e *pipeline.Env, _ *http.Request
 	}
 	return "Proposals", "proposals", proposalsData{Required: required, Proposals: ps}, nil
 }
+
+type budgetsData struct {
+	Plan, Name string
+	pipeline.Budgets
+}
+
+func (s *Server) budgets(ctx context.Context, _ *pipeline.Env, r *http.Request) (string, string, any, error) {
+	plan, name := r.URL.Query().Get("plan"), r.URL.Query().Get("variance")
+	b, err := pipeline.ViewBudgets(ctx, s.db, plan, name)
+	if err != nil {
+		return "", "", nil, err
+	}
+	return "Budgets and variances", "budgets", budgetsData{Plan: plan, Name: name, Budgets: b}, nil
+}
+
+// sourcesRuns and sourcesRejects bound the sources page.
+const (
+	sourcesRuns    = 50
+	sourcesRejects = 200
+)
+
+func (s *Server) sources(ctx context.Context, e *pipeline.Env, _ *http.Request) (string, string, any, error) {
+	src, err := pipeline.ViewSources(ctx, e, s.db, sourcesRuns, sourcesRejects)
+	if err != nil {
+		return "", "", nil, err
+	}
+	return "Sources", "sources", src, nil
+}

@@ -272,8 +272,14 @@ var funcs = template.FuncMap{
 		return present.PValue(*v, 0)
 	},
 	"activity": present.Activity,
-	"driver":   report.DriverLabel,
-	"words":    func(c costdrift.Class) string { return strings.ReplaceAll(string(c), "_", " ") },
+	"activityp": func(v *float64) string {
+		if v == nil {
+			return "–"
+		}
+		return present.Activity(*v)
+	},
+	"driver": report.DriverLabel,
+	"words":  func(c costdrift.Class) string { return strings.ReplaceAll(string(c), "_", " ") },
 	"objectURL": func(o string) string {
 		return "/object?" + url.Values{"o": {o}}.Encode()
 	},

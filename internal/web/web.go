@@ -100,6 +100,8 @@ func (s *Server) Mount(mux *http.ServeMux) {
 	mux.Handle("GET /object", s.page(s.object))
 	mux.Handle("GET /alerts", s.page(s.alerts))
 	mux.Handle("GET /proposals", s.page(s.proposals))
+	mux.Handle("GET /budgets", s.page(s.budgets))
+	mux.Handle("GET /sources", s.page(s.sources))
 	// Decisions are POSTs only: a GET of these answers 405 and changes
 	// nothing.
 	mux.Handle("POST /alerts/ack", s.action(s.ack))
