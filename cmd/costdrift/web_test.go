@@ -362,8 +362,8 @@ func TestWebDecisions(t *testing.T) {
 	}
 
 	ack.Set("csrf", token)
-	if code, body := post(t, c, proxy, "/alerts/ack", ack); code != http.StatusSeeOther || !strings.HasPrefix(body, "/alerts#alert-1") {
-		t.Errorf("ack: %d %s, want 303 to /alerts#alert-1", code, body)
+	if code, body := post(t, c, proxy, "/alerts/ack", ack); code != http.StatusSeeOther || !strings.HasPrefix(body, "/alerts?status=acknowledged#alert-1") {
+		t.Errorf("ack: %d %s, want 303 to the acknowledged alerts", code, body)
 	}
 	if n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE id = 1 AND status = 'acknowledged'`); n != 1 {
 		t.Error("alert 1 is not acknowledged")

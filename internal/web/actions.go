@@ -67,7 +67,7 @@ func (s *Server) ack(ctx context.Context, e *pipeline.Env, r *http.Request, user
 	if err := pipeline.Acknowledge(ctx, e, s.db, id, r.PostFormValue("until"), user, r.PostFormValue("note")); err != nil {
 		return "", badInput{err}
 	}
-	return "/alerts#alert-" + strconv.FormatInt(id, 10), nil
+	return "/alerts?status=acknowledged#alert-" + strconv.FormatInt(id, 10), nil
 }
 
 func (s *Server) pin(ctx context.Context, e *pipeline.Env, r *http.Request, user string) (string, error) {

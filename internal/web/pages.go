@@ -5,6 +5,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"html"
 	"html/template"
 	"net/http"
 	"net/url"
@@ -232,16 +233,24 @@ func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (
 		if err := charts.Timeline.WriteSVG(&buf, chart.DefaultWidthPt, chart.DefaultHeightPt); err != nil {
 			return "", "", nil, fmt.Errorf("object %s: chart: %w", name, err)
 		}
-		d.Timeline = template.HTML(report.InlineSVG(buf.Bytes())) // drawn by the chart package, which escapes its text
+		d.Timeline = labelled(buf.Bytes(), "Chart of the cost of "+name+" over the periods, with the formula of each period")
 	}
 	if charts != nil && charts.Scatter != nil {
 		var buf bytes.Buffer
 		if err := charts.Scatter.WriteSVG(&buf, chart.DefaultWidthPt, chart.DefaultHeightPt); err != nil {
 			return "", "", nil, fmt.Errorf("object %s: chart: %w", name, err)
 		}
-		d.Scatter = template.HTML(report.InlineSVG(buf.Bytes()))
+		d.Scatter = labelled(buf.Bytes(), "Chart of the cost of "+name+" against its driver, with the formula's line")
 	}
 	return ex.Object, "object", d, nil
+}
+
+// labelled makes a chart's SVG document an element of the page with a
+// text alternative for screen readers. The chart package drew it and
+// escapes its own text; the label is escaped here.
+func labelled(svg []byte, label string) template.HTML {
+	inline := report.InlineSVG(svg)
+	return template.HTML(strings.Replace(inline, "<svg", `<svg aria-label="`+html.EscapeString(label)+`"`, 1))
 }
 
 // funcs format figures the way the commands print them.
