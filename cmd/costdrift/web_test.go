@@ -26,7 +26,7 @@ import (
 
 // webView builds the web view of the demo in dir as `costdrift serve`
 // does, with the given proxy header ("" for loopback only).
-func webView(t *testing.T, dir, authHeader string) (*web.Server, *pipeline.Env, *sqlite.DB) {
+func webView(t testing.TB, dir, authHeader string) (*web.Server, *pipeline.Env, *sqlite.DB) {
 	t.Helper()
 	e, err := pipeline.Load(filepath.Join(dir, "costdrift.yaml"), today)
 	if err != nil {
