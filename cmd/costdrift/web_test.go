@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"database/sql"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"html"
@@ -160,6 +161,27 @@ func TestWebPagesShowTheStore(t *testing.T) {
 	}
 	if n := strings.Count(body, "<svg "); n != 2 {
 		t.Errorf("object page has %d charts, want 2 (over time, against the driver)", n)
+	}
+	// The history and the alerts, as `costdrift history` gives them.
+	var hist struct {
+		Formulas []struct{ From, Formula string }
+		Alerts   []struct{ Message string }
+	}
+	if err := json.Unmarshal([]byte(mustRun(t, "--config", filepath.Join(dir, "costdrift.yaml"), "history", "6110/PAINT", "--format", "json")), &hist); err != nil {
+		t.Fatal(err)
+	}
+	_, body = fetch(t, srv, "/object?o="+url.QueryEscape("6110/PAINT"))
+	text = tagText(body)
+	if len(hist.Formulas) != 2 || len(hist.Alerts) == 0 {
+		t.Fatalf("the demo's 6110/PAINT history: %+v", hist)
+	}
+	for _, f := range hist.Formulas {
+		if !strings.Contains(text, f.From) || !strings.Contains(text, f.Formula) {
+			t.Errorf("object page lacks the history's %s %s", f.From, f.Formula)
+		}
+	}
+	if !strings.Contains(text, "sup-F") || !strings.Contains(text, hist.Alerts[0].Message) {
+		t.Errorf("object page lacks the break's test or the alert %q:\n%s", hist.Alerts[0].Message, text)
 	}
 	if res, _ := fetch(t, srv, "/object?o=9999/NOPE"); res.StatusCode != http.StatusNotFound {
 		t.Errorf("an unknown object answers %d, want 404", res.StatusCode)
@@ -381,7 +403,7 @@ func TestWebDecisions(t *testing.T) {
 		t.Errorf("the pin is not stored under the proxy's user")
 	}
 	_, page := fetch(t, proxy, "/object?o=6500%2FWELD")
-	if text := tagText(page); !strings.Contains(text, "Pinned cost = 1,200.00 by ana.accountant") || !strings.Contains(text, "service contract to 2027") {
+	if text := tagText(page); !strings.Contains(text, "Pinned cost = 1,200.00 by ana.accountant") || !strings.Contains(text, "ana.accountant: pin: service contract to 2027") {
 		t.Errorf("the object page does not show the pin:\n%s", text)
 	}
 	// A pin the pipeline refuses stores nothing and says why, 400.

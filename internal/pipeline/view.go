@@ -277,3 +277,13 @@ func ViewSources(ctx context.Context, e *Env, db *sqlite.DB, runs, rejects int) 
 	}
 	return s, nil
 }
+
+// ViewDecisions lists the decisions recorded on object, as the audit
+// trail keeps them.
+func ViewDecisions(ctx context.Context, db *sqlite.DB, object string) ([]costdrift.Decision, error) {
+	ds, err := db.Decisions(ctx, object)
+	if err != nil {
+		return nil, fmt.Errorf("decisions of %s: %w", object, err)
+	}
+	return ds, nil
+}

@@ -206,9 +206,11 @@ func validClass(c costdrift.Class) bool {
 }
 
 type objectData struct {
-	Ex       report.Explanation
-	Timeline template.HTML
-	Scatter  template.HTML
+	Ex        report.Explanation
+	History   report.History
+	Decisions []costdrift.Decision
+	Timeline  template.HTML
+	Scatter   template.HTML
 }
 
 func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (string, string, any, error) {
@@ -227,7 +229,15 @@ func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (
 	if err != nil {
 		return "", "", nil, err
 	}
-	d := objectData{Ex: ex}
+	h, _, err := pipeline.History(ctx, e, s.db, name, false)
+	if err != nil {
+		return "", "", nil, err
+	}
+	ds, err := pipeline.ViewDecisions(ctx, s.db, name)
+	if err != nil {
+		return "", "", nil, err
+	}
+	d := objectData{Ex: ex, History: h, Decisions: ds}
 	if charts != nil && charts.Timeline != nil {
 		var buf bytes.Buffer
 		if err := charts.Timeline.WriteSVG(&buf, chart.DefaultWidthPt, chart.DefaultHeightPt); err != nil {
@@ -299,6 +309,12 @@ var funcs = template.FuncMap{
 		return t.UTC().Format("2006-01-02 15:04 UTC")
 	},
 	"add": func(a, b int) int { return a + b },
+	"breakText": func(b *report.BreakView) string {
+		if b == nil {
+			return ""
+		}
+		return report.BreakText(&b.Break)
+	},
 	// sourceKind: the alert is about a source, named by the source's name,
 	// not about a cost object.
 	"sourceKind": func(k costdrift.AlertKind) bool {
