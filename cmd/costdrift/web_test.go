@@ -18,6 +18,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/present"
@@ -526,4 +527,32 @@ func TestWebSourcesAndBudgets(t *testing.T) {
 			t.Errorf("%s lacks %s with %s:\n%s", tc.path, object, present.Number(f, 2), text)
 		}
 	}
+}
+
+// `costdrift serve` as a user runs it: it says where to open the view,
+// serves it there beside a store it only reads and leaves unlocked, and
+// stops at SIGTERM with status 0.
+func TestServeCommand(t *testing.T) {
+	cfg := ownDemo(t)
+	addr := freePort(t)
+	logs := &logBuffer{}
+	cmd := command("--config", cfg, "serve", "--listen", addr)
+	cmd.Stdout, cmd.Stderr = logs, logs
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() {
+		if cmd.ProcessState == nil {
+			cmd.Process.Kill()
+			cmd.Wait()
+		}
+	})
+	want := "costdrift web view: open http://" + addr + "/"
+	waitFor(t, 10*time.Second, "serve to say where it listens", func() bool { return strings.Contains(logs.String(), want) }, logs)
+	if code, body := get(t, "http://"+addr+"/objects"); code != http.StatusOK || !strings.Contains(body, "Objects 1–13 of 13") {
+		t.Errorf("GET /objects from serve: %d\n%s", code, body)
+	}
+	// A decision command beside it: serve holds no lock.
+	mustRun(t, "--config", cfg, "pin", "6500/WELD", "--class", "fixed", "--fixed", "1200", "--reason", "service contract", "--by", "ana")
+	stop(t, cmd, logs)
 }
