@@ -16,6 +16,7 @@ test: ## run every test: unit, store, end-to-end
 
 demo: build ## an invented company's books synced, analysed and reported (in costdrift-demo/)
 	./bin/costdrift demo --dir costdrift-demo
+	@echo "Web view: ./bin/costdrift serve --config costdrift-demo/costdrift.yaml, then open http://127.0.0.1:9464/"
 
 lint: ## gofmt and go vet
 	@unformatted=$$(gofmt -l cmd internal migrations); if [ -n "$$unformatted" ]; then echo "gofmt needed: $$unformatted"; exit 1; fi

@@ -7,6 +7,8 @@ import (
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"github.com/costdrift/costdrift/internal/pipeline"
 )
 
 // healthJSON is the body of /healthz.
@@ -37,7 +39,17 @@ func (d *daemon) handler() http.Handler {
 		json.NewEncoder(w).Encode(h)
 	})
 	mux.Handle("GET /metrics", promhttp.HandlerFor(d.m.reg, promhttp.HandlerOpts{}))
+	if d.view != nil {
+		d.view.Mount(mux)
+	}
 	return mux
+}
+
+// env is the config in force, for the web view: a reload replaces it.
+func (d *daemon) env() *pipeline.Env {
+	d.mu.Lock()
+	defer d.mu.Unlock()
+	return d.e
 }
 
 // health is healthy while the latest finished cycle succeeded and finished

@@ -23,6 +23,7 @@ import (
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/sqlite"
+	"github.com/costdrift/costdrift/internal/web"
 )
 
 // stopTimeout bounds how long a stopping daemon waits for the running cycle
@@ -129,6 +130,7 @@ type daemon struct {
 	level *slog.LevelVar
 	m     *metrics
 	busy  atomic.Bool // a cycle is running
+	view  *web.Server // the web view at http.listen; nil without a listener
 
 	mu    sync.Mutex    // guards the fields below
 	e     *pipeline.Env // the config in force; a reload replaces it
@@ -159,6 +161,12 @@ func (d *daemon) run(ctx context.Context) error {
 
 	var srv *http.Server
 	if addr := d.e.Config.HTTP.Listen; addr != "" {
+		if err := web.CheckRemote(d.e.Config.HTTP.AllowRemote, d.e.Config.HTTP.AuthHeader); err != nil {
+			return err
+		}
+		if d.view, err = newView(d.e, d.env, d.db, d.log); err != nil {
+			return err
+		}
 		ln, err := net.Listen("tcp", addr)
 		if err != nil {
 			return fmt.Errorf("http.listen %s: %w", addr, err)

@@ -217,6 +217,13 @@ func TestDaemon(t *testing.T) {
 		}
 	})
 
+	t.Run("web view beside them", func(t *testing.T) {
+		code, body := get(t, "http://"+addr+"/objects")
+		if code != http.StatusOK || !strings.Contains(body, "<h1>Objects</h1>") {
+			t.Errorf("GET /objects from the daemon: %d\n%s", code, body)
+		}
+	})
+
 	t.Run("second daemon refused", func(t *testing.T) {
 		for _, args := range [][]string{{"run"}, {"sync"}, {"run", "--once"}} {
 			out, err := command(append([]string{"--config", cfg}, args...)...).CombinedOutput()

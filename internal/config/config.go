@@ -155,6 +155,9 @@ type HTTP struct {
 	// AllowRemote permits a listen address other than loopback; the
 	// endpoints carry no secrets but say how the books are doing.
 	AllowRemote bool `mapstructure:"allow_remote"`
+	// AuthHeader names the header a trusted reverse proxy sets to the
+	// signed-in user; the web view needs it to listen beyond loopback.
+	AuthHeader string `mapstructure:"auth_header"`
 }
 
 // Log is how the daemon writes its log lines.

@@ -101,6 +101,8 @@ var keys = []key{
 		doc: "e.g. 127.0.0.1:9464 for /healthz and /metrics"},
 	{name: "http.allow_remote", def: false,
 		doc: "true to listen on an address other than loopback"},
+	{name: "http.auth_header", def: "",
+		doc: "header a trusted reverse proxy sets to the user; required with allow_remote"},
 
 	{name: "log.format", def: "text", check: oneOf("text", "json"),
 		doc: "text | json"},

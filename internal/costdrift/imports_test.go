@@ -46,6 +46,11 @@ var (
 	// it may import every package, and only cmd/ may import it.
 	applicationLayer = []string{"pipeline"}
 
+	// interfaces put the application layer before people, as the commands
+	// do (the web view); like cmd/, they may import every package, and only
+	// cmd/ may import them.
+	interfaces = []string{"web"}
+
 	// testHelpers are imported by _test.go files only; they may import the
 	// domain and the leaves.
 	testHelpers = []string{"costdrift/costdrifttest"}
@@ -65,8 +70,10 @@ func importAllowed(from, to string) error {
 		return nil
 	case slices.Contains(testHelpers, to):
 		return fmt.Errorf("%s is for _test.go files only", to)
-	case slices.Contains(applicationLayer, from):
+	case slices.Contains(applicationLayer, from), slices.Contains(interfaces, from):
 		return nil
+	case slices.Contains(interfaces, to):
+		return fmt.Errorf("only cmd/ imports an interface (%s)", to)
 	case slices.Contains(applicationLayer, to):
 		return fmt.Errorf("only cmd/ imports the application layer (%s)", to)
 	case from == domain:

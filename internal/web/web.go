@@ -1,0 +1,199 @@
+// Package web is the web view for the cost accountant: server-rendered
+// pages over the store, each a call into the application layer
+// (internal/pipeline) and a template; decisions are forms that POST. It
+// holds no logic of the product's own: what a page shows is what the
+// commands print.
+package web
+
+import (
+	"crypto/hmac"
+	"crypto/rand"
+	"crypto/sha256"
+	"embed"
+	"encoding/base64"
+	"errors"
+	"fmt"
+	"html/template"
+	"io/fs"
+	"log/slog"
+	"net"
+	"net/http"
+	"strings"
+
+	"github.com/costdrift/costdrift/internal/pipeline"
+	"github.com/costdrift/costdrift/internal/sqlite"
+)
+
+//go:embed templates/*.html static/*
+var assets embed.FS
+
+// Options are how the view is served.
+type Options struct {
+	// AuthHeader names the header a trusted reverse proxy sets to the
+	// signed-in user's name; "" serves loopback clients only, as the
+	// local user.
+	AuthHeader string
+	// LocalUser is who a loopback client's decisions are recorded under
+	// when there is no AuthHeader.
+	LocalUser string
+	Log       *slog.Logger
+}
+
+// Server serves the pages of one store.
+type Server struct {
+	env   func() *pipeline.Env
+	db    *sqlite.DB
+	opt   Options
+	pages map[string]*template.Template
+	key   []byte // signs the CSRF tokens; new at every start
+}
+
+// ErrRemoteWithoutAuth is why a view that would listen beyond this machine
+// refuses to start: ledger data is confidential.
+var ErrRemoteWithoutAuth = errors.New("http.allow_remote is true but no authentication is set: set http.auth_header to the header your reverse proxy sets to the signed-in user")
+
+// CheckRemote refuses a listener beyond loopback without authentication.
+func CheckRemote(allowRemote bool, authHeader string) error {
+	if allowRemote && strings.TrimSpace(authHeader) == "" {
+		return ErrRemoteWithoutAuth
+	}
+	return nil
+}
+
+// New builds the server; env is read on every request, so that a daemon's
+// reloaded config is the one in force.
+func New(env func() *pipeline.Env, db *sqlite.DB, opt Options) (*Server, error) {
+	if opt.Log == nil {
+		opt.Log = slog.Default()
+	}
+	if opt.AuthHeader == "" && opt.LocalUser == "" {
+		return nil, errors.New("web: no user to record decisions under")
+	}
+	s := &Server{env: env, db: db, opt: opt, pages: map[string]*template.Template{}, key: make([]byte, 32)}
+	if _, err := rand.Read(s.key); err != nil {
+		return nil, fmt.Errorf("web: key: %w", err)
+	}
+	names, err := fs.Glob(assets, "templates/*.html")
+	if err != nil {
+		return nil, fmt.Errorf("web: templates: %w", err)
+	}
+	for _, n := range names {
+		if n == "templates/layout.html" {
+			continue
+		}
+		t, err := template.New("layout.html").Funcs(funcs).ParseFS(assets, "templates/layout.html", n)
+		if err != nil {
+			return nil, fmt.Errorf("web: %s: %w", n, err)
+		}
+		s.pages[strings.TrimSuffix(strings.TrimPrefix(n, "templates/"), ".html")] = t
+	}
+	return s, nil
+}
+
+// Mount adds the view's pages to mux, beside whatever it serves already
+// (the daemon's /healthz and /metrics).
+func (s *Server) Mount(mux *http.ServeMux) {
+	static, _ := fs.Sub(assets, "static")
+	mux.Handle("GET /static/", s.guard(http.StripPrefix("/static/", http.FileServerFS(static))))
+	mux.Handle("GET /{$}", s.page(s.overview))
+	mux.Handle("GET /objects", s.page(s.objects))
+	mux.Handle("GET /object", s.page(s.object))
+	mux.Handle("GET /alerts", s.page(s.alerts))
+	mux.Handle("GET /proposals", s.page(s.proposals))
+	mux.Handle("GET /budgets", s.page(s.budgets))
+	mux.Handle("GET /sources", s.page(s.sources))
+	// Decisions are POSTs only: a GET of these answers 405 and changes
+	// nothing.
+	mux.Handle("POST /alerts/ack", s.action(s.ack))
+	mux.Handle("POST /object/pin", s.action(s.pin))
+	mux.Handle("POST /object/exclude", s.action(s.exclude))
+	mux.Handle("POST /proposals/decide", s.action(s.approve))
+}
+
+// Handler is the view on its own, as `costdrift serve` serves it.
+func (s *Server) Handler() http.Handler {
+	mux := http.NewServeMux()
+	s.Mount(mux)
+	return mux
+}
+
+// user is who the request comes from, "" when it may not be served: off
+// loopback without a proxy's header, or with the header empty.
+func (s *Server) user(r *http.Request) string {
+	if s.opt.AuthHeader != "" {
+		return strings.TrimSpace(r.Header.Get(s.opt.AuthHeader))
+	}
+	host, _, err := net.SplitHostPort(r.RemoteAddr)
+	if err != nil {
+		return ""
+	}
+	if ip := net.ParseIP(host); ip == nil || !ip.IsLoopback() {
+		return ""
+	}
+	return s.opt.LocalUser
+}
+
+// securityHeaders keep the pages from being framed, sniffed or made to
+// run anything: no script at all; the charts draw with style attributes,
+// which cannot run code, so those alone are allowed inline.
+func securityHeaders(h http.Header) {
+	h.Set("Content-Security-Policy", "default-src 'none'; style-src 'self'; style-src-attr 'unsafe-inline'; img-src 'self' data:; form-action 'self'; frame-ancestors 'none'; base-uri 'none'")
+	h.Set("X-Frame-Options", "DENY")
+	h.Set("X-Content-Type-Options", "nosniff")
+	h.Set("Referrer-Policy", "no-referrer")
+	h.Set("Cache-Control", "no-store")
+}
+
+// guard answers only a known user, with the security headers.
+func (s *Server) guard(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		securityHeaders(w.Header())
+		if s.user(r) == "" {
+			http.Error(w, "sign-in required: this view answers this machine only, or a reverse proxy that names the user", http.StatusForbidden)
+			return
+		}
+		next.ServeHTTP(w, r)
+	})
+}
+
+// csrfCookie holds a random value per browser; a form carries the value's
+// signature, which another site can neither read nor forge.
+const csrfCookie = "costdrift_csrf"
+
+// csrfToken returns the form token for this browser, setting its cookie
+// on the first visit.
+func (s *Server) csrfToken(w http.ResponseWriter, r *http.Request) string {
+	value := ""
+	if c, err := r.Cookie(csrfCookie); err == nil && len(c.Value) >= 32 {
+		value = c.Value
+	} else {
+		b := make([]byte, 32)
+		rand.Read(b) // never fails (crypto/rand)
+		value = base64.RawURLEncoding.EncodeToString(b)
+		http.SetCookie(w, &http.Cookie{Name: csrfCookie, Value: value, Path: "/", HttpOnly: true,
+			SameSite: http.SameSiteStrictMode, Secure: s.overTLS(r)})
+	}
+	return s.sign(value, s.user(r))
+}
+
+// overTLS says whether the browser reached the view over HTTPS: directly,
+// or through the trusted proxy, which says so in X-Forwarded-Proto.
+func (s *Server) overTLS(r *http.Request) bool {
+	return r.TLS != nil || (s.opt.AuthHeader != "" && r.Header.Get("X-Forwarded-Proto") == "https")
+}
+
+func (s *Server) sign(value, user string) string {
+	m := hmac.New(sha256.New, s.key)
+	m.Write([]byte(value + "\x00" + user))
+	return base64.RawURLEncoding.EncodeToString(m.Sum(nil))
+}
+
+// csrfOK checks a POSTed form's token against the browser's cookie.
+func (s *Server) csrfOK(r *http.Request) bool {
+	c, err := r.Cookie(csrfCookie)
+	if err != nil {
+		return false
+	}
+	given := r.PostFormValue("csrf")
+	return given != "" && hmac.Equal([]byte(given), []byte(s.sign(c.Value, s.user(r))))
+}
