@@ -158,7 +158,9 @@ escalates.
 					return err
 				}
 			}
-			return a.withStoreToWrite(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
+			// An acknowledgement is one short write, like every decision:
+			// it takes no lock, so it works beside a running daemon.
+			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
 				if until != "" {
 					if _, err := e.Calendar.Parse(until); err != nil {
 						return fmt.Errorf("--until: %v; give a period of the %s calendar the store uses", err, e.Calendar.Kind())

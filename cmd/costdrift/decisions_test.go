@@ -553,6 +553,11 @@ func TestDecisionsWhileTheDaemonRuns(t *testing.T) {
 			verb := []string{"exclude", "include"}[i%2]
 			return []string{"--config", cfg, verb, "6100/WELD", "--period", "2024-05", "--reason", fmt.Sprintf("%s %d", verb, i), "--by", "w2"}
 		}},
+		// An acknowledgement with a note is a decision too: the daemon's
+		// lock must not stand in its way.
+		{args: func(i int) []string {
+			return []string{"--config", cfg, "alerts", "ack", "1", "--note", fmt.Sprintf("looked at it, %d", i), "--by", "w3"}
+		}},
 	}
 	deadline := time.Now().Add(3 * time.Second)
 	var wg sync.WaitGroup
@@ -583,6 +588,9 @@ func TestDecisionsWhileTheDaemonRuns(t *testing.T) {
 	}
 	if n := logs.count("level=ERROR"); n != 0 {
 		t.Errorf("%d errors in the daemon's log\n%s", n, logs)
+	}
+	if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE alert_id = 1 AND made_by = 'w3'`); n != workers[3].ok {
+		t.Errorf("notes on alert 1: %d stored, %d made", n, workers[3].ok)
 	}
 	pins := workers[0].ok + workers[1].ok
 	for _, c := range []struct {
