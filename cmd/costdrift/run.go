@@ -237,9 +237,10 @@ func (d *daemon) tick(ctx context.Context) {
 	d.mu.Lock()
 	e := d.e
 	d.mu.Unlock()
-	// The metrics and the health the daemon serves are up to date before
-	// the cycle's last log line: whoever reads that line and then asks
-	// /healthz or /metrics sees this cycle.
+	// The metrics and the health the daemon serves, the state of the
+	// alert mail included, are up to date before the cycle's last log
+	// line: whoever reads that line and then asks /healthz or /metrics
+	// sees this cycle.
 	c, _ := cycle(ctx, e, d.db, d.log, func(r *pipeline.CycleResult) {
 		d.m.observe(r)
 		d.mu.Lock()
@@ -248,11 +249,11 @@ func (d *daemon) tick(ctx context.Context) {
 			d.good = r.Cycle.FinishedAt
 		}
 		d.mu.Unlock()
+		d.watchMail(ctx)
 	})
 	if c.ID == 0 {
 		return // not even started; logged
 	}
-	d.watchMail(ctx)
 	// Between cycles the daemon holds as little as it can: SQLite's page
 	// caches, and the Go memory the cycle freed, go back to the system.
 	if err := d.db.ReleaseMemory(ctx); err != nil && ctx.Err() == nil {

@@ -775,3 +775,35 @@ func TestHealthKnowsTheCycleItsLogReports(t *testing.T) {
 		t.Errorf("health when the cycle's last line was written: %+v, want cycle 1 and its status", got)
 	}
 }
+
+// The same holds for the alert mail: a cycle whose digest could not be sent
+// is degraded in /healthz by the time its "cycle finished" line is written.
+func TestHealthKnowsTheMailFailureItsCycleLogs(t *testing.T) {
+	cfg, dir := setup(t, "")
+	smtpAt(t, cfg, loopbackPort(t)) // nothing listens there: the mail server is down
+	demoBooks(t, dir)
+	e, err := pipeline.Load(cfg, time.Now)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx := context.Background()
+	db, closeStore, err := e.OpenToWrite(ctx, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer closeStore()
+	plan, err := cron.ParseStandard("@every 1m")
+	if err != nil {
+		t.Fatal(err)
+	}
+	h := &healthAtFinish{}
+	d := &daemon{e: e, db: db, log: slog.New(h), m: newMetrics(), plan: plan}
+	h.d = d
+	d.tick(ctx)
+	if len(h.seen) != 1 {
+		t.Fatalf("%d cycle-finished lines, want 1", len(h.seen))
+	}
+	if got := h.seen[0]; got.Status != "degraded" || got.MailFailing == 0 || !strings.Contains(got.MailError, "connection refused") {
+		t.Errorf("health when the cycle's last line was written: %+v, want degraded with the failing mail", got)
+	}
+}
