@@ -27,6 +27,7 @@ type view struct {
 	Title    string
 	Nav      string // the menu entry of the page
 	User     string
+	SignOut  bool // signed in with the users file, so a form signs out
 	CSRF     string
 	Currency string
 	Data     any
@@ -57,7 +58,7 @@ func (s *Server) page(build handlerFunc) http.Handler {
 			s.render(w, "error", view{Title: "Error", User: s.user(r), Currency: e.Currency.Code, Data: err.Error()})
 			return
 		}
-		v := view{Title: title, Nav: nav, User: s.user(r), CSRF: s.csrfToken(w, r), Currency: e.Currency.Code, Data: data}
+		v := view{Title: title, Nav: nav, User: s.user(r), SignOut: s.opt.UsersFile != "" && s.sessionUser(r) != "", CSRF: s.csrfToken(w, r), Currency: e.Currency.Code, Data: data}
 		var buf bytes.Buffer
 		if err := s.pages[nav].ExecuteTemplate(&buf, "layout.html", v); err != nil {
 			s.opt.Log.Error("web template", "page", nav, "error", err)
