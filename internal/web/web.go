@@ -120,6 +120,7 @@ func (s *Server) Mount(mux *http.ServeMux) {
 	mux.Handle("GET /{$}", s.page(s.overview))
 	mux.Handle("GET /objects", s.page(s.objects))
 	mux.Handle("GET /object", s.page(s.object))
+	mux.Handle("GET /object/lines", s.page(s.lines))
 	mux.Handle("GET /alerts", s.page(s.alerts))
 	mux.Handle("GET /proposals", s.page(s.proposals))
 	mux.Handle("GET /budgets", s.page(s.budgets))
