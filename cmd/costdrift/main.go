@@ -80,7 +80,7 @@ classifies each cost as fixed, variable, mixed or step-fixed with its formula.`,
 		a.runCommand(), a.statusCommand(), a.budgetCommand(), a.varianceCommand(), a.historyCommand(),
 		a.pinCommand(), a.unpinCommand(), a.excludeCommand(), a.includeCommand(),
 		a.approveCommand(), a.declineCommand(), a.proposalsCommand(), a.breakevenCommand())
-	root.AddCommand(a.serveCommand())
+	root.AddCommand(a.serveCommand(), a.usersCommand())
 	return root
 }
 

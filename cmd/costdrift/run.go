@@ -161,7 +161,7 @@ func (d *daemon) run(ctx context.Context) error {
 
 	var srv *http.Server
 	if addr := d.e.Config.HTTP.Listen; addr != "" {
-		if err := web.CheckRemote(d.e.Config.HTTP.AllowRemote, d.e.Config.HTTP.AuthHeader); err != nil {
+		if err := web.CheckRemote(d.e.Config.HTTP.AllowRemote, d.e.Config.HTTP.AuthHeader, d.e.Config.HTTP.UsersFile); err != nil {
 			return err
 		}
 		if d.view, err = newView(d.e, d.env, d.db, d.log); err != nil {

@@ -31,10 +31,12 @@ runs no cycle; ` + "`costdrift run`" + ` serves the same pages at http.listen be
 /healthz and /metrics.
 
 It listens on loopback (--listen, else http.listen, else ` + defaultServeAddress + `) and
-answers this machine only, recording decisions under your user name. To
-listen beyond it, set http.allow_remote: true and http.auth_header to the
-header a trusted reverse proxy sets to the signed-in user; without the
-header it refuses to start.`,
+answers this machine only, recording decisions under your user name. With
+http.users_file, users sign in with a name and password kept by
+` + "`costdrift users add`" + `. To listen beyond this machine, set
+http.allow_remote: true and http.users_file, or http.auth_header to the
+header a trusted reverse proxy sets to the signed-in user; with neither it
+refuses to start.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			e, err := a.loadConfig()
@@ -47,7 +49,7 @@ header it refuses to start.`,
 			if listen == "" {
 				listen = defaultServeAddress
 			}
-			if err := checkListen(listen, e.Config.HTTP.AllowRemote, e.Config.HTTP.AuthHeader); err != nil {
+			if err := checkListen(listen, e.Config.HTTP.AllowRemote, e.Config.HTTP.AuthHeader, e.Config.HTTP.UsersFile); err != nil {
 				return err
 			}
 			ctx := cmd.Context()
@@ -87,7 +89,7 @@ header it refuses to start.`,
 
 // checkListen keeps the view on loopback unless http.allow_remote says
 // otherwise, and then only with authentication.
-func checkListen(listen string, allowRemote bool, authHeader string) error {
+func checkListen(listen string, allowRemote bool, authHeader, usersFile string) error {
 	host, _, err := net.SplitHostPort(listen)
 	if err != nil {
 		return fmt.Errorf("listen: must be host:port such as %s, not %q", defaultServeAddress, listen)
@@ -95,16 +97,17 @@ func checkListen(listen string, allowRemote bool, authHeader string) error {
 	ip := net.ParseIP(host)
 	loopback := host == "localhost" || (ip != nil && ip.IsLoopback())
 	if !loopback && !allowRemote {
-		return fmt.Errorf("listen: %q is not a loopback address; set http.allow_remote: true (with http.auth_header) to listen beyond this machine", listen)
+		return fmt.Errorf("listen: %q is not a loopback address; set http.allow_remote: true (with http.users_file or http.auth_header) to listen beyond this machine", listen)
 	}
-	return web.CheckRemote(allowRemote, authHeader)
+	return web.CheckRemote(allowRemote, authHeader, usersFile)
 }
 
-// newView builds the web view of db; a loopback client's decisions are
-// recorded under the operating-system user.
+// newView builds the web view of db; with neither a users file nor a
+// proxy's header, a loopback client's decisions are recorded under the
+// operating-system user.
 func newView(e *pipeline.Env, env func() *pipeline.Env, db *sqlite.DB, log *slog.Logger) (*web.Server, error) {
-	opt := web.Options{AuthHeader: e.Config.HTTP.AuthHeader, Log: log}
-	if opt.AuthHeader == "" {
+	opt := web.Options{AuthHeader: e.Config.HTTP.AuthHeader, UsersFile: e.Config.Path(e.Config.HTTP.UsersFile), Log: log}
+	if opt.AuthHeader == "" && opt.UsersFile == "" {
 		who, err := decider("")
 		if err != nil {
 			return nil, err

@@ -227,16 +227,16 @@ func TestWebNeedsAuthenticationOffLoopback(t *testing.T) {
 		}
 	}
 
-	if err := checkListen("0.0.0.0:0", false, ""); err == nil || !strings.Contains(err.Error(), "not a loopback address") {
+	if err := checkListen("0.0.0.0:0", false, "", ""); err == nil || !strings.Contains(err.Error(), "not a loopback address") {
 		t.Errorf("remote without allow_remote: %v", err)
 	}
-	if err := checkListen("0.0.0.0:0", true, ""); !errors.Is(err, web.ErrRemoteWithoutAuth) {
+	if err := checkListen("0.0.0.0:0", true, "", ""); !errors.Is(err, web.ErrRemoteWithoutAuth) {
 		t.Errorf("allow_remote without auth: %v, want ErrRemoteWithoutAuth", err)
 	}
-	if err := checkListen("0.0.0.0:0", true, "X-Remote-User"); err != nil {
+	if err := checkListen("0.0.0.0:0", true, "X-Remote-User", ""); err != nil {
 		t.Errorf("allow_remote with a proxy header: %v", err)
 	}
-	if err := checkListen("127.0.0.1:0", false, ""); err != nil {
+	if err := checkListen("127.0.0.1:0", false, "", ""); err != nil {
 		t.Errorf("loopback: %v", err)
 	}
 	// The commands themselves refuse, before they open anything.

@@ -158,6 +158,9 @@ type HTTP struct {
 	// AuthHeader names the header a trusted reverse proxy sets to the
 	// signed-in user; the web view needs it to listen beyond loopback.
 	AuthHeader string `mapstructure:"auth_header"`
+	// UsersFile holds the names and bcrypt hashes the web view's users
+	// sign in with, kept by `costdrift users`; relative to the config.
+	UsersFile string `mapstructure:"users_file"`
 }
 
 // Log is how the daemon writes its log lines.

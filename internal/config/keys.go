@@ -102,7 +102,9 @@ var keys = []key{
 	{name: "http.allow_remote", def: false,
 		doc: "true to listen on an address other than loopback"},
 	{name: "http.auth_header", def: "",
-		doc: "header a trusted reverse proxy sets to the user; required with allow_remote"},
+		doc: "header a trusted reverse proxy sets to the user; allow_remote needs it or users_file"},
+	{name: "http.users_file", def: "",
+		doc: "names and bcrypt hashes to sign in with (costdrift users add); allow_remote needs it or auth_header"},
 
 	{name: "log.format", def: "text", check: oneOf("text", "json"),
 		doc: "text | json"},

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"html"
 	"html/template"
+	"math"
 	"net/http"
 	"net/url"
 	"strconv"
@@ -27,6 +28,7 @@ type view struct {
 	Title    string
 	Nav      string // the menu entry of the page
 	User     string
+	SignOut  bool // signed in with the users file, so a form signs out
 	CSRF     string
 	Currency string
 	Data     any
@@ -57,7 +59,7 @@ func (s *Server) page(build handlerFunc) http.Handler {
 			s.render(w, "error", view{Title: "Error", User: s.user(r), Currency: e.Currency.Code, Data: err.Error()})
 			return
 		}
-		v := view{Title: title, Nav: nav, User: s.user(r), CSRF: s.csrfToken(w, r), Currency: e.Currency.Code, Data: data}
+		v := view{Title: title, Nav: nav, User: s.user(r), SignOut: s.opt.UsersFile != "" && s.sessionUser(r) != "", CSRF: s.csrfToken(w, r), Currency: e.Currency.Code, Data: data}
 		var buf bytes.Buffer
 		if err := s.pages[nav].ExecuteTemplate(&buf, "layout.html", v); err != nil {
 			s.opt.Log.Error("web template", "page", nav, "error", err)
@@ -211,6 +213,17 @@ type objectData struct {
 	Decisions []costdrift.Decision
 	Timeline  template.HTML
 	Scatter   template.HTML
+	Periods   []periodRow
+}
+
+// periodRow is one period of the cost-over-time chart as a table row,
+// with the address of its ledger lines.
+type periodRow struct {
+	Period          string
+	Cost            float64
+	Formula         *float64 // nil where the formula gives nothing
+	Before, Outlier bool
+	Lines           string
 }
 
 func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (string, string, any, error) {
@@ -244,6 +257,14 @@ func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (
 			return "", "", nil, fmt.Errorf("object %s: chart: %w", name, err)
 		}
 		d.Timeline = labelled(buf.Bytes(), "Chart of the cost of "+name+" over the periods, with the formula of each period")
+		for _, p := range charts.Timeline.Points {
+			row := periodRow{Period: p.Period, Cost: p.Cost, Before: p.Before, Outlier: p.Outlier, Lines: linesLink(name, p.Period, 1)}
+			if !math.IsNaN(p.Formula) {
+				f := p.Formula
+				row.Formula = &f
+			}
+			d.Periods = append(d.Periods, row)
+		}
 	}
 	if charts != nil && charts.Scatter != nil {
 		var buf bytes.Buffer
@@ -253,6 +274,58 @@ func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (
 		d.Scatter = labelled(buf.Bytes(), "Chart of the cost of "+name+" against its driver, with the formula's line")
 	}
 	return ex.Object, "object", d, nil
+}
+
+// lines serves one object's ledger lines in one period, a page at a time.
+func (s *Server) lines(ctx context.Context, e *pipeline.Env, r *http.Request) (string, string, any, error) {
+	q := r.URL.Query()
+	name, period := q.Get("o"), q.Get("p")
+	page := 1
+	if v := q.Get("page"); v != "" {
+		n, err := strconv.Atoi(v)
+		if err != nil || n < 1 {
+			return "", "", nil, notFound{fmt.Errorf("no page %q: pages count from 1", v)}
+		}
+		page = n
+	}
+	known, err := pipeline.ObjectAnalysed(ctx, s.db, name)
+	if err != nil {
+		return "", "", nil, err
+	}
+	if !known {
+		return "", "", nil, notFound{fmt.Errorf("no analysed cost object %q", name)}
+	}
+	ls, err := pipeline.ViewPeriodLines(ctx, e, s.db, name, period, page)
+	if errors.Is(err, pipeline.ErrNoSuchPeriod) {
+		return "", "", nil, notFound{err}
+	}
+	if err != nil {
+		return "", "", nil, err
+	}
+	if page > ls.Pages {
+		return "", "", nil, notFound{fmt.Errorf("no page %d: the lines of %s in %s fill %d", page, name, period, ls.Pages)}
+	}
+	d := linesData{PeriodLines: ls, Back: objectLink(ls.Object)}
+	if page > 1 {
+		d.Prev = linesLink(ls.Object, period, page-1)
+	}
+	if page < ls.Pages {
+		d.Next = linesLink(ls.Object, period, page+1)
+	}
+	return "Ledger lines of " + ls.Object + " in " + period, "lines", d, nil
+}
+
+type linesData struct {
+	pipeline.PeriodLines
+	Back, Prev, Next string
+}
+
+func linesLink(object, period string, page int) string {
+	v := url.Values{"o": {object}, "p": {period}}
+	if page > 1 {
+		v.Set("page", strconv.Itoa(page))
+	}
+	return "/object/lines?" + v.Encode()
 }
 
 // labelled makes a chart's SVG document an element of the page with a

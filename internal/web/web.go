@@ -18,6 +18,7 @@ import (
 	"log/slog"
 	"net"
 	"net/http"
+	"net/url"
 	"strings"
 
 	"github.com/costdrift/costdrift/internal/pipeline"
@@ -33,6 +34,9 @@ type Options struct {
 	// signed-in user's name; "" serves loopback clients only, as the
 	// local user.
 	AuthHeader string
+	// UsersFile is a file of names and bcrypt hashes (see AddUser) that
+	// users sign in against with a form; "" offers no sign-in form.
+	UsersFile string
 	// LocalUser is who a loopback client's decisions are recorded under
 	// when there is no AuthHeader.
 	LocalUser string
@@ -46,15 +50,18 @@ type Server struct {
 	opt   Options
 	pages map[string]*template.Template
 	key   []byte // signs the CSRF tokens; new at every start
+
+	sessions sessions
 }
 
 // ErrRemoteWithoutAuth is why a view that would listen beyond this machine
 // refuses to start: ledger data is confidential.
-var ErrRemoteWithoutAuth = errors.New("http.allow_remote is true but no authentication is set: set http.auth_header to the header your reverse proxy sets to the signed-in user")
+var ErrRemoteWithoutAuth = errors.New("http.allow_remote is true but no authentication is set: set http.users_file (users added with `costdrift users add`) or http.auth_header (the header your reverse proxy sets to the signed-in user)")
 
-// CheckRemote refuses a listener beyond loopback without authentication.
-func CheckRemote(allowRemote bool, authHeader string) error {
-	if allowRemote && strings.TrimSpace(authHeader) == "" {
+// CheckRemote refuses a listener beyond loopback without authentication:
+// a users file to sign in against, or a trusted proxy's header.
+func CheckRemote(allowRemote bool, authHeader, usersFile string) error {
+	if allowRemote && strings.TrimSpace(authHeader) == "" && strings.TrimSpace(usersFile) == "" {
 		return ErrRemoteWithoutAuth
 	}
 	return nil
@@ -66,7 +73,7 @@ func New(env func() *pipeline.Env, db *sqlite.DB, opt Options) (*Server, error) 
 	if opt.Log == nil {
 		opt.Log = slog.Default()
 	}
-	if opt.AuthHeader == "" && opt.LocalUser == "" {
+	if opt.AuthHeader == "" && opt.UsersFile == "" && opt.LocalUser == "" {
 		return nil, errors.New("web: no user to record decisions under")
 	}
 	s := &Server{env: env, db: db, opt: opt, pages: map[string]*template.Template{}, key: make([]byte, 32)}
@@ -94,10 +101,26 @@ func New(env func() *pipeline.Env, db *sqlite.DB, opt Options) (*Server, error) 
 // (the daemon's /healthz and /metrics).
 func (s *Server) Mount(mux *http.ServeMux) {
 	static, _ := fs.Sub(assets, "static")
-	mux.Handle("GET /static/", s.guard(http.StripPrefix("/static/", http.FileServerFS(static))))
+	files := http.StripPrefix("/static/", http.FileServerFS(static))
+	if s.opt.UsersFile != "" {
+		// The sign-in page needs its stylesheet before anyone is signed
+		// in; the files are the program's own and hold no ledger data.
+		mux.Handle("GET /static/", http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+			securityHeaders(w.Header())
+			files.ServeHTTP(w, r)
+		}))
+	} else {
+		mux.Handle("GET /static/", s.guard(files))
+	}
+	if s.opt.UsersFile != "" {
+		mux.HandleFunc("GET /login", s.loginPage)
+		mux.HandleFunc("POST /login", s.login)
+		mux.HandleFunc("POST /logout", s.logout)
+	}
 	mux.Handle("GET /{$}", s.page(s.overview))
 	mux.Handle("GET /objects", s.page(s.objects))
 	mux.Handle("GET /object", s.page(s.object))
+	mux.Handle("GET /object/lines", s.page(s.lines))
 	mux.Handle("GET /alerts", s.page(s.alerts))
 	mux.Handle("GET /proposals", s.page(s.proposals))
 	mux.Handle("GET /budgets", s.page(s.budgets))
@@ -117,11 +140,20 @@ func (s *Server) Handler() http.Handler {
 	return mux
 }
 
-// user is who the request comes from, "" when it may not be served: off
-// loopback without a proxy's header, or with the header empty.
+// user is who the request comes from, "" when it may not be served: the
+// proxy's header, else the user signed in with the users file; with
+// neither configured, the local user on loopback.
 func (s *Server) user(r *http.Request) string {
 	if s.opt.AuthHeader != "" {
-		return strings.TrimSpace(r.Header.Get(s.opt.AuthHeader))
+		if name := strings.TrimSpace(r.Header.Get(s.opt.AuthHeader)); name != "" {
+			return name
+		}
+	}
+	if s.opt.UsersFile != "" {
+		return s.sessionUser(r)
+	}
+	if s.opt.AuthHeader != "" {
+		return ""
 	}
 	host, _, err := net.SplitHostPort(r.RemoteAddr)
 	if err != nil {
@@ -149,6 +181,10 @@ func (s *Server) guard(next http.Handler) http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		securityHeaders(w.Header())
 		if s.user(r) == "" {
+			if s.opt.UsersFile != "" && r.Method == http.MethodGet {
+				http.Redirect(w, r, "/login?"+url.Values{"next": {r.URL.RequestURI()}}.Encode(), http.StatusSeeOther)
+				return
+			}
 			http.Error(w, "sign-in required: this view answers this machine only, or a reverse proxy that names the user", http.StatusForbidden)
 			return
 		}
@@ -177,9 +213,12 @@ func (s *Server) csrfToken(w http.ResponseWriter, r *http.Request) string {
 }
 
 // overTLS says whether the browser reached the view over HTTPS: directly,
-// or through the trusted proxy, which says so in X-Forwarded-Proto.
+// or through a proxy that terminates TLS, which says so in
+// X-Forwarded-Proto. The header is believed only where a proxy is
+// expected (a proxy's user header or a users file behind one); a client
+// that forges it only makes its own cookies HTTPS-only.
 func (s *Server) overTLS(r *http.Request) bool {
-	return r.TLS != nil || (s.opt.AuthHeader != "" && r.Header.Get("X-Forwarded-Proto") == "https")
+	return r.TLS != nil || ((s.opt.AuthHeader != "" || s.opt.UsersFile != "") && r.Header.Get("X-Forwarded-Proto") == "https")
 }
 
 func (s *Server) sign(value, user string) string {
