@@ -750,6 +750,19 @@ func (h *healthAtFinish) Handle(_ context.Context, r slog.Record) error {
 // the cycle before its last line is written, not after.
 func TestHealthKnowsTheCycleItsLogReports(t *testing.T) {
 	cfg, _ := setup(t, "")
+	seen := healthAtEachFinish(t, cfg)
+	if len(seen) != 1 {
+		t.Fatalf("%d cycle-finished lines, want 1", len(seen))
+	}
+	if got := seen[0]; got.LastCycle != 1 || got.LastStatus == "" {
+		t.Errorf("health when the cycle's last line was written: %+v, want cycle 1 and its status", got)
+	}
+}
+
+// healthAtEachFinish runs one cycle of a daemon on cfg and returns its
+// health as each "cycle finished" line was written.
+func healthAtEachFinish(t *testing.T, cfg string) []healthJSON {
+	t.Helper()
 	e, err := pipeline.Load(cfg, time.Now)
 	if err != nil {
 		t.Fatal(err)
@@ -768,12 +781,7 @@ func TestHealthKnowsTheCycleItsLogReports(t *testing.T) {
 	d := &daemon{e: e, db: db, log: slog.New(h), m: newMetrics(), plan: plan}
 	h.d = d
 	d.tick(ctx)
-	if len(h.seen) != 1 {
-		t.Fatalf("%d cycle-finished lines, want 1", len(h.seen))
-	}
-	if got := h.seen[0]; got.LastCycle != 1 || got.LastStatus == "" {
-		t.Errorf("health when the cycle's last line was written: %+v, want cycle 1 and its status", got)
-	}
+	return h.seen
 }
 
 // The same holds for the alert mail: a cycle whose digest could not be sent
@@ -782,28 +790,11 @@ func TestHealthKnowsTheMailFailureItsCycleLogs(t *testing.T) {
 	cfg, dir := setup(t, "")
 	smtpAt(t, cfg, loopbackPort(t)) // nothing listens there: the mail server is down
 	demoBooks(t, dir)
-	e, err := pipeline.Load(cfg, time.Now)
-	if err != nil {
-		t.Fatal(err)
+	seen := healthAtEachFinish(t, cfg)
+	if len(seen) != 1 {
+		t.Fatalf("%d cycle-finished lines, want 1", len(seen))
 	}
-	ctx := context.Background()
-	db, closeStore, err := e.OpenToWrite(ctx, false)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer closeStore()
-	plan, err := cron.ParseStandard("@every 1m")
-	if err != nil {
-		t.Fatal(err)
-	}
-	h := &healthAtFinish{}
-	d := &daemon{e: e, db: db, log: slog.New(h), m: newMetrics(), plan: plan}
-	h.d = d
-	d.tick(ctx)
-	if len(h.seen) != 1 {
-		t.Fatalf("%d cycle-finished lines, want 1", len(h.seen))
-	}
-	if got := h.seen[0]; got.Status != "degraded" || got.MailFailing == 0 || !strings.Contains(got.MailError, "connection refused") {
+	if got := seen[0]; got.Status != "degraded" || got.MailFailing == 0 || !strings.Contains(got.MailError, "connection refused") {
 		t.Errorf("health when the cycle's last line was written: %+v, want degraded with the failing mail", got)
 	}
 }
