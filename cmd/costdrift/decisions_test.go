@@ -586,7 +586,10 @@ func TestDecisionsWhileTheDaemonRuns(t *testing.T) {
 			t.Errorf("worker %d made only %d decisions in three seconds", i, w.ok)
 		}
 	}
-	if n := logs.count("level=ERROR"); n != 0 {
+	// Stopped at an arbitrary moment, the daemon may interrupt a cycle that
+	// has just begun, and says so at level ERROR: that is the stop, not a
+	// decision's doing.
+	if n := logs.count("level=ERROR") - logs.count("interrupted: the daemon was stopped"); n != 0 {
 		t.Errorf("%d errors in the daemon's log\n%s", n, logs)
 	}
 	if n := count(t, store, `SELECT COUNT(*) FROM decisions WHERE alert_id = 1 AND made_by = 'w3'`); n != workers[3].ok {
