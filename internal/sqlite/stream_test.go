@@ -114,20 +114,7 @@ func TestAnalysisWriterBatchesAreOneTransaction(t *testing.T) {
 // number of objects; minutes at 100,000).
 func TestPreviousBehaviourSearchesByObject(t *testing.T) {
 	db, _ := mustOpen(t)
-	rows, err := db.SQL().Query(`EXPLAIN QUERY PLAN ` + previousBehaviourQuery)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer rows.Close()
-	var plan []string
-	for rows.Next() {
-		var id, parent, unused int
-		var detail string
-		if err := rows.Scan(&id, &parent, &unused, &detail); err != nil {
-			t.Fatal(err)
-		}
-		plan = append(plan, detail)
-	}
+	plan := queryPlan(t, db, previousBehaviourQuery)
 	// SQLite's plan (https://sqlite.org/eqp.html): the correlated
 	// subquery is a SEARCH of p using an index on object, not a SCAN.
 	found := false
@@ -251,21 +238,7 @@ func TestObjectListsReadTheCurrentBehaviourIndex(t *testing.T) {
 	db, _ := mustOpen(t)
 	plan := func(query string, args ...any) string {
 		t.Helper()
-		rows, err := db.SQL().Query(`EXPLAIN QUERY PLAN `+query, args...)
-		if err != nil {
-			t.Fatal(err)
-		}
-		defer rows.Close()
-		var steps []string
-		for rows.Next() {
-			var id, parent, unused int
-			var detail string
-			if err := rows.Scan(&id, &parent, &unused, &detail); err != nil {
-				t.Fatal(err)
-			}
-			steps = append(steps, detail)
-		}
-		return strings.Join(steps, "\n")
+		return strings.Join(queryPlan(t, db, query, args...), "\n")
 	}
 	for _, q := range []ObjectQuery{
 		{},
@@ -286,4 +259,25 @@ func TestObjectListsReadTheCurrentBehaviourIndex(t *testing.T) {
 	if p := plan(`SELECT cost_center, class, COUNT(*) FROM behaviour_history WHERE valid_to_run_at IS NULL GROUP BY cost_center, class`); !strings.Contains(p, "USING COVERING INDEX behaviour_current_list") {
 		t.Errorf("the overview's groups read the table; plan:\n%s", p)
 	}
+}
+
+// queryPlan is SQLite's plan of query (https://sqlite.org/eqp.html), a
+// step a line.
+func queryPlan(t *testing.T, db *DB, query string, args ...any) []string {
+	t.Helper()
+	rows, err := db.SQL().Query(`EXPLAIN QUERY PLAN `+query, args...)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var steps []string
+	for rows.Next() {
+		var id, parent, unused int
+		var detail string
+		if err := rows.Scan(&id, &parent, &unused, &detail); err != nil {
+			t.Fatal(err)
+		}
+		steps = append(steps, detail)
+	}
+	return steps
 }
