@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"os"
@@ -108,42 +109,29 @@ func (a *app) unpinCommand() *cobra.Command {
 }
 
 func (a *app) excludeCommand() *cobra.Command {
-	var by, reason string
-	var periods []string
-	cmd := &cobra.Command{
-		Use:   "exclude OBJECT",
-		Short: "Leave periods out of an object's fit (a one-off, a booking error)",
-		Long: `exclude leaves periods out of the object's fit from the next analysis on: they
+	return a.periodsCommand("exclude OBJECT", "Leave periods out of an object's fit (a one-off, a booking error)",
+		`exclude leaves periods out of the object's fit from the next analysis on: they
 are not fitted and not counted in n, explain lists them and its chart draws
-them apart. The ledger is not changed. include undoes it.`,
-		Args: cobra.ExactArgs(1),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			who, err := decider(by)
-			if err != nil {
-				return err
-			}
-			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				if err := pipeline.Exclude(cmd.Context(), e, db, args[0], periods, who, reason); err != nil {
-					return err
-				}
-				_, err := fmt.Fprintf(a.out, "excluded %s from %s's fit; the next analysis fits it without them\n",
-					report.TerminalText(strings.Join(periods, ",")), report.TerminalText(args[0]))
-				return err
-			})
-		},
-	}
-	cmd.Flags().StringSliceVar(&periods, "period", nil, "the period, or periods separated by commas")
-	cmd.Flags().StringVar(&reason, "reason", "", "why (required)")
-	cmd.Flags().StringVar(&by, "by", "", "who decides (default: your user name)")
-	return cmd
+them apart. The ledger is not changed. include undoes it.`, "why (required)", pipeline.Exclude,
+		"excluded %s from %s's fit; the next analysis fits it without them\n")
 }
 
 func (a *app) includeCommand() *cobra.Command {
+	return a.periodsCommand("include OBJECT", "Fit excluded periods again", "", "why", pipeline.Include,
+		"included %s in %s's fit again from the next analysis\n")
+}
+
+// periodsCommand is exclude or include: a decision on some periods of one
+// object, made by decide and told by done (periods, then the object).
+func (a *app) periodsCommand(use, short, long, reasonHelp string,
+	decide func(ctx context.Context, e *pipeline.Env, db *sqlite.DB, object string, periods []string, by, reason string) error,
+	done string) *cobra.Command {
 	var by, reason string
 	var periods []string
 	cmd := &cobra.Command{
-		Use:   "include OBJECT",
-		Short: "Fit excluded periods again",
+		Use:   use,
+		Short: short,
+		Long:  long,
 		Args:  cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			who, err := decider(by)
@@ -151,17 +139,16 @@ func (a *app) includeCommand() *cobra.Command {
 				return err
 			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				if err := pipeline.Include(cmd.Context(), e, db, args[0], periods, who, reason); err != nil {
+				if err := decide(cmd.Context(), e, db, args[0], periods, who, reason); err != nil {
 					return err
 				}
-				_, err := fmt.Fprintf(a.out, "included %s in %s's fit again from the next analysis\n",
-					report.TerminalText(strings.Join(periods, ",")), report.TerminalText(args[0]))
+				_, err := fmt.Fprintf(a.out, done, report.TerminalText(strings.Join(periods, ",")), report.TerminalText(args[0]))
 				return err
 			})
 		},
 	}
 	cmd.Flags().StringSliceVar(&periods, "period", nil, "the period, or periods separated by commas")
-	cmd.Flags().StringVar(&reason, "reason", "", "why")
+	cmd.Flags().StringVar(&reason, "reason", "", reasonHelp)
 	cmd.Flags().StringVar(&by, "by", "", "who decides (default: your user name)")
 	return cmd
 }
