@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"slices"
 	"strings"
@@ -70,16 +71,45 @@ var batchObjects = BatchObjects
 // one transaction, written a batch of BatchObjects at a time while the next
 // batch is fitted. Once ctx ends, nothing is stored and ctx's error is
 // returned. The alerts that follow are raised by Raise.
+//
+// The window is found from the periods the loads recorded, which spares a
+// pass over every line of the ledger before the one that reads the costs;
+// that pass notes the periods it meets, and in the rare store where the
+// recorded periods hold one without lines in the window (every line of it
+// restated into another period), the analysis is rolled back and run again
+// on the periods read from the lines.
 func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisResult, error) {
+	recorded, ok, err := db.RecordedLedgerPeriods(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: read ledger periods: %w", err)
+	}
+	if ok {
+		res, err := analyzeOver(ctx, e, db, all, recorded, true)
+		if !errors.Is(err, errWindowMoved) {
+			return res, err
+		}
+	}
+	ledger, err := db.LedgerPeriods(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: read ledger periods: %w", err)
+	}
+	return analyzeOver(ctx, e, db, all, ledger, false)
+}
+
+// errWindowMoved: the ledger as read has postings in other periods of the
+// window than the periods the window was found from.
+var errWindowMoved = errors.New("the ledger's periods differ from the recorded ones")
+
+// analyzeOver is Analyze with the window found from ledger, the periods in
+// which the ledger has postings; with check, a list that may hold periods
+// without lines, checked against the ledger as it is read (errWindowMoved
+// when they differ, with nothing stored).
+func analyzeOver(ctx context.Context, e *Env, db *sqlite.DB, all bool, ledger []string, check bool) (*AnalysisResult, error) {
 	started := e.Now()
 	cfg := e.Config.Analysis
 	scope, err := costdrift.ParseAccountScope(cfg.Accounts)
 	if err != nil {
 		return nil, err // validated with the config
-	}
-	ledger, err := db.LedgerPeriods(ctx)
-	if err != nil {
-		return nil, fmt.Errorf("analyze: read ledger totals: %w", err)
 	}
 	activity, err := db.Activity(ctx)
 	if err != nil {
@@ -99,6 +129,10 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	if err != nil {
 		return nil, fmt.Errorf("analyze: %w; run `costdrift sync` once the ledger has a closed period", err)
 	}
+	var postings *series.Postings
+	if check {
+		postings = window.Postings()
+	}
 	drivers := series.Drivers(activity, window.Periods, ss)
 	settings, _ := json.Marshal(costdrift.AnalysisSettings{Grain: costdrift.Grain(cfg.Grain), Accounts: cfg.Accounts, Window: cfg.Window,
 		MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha, Currency: e.Currency.Code,
@@ -117,6 +151,9 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	// part of a period would read as a change in behaviour.
 	if held := heldBack(q, cfg.MaxRejectedShare, window.From()); len(held) > 0 {
 		err := db.EachObjectCosts(ctx, accountGrain, window.From(), window.To(), func(totals []costdrift.CostTotal) error {
+			if postings != nil {
+				postings.Note(totals)
+			}
 			if _, ok := window.Object(totals); ok {
 				run.Skipped++
 			}
@@ -124,6 +161,9 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 		})
 		if err != nil {
 			return nil, fmt.Errorf("analyze: read ledger totals: %w", err)
+		}
+		if postings != nil && !postings.Match() {
+			return nil, errWindowMoved
 		}
 		run.FinishedAt, res.HeldBack = e.Now(), held
 		return res, nil
@@ -153,7 +193,7 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, currency: e.Currency.Code, previous: previous,
 		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
-		window: window, drivers: drivers, excluded: excluded,
+		window: window, postings: postings, drivers: drivers, excluded: excluded,
 		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
 	go s.analyse()
 	go s.save()
@@ -168,6 +208,10 @@ func Analyze(ctx context.Context, e *Env, db *sqlite.DB, all bool) (*AnalysisRes
 	}
 	if err == nil {
 		err = ctx.Err()
+	}
+	if err == nil && postings != nil && !postings.Match() {
+		w.Rollback()
+		return nil, errWindowMoved
 	}
 	if err != nil {
 		w.Rollback()
@@ -196,6 +240,7 @@ type stream struct {
 	previous map[string]string // input hash by object; nil to analyse all
 	hasher   *analyze.InputHasher
 	window   *series.Window
+	postings *series.Postings // the periods met, to check the window against; nil when it needs no check
 	drivers  []costdrift.DriverSeries
 	excluded map[string][]costdrift.Exclusion // by object
 
@@ -248,6 +293,9 @@ func (s *stream) failed() error {
 
 // read takes one object's cost totals from the store.
 func (s *stream) read(totals []costdrift.CostTotal) error {
+	if s.postings != nil {
+		s.postings.Note(totals)
+	}
 	o, ok := s.window.Object(totals)
 	if !ok {
 		return nil

@@ -10,6 +10,7 @@ import (
 	"strings"
 	"sync/atomic"
 	"testing"
+	"time"
 
 	"github.com/costdrift/costdrift/internal/alerts"
 	"github.com/costdrift/costdrift/internal/analyze"
@@ -342,5 +343,55 @@ func TestSyncStoppedBeforeASourceBegins(t *testing.T) {
 	if err == nil || !errors.Is(err, context.Canceled) || !strings.Contains(err.Error(), "sync interrupted: 0 of ") ||
 		!strings.Contains(err.Error(), " not begun; sync again to complete it") {
 		t.Errorf("sync with its context ended: %v", err)
+	}
+}
+
+// The window is found from the periods the loads recorded. Where every line
+// of the newest period was restated into the one before, the recorded
+// periods still hold it: the analysis notices, as it reads the costs, that
+// the ledger has no postings then, and analyses the window the lines give,
+// storing what an analysis of a store whose records agree stores.
+func TestAnalysisWindowFollowsTheLinesNotTheRecords(t *testing.T) {
+	ctx := context.Background()
+	e, probe := syncedDemo(t)
+	first, err := Analyze(ctx, e, probe, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	newest := first.Run.WindowTo
+	end, err := time.Parse("2006-01", newest)
+	if err != nil {
+		t.Fatal(err)
+	}
+	before := end.AddDate(0, -1, 0).Format("2006-01")
+	restate := func(db *sqlite.DB) {
+		if _, err := db.SQL().Exec(`UPDATE gl_lines SET period = ?, posted_on = ? || '-28' WHERE period = ?`, before, before, newest); err != nil {
+			t.Fatal(err)
+		}
+	}
+	eAgree, agree := syncedDemo(t)
+	restate(agree)
+	if _, err := agree.SQL().Exec(`DELETE FROM source_periods WHERE period = ?`, newest); err != nil {
+		t.Fatal(err)
+	}
+	eStale, stale := syncedDemo(t)
+	restate(stale)
+	var recorded int
+	if err := stale.SQL().QueryRow(`SELECT COUNT(*) FROM source_periods WHERE period = ? AND rows_stored > 0`, newest).Scan(&recorded); err != nil || recorded == 0 {
+		t.Fatalf("the stale store should still record %s: %d rows (%v)", newest, recorded, err)
+	}
+	ra, err := Analyze(ctx, eAgree, agree, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rs, err := Analyze(ctx, eStale, stale, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ra.Run.WindowTo != before || rs.Run.WindowTo != before {
+		t.Errorf("windows end at %s (records agree) and %s (records stale), want %s", ra.Run.WindowTo, rs.Run.WindowTo, before)
+	}
+	if a, s := analysed(t, agree), analysed(t, stale); a != s {
+		t.Errorf("the stale records changed what the analysis stored:\nagree:\n%s\nstale:\n%s", a, s)
 	}
 }

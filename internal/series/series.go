@@ -270,3 +270,42 @@ func nanSlice(n int) []float64 {
 	}
 	return v
 }
+
+// Postings notes, of cost totals read from the ledger, the window's
+// periods they fall in, so that a window built from a list of periods that
+// may hold more than the ledger does (the periods the loads recorded, which
+// keep a period whose lines all moved elsewhere) can be checked against the
+// ledger as it was read.
+type Postings struct {
+	w    *Window
+	seen []bool
+}
+
+// Postings starts a check of the window's periods with postings.
+func (w *Window) Postings() *Postings {
+	return &Postings{w: w, seen: make([]bool, len(w.Periods))}
+}
+
+// Note notes the periods of totals in the window.
+func (p *Postings) Note(totals []costdrift.CostTotal) {
+	for _, c := range totals {
+		if i, ok := p.w.index[c.Period]; ok {
+			p.seen[i] = true
+		}
+	}
+}
+
+// Match reports whether the periods noted are exactly the window's periods
+// with postings. For a window built from a list that holds every period of
+// the ledger, and the totals of every line in the window noted, that means
+// it is the ledger's own window: the window ends at the newest closed period
+// of the list, which the ledger then has postings in, and the ledger has
+// none newer that the list lacks.
+func (p *Postings) Match() bool {
+	for i, seen := range p.seen {
+		if seen != p.w.ledger[i] {
+			return false
+		}
+	}
+	return true
+}

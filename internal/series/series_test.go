@@ -181,3 +181,46 @@ func sameFloats(a, b []float64) bool {
 	}
 	return true
 }
+
+// A window built from more periods than the ledger holds (a period whose
+// lines all moved to another) does not match the ledger as it is read; one
+// built from the ledger's own periods does, out-of-window periods aside.
+func TestPostingsCheckTheWindowsPeriods(t *testing.T) {
+	s := settings("2026-12-01", 3)
+	costs := []costdrift.CostTotal{
+		{Period: "2026-08", Account: "6100", CostCenter: "WELD", AmountMinor: 100},
+		{Period: "2026-10", Account: "6100", CostCenter: "WELD", AmountMinor: 100},
+		{Period: "2026-10", Account: "9100", AmountMinor: 100},                     // out of scope, yet the ledger posted then
+		{Period: "2026-05", Account: "6100", CostCenter: "WELD", AmountMinor: 100}, // before the window
+	}
+	cases := []struct {
+		name   string
+		listed []string
+		match  bool
+	}{
+		{"the ledger's periods", []string{"2026-05", "2026-08", "2026-10"}, true},
+		{"a period without lines in the window", []string{"2026-05", "2026-08", "2026-09", "2026-10"}, false},
+		{"a newer period without lines", []string{"2026-05", "2026-08", "2026-10", "2026-11", "2026-12"}, true}, // neither is closed on 1 December
+		{"a closed newer period without lines", []string{"2026-08", "2026-10", "2026-11"}, false},
+		{"a period missing from the list", []string{"2026-10"}, false},
+		{"an older period without lines", []string{"2026-01", "2026-08", "2026-10"}, true},
+	}
+	for _, c := range cases {
+		now := s.Now
+		if c.name == "a closed newer period without lines" {
+			s.Now = now.AddDate(0, 1, 0) // November closed on 1 January
+		}
+		w, err := NewWindow(c.listed, s)
+		s.Now = now
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		p := w.Postings()
+		for _, cost := range costs {
+			p.Note([]costdrift.CostTotal{cost})
+		}
+		if got := p.Match(); got != c.match {
+			t.Errorf("%s: window %v, match = %v, want %v", c.name, w.Periods, got, c.match)
+		}
+	}
+}

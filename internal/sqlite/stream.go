@@ -25,6 +25,42 @@ func (db *DB) LedgerPeriods(ctx context.Context) ([]string, error) {
 	return out, rows.Err()
 }
 
+// RecordedLedgerPeriods returns the periods the loads recorded storing
+// ledger lines in (source_periods), without reading the lines: every period
+// in which the ledger has postings, and perhaps a period whose lines have
+// all moved since to another (a restated line keeps the period its first
+// file recorded). A ledger file loaded before the store kept those counts
+// (schema 14) and not read since is read through the per-file index. ok is
+// false when some line came from a database source, whose counts a
+// watermark read keeps only for the periods it read: the caller then reads
+// LedgerPeriods.
+func (db *DB) RecordedLedgerPeriods(ctx context.Context) (periods []string, ok bool, err error) {
+	var fromQuery int
+	if err := db.db.QueryRowContext(ctx, `SELECT COUNT(*) FROM (SELECT 1 FROM gl_lines WHERE source_file_id IS NULL LIMIT 1)`).Scan(&fromQuery); err != nil {
+		return nil, false, err
+	}
+	if fromQuery > 0 {
+		return nil, false, nil
+	}
+	rows, err := db.db.QueryContext(ctx, `SELECT p.period FROM source_periods p JOIN sync_runs r ON r.id = p.sync_run_id
+			WHERE r.role = 'ledger' AND p.rows_stored > 0
+		UNION
+		SELECT g.period FROM source_files f CROSS JOIN gl_lines g ON g.source_file_id = f.id
+			WHERE NOT EXISTS (SELECT 1 FROM source_periods p WHERE p.source_file_id = f.id)`)
+	if err != nil {
+		return nil, false, err
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var p string
+		if err := rows.Scan(&p); err != nil {
+			return nil, false, err
+		}
+		periods = append(periods, p)
+	}
+	return periods, true, rows.Err()
+}
+
 // EachObjectCosts reads the ledger's net amount per period, account and cost
 // centre in the periods from to to, and hands fn the totals of one cost
 // object at a time, ordered by account and cost centre: an account and a

@@ -5,6 +5,7 @@ import (
 	"context"
 	"fmt"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 
@@ -280,4 +281,52 @@ func queryPlan(t *testing.T, db *DB, query string, args ...any) []string {
 		steps = append(steps, detail)
 	}
 	return steps
+}
+
+// RecordedLedgerPeriods holds every period of the ledger without reading
+// its lines, and may hold more: a period whose lines all moved to another
+// when a later file restated them. A file loaded before the store counted
+// its periods is read through the per-file index; a line from a database
+// source leaves the answer to LedgerPeriods.
+func TestRecordedLedgerPeriodsHoldTheLedgersPeriods(t *testing.T) {
+	db, _ := mustOpen(t)
+	ctx := context.Background()
+	loadFile(t, db, "/jan-mar.csv", []costdrift.LedgerLine{
+		ledgerLine("gl", "E1", 1, "2025-01-31", "6200", "WELD", 100, ""),
+		ledgerLine("gl", "E2", 1, "2025-02-28", "6200", "WELD", 200, ""),
+		ledgerLine("gl", "E3", 1, "2025-03-31", "6200", "WELD", 300, ""),
+	})
+	// The March line restated into February by a later file.
+	loadFile(t, db, "/restated.csv", []costdrift.LedgerLine{ledgerLine("gl", "E3", 1, "2025-02-27", "6200", "WELD", 300, "")})
+	loadFile(t, db, "/apr.csv", []costdrift.LedgerLine{ledgerLine("gl", "E4", 1, "2025-04-30", "6200", "WELD", 400, "")})
+	// As a file loaded before schema 14 left it: no counts.
+	mustExec(t, db, `DELETE FROM source_periods WHERE source_file_id = (SELECT id FROM source_files WHERE path = '/apr.csv')`)
+
+	ledger, err := db.LedgerPeriods(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	slices.Sort(ledger)
+	if want := []string{"2025-01", "2025-02", "2025-04"}; !slices.Equal(ledger, want) {
+		t.Fatalf("LedgerPeriods = %v, want %v", ledger, want)
+	}
+	recorded, ok, err := db.RecordedLedgerPeriods(ctx)
+	if err != nil || !ok {
+		t.Fatalf("RecordedLedgerPeriods: %v, %v", ok, err)
+	}
+	slices.Sort(recorded)
+	if want := []string{"2025-01", "2025-02", "2025-03", "2025-04"}; !slices.Equal(recorded, want) {
+		t.Errorf("RecordedLedgerPeriods = %v, want %v (March recorded by the first file, April read through the index)", recorded, want)
+	}
+	for _, step := range queryPlan(t, db, `SELECT g.period FROM source_files f CROSS JOIN gl_lines g ON g.source_file_id = f.id
+			WHERE NOT EXISTS (SELECT 1 FROM source_periods p WHERE p.source_file_id = f.id)`) {
+		if strings.HasPrefix(step, "SCAN g") {
+			t.Errorf("the uncounted files' lines are read by a scan of the ledger: %s", step)
+		}
+	}
+
+	load(t, db, "erp", costdrift.RoleLedger, batch{lines: []costdrift.LedgerLine{ledgerLine("erp", "Q1", 1, "2025-05-31", "6200", "WELD", 500, "")}})
+	if _, ok, err := db.RecordedLedgerPeriods(ctx); err != nil || ok {
+		t.Errorf("with a database source's line: ok = %v (%v), want false", ok, err)
+	}
 }
