@@ -95,7 +95,9 @@ type AnalysisWriter struct {
 	tx        *sql.Tx
 	run       *costdrift.AnalysisRun
 	now       string
-	fits      *sql.Stmt
+	fits      *sql.Stmt // one fit, for a batch's last few
+	fitsBatch *sql.Stmt // fitBatch fits
+	fitArgs   []any
 	dropFits  *sql.Stmt
 	setInputs *sql.Stmt
 	open      *sql.Stmt
@@ -133,6 +135,9 @@ func (w *AnalysisWriter) prepare(ctx context.Context) error {
 	if w.fits, err = w.tx.PrepareContext(ctx, insertFit); err != nil {
 		return err
 	}
+	if w.fitsBatch, err = w.tx.PrepareContext(ctx, insertFit+strings.Repeat(", "+fitValues, fitBatch-1)); err != nil {
+		return err
+	}
 	// The fits of the object's previous analysis go: fits holds each
 	// object's latest candidates, behaviour_history the formulas over
 	// time, so that a daemon's store does not grow with every analysis.
@@ -159,6 +164,12 @@ func (w *AnalysisWriter) prepare(ctx context.Context) error {
 // object analysed (by object name), whose earlier fits it drops.
 func (w *AnalysisWriter) Save(ctx context.Context, fits []costdrift.Fit, behaviours []costdrift.Behaviour, inputs map[string]string) error {
 	runID := w.run.ID
+	for len(fits) >= fitBatch {
+		if err := w.insertFits(ctx, fits[:fitBatch]); err != nil {
+			return err
+		}
+		fits = fits[fitBatch:]
+	}
 	for _, f := range fits {
 		if err := w.insertFit(ctx, f); err != nil {
 			return err
@@ -199,7 +210,7 @@ func (w *AnalysisWriter) Rollback() {
 }
 
 func (w *AnalysisWriter) close() {
-	for _, s := range []*sql.Stmt{w.fits, w.dropFits, w.setInputs, w.open, w.insert, w.update} {
+	for _, s := range []*sql.Stmt{w.fits, w.fitsBatch, w.dropFits, w.setInputs, w.open, w.insert, w.update} {
 		if s != nil {
 			s.Close()
 		}
@@ -224,27 +235,53 @@ func (db *DB) ObjectInputs(ctx context.Context) (map[string]string, error) {
 	return out, rows.Err()
 }
 
-const insertFit = `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
+const (
+	insertFit = `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
 		intercept, intercept_se, intercept_p, slope, slope_se, slope_t, slope_p, slope_adjusted_p, r2, residual_se, press, aicc,
 		range_min, range_max, significant, implausible, chosen, rank,
 		levels, driver2, lag2, slope2, slope2_se, slope2_p, vif, durbin_watson, robust_intercept, robust_slope, outliers)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`
+		VALUES ` + fitValues
+	fitValues = `(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`
+)
+
+// fitBatch is how many fits one INSERT carries: an analysis stores eight
+// or so an object, and a row at a time binds each of its 37 values with a
+// call into SQLite of its own; the query path binds a whole statement's in
+// one (insertRows). 25 × 37 values stay far below SQLite's limit of 32,766.
+const fitBatch = 25
 
 func (w *AnalysisWriter) insertFit(ctx context.Context, f costdrift.Fit) error {
+	if _, err := w.fits.ExecContext(ctx, fitArgs(nil, w.run.ID, f)...); err != nil {
+		return fmt.Errorf("save fit %s %s lag %d %s: %w", f.Object, f.Driver, f.Lag, f.Model, err)
+	}
+	return nil
+}
+
+// insertFits stores fitBatch fits with one INSERT.
+func (w *AnalysisWriter) insertFits(ctx context.Context, fits []costdrift.Fit) error {
+	args := w.fitArgs[:0]
+	for _, f := range fits {
+		args = fitArgs(args, w.run.ID, f)
+	}
+	w.fitArgs = args
+	if err := insertRows(ctx, w.fitsBatch, args); err != nil {
+		return fmt.Errorf("save the fits of %s to %s: %w", fits[0].Object, fits[len(fits)-1].Object, err)
+	}
+	return nil
+}
+
+// fitArgs appends a fit's values as insertFit binds them.
+func fitArgs(args []any, runID int64, f costdrift.Fit) []any {
 	var rank any
 	if f.PlausibleRanked > 0 {
 		rank = f.PlausibleRanked
 	}
-	_, err := w.fits.ExecContext(ctx, w.run.ID, f.Object.String(), f.Object.Account, f.Object.CostCenter, f.Driver, f.Lag, string(f.Model), f.N,
+	return append(args, runID, f.Object.String(), f.Object.Account, f.Object.CostCenter, f.Driver, f.Lag, string(f.Model), f.N,
 		num(f.Intercept), num(f.InterceptSE), num(f.InterceptP), num(f.Slope), num(f.SlopeSE), num(f.SlopeT), num(f.SlopeP),
 		num(f.SlopeAdjustedP), num(f.R2), num(f.ResidualSE), num(f.PRESS), num(f.AICc), num(f.RangeMin), num(f.RangeMax),
 		f.Significant, f.Implausible, f.Chosen, rank,
 		jsonOrNull(f.Levels), nullString(f.Driver2), lag2(f), num2(f, f.Slope2), num2(f, f.Slope2SE), num2(f, f.Slope2P), num2(f, f.VIF),
 		diagNum(f, f.DurbinWatson), diagNum(f, f.RobustIntercept), diagNum(f, f.RobustSlope), jsonOrNull(f.Outliers))
-	if err != nil {
-		return fmt.Errorf("save fit %s %s lag %d %s: %w", f.Object, f.Driver, f.Lag, f.Model, err)
-	}
-	return nil
 }
 
 // jsonOrNull stores an empty list as NULL and anything else as JSON.

@@ -73,3 +73,42 @@ func BenchmarkLoadFile(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSaveFits stores the fits of an analysis of 2,000 objects, eight
+// an object as the analysis keeps them, in batches of 250 objects: the
+// write that follows every fit of `costdrift analyze`.
+func BenchmarkSaveFits(b *testing.B) {
+	const objects, perObject, batch = 2000, 8, 250
+	var fits []costdrift.Fit
+	for i := range objects {
+		o := costdrift.CostObject{Account: fmt.Sprint(6000 + i/40), CostCenter: fmt.Sprintf("CC%02d", i%40)}
+		for k := range perObject {
+			fits = append(fits, costdrift.Fit{Object: o, Driver: fmt.Sprintf("driver_%d", k), Lag: k % 2, Model: costdrift.ModelLinear,
+				N: 36, Intercept: 1200.5 + float64(k), InterceptSE: 80.25, InterceptP: 0.001, Slope: 3.75, SlopeSE: 0.5, SlopeT: 7.5,
+				SlopeP: 1e-6, SlopeAdjustedP: 2e-5, R2: 0.8, ResidualSE: 95.5, PRESS: 41000, AICc: 310.2, RangeMin: 400, RangeMax: 900,
+				Significant: true, Chosen: k == 0, PlausibleRanked: k + 1})
+		}
+	}
+	ctx := context.Background()
+	for b.Loop() {
+		b.StopTimer()
+		db, _ := mustOpen(b)
+		run := &costdrift.AnalysisRun{Grain: costdrift.GrainAccountCostCenter, WindowFrom: "2023-01", WindowTo: "2025-12", Settings: "{}"}
+		w, err := db.BeginAnalysis(ctx, run)
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.StartTimer()
+		for at := 0; at < len(fits); at += batch * perObject {
+			if err := w.Save(ctx, fits[at:at+batch*perObject], nil, nil); err != nil {
+				b.Fatal(err)
+			}
+		}
+		if err := w.Commit(ctx); err != nil {
+			b.Fatal(err)
+		}
+		b.StopTimer()
+		db.Close()
+		b.StartTimer()
+	}
+}
