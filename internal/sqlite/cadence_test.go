@@ -53,3 +53,39 @@ func TestCadenceRoundTrip(t *testing.T) {
 		t.Errorf("view:\n%s want\n%s", got, want)
 	}
 }
+
+// TestReversedLines: of an object's lines, only those with a line of the
+// opposite amount on the same account and cost centre within the periods
+// asked for are read, with their period and description; the object's
+// other lines, other cost centres and periods outside are not.
+func TestReversedLines(t *testing.T) {
+	db, _ := mustOpen(t)
+	loadFile(t, db, "/gl.csv", []costdrift.LedgerLine{
+		ledgerLine("gl", "J1", 1, "2025-11-30", "6100", "PLANT", 400000, "Accrual electricity"),
+		ledgerLine("gl", "J1", 2, "2025-11-30", "2900", "", -400000, "Accrual electricity"),
+		ledgerLine("gl", "J2", 1, "2025-12-01", "6100", "PLANT", -400000, "Reversal electricity"),
+		ledgerLine("gl", "J2", 2, "2025-12-01", "2900", "", 400000, "Reversal electricity"),
+		ledgerLine("gl", "J3", 1, "2025-12-10", "6100", "PLANT", 380000, "Invoice"),
+		ledgerLine("gl", "J3", 2, "2025-12-10", "2900", "", -380000, "Invoice"),
+		ledgerLine("gl", "J4", 1, "2025-11-30", "6100", "OFFICE", 400000, "Accrual electricity"),
+		ledgerLine("gl", "J4", 2, "2025-11-30", "2900", "", -400000, "Accrual electricity"),
+		ledgerLine("gl", "J5", 1, "2026-01-02", "6100", "PLANT", -380000, "Credit"),
+		ledgerLine("gl", "J5", 2, "2026-01-02", "2900", "", 380000, "Credit"),
+		ledgerLine("gl", "J6", 1, "2025-12-01", "6100", "OFFICE", -400000, "Reversal electricity"),
+		ledgerLine("gl", "J6", 2, "2025-12-01", "2900", "", 400000, "Reversal electricity"),
+	})
+	got, err := db.ReversedLines(context.Background(), costdrift.CostObject{Account: "6100", CostCenter: "PLANT"}, false, "2025-11", "2025-12")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 2 || got[0].EntryID != "J1" || got[0].Period != "2025-11" || got[0].AmountMinor != 400000 ||
+		got[1].EntryID != "J2" || got[1].Description != "Reversal electricity" || got[1].CostCenter != "PLANT" {
+		t.Errorf("lines %+v, want J1 and J2 of PLANT", got)
+	}
+	// At account grain the other cost centre's pair is read too, each
+	// line paired within its own cost centre.
+	all, err := db.ReversedLines(context.Background(), costdrift.CostObject{Account: "6100"}, true, "2025-11", "2025-12")
+	if err != nil || len(all) != 4 {
+		t.Errorf("account grain: %d lines, %v; want J1, J4, J2 and J6", len(all), err)
+	}
+}
