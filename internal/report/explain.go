@@ -49,6 +49,10 @@ type Explanation struct {
 	Chart     string   `json:"chart,omitempty"`      // the cost against the driver
 	TimeChart string   `json:"time_chart,omitempty"` // the cost over time
 	Cautions  string   `json:"cautions"`
+
+	// Accruals booked in one period and reversed in the next, when the
+	// object has any in the window.
+	Accruals *Accruals `json:"accruals,omitempty"`
 }
 
 // AnalysisInfo names the analysis the explanation comes from.
@@ -411,6 +415,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 	explainHighLow(&s, e)
 	explainDiagnostics(&s, e.Diagnostics)
 	explainExcluded(&s, e)
+	explainAccruals(&s, e)
 	explainNotes(&s, e)
 	s.WriteString("\n" + e.Cautions + "\n")
 	_, err := io.WriteString(w, s.String())
