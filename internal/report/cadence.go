@@ -23,3 +23,9 @@ func cadenceFormula(b costdrift.Behaviour) string {
 	}
 	return "cost = " + text
 }
+
+// cadenceNoDriver says why a cost posted at a cadence is not fitted on a
+// driver (explain's table of drivers).
+func cadenceNoDriver(c costdrift.Cadence) string {
+	return fmt.Sprintf("the cost is posted once a %s and in no period between, so it follows the calendar, not the activity of the periods it lands in", c.Noun())
+}

@@ -470,6 +470,10 @@ func explainHeader(s *strings.Builder, e Explanation, currency string) {
 // marked, with what PRESS/N means.
 func explainDrivers(s *strings.Builder, e Explanation, currency string) {
 	s.WriteString("\nDrivers tried: cost = fixed + rate × driver by least squares, ranked by leave-one-out\nerror among slopes that are positive and significant after Holm's correction\n")
+	if len(e.Drivers) == 0 && e.Cadence != nil {
+		wrap(s, "none tried: "+cadenceNoDriver(*e.Cadence), "  ", textWidth)
+		return
+	}
 	if len(e.Drivers) == 0 {
 		s.WriteString("  no driver could be fitted (no activity series covers enough periods)\n")
 		return
