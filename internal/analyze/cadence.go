@@ -53,6 +53,26 @@ type cadenceFound struct {
 // half-yearly cost's postings, and a half-yearly one leaves a quarterly
 // posting period empty.
 func findCadence(periods []string, cost []float64) (cadenceFound, bool) {
+	// Most costs are posted every period: a cadence of 3 or more leaves at
+	// most one period in three with a posting, so those are passed over
+	// before anything is allocated. A period near zero is at most
+	// CadenceZeroShare of the median posting, so at most that share of the
+	// largest cost: the periods above it are postings.
+	largest := 0.0
+	for _, v := range cost {
+		if math.Abs(v) > largest {
+			largest = math.Abs(v)
+		}
+	}
+	above := 0
+	for _, v := range cost {
+		if math.Abs(v) > CadenceZeroShare*largest {
+			above++
+		}
+	}
+	if above > (len(cost)+2)/3 {
+		return cadenceFound{}, false
+	}
 	positions := make([]int, len(periods))
 	for i, p := range periods {
 		pos, ok := calendar.PositionInYear(p)
