@@ -509,7 +509,7 @@ func (ds *dataset) accrueLateInvoice() {
 			day++
 		}
 		job := late.lines[0]
-		monthEnd := periodStart(i + 1).AddDate(0, 0, -1)
+		monthEnd := periodStart(i+1).AddDate(0, 0, -1)
 		accrual := entry{date: monthEnd, bill: late.bill, prefix: "GJ", lines: []line{
 			{account: job.account, costCenter: job.costCenter, cents: job.cents, description: "Accrual: " + job.description + ", invoice to come"},
 			{account: accountAccrued, cents: -job.cents, description: "Accrued expenses " + periodLabel(i)},
