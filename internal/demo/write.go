@@ -146,9 +146,6 @@ type dataset struct {
 	activity *activity
 	costs    []objectCost
 	entries  [][]entry
-	// accrued is the period index whose servicing invoice came late and
-	// was accrued (accrueLateInvoice).
-	accrued int
 }
 
 // entry is one balanced journal entry: expense debit lines and one credit.
@@ -521,7 +518,6 @@ func (ds *dataset) accrueLateInvoice() {
 		late.date = periodStart(i+1).AddDate(0, 0, day-1)
 		ds.entries[i][last] = accrual
 		ds.entries[i+1] = append(ds.entries[i+1], reversal, late)
-		ds.accrued = i
 		return
 	}
 	panic("demo: no month from " + accrualFrom + " suits the late servicing invoice")
