@@ -47,3 +47,26 @@ func TestAccrualsView(t *testing.T) {
 		}
 	}
 }
+
+// TestPostedAt: the timeline draws a cost posted once a quarter as its
+// posting in the months it is posted in and nothing between (1,000 a month
+// spread evenly is 3,000 in March, hand-worked); a cost posted every month,
+// and a week, keep the amount per period.
+func TestPostedAt(t *testing.T) {
+	quarterly := costdrift.Behaviour{Class: costdrift.Fixed, Cadence: &costdrift.Cadence{Every: 3, Phase: 0}}
+	for _, tc := range []struct {
+		b      costdrift.Behaviour
+		period string
+		want   float64
+	}{
+		{quarterly, "2026-03", 3000},
+		{quarterly, "2026-02", 0},
+		{quarterly, "FY2026-P12", 3000},
+		{quarterly, "2026-W09", 1000},
+		{costdrift.Behaviour{Class: costdrift.Fixed}, "2026-02", 1000},
+	} {
+		if got := postedAt(tc.b, tc.period, 1000); got != tc.want {
+			t.Errorf("postedAt(%s, cadence %+v) = %g, want %g", tc.period, tc.b.Cadence, got, tc.want)
+		}
+	}
+}

@@ -52,7 +52,7 @@ func explainAccruals(s *strings.Builder, e Explanation) {
 	pairs := table{header: []string{"booked", "reversed", "cost centre", "amount", "entries", "description"}, right: "   r"}
 	for _, p := range e.Accruals.Pairs {
 		pairs.add(TerminalText(p.Period), TerminalText(p.ReversedIn), TerminalText(orDash(p.CostCenter)), present.Amount(p.Amount),
-			TerminalText(p.Entry)+" / "+TerminalText(p.ReversalEntry), TerminalText(clip(p.Description, 40)))
+			TerminalText(p.Entry)+" / "+TerminalText(p.ReversalEntry), TerminalText(clip(p.Description, 72)))
 	}
 	pairs.write(s, "  ")
 	s.WriteString("\n  Net effect per period:\n")
