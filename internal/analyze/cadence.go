@@ -272,7 +272,7 @@ func cadenceBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s
 	b.Since = brk.Period
 	b.N = brk.Periods
 	b.FixedPerPeriod = brk.FixedAfter
-	b.MeanCost = meanOf(obj.Cost[res.index[split]:])
+	b.MeanCost = meanKnown(obj.Cost[res.index[split]:])
 	b.Prediction = &costdrift.PredictionTerms{Intercept: true, Coef: []float64{brk.FixedAfter},
 		Cov: []float64{1 / float64(len(after))}, S: pooled, N: len(after), DF: df}
 	res.y, res.index = after, res.index[split:]
@@ -285,4 +285,17 @@ func cadenceBreak(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result, s
 	whole.BreakTested = true
 	res.Unbroken = &whole
 	return res
+}
+
+// meanKnown is the mean of the values that are not NaN (a period the whole
+// ledger is silent in is unknown, not zero).
+func meanKnown(v []float64) float64 {
+	sum, n := 0.0, 0
+	for _, x := range v {
+		if !math.IsNaN(x) {
+			sum += x
+			n++
+		}
+	}
+	return sum / float64(n)
 }

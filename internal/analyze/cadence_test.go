@@ -58,7 +58,7 @@ func TestCadenceRecognised(t *testing.T) {
 			}
 			// Designed: amount / k per period; 3 % noise on at least two
 			// postings leaves the mean within 6 % (2 standard errors of one).
-			if want := tc.amount / float64(tc.k); math.Abs(b.FixedPerPeriod-want) > 0.06*want {
+			if want := tc.amount / float64(tc.k); !(math.Abs(b.FixedPerPeriod-want) <= 0.06*want) {
 				t.Errorf("fixed per period %.2f, want %.2f within 6 %%", b.FixedPerPeriod, want)
 			}
 			if !strings.Contains(b.Reason, tc.reasonHas) {
@@ -68,7 +68,7 @@ func TestCadenceRecognised(t *testing.T) {
 				t.Errorf("stable postings broken at %s: %s", b.Break.Period, b.Reason)
 			}
 			postings := (tc.n - tc.first + tc.k - 1) / tc.k
-			if b.Prediction == nil || b.Prediction.N != postings || math.Abs(b.Prediction.Coef[0]-b.FixedPerPeriod) > 1e-9*b.FixedPerPeriod {
+			if b.Prediction == nil || b.Prediction.N != postings || !(math.Abs(b.Prediction.Coef[0]-b.FixedPerPeriod) <= 1e-9*b.FixedPerPeriod) {
 				t.Fatalf("prediction terms %+v: want the mean of %d postings per period, %.2f", b.Prediction, postings, b.FixedPerPeriod)
 			}
 		})
@@ -92,15 +92,15 @@ func TestCadencePredictionTerms(t *testing.T) {
 		t.Fatalf("cadence %+v, want quarterly (%s)", b.Cadence, b.Reason)
 	}
 	p := b.Prediction
-	if math.Abs(p.Coef[0]-1000) > 1e-9 || math.Abs(p.S-math.Sqrt(20000.0/3)/3) > 1e-9 || p.DF != 3 || p.N != 4 || math.Abs(p.Cov[0]-0.25) > 1e-12 {
+	if !(math.Abs(p.Coef[0]-1000) <= 1e-9) || !(math.Abs(p.S-math.Sqrt(20000.0/3)/3) <= 1e-9) || p.DF != 3 || p.N != 4 || !(math.Abs(p.Cov[0]-0.25) <= 1e-12) {
 		t.Errorf("terms %+v: want coef 1000, s %.4f, df 3, n 4, cov 0.25", p, math.Sqrt(20000.0/3)/3)
 	}
-	if math.Abs(b.FixedPerPeriod-1000) > 1e-9 || !strings.Contains(b.Reason, "3,000.00 a quarter, 1,000.00 a period spread evenly") {
+	if !(math.Abs(b.FixedPerPeriod-1000) <= 1e-9) || !strings.Contains(b.Reason, "3,000.00 a quarter, 1,000.00 a period spread evenly") {
 		t.Errorf("fixed %.2f, reason %q", b.FixedPerPeriod, b.Reason)
 	}
 	// The check is that the terms give the formula, as for every class
 	// (prediction_test.go): ŷ per period is the fixed amount.
-	if y, _ := fit.Terms(*p).Predict(nil); math.Abs(y-b.FixedPerPeriod) > 1e-9 {
+	if y, _ := fit.Terms(*p).Predict(nil); !(math.Abs(y-b.FixedPerPeriod) <= 1e-9) {
 		t.Errorf("terms predict %.2f, formula %.2f", y, b.FixedPerPeriod)
 	}
 }
@@ -178,7 +178,7 @@ func TestCadenceBreakInPostings(t *testing.T) {
 	if b.Break.Period != p.Periods[24] || b.Since != p.Periods[24] {
 		t.Errorf("break at %s, since %s: want %s", b.Break.Period, b.Since, p.Periods[24])
 	}
-	if math.Abs(b.FixedPerPeriod-1200) > 0.03*1200 || math.Abs(b.Break.FixedBefore-1000) > 0.03*1000 {
+	if !(math.Abs(b.FixedPerPeriod-1200) <= 0.03*1200) || !(math.Abs(b.Break.FixedBefore-1000) <= 0.03*1000) {
 		t.Errorf("per period %.2f after (want 1,200), %.2f before (want 1,000)", b.FixedPerPeriod, b.Break.FixedBefore)
 	}
 	if b.Prediction.N != 4 || b.Prediction.DF != 10 {
@@ -208,7 +208,30 @@ func TestCadenceSpendingCheck(t *testing.T) {
 	if len(sp) != 1 || sp[0].Period != p.Periods[13] {
 		t.Fatalf("spending checks %+v: want one, of %s", sp, p.Periods[13])
 	}
-	if math.Abs(sp[0].Expected-3000) > 1e-9 || math.Abs(sp[0].High-3029.05) > 0.01 || !sp[0].Outside() {
+	if !(math.Abs(sp[0].Expected-3000) <= 1e-9) || !(math.Abs(sp[0].High-3029.05) <= 0.01) || !sp[0].Outside() {
 		t.Errorf("check %+v: want expected 3,000, high 3,029.05, outside", sp[0])
+	}
+}
+
+// TestCadenceBreakWithSilentMonth: a month the whole ledger is silent in
+// (NaN) after the break leaves the mean cost since the break the mean of
+// the months known: 4 postings of 3,600 over 11 known months (hand-worked).
+func TestCadenceBreakWithSilentMonth(t *testing.T) {
+	cost := make([]float64, 36)
+	for i := 0; i < 36; i += 3 {
+		cost[i] = 3000 + 10*float64(i%2)
+		if i >= 24 {
+			cost[i] = 3600 + 10*float64(i%2)
+		}
+	}
+	cost[31] = math.NaN()
+	s := Settings{MinPeriods: 12, Lags: []int{0, 1}, Alpha: 0.05, BreakAlpha: 0.01, Replicates: 999, Seed: 1}
+	b := Object(panelOf(36, cost), &costdrift.ObjectSeries{Object: costdrift.CostObject{Account: "6400"}, Cost: cost}, s).Behaviour
+	if b.Cadence == nil || b.Break == nil {
+		t.Fatalf("cadence %+v, break %+v (%s)", b.Cadence, b.Break, b.Reason)
+	}
+	want := (3600 + 3610 + 3600 + 3610) / 11.0
+	if !(math.Abs(b.MeanCost-want) <= 1e-9) {
+		t.Errorf("mean cost since the break %v, want %.4f", b.MeanCost, want)
 	}
 }

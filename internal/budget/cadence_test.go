@@ -43,7 +43,7 @@ func TestCadenceBudget(t *testing.T) {
 	if l := lines[0]; l.Low95 != 0 || l.High95 != 0 || !strings.Contains(l.Warning, "posted once a quarter (Mar, Jun, Sep, Dec): nothing in this period") {
 		t.Errorf("January: [%g, %g] %q", l.Low95, l.High95, l.Warning)
 	}
-	if l := lines[2]; math.Abs(l.Low95-2709.48) > 0.01 || math.Abs(l.High95-3290.52) > 0.01 || !strings.Contains(l.Warning, "the quarter's posting") {
+	if l := lines[2]; !(math.Abs(l.Low95-2709.48) <= 0.01) || !(math.Abs(l.High95-3290.52) <= 0.01) || !strings.Contains(l.Warning, "the quarter's posting") {
 		t.Errorf("March: [%.2f, %.2f] %q, want [2,709.48, 3,290.52]", l.Low95, l.High95, l.Warning)
 	}
 	tot := Totals(lines)
@@ -53,7 +53,7 @@ func TestCadenceBudget(t *testing.T) {
 
 	spread := FlexibleSpread(b, periods, table{}.lookup, monthShift)
 	for _, l := range spread {
-		if !near(l.Value, 1000, 1e-12) || math.Abs(l.High95-1096.84) > 0.01 || !strings.Contains(l.Warning, "3,000.00 a posting: spread evenly") {
+		if !near(l.Value, 1000, 1e-12) || !(math.Abs(l.High95-1096.84) <= 0.01) || !strings.Contains(l.Warning, "3,000.00 a posting: spread evenly") {
 			t.Errorf("%s spread: %.2f up to %.2f %q, want 1,000 up to 1,096.84", l.Period, l.Value, l.High95, l.Warning)
 		}
 	}
