@@ -44,18 +44,18 @@ func TestAnalyzeSkipsAnObjectWhoseTotalOverflows(t *testing.T) {
 	if !strings.Contains(out, skipped) {
 		t.Errorf("analyze output does not say which object was skipped and why:\n%s", out)
 	}
-	// The demo has 13 cost objects (TestResyncChangesNothing).
-	if !strings.Contains(out, "analysed 12 cost objects") {
+	// The demo has 14 cost objects (TestResyncChangesNothing).
+	if !strings.Contains(out, "analysed 13 cost objects") {
 		t.Errorf("analyze output:\n%s", out)
 	}
-	if n := count(t, store, "SELECT objects FROM analysis_runs ORDER BY id DESC LIMIT 1"); n != 12 {
-		t.Errorf("the last analysis stored %d objects, want 12", n)
+	if n := count(t, store, "SELECT objects FROM analysis_runs ORDER BY id DESC LIMIT 1"); n != 13 {
+		t.Errorf("the last analysis stored %d objects, want 13", n)
 	}
 	// The skipped object keeps the behaviour of the demo's own analysis;
 	// every other one comes from this run.
 	if n := count(t, store, `SELECT COUNT(*) FROM current_behaviour
-		WHERE analysis_run_id = (SELECT MAX(id) FROM analysis_runs) AND object <> '6200/WELD'`); n != 12 {
-		t.Errorf("%d objects analysed by the last run, want 12", n)
+		WHERE analysis_run_id = (SELECT MAX(id) FROM analysis_runs) AND object <> '6200/WELD'`); n != 13 {
+		t.Errorf("%d objects analysed by the last run, want 13", n)
 	}
 	if n := count(t, store, `SELECT COUNT(*) FROM current_behaviour
 		WHERE analysis_run_id = (SELECT MAX(id) FROM analysis_runs) AND object = '6200/WELD'`); n != 0 {
@@ -89,8 +89,8 @@ func TestAnalyzeSkipsAnObjectWhoseTotalOverflows(t *testing.T) {
 	if n := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE period = '2026-03' AND object = '6200/WELD'`); n != 0 {
 		t.Errorf("a variance line for 6200/WELD, whose actual cost nobody can add up")
 	}
-	if n := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE period = '2026-03' AND line = 'object'`); n != 12 {
-		t.Errorf("%d object lines in the 2026-03 variance, want the other 12", n)
+	if n := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE period = '2026-03' AND line = 'object'`); n != 13 {
+		t.Errorf("%d object lines in the 2026-03 variance, want the other 13", n)
 	}
 
 	// Explaining the skipped object (power, whose formula has a driver, so

@@ -59,9 +59,10 @@ func (o *outputFlags) write(out io.Writer, render func(io.Writer) error) error {
 
 func (a *app) budgetCommand() *cobra.Command {
 	var planPath, save string
+	var spread bool
 	var out outputFlags
 	cmd := &cobra.Command{
-		Use:   "budget --plan FILE [--save NAME]",
+		Use:   "budget --plan FILE [--save NAME] [--spread]",
 		Short: "Budget each cost from its formula at the planned activity, with prediction intervals",
 		Long: `budget reads planned activity per period (a CSV or XLSX file with the columns
 period, driver, value and optionally cost_center, or period and one column per
@@ -70,7 +71,9 @@ planned activity, the level for a step cost, the mean for a cost no driver
 explains. Each budget has its 80 % and 95 % prediction intervals; totals per
 cost centre and overall add the objects' variances, assuming their deviations
 are independent. A driver with a lag takes the period before from the plan or,
-failing that, from the actual activity in the store.
+failing that, from the actual activity in the store. A cost posted once a
+quarter, half-year or year is budgeted in the periods it is posted in, nothing
+in the others; with --spread, evenly over every period.
 
 Without --save, budget is a trial run and writes nothing. With --save NAME the
 plan and the budget are kept in the store under NAME (tables plans and
@@ -88,12 +91,13 @@ before; budget writes nothing else, so it runs beside a daemon.`,
 				return err
 			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
-				return a.budget(cmd.Context(), e, db, planPath, save, out)
+				return a.budget(cmd.Context(), e, db, planPath, save, spread, out)
 			})
 		},
 	}
 	cmd.Flags().StringVar(&planPath, "plan", "", "planned activity, CSV or XLSX")
 	cmd.Flags().StringVar(&save, "save", "", "keep the budget in the store under this name, replacing one saved under it before")
+	cmd.Flags().BoolVar(&spread, "spread", false, "spread a cost posted once a quarter, half-year or year evenly over its periods")
 	out.add(cmd)
 	return cmd
 }
@@ -306,8 +310,12 @@ func xlsxAppVersion(v string) string {
 
 // budget budgets a plan, keeps it under the name save unless that is "",
 // and writes it in the chosen format.
-func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPath, save string, out outputFlags) error {
-	res, err := pipeline.Budget(ctx, e, db, planPath, save)
+func (a *app) budget(ctx context.Context, e *pipeline.Env, db *sqlite.DB, planPath, save string, spread bool, out outputFlags) error {
+	run := pipeline.Budget
+	if spread {
+		run = pipeline.BudgetSpread
+	}
+	res, err := run(ctx, e, db, planPath, save)
 	if err != nil {
 		return err
 	}

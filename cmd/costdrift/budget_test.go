@@ -69,9 +69,9 @@ func TestBudgetOfTheDemoPlan(t *testing.T) {
 	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "budget", "--plan", plan, "--format", "json", "--save", "plan-2026-q3")), &rows); err != nil {
 		t.Fatal(err)
 	}
-	// 13 objects, 3 cost centres and a total, for 3 months.
-	if len(rows) != 3*(13+3+1) {
-		t.Fatalf("%d rows, want 51", len(rows))
+	// 14 objects, 3 cost centres and a total, for 3 months.
+	if len(rows) != 3*(14+3+1) {
+		t.Fatalf("%d rows, want 54", len(rows))
 	}
 	byKey := map[string]report.BudgetRow{}
 	for _, r := range rows {
@@ -139,7 +139,7 @@ func TestBudgetOfTheDemoPlan(t *testing.T) {
 					t.Errorf("%s total %s %.2f, its objects sum to %.2f", period, r.CostCenter, *r.Budget, cc[r.CostCenter])
 				}
 			case "total":
-				if !nearSum(*r.Budget, all, 13) || !nearSum(*r.Budget, ccSum, 3) || !strings.Contains(r.Warning, "independent") {
+				if !nearSum(*r.Budget, all, 14) || !nearSum(*r.Budget, ccSum, 3) || !strings.Contains(r.Warning, "independent") {
 					t.Errorf("%s total %.2f, objects %.2f, cost centres %.2f; warning %q", period, *r.Budget, all, ccSum, r.Warning)
 				}
 			}
@@ -231,8 +231,8 @@ func TestVarianceOfTheDemoMonth(t *testing.T) {
 	if err := json.Unmarshal([]byte(mustRun(t, "--config", cfg, "variance", "--period", "2026-06", "--plan", plan, "--format", "json", "--save", "2026-06")), &rows); err != nil {
 		t.Fatal(err)
 	}
-	if len(rows) != 13+3+1 {
-		t.Fatalf("%d rows, want 17", len(rows))
+	if len(rows) != 14+3+1 {
+		t.Fatalf("%d rows, want 18", len(rows))
 	}
 	outside := map[string]bool{}
 	for _, r := range rows {
@@ -271,7 +271,7 @@ func TestVarianceOfTheDemoMonth(t *testing.T) {
 	if err := db.QueryRow(`SELECT SUM(amount_minor) / 100.0 FROM gl_lines WHERE period = '2026-06' AND amount_minor > 0 AND account < '7'`).Scan(&ledger); err != nil {
 		t.Fatal(err)
 	}
-	if total := rows[len(rows)-1]; total.Line != "total" || !nearSum(*total.Actual, ledger, 13) {
+	if total := rows[len(rows)-1]; total.Line != "total" || !nearSum(*total.Actual, ledger, 14) {
 		t.Errorf("total actual %v, the ledger's June expense debits %v", *total.Actual, ledger)
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM spending_variances WHERE period = '2026-06' AND plan = 'plan-2026-q2'"); n != len(rows) {

@@ -124,7 +124,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	next, closed := filepath.Join(dir, files.PlanNext), filepath.Join(dir, files.PlanClosed)
 	nextName := strings.TrimSuffix(filepath.Base(next), filepath.Ext(next))
 	fmt.Fprintf(a.out, "\nThe company's plan for the next quarter, budgeted with the formulas (costdrift budget --plan %s --save %s):\n\n", next, nextName)
-	if err := a.budget(ctx, e, db, next, nextName, outputFlags{format: "table"}); err != nil {
+	if err := a.budget(ctx, e, db, next, nextName, false, outputFlags{format: "table"}); err != nil {
 		return err
 	}
 	fmt.Fprintf(a.out, "\n%s against its flexible budget and the quarter's plan (costdrift variance --period %s --plan %s --save %s):\n\n",

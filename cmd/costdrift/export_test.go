@@ -335,8 +335,8 @@ func TestHTMLReportRendersInChromium(t *testing.T) {
 			t.Errorf("the page holds %q: it must need nothing from elsewhere", bad)
 		}
 	}
-	if n := bytes.Count(html, []byte("<svg ")); n != 13+8 { // every object over time, the 8 with a driver against it too
-		t.Errorf("%d inline charts, want 21", n)
+	if n := bytes.Count(html, []byte("<svg ")); n != 14+8 { // every object over time, the 8 with a driver against it too
+		t.Errorf("%d inline charts, want 22", n)
 	}
 	shot := filepath.Join(out, "report.png")
 	cmd := exec.Command(chromium, "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",

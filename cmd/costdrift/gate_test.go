@@ -68,7 +68,7 @@ func partialMonth(t *testing.T, dir string, spoil int) (clean, spoilt string) {
 // again, the alert resolves and the objects are analysed over the month.
 func TestPartialMonthIsHeldBack(t *testing.T) {
 	dir, cfg, store := demoWithoutStore(t)
-	_, spoilt := partialMonth(t, dir, 27) // 27 of June's 44 lines: 61 %
+	_, spoilt := partialMonth(t, dir, 27) // 27 of June's 46 lines: 59 %
 	mustRun(t, "--config", cfg, "sync")
 	mustRun(t, "--config", cfg, "analyze")
 	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs WHERE window_to = '2026-05'"); n != 1 {
@@ -86,9 +86,9 @@ func TestPartialMonthIsHeldBack(t *testing.T) {
 	t.Logf("sync with the partial month:\n%s%v", out, err)
 	if err == nil {
 		t.Errorf("sync of a file with 61 %% of its rows rejected succeeded; want a non-zero exit")
-	} else if msg := err.Error(); !strings.Contains(msg, "gl-2026-06.csv") || !strings.Contains(msg, "27 of 44 rows rejected") ||
+	} else if msg := err.Error(); !strings.Contains(msg, "gl-2026-06.csv") || !strings.Contains(msg, "27 of 46 rows rejected") ||
 		!strings.Contains(msg, "thousands_separator") {
-		t.Errorf("sync error = %q, want it to name the file, the 27 of 44 rows rejected and the setting", msg)
+		t.Errorf("sync error = %q, want it to name the file, the 27 of 46 rows rejected and the setting", msg)
 	}
 	out, err = run(t, "--config", cfg, "analyze")
 	t.Logf("analyze with the partial month:\n%s%v", out, err)
@@ -105,7 +105,7 @@ func TestPartialMonthIsHeldBack(t *testing.T) {
 		t.Errorf("%d analyses ran over 2026-06 with 61 %% of its ledger rows missing, want 0", n)
 	}
 	if n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE kind = 'data_quality' AND status = 'open' AND severity = 'warning'
-		AND object = 'gl' AND period = '2026-06' AND message LIKE '%gl-2026-06.csv%' AND message LIKE '%27 of 44%'
+		AND object = 'gl' AND period = '2026-06' AND message LIKE '%gl-2026-06.csv%' AND message LIKE '%27 of 46%'
 		AND message LIKE '%thousands_separator%' AND message LIKE '%read again when it or its reading settings change%'`); n != 1 {
 		t.Errorf("%d open data_quality alerts on gl 2026-06 naming the file, the share, the setting and the re-read, want 1", n)
 	}
@@ -142,8 +142,8 @@ func TestPartialMonthIsHeldBack(t *testing.T) {
 	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs WHERE window_to = '2026-06' AND objects > 0"); n != 1 {
 		t.Errorf("%d analyses over 2026-06 after the fix, want 1", n)
 	}
-	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines WHERE period = '2026-06'"); n != 44 {
-		t.Errorf("%d lines of 2026-06 stored after the fix, want 44", n)
+	if n := count(t, store, "SELECT COUNT(*) FROM gl_lines WHERE period = '2026-06'"); n != 46 {
+		t.Errorf("%d lines of 2026-06 stored after the fix, want 46", n)
 	}
 }
 
@@ -168,18 +168,18 @@ func TestFileRejectedWholeHoldsBack(t *testing.T) {
 		t.Fatal(err)
 	}
 	out, err := run(t, "--config", cfg, "sync")
-	if err == nil || !strings.Contains(err.Error(), "44 of 44 rows rejected") || !strings.Contains(err.Error(), "bad date") {
+	if err == nil || !strings.Contains(err.Error(), "46 of 46 rows rejected") || !strings.Contains(err.Error(), "bad date") {
 		t.Errorf("sync of a file rejected whole: %v\n%s", err, out)
 	}
 	out = mustRun(t, "--config", cfg, "analyze")
-	if !strings.Contains(out, "all 13 cost objects held back") {
+	if !strings.Contains(out, "all 14 cost objects held back") {
 		t.Errorf("analyze did not hold back:\n%s", out)
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs WHERE window_to = '2026-06'"); n != 0 {
 		t.Errorf("%d analyses over 2026-06, want 0", n)
 	}
 	if n := count(t, store, `SELECT COUNT(*) FROM alerts WHERE kind = 'data_quality' AND status = 'open' AND object = 'gl'
-		AND message LIKE '%44 of 44 rows rejected%' AND message LIKE '%no row of the file was stored%'`); n != 1 {
+		AND message LIKE '%46 of 46 rows rejected%' AND message LIKE '%no row of the file was stored%'`); n != 1 {
 		t.Errorf("%d open data_quality alerts on the file rejected whole, want 1", n)
 	}
 }

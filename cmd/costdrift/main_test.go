@@ -81,7 +81,7 @@ type reportRow struct {
 func TestDemoRecoversDesignedBehaviour(t *testing.T) {
 	dir := t.TempDir()
 	out := mustRun(t, "demo", "--dir", dir)
-	for _, want := range []string{"Quillfeather Frames", "rows: 1,396 read", "analysed 13 cost objects", "cost = ", "sqlite3", "confidential"} {
+	for _, want := range []string{"Quillfeather Frames", "rows: 1,424 read", "analysed 14 cost objects", "cost = ", "sqlite3", "confidential"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("demo output lacks %q", want)
 		}
@@ -196,7 +196,7 @@ func TestResyncChangesNothing(t *testing.T) {
 		t.Errorf("sum changed from %d to %d", total, s)
 	}
 	out = mustRun(t, "--config", cfg, "analyze")
-	if !strings.Contains(out, "analysed 0 cost objects") || !strings.Contains(out, "13 unchanged since their last analysis were left as they were") {
+	if !strings.Contains(out, "analysed 0 cost objects") || !strings.Contains(out, "14 unchanged since their last analysis were left as they were") {
 		t.Errorf("second analysis:\n%s", out)
 	}
 	if n := count(t, store, "SELECT COUNT(DISTINCT analysis_run_id) FROM fits"); n != 1 {
@@ -214,16 +214,16 @@ func TestResyncChangesNothing(t *testing.T) {
 		t.Errorf("second analysis changed alerts:\n%s", out)
 	}
 	out = mustRun(t, "--config", cfg, "analyze", "--all")
-	if !strings.Contains(out, "analysed 13 cost objects") {
+	if !strings.Contains(out, "analysed 14 cost objects") {
 		t.Errorf("analysis with --all:\n%s", out)
 	}
-	if n := count(t, store, "SELECT COUNT(*) FROM current_behaviour"); n != 13 {
-		t.Errorf("current_behaviour has %d rows after a third analysis, want 13", n)
+	if n := count(t, store, "SELECT COUNT(*) FROM current_behaviour"); n != 14 {
+		t.Errorf("current_behaviour has %d rows after a third analysis, want 14", n)
 	}
-	// 13 current rows and, for the two drift events, the closed row of the
+	// 14 current rows and, for the two drift events, the closed row of the
 	// behaviour before the break.
-	if n := count(t, store, "SELECT COUNT(*) FROM behaviour_history"); n != 15 {
-		t.Errorf("behaviour_history has %d rows, want 15: nothing changed, so nothing new", n)
+	if n := count(t, store, "SELECT COUNT(*) FROM behaviour_history"); n != 16 {
+		t.Errorf("behaviour_history has %d rows, want 16: nothing changed, so nothing new", n)
 	}
 	if n := count(t, store, "SELECT COUNT(*) FROM analysis_runs"); n != 3 {
 		t.Errorf("analysis_runs = %d, want 3", n)

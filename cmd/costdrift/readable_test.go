@@ -66,7 +66,7 @@ func TestDemoOutputsAreReadable(t *testing.T) {
 		id := jsonNumber(a.ID)
 		commands = append(commands, []string{"alerts", "show", id}, []string{"alerts", "show", id, "--format", "json"})
 	}
-	if len(rows) != 13 || len(alerts) == 0 {
+	if len(rows) != 14 || len(alerts) == 0 {
 		t.Fatalf("%d objects, %d alerts in the demo", len(rows), len(alerts))
 	}
 	for _, c := range commands {

@@ -33,10 +33,10 @@ func TestCostSeriesIsTheAnalysedSeries(t *testing.T) {
 	if n := count(t, store, `SELECT COUNT(*) FROM cost_series WHERE NOT (`+inScope+`)`); n != 0 {
 		t.Errorf("cost_series holds %d rows of accounts outside the scope", n)
 	}
-	// One row per object and ledger period: 13 objects (TestResyncChangesNothing).
+	// One row per object and ledger period: 14 objects (TestResyncChangesNothing).
 	if got, want := count(t, store, `SELECT COUNT(*) FROM cost_series`),
-		13*count(t, store, `SELECT COUNT(DISTINCT period) FROM gl_lines`); got != want {
-		t.Errorf("cost_series has %d rows, want %d (13 objects x the ledger's periods)", got, want)
+		14*count(t, store, `SELECT COUNT(DISTINCT period) FROM gl_lines`); got != want {
+		t.Errorf("cost_series has %d rows, want %d (14 objects x the ledger's periods)", got, want)
 	}
 	if n := count(t, store, `SELECT COUNT(*) FROM (SELECT 1 FROM cost_series GROUP BY account, cost_center, period HAVING COUNT(*) > 1)`); n != 0 {
 		t.Errorf("%d object-periods repeated in cost_series", n)
@@ -149,8 +149,8 @@ func TestBudgetAndVarianceKeptOnlyWhenSaved(t *testing.T) {
 
 	// The demo keeps its budget and its variance report, for the queries it prints.
 	demoLines := count(t, store, `SELECT COUNT(*) FROM budget_lines WHERE plan = 'plan-2026-q3'`)
-	if demoLines != 3*(13+3+1) || count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06' AND period = '2026-06'`) != 13+3+1 {
-		t.Fatalf("the demo kept %d budget lines under plan-2026-q3 (want 51) and %d variance lines under 2026-06 (want 17)", demoLines,
+	if demoLines != 3*(14+3+1) || count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06' AND period = '2026-06'`) != 14+3+1 {
+		t.Fatalf("the demo kept %d budget lines under plan-2026-q3 (want 54) and %d variance lines under 2026-06 (want 18)", demoLines,
 			count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06'`))
 	}
 
@@ -204,16 +204,16 @@ func TestBudgetAndVarianceKeptOnlyWhenSaved(t *testing.T) {
 	}
 
 	mustRun(t, "--config", cfg, "variance", "--period", "2026-06", "--save", "review")
-	if n := count(t, store, `SELECT COUNT(*) FROM spending_variances WHERE name = 'review' AND period = '2026-06' AND plan = ''`); n != 13+3+1 {
-		t.Errorf("%d variance lines saved as review, want 17", n)
+	if n := count(t, store, `SELECT COUNT(*) FROM spending_variances WHERE name = 'review' AND period = '2026-06' AND plan = ''`); n != 14+3+1 {
+		t.Errorf("%d variance lines saved as review, want 18", n)
 	}
 	mustRun(t, "--config", cfg, "variance", "--period", "2026-05", "--plan", q2, "--save", "review")
-	if got := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review' AND period = '2026-05' AND plan = 'plan-2026-q2'`); got != 13+3+1 ||
+	if got := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review' AND period = '2026-05' AND plan = 'plan-2026-q2'`); got != 14+3+1 ||
 		count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review'`) != got {
-		t.Errorf("review saved again for 2026-05: %d lines of 2026-05, %d in all, want 17 and 17", got,
+		t.Errorf("review saved again for 2026-05: %d lines of 2026-05, %d in all, want 18 and 18", got,
 			count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = 'review'`))
 	}
-	if n := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06'`); n != 13+3+1 {
+	if n := count(t, store, `SELECT COUNT(*) FROM variance_lines WHERE name = '2026-06'`); n != 14+3+1 {
 		t.Errorf("saving review changed the report saved as 2026-06: %d lines", n)
 	}
 

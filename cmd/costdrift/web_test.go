@@ -549,7 +549,7 @@ func TestServeCommand(t *testing.T) {
 	})
 	want := "costdrift web view: open http://" + addr + "/"
 	waitFor(t, 10*time.Second, "serve to say where it listens", func() bool { return strings.Contains(logs.String(), want) }, logs)
-	if code, body := get(t, "http://"+addr+"/objects"); code != http.StatusOK || !strings.Contains(body, "Objects 1–13 of 13") {
+	if code, body := get(t, "http://"+addr+"/objects"); code != http.StatusOK || !strings.Contains(body, "Objects 1–14 of 14") {
 		t.Errorf("GET /objects from serve: %d\n%s", code, body)
 	}
 	// A decision command beside it: serve holds no lock.

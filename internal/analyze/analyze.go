@@ -120,6 +120,12 @@ func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result 
 		return Result{Behaviour: costdrift.Behaviour{Object: obj.Object}, Err: errors.New(obj.Unusable)}
 	}
 	res := objectOn(p, obj, s)
+	if res.Behaviour.Cadence != nil {
+		if s.BreakAlpha > 0 {
+			res = cadenceBreak(p, obj, res, s)
+		}
+		return res
+	}
 	if s.BreakAlpha > 0 {
 		broken := withBreak(p, obj, res, s)
 		if shifted, ok := fixedShiftFirst(p, obj, res, s); ok {
@@ -205,6 +211,11 @@ func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Resul
 		b.CV = sd / math.Abs(b.MeanCost)
 	}
 	res.Fits = append(res.Fits, fitRecord(obj.Object, "", 0, costdrift.ModelConstant, constant, 0, 0))
+	if found, ok := findCadence(p.Periods, obj.Cost); ok {
+		classifyCadence(p, &res, found)
+		cadenceSpending(p, &res)
+		return res
+	}
 
 	cands := candidates(p, obj, s)
 	// Room for every fit the object gets: two per candidate, then the step

@@ -203,6 +203,11 @@ func num(v float64) string { return present.Activity(v) }
 // the plan first and the actual activity after it, so that the period
 // before the plan's first is found. shift(p, n) is the period n after p.
 func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Lookup, shift func(string, int) string) []costdrift.BudgetLine {
+	return flexible(behaviours, periods, activity, shift, false)
+}
+
+// flexible is Flexible, and FlexibleSpread with spread set.
+func flexible(behaviours []costdrift.Behaviour, periods []string, activity Lookup, shift func(string, int) string, spread bool) []costdrift.BudgetLine {
 	var out []costdrift.BudgetLine
 	for _, period := range periods {
 		for i := range behaviours {
@@ -237,7 +242,7 @@ func Flexible(behaviours []costdrift.Behaviour, periods []string, activity Looku
 				if err != nil {
 					l.Warnings = []string{"no budget: " + strings.TrimPrefix(err.Error(), b.Object.String()+": ")}
 				} else {
-					l.Estimate = e
+					l.Estimate = atCadence(b, period, e, spread)
 				}
 			}
 			l.Warning = strings.Join(l.Warnings, "; ")

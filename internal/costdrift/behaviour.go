@@ -176,6 +176,11 @@ type Behaviour struct {
 	// without a significant break: it takes effect only when the next
 	// analysis sees it too, so that behaviour does not flap.
 	Pending *Pending
+
+	// Cadence is set on a cost posted every few periods and not in
+	// between; its formula is then per period, the posting spread
+	// (Cadence).
+	Cadence *Cadence
 }
 
 // SpendingCheck is one period's actual cost against its prediction.

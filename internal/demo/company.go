@@ -75,7 +75,11 @@ type Step struct {
 // positive, and the unexplained spend has mean close to Fixed and coefficient of
 // variation Noise. From DriftFrom on, DriftFixed and DriftRate replace Fixed
 // and Rate. Rent (6100) is exact except for one month per cost centre that
-// carries a service-charge true-up of 0.2–1 % above Fixed.
+// carries a service-charge true-up of 0.2–1 % above Fixed. A cost posted
+// every Every months (insurance, 6700) is Every · Fixed · (1 + Noise·z_t) in
+// the calendar months divisible by Every (March, June, September and
+// December for a quarter) and nothing in the others: Fixed is its amount a
+// month spread evenly.
 type Expectation struct {
 	Account, AccountName, CostCenter string
 	Class                            string // fixed | variable | mixed | step | unexplained
@@ -93,6 +97,9 @@ type Expectation struct {
 	DriftFixed, DriftRate float64
 	Steps                 []Step  // step only, ascending From; Steps[0].Level == Fixed
 	Noise                 float64 // coefficient of variation of the designed noise; 0 for exact amounts
+	// Every is the months from one posting to the next of a cost posted
+	// once a quarter, half-year or year; 0 for a cost posted every month.
+	Every int
 }
 
 // account describes one line of the chart of accounts.
@@ -104,6 +111,7 @@ type account struct {
 var chart = []account{
 	{"1200", "Bank", "asset", "cash"},
 	{"2000", "Accounts payable", "liability", "payables"},
+	{"2100", "Accrued expenses", "liability", "accruals"},
 	{"5100", "Tubing", "expense", "materials"},
 	{"5200", "Paint & coatings", "expense", "materials"},
 	{"6100", "Rent", "expense", "occupancy"},
@@ -114,13 +122,16 @@ var chart = []account{
 	{"6420", "Packaging", "expense", "logistics"},
 	{"6500", "Maintenance", "expense", "maintenance"},
 	{"6600", "Marketing", "expense", "selling"},
+	{"6700", "Insurance", "expense", "insurance"},
 }
 
 // Accounts the ledger credits: supplier invoices go to payables, transfers
-// (rent, lease, payroll) straight to the bank.
+// (rent, lease, payroll, the insurance premium) straight to the bank; an
+// accrual is credited to accrued expenses.
 const (
 	accountBank     = "1200"
 	accountPayables = "2000"
+	accountAccrued  = "2100"
 )
 
 func accountName(number string) string {
@@ -166,10 +177,14 @@ func Expectations() []Expectation {
 	packaging := e("6420", assembly, classVariable, driverShipments, "", 0, 0, 3.20, 0.02)
 	maintenance := e("6500", welding, classMixed, driverMachineHours, welding, 1, 900, 1.10, 0.02)
 	marketing := e("6600", assembly, classUnexplained, "", "", 0, 2500, 0, 0.35)
+	// The workshop's insurance premium, 3,000 a quarter, varies a little
+	// with the insured stock value declared each quarter.
+	insurance := e("6700", assembly, classFixed, "", "", 0, 1000, 0, 0.01)
+	insurance.Every = 3
 
 	return []Expectation{
 		tubing, paint, rentWeld, rentPaint, rentAssy, lease, powerWeld, powerPaint,
-		supervision, freight, packaging, maintenance, marketing,
+		supervision, freight, packaging, maintenance, marketing, insurance,
 	}
 }
 
@@ -351,7 +366,13 @@ func designCosts(seed uint64, a *activity) ([]objectCost, error) {
 		}
 		sigma := math.Sqrt(math.Log(1 + e.Noise*e.Noise))
 		for i := 1; i <= periodCount; i++ {
+			if !e.posted(i) {
+				continue // nothing posted this month: amount and cents stay 0
+			}
 			v := formula(e, a, i)
+			if e.Every > 0 {
+				v *= float64(e.Every)
+			}
 			switch {
 			case e.Class == classUnexplained:
 				v *= math.Exp(sigma*clippedNormal(r) - sigma*sigma/2)
@@ -370,4 +391,10 @@ func designCosts(seed uint64, a *activity) ([]objectCost, error) {
 		out = append(out, oc)
 	}
 	return out, nil
+}
+
+// posted reports whether e posts in period i: every month, or for a cost
+// posted every Every months, in the calendar months divisible by Every.
+func (e Expectation) posted(i int) bool {
+	return e.Every == 0 || int(periodStart(i).Month())%e.Every == 0
 }

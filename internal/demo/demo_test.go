@@ -277,7 +277,7 @@ func TestWriteRejectsEmptyDir(t *testing.T) {
 	}
 }
 
-var entryIDPattern = regexp.MustCompile(`^(AP|BK)-([0-9]{4}-[0-9]{2})-[0-9]{4}$`)
+var entryIDPattern = regexp.MustCompile(`^(AP|BK|DD|GJ)-([0-9]{4}-[0-9]{2})-[0-9]{4}$`)
 
 func TestLedgerEntries(t *testing.T) {
 	_, _, p := writeAndRead(t, DefaultSeed)
@@ -332,6 +332,14 @@ func TestLedgerEntries(t *testing.T) {
 				t.Errorf("entry %s line %d has no description", id, r.line)
 			}
 			credit := k == len(e.rows)-1
+			if strings.HasPrefix(id, "GJ-") {
+				// An accrual or its reversal: the expense line, either
+				// sign, and its opposite on accrued expenses.
+				if len(e.rows) != 2 || credit != (r.account == accountAccrued) || credit != (r.costCenter == "") || r.cents == 0 {
+					t.Errorf("journal entry %s line %d: account %s cost centre %q amount %s", id, r.line, r.account, r.costCenter, r.amount)
+				}
+				continue
+			}
 			switch {
 			case credit && !(r.account == accountPayables || r.account == accountBank):
 				t.Errorf("entry %s credits %s, want 2000 or 1200", id, r.account)
@@ -370,6 +378,13 @@ func TestLedgerCarriesDesignedCost(t *testing.T) {
 		for i := 1; i <= periodCount; i++ {
 			k := [3]string{oc.exp.Account, oc.exp.CostCenter, periodLabel(i)}
 			n := len(invoices[k])
+			if !oc.exp.posted(i) {
+				// A cost posted once a quarter has no document between.
+				if n != 0 || sums[k] != 0 {
+					t.Errorf("%s/%s %s: %d documents summing to %s in a month between postings", k[0], k[1], k[2], n, formatCents(sums[k]))
+				}
+				continue
+			}
 			if n < 1 || n > 3 {
 				t.Errorf("%s/%s %s: %d invoices, want 1–3", k[0], k[1], k[2], n)
 			}
@@ -407,6 +422,9 @@ func TestExpectationsCoverLedger(t *testing.T) {
 			t.Errorf("expectation %s/%s has no ledger lines", e.Account, e.CostCenter)
 		}
 		for _, per := range p.periods {
+			if !e.posted(periodIndex(per)) {
+				continue // between a quarterly cost's postings: TestLedgerCarriesDesignedCost
+			}
 			if sums[[3]string{e.Account, e.CostCenter, per}] <= 0 {
 				t.Errorf("%s/%s has no positive cost in %s", e.Account, e.CostCenter, per)
 			}
@@ -454,6 +472,7 @@ func TestExpectationsMatchDesign(t *testing.T) {
 		{"packaging", "6420", "ASSY", "variable", "shipments", "", 0, 0, 3.20, 0.02, "", 0, 0},
 		{"maintenance", "6500", "WELD", "mixed", "machine_hours", "WELD", 1, 900, 1.10, 0.02, "", 0, 0},
 		{"marketing", "6600", "ASSY", "unexplained", "", "", 0, 2500, 0, 0.35, "", 0, 0},
+		{"insurance", "6700", "ASSY", "fixed", "", "", 0, 1000, 0, 0.01, "", 0, 0},
 	}
 	got := Expectations()
 	if len(got) != len(tests) {
@@ -471,6 +490,12 @@ func TestExpectationsMatchDesign(t *testing.T) {
 		}
 		if e.DriftFrom != "" && !strings.Contains(e.Drift, e.DriftFrom) {
 			t.Errorf("%s: Drift %q does not name its period %s", tt.name, e.Drift, e.DriftFrom)
+		}
+	}
+	// The insurance premium is 3,000 a quarter: 1,000 a month, posted every 3.
+	for k, e := range got {
+		if want := map[string]int{"6700": 3}[e.Account]; e.Every != want {
+			t.Errorf("%s: posted every %d months, want %d", tests[k].name, e.Every, want)
 		}
 	}
 	// The supervision steps of the brief: 6,000 below 1,000 frames, 9,000
@@ -519,10 +544,19 @@ func TestGroundTruthFromFiles(t *testing.T) {
 			if e.DriftFrom != "" && per >= e.DriftFrom {
 				fixed, rate = e.DriftFixed, e.DriftRate
 			}
+			if !e.posted(periodIndex(per)) {
+				if costs[i] != 0 {
+					t.Errorf("%s/%s %s: cost %.2f between postings", e.Account, e.CostCenter, per, costs[i])
+				}
+				continue
+			}
 			var want float64
 			switch e.Class {
 			case "fixed":
 				want = fixed
+				if e.Every > 0 {
+					want *= float64(e.Every) // one posting of a cost posted every few months
+				}
 			case "variable", "mixed":
 				want = fixed + rate*driver[i-e.Lag]
 			case "step":
@@ -733,6 +767,9 @@ func ExampleExpectations() {
 		if e.Lag > 0 {
 			formula += fmt.Sprintf(" (lag %d)", e.Lag)
 		}
+		if e.Every > 0 {
+			formula += fmt.Sprintf(" a month, %.2f every %d months", e.Fixed*float64(e.Every), e.Every)
+		}
 		fmt.Printf("%s/%-5s %-16s %-11s %s\n", e.Account, e.CostCenter, e.AccountName, e.Class, formula)
 	}
 	// Output:
@@ -749,6 +786,7 @@ func ExampleExpectations() {
 	// 6420/ASSY  Packaging        variable    0.00 + 3.20 × shipments
 	// 6500/WELD  Maintenance      mixed       900.00 + 1.10 × machine_hours (lag 1)
 	// 6600/ASSY  Marketing        unexplained 2500.00
+	// 6700/ASSY  Insurance        fixed       1000.00 a month, 3000.00 every 3 months
 }
 
 // The plans follow the demo company's planning rule: the same month a year
@@ -781,5 +819,40 @@ func TestPlans(t *testing.T) {
 				t.Errorf("%s: %v planned %s, want %v (a year before %v × 1.05)", c.file, r[:2], r[2], want, before)
 			}
 		}
+	}
+}
+
+// TestLateInvoiceAccrued: one welder-servicing invoice comes a month late
+// and is accrued: a journal entry on the month's last day, reversed on the
+// 1st of the next month by the same amount, and the invoice booked in that
+// month; each month's cost stays the designed one (TestLedgerCarriesDesignedCost).
+func TestLateInvoiceAccrued(t *testing.T) {
+	_, _, p := writeAndRead(t, DefaultSeed)
+	var journal []ledgerRow
+	for _, r := range p.ledger {
+		if strings.HasPrefix(r.entryID, "GJ-") && r.costCenter != "" {
+			journal = append(journal, r)
+		}
+	}
+	if len(journal) != 2 {
+		t.Fatalf("%d accrual lines on cost objects, want the accrual and its reversal", len(journal))
+	}
+	accrual, reversal := journal[0], journal[1]
+	if accrual.account != "6500" || accrual.costCenter != "WELD" || accrual.cents <= 0 || reversal.cents != -accrual.cents ||
+		reversal.account != accrual.account || reversal.costCenter != accrual.costCenter {
+		t.Errorf("accrual %+v and reversal %+v", accrual, reversal)
+	}
+	if accrual.date.AddDate(0, 0, 1) != reversal.date || reversal.date.Day() != 1 || accrual.date.Format("2006-01") < accrualFrom {
+		t.Errorf("accrued on %s, reversed on %s: want the last day of a month from %s and the 1st of the next",
+			accrual.date.Format(time.DateOnly), reversal.date.Format(time.DateOnly), accrualFrom)
+	}
+	job := strings.TrimSuffix(strings.TrimPrefix(accrual.description, "Accrual: "), ", invoice to come")
+	invoiced := false
+	for _, r := range p.ledger {
+		invoiced = invoiced || strings.HasPrefix(r.entryID, "AP-") && r.description == job && r.cents == accrual.cents &&
+			r.date.Format("2006-01") == reversal.date.Format("2006-01")
+	}
+	if !invoiced || reversal.description != "Reversal of accrual: "+job {
+		t.Errorf("the invoice of %q is not booked in %s beside its reversal %q", job, reversal.date.Format("2006-01"), reversal.description)
 	}
 }

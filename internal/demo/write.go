@@ -279,6 +279,16 @@ var billings = []billing{
 		},
 		creditText: func(p string, k, _, _ int) string { return fmt.Sprintf("Marketing services invoice %s-%d", p, k) },
 	},
+	{
+		// Collected once a quarter by direct debit; months without a
+		// premium have no entry.
+		name: "insurance", objects: [][2]string{{"6700", assembly}},
+		prefix: "DD", credit: accountBank, min: 1, max: 1, day: 15,
+		lineText: func(_ objectCost, i, _, _, _ int) string {
+			return "Workshop insurance premium, quarter to " + periodLabel(i)
+		},
+		creditText: func(p string, _, _, _ int) string { return "Insurance direct debit " + p },
+	},
 }
 
 // build generates the whole data set of seed in memory.
@@ -320,12 +330,17 @@ func build(seed uint64) (*dataset, error) {
 				variants[k] = r.IntN(len(campaigns))
 			}
 			parts := make([][]int64, len(bl.objects))
+			posted := false
 			for o, obj := range bl.objects {
 				k, ok := byObject[obj]
 				if !ok {
 					panic(fmt.Sprintf("demo: billing %s names %s/%s, which has no expectation", bl.name, obj[0], obj[1]))
 				}
 				parts[o] = splitCents(costs[k].cents[i], shares)
+				posted = posted || costs[k].cents[i] != 0
+			}
+			if !posted {
+				continue // a cost posted once a quarter, in a month between
 			}
 			p := periodLabel(i)
 			for k := range n {
@@ -346,6 +361,7 @@ func build(seed uint64) (*dataset, error) {
 	if billed != len(costs) {
 		panic(fmt.Sprintf("demo: billings cover %d objects, expectations %d", billed, len(costs)))
 	}
+	ds.accrueLateInvoice()
 	for i := 1; i <= periodCount; i++ {
 		es := ds.entries[i]
 		slices.SortStableFunc(es, func(x, y entry) int {
@@ -444,4 +460,65 @@ func accountsCSV() []byte {
 		rows = append(rows, []string{a.number, a.name, a.kind, a.group})
 	}
 	return encode(rows)
+}
+
+// accrualFrom is the first month the maintenance invoice that comes late
+// may be accrued in (accrueLateInvoice).
+const accrualFrom = "2025-10"
+
+// accrueLateInvoice makes one welder-servicing invoice arrive a month late,
+// as the accountant books it: in the first month from accrualFrom that has
+// a servicing job and whose next month has one servicing invoice, not on
+// the 1st, the month's last job's invoice is replaced by an
+// accrual of the same amount on the last day of the month (journal entry,
+// credited to accrued expenses); the next month the accrual is reversed on
+// the 1st and the invoice, unchanged, is booked on the first day from the
+// 9th that no other servicing invoice of that month takes. Each month's
+// cost stays what the design gives: the accrual carries the job into its
+// own month, and the reversal takes it out of the month the invoice
+// arrives in.
+func (ds *dataset) accrueLateInvoice() {
+	isServicing := func(e entry) bool { return e.lines[0].account == "6500" && e.lines[0].costCenter == welding }
+	servicing := func(i int) []int {
+		var out []int
+		for k, e := range ds.entries[i] {
+			if isServicing(e) {
+				out = append(out, k)
+			}
+		}
+		return out
+	}
+	for i := periodIndex(accrualFrom); i < periodCount; i++ {
+		jobs, next := servicing(i), servicing(i+1)
+		if len(jobs) == 0 || len(next) != 1 || ds.entries[i+1][next[0]].date.Day() == 1 {
+			continue // the reversal takes the 1st, and each document a day of its own
+		}
+		last := jobs[0]
+		for _, k := range jobs {
+			if ds.entries[i][k].date.After(ds.entries[i][last].date) {
+				last = k
+			}
+		}
+		late := ds.entries[i][last]
+		taken := map[int]bool{1: true, ds.entries[i+1][next[0]].date.Day(): true}
+		day := 9
+		for taken[day] {
+			day++
+		}
+		job := late.lines[0]
+		monthEnd := periodStart(i+1).AddDate(0, 0, -1)
+		accrual := entry{date: monthEnd, bill: late.bill, prefix: "GJ", lines: []line{
+			{account: job.account, costCenter: job.costCenter, cents: job.cents, description: "Accrual: " + job.description + ", invoice to come"},
+			{account: accountAccrued, cents: -job.cents, description: "Accrued expenses " + periodLabel(i)},
+		}}
+		reversal := entry{date: periodStart(i + 1), bill: late.bill, prefix: "GJ", lines: []line{
+			{account: job.account, costCenter: job.costCenter, cents: -job.cents, description: "Reversal of accrual: " + job.description},
+			{account: accountAccrued, cents: job.cents, description: "Accrued expenses " + periodLabel(i) + " reversed"},
+		}}
+		late.date = periodStart(i+1).AddDate(0, 0, day-1)
+		ds.entries[i][last] = accrual
+		ds.entries[i+1] = append(ds.entries[i+1], reversal, late)
+		return
+	}
+	panic("demo: no month from " + accrualFrom + " suits the late servicing invoice")
 }

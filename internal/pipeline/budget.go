@@ -30,6 +30,19 @@ type BudgetResult struct {
 // replacing what was saved under that name; nothing else is written, so it
 // runs beside a daemon. Without one it is a trial run and writes nothing.
 func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (BudgetResult, error) {
+	return budgetPlan(ctx, e, db, planPath, save, budget.Flexible)
+}
+
+// BudgetSpread is Budget with each cost posted at a cadence spread evenly
+// over the periods a posting covers (`budget --spread`) rather than put in
+// the periods it is posted in.
+func BudgetSpread(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (BudgetResult, error) {
+	return budgetPlan(ctx, e, db, planPath, save, budget.FlexibleSpread)
+}
+
+// budgetPlan is Budget with the flexible budget flexible.
+func budgetPlan(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string,
+	flexible func([]costdrift.Behaviour, []string, budget.Lookup, func(string, int) string) []costdrift.BudgetLine) (BudgetResult, error) {
 	actual, known, err := storedActivity(ctx, db)
 	if err != nil {
 		return BudgetResult{}, err
@@ -56,7 +69,7 @@ func Budget(ctx context.Context, e *Env, db *sqlite.DB, planPath, save string) (
 		return BudgetResult{}, fmt.Errorf("budget: %w", err)
 	}
 	lookup, gaps := plannedLookup(e, actual, &plan)
-	lines := budget.Flexible(bs, plan.periods(), lookup, e.Calendar.Shift)
+	lines := flexible(bs, plan.periods(), lookup, e.Calendar.Shift)
 	if err := gaps.err(plan.name); err != nil {
 		return BudgetResult{}, err
 	}

@@ -66,6 +66,9 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if note != "" {
 		ex.Notes = append(ex.Notes, note)
 	}
+	if err := explainAccruals(ctx, e, db, oa, &ex); err != nil {
+		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
+	}
 	maxLag := widestLag(oa.Settings, b.Lag)
 	var charts *Charts
 	if withChart {

@@ -92,6 +92,9 @@ func formulaLabel(b costdrift.Behaviour) string {
 	case costdrift.Unexplained:
 		return "mean (no formula)"
 	case costdrift.Fixed:
+		if b.Cadence != nil {
+			return "fixed cost, in the periods it is posted in"
+		}
 		return "fixed cost"
 	}
 	return "formula at each period's activity"
@@ -117,7 +120,7 @@ func formulaAt(b costdrift.Behaviour, x1, x2 map[string]float64, p string) float
 	if err != nil {
 		return math.NaN()
 	}
-	return est.Value
+	return postedAt(b, p, est.Value)
 }
 
 // formulaBefore is the formula before the change for period p: the break's
@@ -129,7 +132,7 @@ func formulaBefore(b costdrift.Behaviour, x map[string]float64, p string) float6
 		return math.NaN()
 	}
 	if k.Driver == "" || k.RateBefore == 0 {
-		return k.FixedBefore
+		return postedAt(b, p, k.FixedBefore)
 	}
 	v, ok := x[p]
 	if !ok {

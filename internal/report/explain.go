@@ -49,6 +49,10 @@ type Explanation struct {
 	Chart     string   `json:"chart,omitempty"`      // the cost against the driver
 	TimeChart string   `json:"time_chart,omitempty"` // the cost over time
 	Cautions  string   `json:"cautions"`
+
+	// Accruals booked in one period and reversed in the next, when the
+	// object has any in the window.
+	Accruals *Accruals `json:"accruals,omitempty"`
 }
 
 // AnalysisInfo names the analysis the explanation comes from.
@@ -411,6 +415,7 @@ func ExplainText(w io.Writer, e Explanation, currency string) error {
 	explainHighLow(&s, e)
 	explainDiagnostics(&s, e.Diagnostics)
 	explainExcluded(&s, e)
+	explainAccruals(&s, e)
 	explainNotes(&s, e)
 	s.WriteString("\n" + e.Cautions + "\n")
 	_, err := io.WriteString(w, s.String())
@@ -465,6 +470,10 @@ func explainHeader(s *strings.Builder, e Explanation, currency string) {
 // marked, with what PRESS/N means.
 func explainDrivers(s *strings.Builder, e Explanation, currency string) {
 	s.WriteString("\nDrivers tried: cost = fixed + rate × driver by least squares, ranked by leave-one-out\nerror among slopes that are positive and significant after Holm's correction\n")
+	if len(e.Drivers) == 0 && e.Cadence != nil {
+		wrap(s, "none tried: "+cadenceNoDriver(*e.Cadence), "  ", textWidth)
+		return
+	}
 	if len(e.Drivers) == 0 {
 		s.WriteString("  no driver could be fitted (no activity series covers enough periods)\n")
 		return

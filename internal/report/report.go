@@ -55,6 +55,8 @@ type Row struct {
 	// confirmation by the next analysis.
 	Break   *BreakView         `json:"break"`
 	Pending *costdrift.Pending `json:"pending"`
+	// Cadence: a cost posted every few periods, left out otherwise.
+	Cadence *costdrift.Cadence `json:"cadence,omitempty"`
 
 	// What the accountant decided (README "The accountant's decisions"):
 	// the pinned formula, null without one; the periods left out of the
@@ -223,7 +225,7 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 		if b.Break != nil {
 			r.Break = &BreakView{Break: *b.Break, Statistic: ptr(b.Break.Statistic)}
 		}
-		r.Pending = b.Pending
+		r.Pending, r.Cadence = b.Pending, b.Cadence
 		d := decided[r.Object]
 		r.ExcludedPeriods = make([]ExcludedPeriod, 0, len(d.Excluded))
 		for _, x := range d.Excluded {
@@ -382,6 +384,9 @@ func Formula(b costdrift.Behaviour) string {
 			sign, rate = "-", -rate
 		}
 		per += fmt.Sprintf(" %s %s%s", sign, present.RatePer(rate, present.UnitOf(b.Unit2, b.Driver2)), lagText(b.Lag2))
+	}
+	if b.Cadence != nil && (b.Class == costdrift.Fixed || b.Class == costdrift.Unexplained) {
+		return cadenceFormula(b)
 	}
 	switch b.Class {
 	case costdrift.Fixed:

@@ -391,7 +391,8 @@ func (w *AnalysisWriter) saveBehaviour(ctx context.Context, b *costdrift.Behavio
 // behaviourValues are the columns a behaviour row carries, in the order of
 // behaviourColumns.
 const behaviourColumns = `class, driver, unit, lag, fixed_per_period, variable_rate, r2, n, range_min, range_max, since, until, steps, reason,
-	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending, prediction`
+	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending, prediction,
+	cadence, cadence_phase`
 
 func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 	steps, highLow, diagnostics, brk, pending := "", "", "", "", ""
@@ -433,7 +434,24 @@ func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
 		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
 		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics),
-		nullString(brk), nullString(pending), spendingJSON(b.Spending), predictionJSON(b.Prediction)}, nil
+		nullString(brk), nullString(pending), spendingJSON(b.Spending), predictionJSON(b.Prediction),
+		cadenceEvery(b), cadencePhase(b)}, nil
+}
+
+// cadenceEvery and cadencePhase are a cadence's columns, NULL for a cost
+// posted every period.
+func cadenceEvery(b *costdrift.Behaviour) any {
+	if b.Cadence == nil {
+		return nil
+	}
+	return b.Cadence.Every
+}
+
+func cadencePhase(b *costdrift.Behaviour) any {
+	if b.Cadence == nil {
+		return nil
+	}
+	return b.Cadence.Phase
 }
 
 // predictionJSON stores the formula's prediction terms; terms that are not
@@ -576,12 +594,12 @@ const (
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, '')`
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, ''), cadence, cadence_phase`
 	briefColumns = `account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, '',
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, '', '',
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), ''`
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), '', cadence, cadence_phase`
 )
 
 // eachBehaviourOf is eachBehaviour reading columns (readColumns or
@@ -601,10 +619,14 @@ func eachBehaviourOf(ctx context.Context, q conn, columns, where string, fn func
 		var outliers, diagnostics, brk, pending, spending, prediction string
 		var lag2 sql.NullInt64
 		var rate2 sql.NullFloat64
+		var cadence, phase sql.NullInt64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction); err != nil {
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction, &cadence, &phase); err != nil {
 			return err
+		}
+		if cadence.Valid {
+			b.Cadence = &costdrift.Cadence{Every: int(cadence.Int64), Phase: int(phase.Int64)}
 		}
 		if prediction != "" {
 			b.Prediction = &costdrift.PredictionTerms{}
