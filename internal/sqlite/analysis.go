@@ -354,7 +354,7 @@ func (w *AnalysisWriter) saveBehaviour(ctx context.Context, b *costdrift.Behavio
 // behaviourValues are the columns a behaviour row carries, in the order of
 // behaviourColumns.
 const behaviourColumns = `class, driver, unit, lag, fixed_per_period, variable_rate, r2, n, range_min, range_max, since, until, steps, reason,
-	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending, prediction`
+	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending, prediction, price_base`
 
 func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 	steps, highLow, diagnostics, brk, pending := "", "", "", "", ""
@@ -396,7 +396,7 @@ func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 		num(b.R2), b.N, rangeValue(b, b.RangeMin), rangeValue(b, b.RangeMax), nullString(b.Since), nullString(b.Until),
 		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
 		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics),
-		nullString(brk), nullString(pending), spendingJSON(b.Spending), predictionJSON(b.Prediction)}, nil
+		nullString(brk), nullString(pending), spendingJSON(b.Spending), predictionJSON(b.Prediction), nullString(b.PriceBase)}, nil
 }
 
 // predictionJSON stores the formula's prediction terms; terms that are not
@@ -539,12 +539,12 @@ const (
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, '')`
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, ''), COALESCE(price_base, '')`
 	briefColumns = `account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, '',
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, '', '',
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), ''`
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), '', COALESCE(price_base, '')`
 )
 
 // eachBehaviourOf is eachBehaviour reading columns (readColumns or
@@ -566,7 +566,7 @@ func eachBehaviourOf(ctx context.Context, q conn, columns, where string, fn func
 		var rate2 sql.NullFloat64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction); err != nil {
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction, &b.PriceBase); err != nil {
 			return err
 		}
 		if prediction != "" {
