@@ -79,10 +79,14 @@ func (p PriceIndex) Factor(period, base string) (float64, bool) {
 }
 
 // Restate multiplies each cost by index_base / index_t of its period (the
-// costs are by position in periods); an unknown cost (NaN) stays unknown.
-// The index must pass Check for periods and base.
+// costs are by position in periods); an unknown cost (NaN), such as one of
+// a period the ledger has no postings in, stays unknown and needs no index.
+// The index must pass Check for base and the periods of known costs.
 func (p PriceIndex) Restate(cost []float64, periods []string, base string) {
 	for i, q := range periods {
+		if math.IsNaN(cost[i]) {
+			continue
+		}
 		f, ok := p.Factor(q, base)
 		if !ok {
 			panic(fmt.Sprintf("series: price index %q cannot restate %s at %s's prices", p.Series, q, base))

@@ -26,6 +26,13 @@ func TestRestate(t *testing.T) {
 	}
 	cost := []float64{2000, 2100, math.NaN()}
 	p.Restate(cost, periods, "2024-03")
+	// A period the ledger has no postings in has an unknown cost, which
+	// needs no index value.
+	none := []float64{math.NaN()}
+	p.Restate(none, []string{"2023-12"}, "2024-03")
+	if !math.IsNaN(none[0]) {
+		t.Errorf("unknown cost of a period without an index restated to %g", none[0])
+	}
 	// 2000 × 110.25 / 100 = 2205; 2100 × 110.25 / 105 = 2205 (hand-worked).
 	for i, want := range []float64{2205, 2205} {
 		if math.Abs(cost[i]-want) > 1e-9 {
