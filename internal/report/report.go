@@ -55,6 +55,9 @@ type Row struct {
 	// confirmation by the next analysis.
 	Break   *BreakView         `json:"break"`
 	Pending *costdrift.Pending `json:"pending"`
+	// PriceBase is the period whose prices the formula is at, when the
+	// costs were restated by analysis.deflator; "" as posted.
+	PriceBase string `json:"price_base,omitempty"`
 
 	// What the accountant decided (README "The accountant's decisions"):
 	// the pinned formula, null without one; the periods left out of the
@@ -215,7 +218,7 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 			Object: b.Object.String(), Account: b.Object.Account, CostCenter: b.Object.CostCenter,
 			Class: b.Class, N: b.N, Since: b.Since, Until: b.Until, Steps: b.Steps,
 			AccountName: names[b.Object.Account], Unit: b.Unit, Reason: b.Reason, HighLow: b.HighLow,
-			Formula: Formula(b), Gaps: StepGaps(b),
+			Formula: Formula(b), Gaps: StepGaps(b), PriceBase: b.PriceBase,
 		}
 		if r.Steps == nil {
 			r.Steps = []costdrift.StepLevel{}
@@ -373,8 +376,18 @@ func Table(w io.Writer, rows []Row, currency string) error {
 
 // Formula writes a behaviour's cost formula out in words:
 // "cost = 4,210.00 + 1.87 per machine hour". A step cost's levels name
-// their activity ranges; StepGaps says what holds between them.
+// their activity ranges; StepGaps says what holds between them. A formula
+// fitted on costs restated by a price index says whose prices it is at:
+// "cost = 5,765.66 at prices of 2026-06" (README, Prices and inflation).
 func Formula(b costdrift.Behaviour) string {
+	f := formula(b)
+	if b.PriceBase != "" && b.Class != costdrift.InsufficientData {
+		f += " at prices of " + b.PriceBase
+	}
+	return f
+}
+
+func formula(b costdrift.Behaviour) string {
 	per := "per " + unitName(b) + lagText(b.Lag)
 	if b.Driver2 != "" {
 		sign, rate := "+", b.VariableRate2
