@@ -3,11 +3,11 @@ package pipeline
 import (
 	"errors"
 	"fmt"
-	"math"
 	"slices"
 	"sort"
 	"strings"
 
+	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/costdrift"
 	"github.com/costdrift/costdrift/internal/series"
 )
@@ -97,12 +97,92 @@ func withoutSeries(drivers []costdrift.DriverSeries, name string) []costdrift.Dr
 	return slices.DeleteFunc(drivers, func(d costdrift.DriverSeries) bool { return d.Name == name })
 }
 
-// priceFactor is index_to / index_from from the stored index; NaN when
-// either period has no usable value.
-func priceFactor(index series.PriceIndex, from, to string) float64 {
-	f, ok := index.Factor(from, to)
-	if !ok {
-		return math.NaN()
+// budgetPrices moves each formula from the prices it was fitted at to
+// those of the period a budget or variance is for (README, Prices and
+// inflation): by the plan's figure of the index for that period when the
+// plan has one, else the index as synced, else its newest value, which
+// the line then says.
+type budgetPrices struct {
+	series       string
+	actual, plan *activityIndex // plan is nil without one
+	newest       string         // the newest period the synced index has a value for
+}
+
+func newBudgetPrices(e *Env, actual, plan *activityIndex) *budgetPrices {
+	p := &budgetPrices{series: e.Config.Analysis.Deflator, actual: actual, plan: plan}
+	for k, v := range actual.values {
+		if k[1] == p.series && k[2] == "" && v > 0 && k[0] > p.newest {
+			p.newest = k[0]
+		}
 	}
-	return f
+	return p
+}
+
+// index is the series' value for period from the plan, else as synced;
+// false when neither has a value above zero.
+func (p *budgetPrices) index(period string, plan bool) (float64, bool) {
+	if plan && p.plan != nil {
+		if v, ok := p.plan.get(period, p.series, "", false); ok && v > 0 {
+			return v, true
+		}
+	}
+	v, ok := p.actual.get(period, p.series, "", false)
+	return v, ok && v > 0
+}
+
+// at is b at period's prices, and what the line should say of them ("" when
+// the index moved it as it should).
+func (p *budgetPrices) at(b costdrift.Behaviour, period string) (costdrift.Behaviour, string) {
+	if b.PriceBase == "" || b.Class == costdrift.InsufficientData || b.PriceBase == period {
+		return b, ""
+	}
+	if p.series == "" {
+		return b, fmt.Sprintf("at prices of %s: analysis.deflator names no price index to move the formula to %s's", b.PriceBase, period)
+	}
+	from, ok := p.index(b.PriceBase, false)
+	if !ok {
+		return b, fmt.Sprintf("at prices of %s: the price index %s has no value for %s", b.PriceBase, p.series, b.PriceBase)
+	}
+	to, ok := p.index(period, true)
+	note := ""
+	if !ok {
+		if p.newest == "" {
+			return b, fmt.Sprintf("at prices of %s: the price index %s has no value for %s", b.PriceBase, p.series, period)
+		}
+		to, _ = p.index(p.newest, false)
+		where := "the plan"
+		if p.plan == nil {
+			where = "the activity data"
+		}
+		note = fmt.Sprintf("at prices of %s, the newest of %s: no %s for %s in %s", p.newest, p.series, p.series, period, where)
+	}
+	return budget.AtPrices(b, to/from), note
+}
+
+// flexibleAtPrices is budget.Flexible with each formula moved to the
+// prices of each period budgeted.
+func flexibleAtPrices(prices *budgetPrices, bs []costdrift.Behaviour, periods []string, lookup budget.Lookup, shift func(string, int) string) []costdrift.BudgetLine {
+	var lines []costdrift.BudgetLine
+	moved := make([]costdrift.Behaviour, len(bs))
+	notes := make([]string, len(bs))
+	for _, q := range periods {
+		for i := range bs {
+			moved[i], notes[i] = prices.at(bs[i], q)
+		}
+		ls := budget.Flexible(moved, []string{q}, lookup, shift)
+		for i := range ls {
+			addNote(&ls[i].Estimate, &ls[i].Warning, notes[i])
+		}
+		lines = append(lines, ls...)
+	}
+	return lines
+}
+
+// addNote adds note, when there is one, to a line's warnings.
+func addNote(e *costdrift.Estimate, warning *string, note string) {
+	if note == "" {
+		return
+	}
+	e.Warnings = append(e.Warnings, note)
+	*warning = strings.TrimPrefix(*warning+"; "+note, "; ")
 }

@@ -243,3 +243,81 @@ func TestDeflatorBadIndex(t *testing.T) {
 		})
 	}
 }
+
+// TestBudgetAtPlannedPrices: a formula at prices of 2026-06 budgets a
+// later period at that period's prices, by the plan's figure of the index
+// when the plan has one, else by the newest synced one, which the line
+// says; an exempt cost and a period's variance follow the same rule
+// (README, Prices and inflation).
+func TestBudgetAtPlannedPrices(t *testing.T) {
+	e, db := inflationBooks(t, "cpi", []string{"6300/ADMIN"}, asPublished)
+	ctx := context.Background()
+	res, err := Analyze(ctx, e, db, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Raise(ctx, e, db, res); err != nil {
+		t.Fatal(err)
+	}
+	bs, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var admin costdrift.Behaviour
+	for _, b := range bs {
+		if b.Object.String() == "6100/ADMIN" {
+			admin = b
+		}
+	}
+	if admin.Class != costdrift.Fixed || admin.PriceBase != "2026-06" {
+		t.Fatalf("6100/ADMIN: %s at prices of %q, want fixed at 2026-06's", admin.Class, admin.PriceBase)
+	}
+	// The synced index of 2026-06 as the books wrote it (%.6f), and the
+	// plan's for 2026-07; 2026-08 has none in the plan.
+	june := math.Round(100*math.Pow(1.05, 35.0/12)*1e6) / 1e6
+	plan := filepath.Join(t.TempDir(), "plan.csv")
+	if err := os.WriteFile(plan, []byte("period,driver,value\n2026-07,machine_hours,1000\n2026-07,cpi,116.0\n2026-08,machine_hours,1000\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	got, err := Budget(ctx, e, db, plan, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := map[string]costdrift.BudgetLine{}
+	for _, l := range got.Lines {
+		if l.Kind == costdrift.LineObject {
+			lines[l.Object.String()+" "+l.Period] = l
+		}
+	}
+	// index ratio, hand-worked (common practice): 2026-07 at the plan's
+	// 116.0 over 2026-06's synced value.
+	july := lines["6100/ADMIN 2026-07"]
+	if want := admin.FixedPerPeriod * 116.0 / june; math.Abs(july.Value-want) > 1e-9*want || july.Warning != "" {
+		t.Errorf("6100/ADMIN 2026-07 budget %.6f (%q), want %.6f at the plan's index, no warning", july.Value, july.Warning, want)
+	}
+	august := lines["6100/ADMIN 2026-08"]
+	wantNote := "at prices of 2026-06, the newest of cpi: no cpi for 2026-08 in the plan"
+	if math.Abs(august.Value-admin.FixedPerPeriod) > 1e-9*admin.FixedPerPeriod || august.Warning != wantNote {
+		t.Errorf("6100/ADMIN 2026-08 budget %.6f (%q), want %.6f (%q)", august.Value, august.Warning, admin.FixedPerPeriod, wantNote)
+	}
+	for _, p := range []string{"2026-07", "2026-08"} {
+		if l := lines["6300/ADMIN "+p]; l.Value != 2400 || l.Warning != "" {
+			t.Errorf("6300/ADMIN %s (exempt) budget %v (%q), want 2400 as posted", p, l.Value, l.Warning)
+		}
+	}
+
+	// A variance of 2025-06 moves the formula to that period's prices by
+	// the synced index.
+	v, err := Variance(ctx, e, db, "2025-06", "", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	june2025 := math.Round(100*math.Pow(1.05, 23.0/12)*1e6) / 1e6
+	for _, l := range v.Lines {
+		if l.Kind == costdrift.LineObject && l.Object.String() == "6100/ADMIN" {
+			if want := admin.FixedPerPeriod * june2025 / june; math.Abs(l.Flexible.Value-want) > 1e-9*want {
+				t.Errorf("6100/ADMIN 2025-06 flexible budget %.6f, want %.6f at 2025-06's prices", l.Flexible.Value, want)
+			}
+		}
+	}
+}
