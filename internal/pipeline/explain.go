@@ -49,13 +49,19 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	excluded := decided[b.Object.String()].Excluded
-	note, err := refitLines(ctx, e, db, &oa, excluded)
+	prices, index, err := objectPrices(ctx, e, db, oa)
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
+	note, err := refitLines(ctx, e, db, &oa, excluded, index)
+	if err != nil {
+		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
+	}
+	// The charts draw the costs the formula was fitted on.
+	costsOf := restatedCosts(db.CostPerPeriod, index, b.PriceBase)
 	ex := report.Explain(report.ExplainInput{
 		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
-		Decided: decided[b.Object.String()],
+		Decided: decided[b.Object.String()], Prices: prices,
 		ActivityPeriod: func(p string, lag int) string {
 			if _, err := e.Calendar.Parse(p); err != nil {
 				return p
@@ -69,7 +75,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	maxLag := widestLag(oa.Settings, b.Lag)
 	var charts *Charts
 	if withChart {
-		tl, err := timeline(ctx, e, db, db.CostPerPeriod, oa, names[b.Object.Account], ex.Formula, maxLag)
+		tl, err := timeline(ctx, e, db, costsOf, oa, names[b.Object.Account], ex.Formula, maxLag)
 		if err != nil {
 			return ex, nil, fmt.Errorf("explain %s: chart: %w", object, err)
 		}
@@ -78,7 +84,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if b.Driver == "" {
 		return ex, charts, nil
 	}
-	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, maxLag)
+	pts, err := analysedPoints(ctx, e, db, costsOf, oa, maxLag)
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
@@ -103,7 +109,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 // on). The stored fits stay as they are; a candidate fitted again is added
 // only when the lines the store kept come out the same, so that the table
 // is the analysis's. Otherwise the note says why the table is short.
-func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis, excluded []costdrift.Exclusion) (string, error) {
+func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis, excluded []costdrift.Exclusion, index *series.PriceIndex) (string, error) {
 	b := oa.Behaviour
 	stored := map[[2]string]*costdrift.Fit{}
 	for i, f := range oa.Fits {
@@ -156,7 +162,14 @@ func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAna
 			continue
 		}
 		excludePeriods(&obj, w.Periods, excluded)
-		p := w.Panel([]costdrift.ObjectSeries{obj}, series.Drivers(activity, w.Periods, ss))
+		if !restateAsAnalysed(&obj, w.Periods, index, b.PriceBase) {
+			continue
+		}
+		drivers := series.Drivers(activity, w.Periods, ss)
+		if oa.Settings.Deflator != "" {
+			drivers = withoutSeries(drivers, oa.Settings.Deflator)
+		}
+		p := w.Panel([]costdrift.ObjectSeries{obj}, drivers)
 		lines := analyze.Lines(&p, &p.Objects[0], as)
 		if len(lines) != b.Diagnostics.Candidates || !sameLines(lines, stored) {
 			continue

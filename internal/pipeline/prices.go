@@ -1,15 +1,19 @@
 package pipeline
 
 import (
+	"context"
 	"errors"
 	"fmt"
+	"math"
 	"slices"
 	"sort"
 	"strings"
 
 	"github.com/costdrift/costdrift/internal/budget"
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/series"
+	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
 // deflation is how an analysis restates costs at one price level (README,
@@ -185,4 +189,83 @@ func addNote(e *costdrift.Estimate, warning *string, note string) {
 	}
 	e.Warnings = append(e.Warnings, note)
 	*warning = strings.TrimPrefix(*warning+"; "+note, "; ")
+}
+
+// objectPrices reads, for an object whose formula was fitted on restated
+// costs, the price index the analysis used and its costs as posted beside
+// the restated ones over the run's window; nil and nil for one fitted as
+// posted.
+func objectPrices(ctx context.Context, e *Env, db *sqlite.DB, oa sqlite.ObjectAnalysis) (*report.PriceLevels, *series.PriceIndex, error) {
+	b, run := oa.Behaviour, oa.Run
+	if b.PriceBase == "" || oa.Settings.Deflator == "" {
+		return nil, nil, nil
+	}
+	for _, p := range []string{run.WindowFrom, run.WindowTo} {
+		if _, err := e.Calendar.Parse(p); err != nil {
+			return nil, nil, fmt.Errorf("analysis run %d window: %w", run.ID, err)
+		}
+	}
+	activity, err := db.Activity(ctx)
+	if err != nil {
+		return nil, nil, err
+	}
+	index := series.PriceIndexOf(activity, oa.Settings.Deflator)
+	costs, ledger, err := db.CostPerPeriod(ctx, b.Object, run.Grain == costdrift.GrainAccount, run.WindowFrom, run.WindowTo)
+	if err != nil {
+		return nil, nil, err
+	}
+	out := &report.PriceLevels{Series: index.Series, Base: b.PriceBase, Periods: []report.PricedCost{}}
+	for _, p := range e.Calendar.Between(run.WindowFrom, run.WindowTo) {
+		if !ledger[p] {
+			continue
+		}
+		c := report.PricedCost{Period: p, Posted: e.Currency.Units(costs[p])}
+		if f, ok := index.Factor(p, b.PriceBase); ok {
+			v, r := index.Values[p], c.Posted*f
+			c.Index, c.Restated = &v, &r
+		}
+		out.Periods = append(out.Periods, c)
+	}
+	return out, &index, nil
+}
+
+// restateAsAnalysed restates an object's costs as the analysis did, at
+// base's prices; false when the index can no longer restate them (it
+// changed since), and true, with the costs as they are, without an index.
+func restateAsAnalysed(o *costdrift.ObjectSeries, periods []string, index *series.PriceIndex, base string) bool {
+	if index == nil || base == "" {
+		return true
+	}
+	for i, p := range periods {
+		if math.IsNaN(o.Cost[i]) {
+			continue
+		}
+		f, ok := index.Factor(p, base)
+		if !ok {
+			return false
+		}
+		o.Cost[i] *= f
+	}
+	return true
+}
+
+// restatedCosts reads costs as costsOf does, restated at base's prices in
+// whole minor units (what a chart draws); costs as posted without an
+// index, and in a period the index has no value for.
+func restatedCosts(costsOf costReader, index *series.PriceIndex, base string) costReader {
+	if index == nil || base == "" {
+		return costsOf
+	}
+	return func(ctx context.Context, o costdrift.CostObject, allCostCenters bool, first, last string) (map[string]int64, map[string]bool, error) {
+		costs, ledger, err := costsOf(ctx, o, allCostCenters, first, last)
+		if err != nil {
+			return nil, nil, err
+		}
+		for p, c := range costs {
+			if f, ok := index.Factor(p, base); ok {
+				costs[p] = int64(math.Round(float64(c) * f))
+			}
+		}
+		return costs, ledger, nil
+	}
 }

@@ -13,6 +13,7 @@ import (
 
 	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/costdrift"
+	"github.com/costdrift/costdrift/internal/report"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
@@ -319,5 +320,65 @@ func TestBudgetAtPlannedPrices(t *testing.T) {
 				t.Errorf("6100/ADMIN 2025-06 flexible budget %.6f, want %.6f at 2025-06's prices", l.Flexible.Value, want)
 			}
 		}
+	}
+}
+
+// TestExplainRestated: explain sets each period's cost as posted beside
+// the index and the cost restated at the formula's prices, and its charts
+// draw the restated costs the formula was fitted on; an exempt object has
+// no such table (README, Prices and inflation).
+func TestExplainRestated(t *testing.T) {
+	e, db := inflationBooks(t, "cpi", []string{"6300/ADMIN"}, asPublished)
+	ctx := context.Background()
+	if _, err := Analyze(ctx, e, db, true); err != nil {
+		t.Fatal(err)
+	}
+	ex, charts, err := Explain(ctx, e, db, "6100/ADMIN", true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := ex.Prices
+	if p == nil || p.Series != "cpi" || p.Base != "2026-06" || len(p.Periods) != 36 {
+		t.Fatalf("prices %+v, want cpi at 2026-06 over 36 periods", p)
+	}
+	if !strings.HasSuffix(ex.Formula, " at prices of 2026-06") || len(ex.Notes) != 0 {
+		t.Errorf("formula %q, notes %q", ex.Formula, ex.Notes)
+	}
+	// The index as the books wrote it (%.6f); restated = posted × index
+	// 2026-06 / index then (hand-worked, common practice).
+	june := math.Round(100*math.Pow(1.05, 35.0/12)*1e6) / 1e6
+	first := p.Periods[0]
+	if first.Period != "2023-07" || first.Index == nil || *first.Index != 100 || first.Restated == nil ||
+		math.Abs(*first.Restated-first.Posted*june/100) > 1e-9*first.Posted {
+		t.Errorf("2023-07: %+v, want index 100 and restated = posted × %.6f / 100", first, june)
+	}
+	last := p.Periods[35]
+	if last.Restated == nil || *last.Restated != last.Posted {
+		t.Errorf("2026-06, the base: %+v, want restated = posted", last)
+	}
+	if charts == nil || charts.Timeline == nil || len(charts.Timeline.Points) != 36 {
+		t.Fatalf("timeline %+v", charts)
+	}
+	for i, pt := range charts.Timeline.Points {
+		if math.Abs(pt.Cost-*p.Periods[i].Restated) > 0.005 {
+			t.Errorf("timeline %s draws %.2f, want the restated %.4f", pt.Period, pt.Cost, *p.Periods[i].Restated)
+		}
+	}
+	var text strings.Builder
+	if err := report.ExplainText(&text, ex, "EUR"); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"Prices: the formula is at prices of 2026-06; each period's cost was restated by the price index cpi",
+		"PERIOD     POSTED   INDEX  RESTATED", "2026-06  " + report.Number(last.Posted, 2)} {
+		if !strings.Contains(text.String(), want) {
+			t.Errorf("explain text lacks %q:\n%s", want, text.String())
+		}
+	}
+	lease, _, err := Explain(ctx, e, db, "6300/ADMIN", false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if lease.Prices != nil || strings.Contains(lease.Formula, "prices") {
+		t.Errorf("6300/ADMIN (exempt): prices %+v, formula %q", lease.Prices, lease.Formula)
 	}
 }
