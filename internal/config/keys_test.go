@@ -287,3 +287,29 @@ func TestDeflatorKeys(t *testing.T) {
 		})
 	}
 }
+
+// StarterWith shows the values given in place of the defaults, and the
+// file it gives loads with them; the rest is the starter as it is.
+func TestStarterWith(t *testing.T) {
+	text, err := StarterWith(map[string]any{"analysis.deflator": "price_index", "analysis.deflator_exempt": []string{"6100", "6110/PAINT"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := Load(writeConfig(t, text), testKinds)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Analysis.Deflator != "price_index" || strings.Join(c.Analysis.DeflatorExempt, " ") != "6100 6110/PAINT" {
+		t.Errorf("deflator %q, exempt %q", c.Analysis.Deflator, c.Analysis.DeflatorExempt)
+	}
+	plain, err := StarterWith(nil)
+	if err != nil || plain != Starter {
+		t.Errorf("StarterWith(nil) differs from Starter (error %v)", err)
+	}
+	if _, err := StarterWith(map[string]any{"analysis.deflater": "cpi"}); err == nil || err.Error() != "config: starter: no key analysis.deflater" {
+		t.Errorf("undeclared key: %v", err)
+	}
+	if _, err := StarterWith(map[string]any{"analysis.window": "24"}); err == nil || err.Error() != "config: starter: analysis.window takes a int, not a string" {
+		t.Errorf("value of another type: %v", err)
+	}
+}
