@@ -52,8 +52,13 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	a.configPath = filepath.Join(dir, "costdrift.yaml")
 	// Whole or not at all: a half-written config would be kept by the
 	// next demo as "the existing" one.
+	// The starter, with the demo's price index as its deflator.
+	text, err := config.StarterWith(map[string]any{"analysis.deflator": demo.Deflator, "analysis.deflator_exempt": demo.DeflatorExempt()})
+	if err != nil {
+		return err
+	}
 	err = atomicfile.WriteNew(a.configPath, 0o600, func(w io.Writer) error {
-		_, err := io.WriteString(w, config.Starter)
+		_, err := io.WriteString(w, text)
 		return err
 	})
 	switch {

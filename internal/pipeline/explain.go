@@ -57,8 +57,6 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
-	// The charts draw the costs the formula was fitted on.
-	costsOf := restatedCosts(db.CostPerPeriod, index, b.PriceBase)
 	ex := report.Explain(report.ExplainInput{
 		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
 		Decided: decided[b.Object.String()], Prices: prices,
@@ -75,7 +73,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	maxLag := widestLag(oa.Settings, b.Lag)
 	var charts *Charts
 	if withChart {
-		tl, err := timeline(ctx, e, db, costsOf, oa, names[b.Object.Account], ex.Formula, maxLag)
+		tl, err := timeline(ctx, e, db, db.CostPerPeriod, oa, names[b.Object.Account], ex.Formula, maxLag)
 		if err != nil {
 			return ex, nil, fmt.Errorf("explain %s: chart: %w", object, err)
 		}
@@ -84,7 +82,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 	if b.Driver == "" {
 		return ex, charts, nil
 	}
-	pts, err := analysedPoints(ctx, e, db, costsOf, oa, maxLag)
+	pts, err := analysedPoints(ctx, e, db, db.CostPerPeriod, oa, maxLag)
 	if err != nil {
 		return ex, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
@@ -300,7 +298,8 @@ func editDistance(a, b string) int {
 
 // analysedPoints reads the periods the chosen formula was fitted on: for
 // every period of the run's window in which the ledger has postings, the
-// object's cost (zero when it posted nothing) beside the chosen driver's
+// object's cost (zero when it posted nothing; restated at the formula's
+// prices when the analysis restated it) beside the chosen driver's
 // value lag periods before, read as the analysis reads it (the cost centre's
 // own series, else the company-wide one). Periods without a driver value
 // are left out, as the analysis leaves them out.
@@ -320,6 +319,11 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, costsOf costRead
 	if err != nil {
 		return nil, err
 	}
+	// The costs the formula was fitted on: restated, when they were.
+	at, err := costsAtPrices(ctx, db, oa)
+	if err != nil {
+		return nil, err
+	}
 	outlier := map[string]bool{}
 	for _, o := range b.Outliers {
 		outlier[o.Period] = true
@@ -330,7 +334,7 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, costsOf costRead
 		if !ledger[p] || !ok {
 			continue
 		}
-		pts = append(pts, chart.Point{Period: p, Activity: v, Cost: e.Currency.Units(costs[p]), Outlier: outlier[p]})
+		pts = append(pts, chart.Point{Period: p, Activity: v, Cost: at(p, e.Currency.Units(costs[p])), Outlier: outlier[p]})
 	}
 	return pts, nil
 }

@@ -249,23 +249,25 @@ func restateAsAnalysed(o *costdrift.ObjectSeries, periods []string, index *serie
 	return true
 }
 
-// restatedCosts reads costs as costsOf does, restated at base's prices in
-// whole minor units (what a chart draws); costs as posted without an
-// index, and in a period the index has no value for.
-func restatedCosts(costsOf costReader, index *series.PriceIndex, base string) costReader {
-	if index == nil || base == "" {
-		return costsOf
+// costsAtPrices returns how the charts of an object read each period's
+// cost, in currency units: restated at its behaviour's price base as the
+// analysis fitted it, when the analysis restated it; as posted otherwise,
+// and in a period the index has no usable value for.
+func costsAtPrices(ctx context.Context, db *sqlite.DB, oa sqlite.ObjectAnalysis) (func(period string, units float64) float64, error) {
+	asPosted := func(_ string, units float64) float64 { return units }
+	b, run := oa.Behaviour, oa.Run
+	if b.PriceBase == "" || oa.Settings.Deflator == "" {
+		return asPosted, nil
 	}
-	return func(ctx context.Context, o costdrift.CostObject, allCostCenters bool, first, last string) (map[string]int64, map[string]bool, error) {
-		costs, ledger, err := costsOf(ctx, o, allCostCenters, first, last)
-		if err != nil {
-			return nil, nil, err
-		}
-		for p, c := range costs {
-			if f, ok := index.Factor(p, base); ok {
-				costs[p] = int64(math.Round(float64(c) * f))
-			}
-		}
-		return costs, ledger, nil
+	values, _, err := db.DriverValues(ctx, oa.Settings.Deflator, "", false, min(run.WindowFrom, b.PriceBase), max(run.WindowTo, b.PriceBase))
+	if err != nil {
+		return nil, fmt.Errorf("read the price index %s: %w", oa.Settings.Deflator, err)
 	}
+	index := series.PriceIndex{Series: oa.Settings.Deflator, Values: values}
+	return func(period string, units float64) float64 {
+		if f, ok := index.Factor(period, b.PriceBase); ok {
+			return units * f
+		}
+		return units
+	}, nil
 }
