@@ -52,8 +52,7 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	a.configPath = filepath.Join(dir, "costdrift.yaml")
 	// Whole or not at all: a half-written config would be kept by the
 	// next demo as "the existing" one.
-	// The starter, with the demo's price index as its deflator.
-	text, err := config.StarterWith(map[string]any{"analysis.deflator": demo.Deflator, "analysis.deflator_exempt": demo.DeflatorExempt()})
+	text, err := demoConfig()
 	if err != nil {
 		return err
 	}
@@ -208,4 +207,11 @@ func (a *app) listAlerts(ctx context.Context, db *sqlite.DB) error {
 		return err
 	}
 	return writeAlertsTable(a.out, list, "")
+}
+
+// demoConfig is the demo's config: the starter with the invented company's
+// price index as its deflator and its contracts exempt (README, Prices and
+// inflation).
+func demoConfig() (string, error) {
+	return config.StarterWith(map[string]any{"analysis.deflator": demo.Deflator, "analysis.deflator_exempt": demo.DeflatorExempt()})
 }

@@ -182,9 +182,10 @@ func flexibleAtPrices(prices *budgetPrices, bs []costdrift.Behaviour, periods []
 	return lines
 }
 
-// addNote adds note, when there is one, to a line's warnings.
+// addNote adds note, when there is one, to the warnings of a line with a
+// budget; a line without one says why, and has no prices to speak of.
 func addNote(e *costdrift.Estimate, warning *string, note string) {
-	if note == "" {
+	if note == "" || math.IsNaN(e.Value) {
 		return
 	}
 	e.Warnings = append(e.Warnings, note)

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"text/tabwriter"
 	"time"
@@ -305,7 +306,15 @@ func JSON(w io.Writer, rows []Row) error { return EncodeJSON(w, rows) }
 // TerminalText.
 func Table(w io.Writer, rows []Row, currency string) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "OBJECT\tACCOUNT\tCLASS\tFORMULA (%s per period)\tR²\tN\tRELEVANT RANGE\tSINCE\n", currency)
+	// With costs restated by a price index, a column says whose prices
+	// each formula is at, rather than every formula (README, Prices and
+	// inflation).
+	restated := slices.ContainsFunc(rows, func(r Row) bool { return r.PriceBase != "" })
+	prices := ""
+	if restated {
+		prices = "\tPRICES"
+	}
+	fmt.Fprintf(tw, "OBJECT\tACCOUNT\tCLASS\tFORMULA (%s per period)%s\tR²\tN\tRELEVANT RANGE\tSINCE\n", currency, prices)
 	for _, r := range rows {
 		r2, rng := "-", "-"
 		if r.R2 != nil {
@@ -314,8 +323,16 @@ func Table(w io.Writer, rows []Row, currency string) error {
 		if r.RangeMin != nil {
 			rng = present.ActivityRange(*r.RangeMin, *r.RangeMax)
 		}
+		formula := TerminalText(r.Formula)
+		if restated {
+			at := "as posted"
+			if r.PriceBase != "" {
+				formula, at = TerminalText(strings.TrimSuffix(r.Formula, " at prices of "+r.PriceBase)), r.PriceBase
+			}
+			formula += "\t" + TerminalText(at)
+		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%s\n", TerminalText(r.Object), clip(TerminalText(r.AccountName), 24),
-			TerminalText(string(r.Class)), TerminalText(r.Formula), r2, r.N, rng, TerminalText(r.Since))
+			TerminalText(string(r.Class)), formula, r2, r.N, rng, TerminalText(r.Since))
 	}
 	if err := tw.Flush(); err != nil {
 		return err
