@@ -14,7 +14,6 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
-
 )
 
 const smtpTestPassword = "Cycle-s3cret-never-shown"
