@@ -118,6 +118,9 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		}
 		fmt.Fprintln(a.out, line)
 	}
+	fmt.Fprintf(a.out, "  Prices rise 3 %% a year (%s, 100 at 2026-06); every cost but those fixed by contract (accounts %s) follows\n"+
+		"  them. analysis.deflator restates the others at prices of 2026-06 before the fit, so the designed formulas are found again.\n",
+		demo.Deflator, strings.Join(demo.DeflatorExempt(), ", "))
 	fmt.Fprintln(a.out, "\nAlerts (costdrift alerts list):")
 	if err := a.listAlerts(ctx, db); err != nil {
 		return err
