@@ -2,7 +2,6 @@ package pipeline
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -27,11 +26,11 @@ type deflation struct {
 }
 
 // deflationOf checks the deflator the config names against the activity
-// data over the periods given, the window's periods with postings, the
-// newest last; nil without one. A series that is not
-// company-wide, or lacks a usable value for a period, is an error naming
-// the series and the period: analysing the costs as posted instead would
-// give formulas at mixed price levels without a word.
+// data over the periods given (the window's periods with postings, the
+// newest last); nil without one. A series that is not company-wide, or
+// lacks a usable value for a period, is an error naming the series and the
+// period: analysing the costs as posted instead would give formulas at
+// mixed price levels without a word.
 func deflationOf(name string, exempt []string, activity []costdrift.ActivityValue, periods []string, file string) (*deflation, error) {
 	if name == "" {
 		return nil, nil
@@ -47,12 +46,8 @@ func deflationOf(name string, exempt []string, activity []costdrift.ActivityValu
 			file, name, seriesNames(activity))
 	}
 	if err := index.Check(periods); err != nil {
-		var ie *series.IndexError
-		if errors.As(err, &ie) {
-			return nil, fmt.Errorf("analysis.deflator in %s: %w; nothing was analysed: correct the series in its activity source and run costdrift sync",
-				file, err)
-		}
-		return nil, err
+		return nil, fmt.Errorf("analysis.deflator in %s: %w; nothing was analysed: correct the series in its activity source and run costdrift sync",
+			file, err)
 	}
 	return &deflation{index: index, base: periods[len(periods)-1], exempt: series.ExemptOf(exempt)}, nil
 }

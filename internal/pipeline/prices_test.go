@@ -382,3 +382,16 @@ func TestExplainRestated(t *testing.T) {
 		t.Errorf("6300/ADMIN (exempt): prices %+v, formula %q", lease.Prices, lease.Formula)
 	}
 }
+
+// A price index kept per cost centre only is not the company's index: the
+// analysis stops and says to give it company-wide (README, Prices and
+// inflation).
+func TestDeflatorPerCostCentre(t *testing.T) {
+	activity := []costdrift.ActivityValue{{Period: "2026-05", Driver: "cpi", CostCenter: "WELD", Value: 100},
+		{Period: "2026-06", Driver: "cpi", CostCenter: "WELD", Value: 101}}
+	_, err := deflationOf("cpi", nil, activity, []string{"2026-05", "2026-06"}, "costdrift.yaml")
+	want := `analysis.deflator in costdrift.yaml: the price index "cpi" is kept per cost centre only; give it company-wide (without a cost centre) in its activity source and run costdrift sync`
+	if err == nil || err.Error() != want {
+		t.Errorf("deflationOf: %v\nwant %s", err, want)
+	}
+}
