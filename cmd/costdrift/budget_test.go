@@ -94,17 +94,24 @@ func TestBudgetOfTheDemoPlan(t *testing.T) {
 	for _, b := range behaviour {
 		formula[b.Object] = b
 	}
+	// The formulas are at prices of 2026-06 (price index 100); a budget is
+	// at its period's prices, by the plan's index (README, Prices and
+	// inflation). Rent is fixed by contract and fitted as posted.
+	if formula["5100/WELD"].PriceBase != "2026-06" || formula["6100/WELD"].PriceBase != "" || planned["2026-07 price_index "] == 0 {
+		t.Fatalf("price bases %q and %q, planned index %v", formula["5100/WELD"].PriceBase, formula["6100/WELD"].PriceBase, planned["2026-07 price_index "])
+	}
+	at := func(period string) float64 { return planned[period+" price_index "] / 100 }
 	for _, c := range []struct {
 		row  report.BudgetRow
 		want float64
 	}{
-		{tubing, *formula["5100/WELD"].VariableRate * *tubing.Activity},
-		{freight, *formula["6400/ASSY"].VariableRate * *freight.Activity},
-		{byKey["2026-08 object 6200/WELD WELD"], *formula["6200/WELD"].FixedPerPeriod + *formula["6200/WELD"].VariableRate*planned["2026-08 machine_hours WELD"]},
+		{tubing, *formula["5100/WELD"].VariableRate * *tubing.Activity * at("2026-07")},
+		{freight, *formula["6400/ASSY"].VariableRate * *freight.Activity * at("2026-07")},
+		{byKey["2026-08 object 6200/WELD WELD"], (*formula["6200/WELD"].FixedPerPeriod + *formula["6200/WELD"].VariableRate*planned["2026-08 machine_hours WELD"]) * at("2026-08")},
 		{byKey["2026-09 object 6100/WELD WELD"], *formula["6100/WELD"].FixedPerPeriod},
 		// Maintenance follows machine hours a month later: 2026-08 takes
 		// July's planned hours.
-		{byKey["2026-08 object 6500/WELD WELD"], *formula["6500/WELD"].FixedPerPeriod + *formula["6500/WELD"].VariableRate*planned["2026-07 machine_hours WELD"]},
+		{byKey["2026-08 object 6500/WELD WELD"], (*formula["6500/WELD"].FixedPerPeriod + *formula["6500/WELD"].VariableRate*planned["2026-07 machine_hours WELD"]) * at("2026-08")},
 	} {
 		if c.row.Budget == nil || !near(*c.row.Budget, c.want) {
 			t.Errorf("%s %s: budget %v, want the formula's %.2f", c.row.Period, c.row.Object, c.row.Budget, c.want)

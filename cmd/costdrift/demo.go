@@ -52,8 +52,12 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 	a.configPath = filepath.Join(dir, "costdrift.yaml")
 	// Whole or not at all: a half-written config would be kept by the
 	// next demo as "the existing" one.
+	text, err := demoConfig()
+	if err != nil {
+		return err
+	}
 	err = atomicfile.WriteNew(a.configPath, 0o600, func(w io.Writer) error {
-		_, err := io.WriteString(w, config.Starter)
+		_, err := io.WriteString(w, text)
 		return err
 	})
 	switch {
@@ -114,6 +118,9 @@ func (a *app) demo(cmd *cobra.Command, dir string) error {
 		}
 		fmt.Fprintln(a.out, line)
 	}
+	fmt.Fprintf(a.out, "  Prices rise 3 %% a year (%s, 100 at 2026-06); every cost but those fixed by contract (accounts %s) follows\n"+
+		"  them. analysis.deflator restates the others at prices of 2026-06 before the fit, so the designed formulas are found again.\n",
+		demo.Deflator, strings.Join(demo.DeflatorExempt(), ", "))
 	fmt.Fprintln(a.out, "\nAlerts (costdrift alerts list):")
 	if err := a.listAlerts(ctx, db); err != nil {
 		return err
@@ -203,4 +210,11 @@ func (a *app) listAlerts(ctx context.Context, db *sqlite.DB) error {
 		return err
 	}
 	return writeAlertsTable(a.out, list, "")
+}
+
+// demoConfig is the demo's config: the starter with the invented company's
+// price index as its deflator and its contracts exempt (README, Prices and
+// inflation).
+func demoConfig() (string, error) {
+	return config.StarterWith(map[string]any{"analysis.deflator": demo.Deflator, "analysis.deflator_exempt": demo.DeflatorExempt()})
 }

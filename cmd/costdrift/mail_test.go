@@ -14,8 +14,6 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/costdrift/costdrifttest"
-
-	"github.com/costdrift/costdrift/internal/config"
 )
 
 const smtpTestPassword = "Cycle-s3cret-never-shown"
@@ -98,7 +96,7 @@ func TestMailCycleServerDownThenBack(t *testing.T) {
 	mailpitPath(t) // skip or fail at once when mailpit is missing
 	dir := t.TempDir()
 	smtpPort := loopbackPort(t)
-	cfg := strings.Replace(config.Starter, `    - email: costs@example.test
+	cfg := strings.Replace(mustDemoConfig(t), `    - email: costs@example.test
       cost_centers: ["*"]
       accounts: ["*"]
       min_severity: warning    # info | warning | critical`, `    - email: paint@example.test
@@ -367,7 +365,7 @@ func TestMailRoutesCodesWithSlash(t *testing.T) {
 func TestAlertsSendFailsWhenDigestsAreNotSent(t *testing.T) {
 	dir := t.TempDir()
 	smtpPort := loopbackPort(t) // nothing listens there: the mail server is down
-	cfg := strings.Replace(config.Starter, `    host: ""                   # empty: messages go to the outbox folder
+	cfg := strings.Replace(mustDemoConfig(t), `    host: ""                   # empty: messages go to the outbox folder
     port: 587
     tls: starttls `, fmt.Sprintf(`    host: 127.0.0.1
     port: %d

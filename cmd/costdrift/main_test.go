@@ -393,3 +393,14 @@ func TestVersion(t *testing.T) {
 		t.Errorf("version = %q", out)
 	}
 }
+
+// mustDemoConfig is the config `costdrift demo` writes, for a test that
+// changes it before the demo runs.
+func mustDemoConfig(t *testing.T) string {
+	t.Helper()
+	text, err := demoConfig()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return text
+}

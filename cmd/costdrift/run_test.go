@@ -522,6 +522,18 @@ func smtpAt(t *testing.T, cfg string, port int) {
 // designed drift alerts, mailed to the starter's one recipient.
 func demoBooks(t *testing.T, dir string) {
 	t.Helper()
+	// The demo's books are analysed with the demo's price index.
+	cfgPath := filepath.Join(dir, "costdrift.yaml")
+	cfg, err := os.ReadFile(cfgPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	demoPrices := regexp.MustCompile(`(?m)^  deflator: "".*\n  deflator_exempt: \[\].*$`)
+	if !demoPrices.Match(cfg) {
+		t.Fatal("the starter's deflator keys changed: update demoBooks")
+	}
+	cfg = demoPrices.ReplaceAll(cfg, []byte(`  deflator: `+demo.Deflator+"\n  deflator_exempt: ["+strings.Join(demo.DeflatorExempt(), ", ")+"]"))
+	writeFile(t, cfgPath, string(cfg))
 	books := t.TempDir()
 	files, err := demo.Write(books, demo.DefaultSeed)
 	if err != nil {

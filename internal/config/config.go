@@ -110,6 +110,12 @@ type Analysis struct {
 	// MaxRejectedShare is the share of a source's rows in a period that may
 	// be rejected before analysis holds back (README, When a sync goes wrong).
 	MaxRejectedShare float64 `mapstructure:"max_rejected_share"`
+	// Deflator names the company-wide price index series among the
+	// activity data with which costs are restated at the newest analysed
+	// period's prices; DeflatorExempt the objects (ACCOUNT/COSTCENTRE) or
+	// accounts whose costs stay as posted (README, Prices and inflation).
+	Deflator       string   `mapstructure:"deflator"`
+	DeflatorExempt []string `mapstructure:"deflator_exempt"`
 }
 
 // Alerts holds the alert routing.

@@ -73,6 +73,10 @@ var keys = []key{
 		doc: "none | required: a new class, driver or formula waits for costdrift approve before budgets use it"},
 	{name: "analysis.max_rejected_share", def: 0.01, check: floatIn(0, 1, false, "(0 holds back at any reject)"),
 		doc: "a source period with more of its rows rejected is held back"},
+	{name: "analysis.deflator", def: "", check: deflatorName,
+		doc: "company-wide price index series among the activity data; costs are restated at the newest period's prices (empty: none)"},
+	{name: "analysis.deflator_exempt", def: []string{}, check: deflatorExempt,
+		doc: "objects (ACCOUNT/COSTCENTRE) or accounts whose costs are fixed by contract and stay as posted"},
 
 	{name: "mail.smtp.host", def: "",
 		doc: "empty: messages go to the outbox folder"},
@@ -213,6 +217,37 @@ func windowCoversMinPeriods(v any, c *Config) string {
 	least := c.Analysis.MinPeriods
 	if w := v.(int); least >= leastMinPeriods && w < least {
 		return fmt.Sprintf("must be >= analysis.min_periods (%d), not %d", least, w)
+	}
+	return ""
+}
+
+// deflatorName accepts no series or the name of one; the activity data
+// holding it is checked when the analysis reads them.
+func deflatorName(v any, _ *Config) string {
+	name := v.(string)
+	if name != "" && strings.TrimSpace(name) == "" {
+		return "must name an activity series such as cpi, or be empty"
+	}
+	return ""
+}
+
+// deflatorExempt accepts objects and accounts once each, and only with a
+// deflator to be exempt from.
+func deflatorExempt(v any, c *Config) string {
+	objects := v.([]string)
+	if len(objects) > 0 && c.Analysis.Deflator == "" {
+		return "lists objects exempt from restating, but analysis.deflator names no price index"
+	}
+	seen := map[string]bool{}
+	for _, o := range objects {
+		account, costCenter, cut := strings.Cut(o, "/")
+		if strings.TrimSpace(account) == "" || (cut && strings.TrimSpace(costCenter) == "") {
+			return fmt.Sprintf("each entry must be an account or ACCOUNT/COSTCENTRE, not %q", o)
+		}
+		if seen[o] {
+			return fmt.Sprintf("%q is listed twice", o)
+		}
+		seen[o] = true
 	}
 	return ""
 }

@@ -246,3 +246,70 @@ func TestDeclaredCheckMessages(t *testing.T) {
 		})
 	}
 }
+
+// The deflator's keys: exempt objects need a price index to be exempt from,
+// and each names an account or an account and cost centre (README, Prices
+// and inflation).
+func TestDeflatorKeys(t *testing.T) {
+	tests := []struct {
+		name string
+		yaml string
+		want string // "" for a valid config; FILE stands for the file name
+	}{
+		{"deflator and exempt", "analysis:\n  deflator: cpi\n  deflator_exempt: [6300/ADMIN, \"6400\"]\n", ""},
+		{"blank deflator", "analysis:\n  deflator: \" \"\n", "analysis.deflator: must name an activity series such as cpi, or be empty (FILE)"},
+		{"exempt without deflator", "analysis:\n  deflator_exempt: [6300/ADMIN]\n",
+			"analysis.deflator_exempt: lists objects exempt from restating, but analysis.deflator names no price index (FILE)"},
+		{"exempt without cost centre", "analysis:\n  deflator: cpi\n  deflator_exempt: [6300/]\n",
+			`analysis.deflator_exempt: each entry must be an account or ACCOUNT/COSTCENTRE, not "6300/" (FILE)`},
+		{"exempt twice", "analysis:\n  deflator: cpi\n  deflator_exempt: [6300/ADMIN, 6300/ADMIN]\n",
+			`analysis.deflator_exempt: "6300/ADMIN" is listed twice (FILE)`},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			path := writeConfig(t, tc.yaml)
+			c, err := Load(path, testKinds)
+			if tc.want == "" {
+				if err != nil {
+					t.Fatal(err)
+				}
+				if c.Analysis.Deflator != "cpi" || len(c.Analysis.DeflatorExempt) != 2 || c.Analysis.DeflatorExempt[1] != "6400" {
+					t.Errorf("deflator %q, exempt %q", c.Analysis.Deflator, c.Analysis.DeflatorExempt)
+				}
+				return
+			}
+			if err == nil {
+				t.Fatal("Load succeeded, want an error")
+			}
+			if want := strings.ReplaceAll(tc.want, "FILE", path); err.Error() != want {
+				t.Errorf("error\n got %s\nwant %s", err, want)
+			}
+		})
+	}
+}
+
+// StarterWith shows the values given in place of the defaults, and the
+// file it gives loads with them; the rest is the starter as it is.
+func TestStarterWith(t *testing.T) {
+	text, err := StarterWith(map[string]any{"analysis.deflator": "price_index", "analysis.deflator_exempt": []string{"6100", "6110/PAINT"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := Load(writeConfig(t, text), testKinds)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Analysis.Deflator != "price_index" || strings.Join(c.Analysis.DeflatorExempt, " ") != "6100 6110/PAINT" {
+		t.Errorf("deflator %q, exempt %q", c.Analysis.Deflator, c.Analysis.DeflatorExempt)
+	}
+	plain, err := StarterWith(nil)
+	if err != nil || plain != Starter {
+		t.Errorf("StarterWith(nil) differs from Starter (error %v)", err)
+	}
+	if _, err := StarterWith(map[string]any{"analysis.deflater": "cpi"}); err == nil || err.Error() != "config: starter: no key analysis.deflater" {
+		t.Errorf("undeclared key: %v", err)
+	}
+	if _, err := StarterWith(map[string]any{"analysis.window": "24"}); err == nil || err.Error() != "config: starter: analysis.window takes a int, not a string" {
+		t.Errorf("value of another type: %v", err)
+	}
+}

@@ -2,6 +2,8 @@ package config
 
 import (
 	"fmt"
+	"reflect"
+	"slices"
 	"strings"
 	"unicode/utf8"
 )
@@ -62,6 +64,24 @@ const (
 )
 
 func starter() string {
+	s, _ := StarterWith(nil)
+	return s
+}
+
+// StarterWith is the starter with the given declared keys (by dotted
+// name) showing the values given, of their Go types, instead of their
+// defaults: a config such as the demo's that differs from the starter in a
+// few keys. An undeclared key, or a value of another type, is an error.
+func StarterWith(values map[string]any) (string, error) {
+	for name, v := range values {
+		i := slices.IndexFunc(keys, func(k key) bool { return k.name == name })
+		if i < 0 {
+			return "", fmt.Errorf("config: starter: no key %s", name)
+		}
+		if reflect.TypeOf(v) != reflect.TypeOf(keys[i].def) {
+			return "", fmt.Errorf("config: starter: %s takes a %T, not a %T", name, keys[i].def, v)
+		}
+	}
 	var b strings.Builder
 	b.WriteString(starterHeader)
 	for _, section := range sections {
@@ -70,9 +90,15 @@ func starter() string {
 			b.WriteString(example)
 			continue
 		}
-		writeKeys(&b, keysIn(section))
+		declared := keysIn(section)
+		for i := range declared {
+			if v, ok := values[declared[i].name]; ok {
+				declared[i].example = v
+			}
+		}
+		writeKeys(&b, declared)
 	}
-	return b.String()
+	return b.String(), nil
 }
 
 // writeKeys writes the declared keys of one top-level key as YAML, opening

@@ -47,9 +47,15 @@ type AnalysisSettings struct {
 	BootstrapReplicates int      `json:"bootstrap_replicates"`
 	BreakAlpha          float64  `json:"break_alpha"`
 	Currency            string   `json:"currency"`
-	Grain               Grain    `json:"grain"`
-	Lags                []int    `json:"lags"`
-	MinPeriods          int      `json:"min_periods"`
-	Seed                uint64   `json:"seed"` // of the bootstrap behind break p-values
-	Window              int      `json:"window"`
+	// Deflator is the price index series costs were restated with, and
+	// DeflatorExempt the objects and accounts left as posted; both absent
+	// without one, so that the settings of an analysis without a deflator
+	// keep their JSON and input hashes.
+	Deflator       string   `json:"deflator,omitempty"`
+	DeflatorExempt []string `json:"deflator_exempt,omitempty"`
+	Grain          Grain    `json:"grain"`
+	Lags           []int    `json:"lags"`
+	MinPeriods     int      `json:"min_periods"`
+	Seed           uint64   `json:"seed"` // of the bootstrap behind break p-values
+	Window         int      `json:"window"`
 }

@@ -172,6 +172,12 @@ type Behaviour struct {
 	// level for step costs. Nil when the class is insufficient_data.
 	Prediction *PredictionTerms
 
+	// PriceBase is the period at whose price level the costs were
+	// restated before the fit (README, Prices and inflation): the money of
+	// the formula, its break and its spending checks is at that period's
+	// prices. "" when the costs were fitted as posted.
+	PriceBase string
+
 	// Pending is a change of class, driver or lag seen by one analysis
 	// without a significant break: it takes effect only when the next
 	// analysis sees it too, so that behaviour does not flap.

@@ -5,6 +5,7 @@ import (
 	"hash/fnv"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"time"
 )
 
@@ -43,7 +44,31 @@ const (
 	driverOrders       = "orders"
 	driverMachineHours = "machine_hours"
 	driverLabourHours  = "labour_hours"
+	driverPriceIndex   = "price_index"
 )
+
+// Prices in the invented company rise 3 % a year. The price index is an
+// activity series of its own, company-wide, rebased so that the newest
+// period, 2026-06, is 100:
+//
+//	price_index_t = round(100 · 1.03^((t − 35)/12), 2)    (t = 0 at 2023-07)
+//
+// Every cost but those fixed by contract (rent, the spray booth lease)
+// follows it: the designed amounts of Expectations are at prices of
+// 2026-06, and period t's cost is the design times price_index_t / 100.
+// The demo's config names the index as its deflator and exempts the
+// contracts, so that the analysis, restating each cost at 2026-06's prices,
+// finds the designed formulas again.
+const annualInflation = 1.03
+
+// Deflator is the demo's price index series (analysis.deflator), and
+// DeflatorExempt the accounts whose costs are fixed by contract
+// (analysis.deflator_exempt): rent and the lease.
+const Deflator = driverPriceIndex
+
+// DeflatorExempt returns the accounts exempt from restating; a new slice on
+// every call.
+func DeflatorExempt() []string { return []string{"6100", "6110"} }
 
 // Behaviour classes as written in Expectation.Class.
 const (
@@ -100,6 +125,10 @@ type Expectation struct {
 	// Every is the months from one posting to the next of a cost posted
 	// once a quarter, half-year or year; 0 for a cost posted every month.
 	Every int
+	// Inflates: the cost follows the price index, so the amounts above are
+	// at prices of 2026-06 and period t's cost is multiplied by
+	// price_index_t / 100; false for the costs fixed by contract.
+	Inflates bool
 }
 
 // account describes one line of the chart of accounts.
@@ -182,10 +211,20 @@ func Expectations() []Expectation {
 	insurance := e("6700", assembly, classFixed, "", "", 0, 1000, 0, 0.01)
 	insurance.Every = 3
 
-	return []Expectation{
+	out := []Expectation{
 		tubing, paint, rentWeld, rentPaint, rentAssy, lease, powerWeld, powerPaint,
 		supervision, freight, packaging, maintenance, marketing, insurance,
 	}
+	for i := range out {
+		out[i].Inflates = !slices.Contains(DeflatorExempt(), out[i].Account)
+	}
+	return out
+}
+
+// priceIndex is the price index of period index i (i = 1 is 2023-07), also
+// past the data: 100 at 2026-06.
+func priceIndex(i int) float64 {
+	return math.Round(100*math.Pow(annualInflation, float64(i-periodCount)/12)*100) / 100
 }
 
 // periodStart is the first day of period i, where i = 1 is 2023-07 and i = 0
@@ -290,6 +329,7 @@ func generateActivity(seed uint64) *activity {
 		mk(driverLabourHours, welding, "labour hour", 1),
 		mk(driverLabourHours, painting, "labour hour", 1),
 		mk(driverLabourHours, assembly, "labour hour", 1),
+		mk(driverPriceIndex, "", "index point", 2),
 	}}
 	frames, shipments, orders := a.series[0].values, a.series[1].values, a.series[2].values
 	mhWeld, mhPaint := a.series[3].values, a.series[4].values
@@ -307,6 +347,7 @@ func generateActivity(seed uint64) *activity {
 		lhWeld[i] = roundTenth(f * 1.6 * uniformAround(r, 0.15))
 		lhPaint[i] = roundTenth(f * 0.8 * uniformAround(r, 0.15))
 		lhAssy[i] = roundTenth(f * 1.3 * uniformAround(r, 0.15))
+		a.series[8].values[i] = priceIndex(i) // no draw: the other series stay as they were
 	}
 	return a
 }
@@ -372,6 +413,9 @@ func designCosts(seed uint64, a *activity) ([]objectCost, error) {
 			v := formula(e, a, i)
 			if e.Every > 0 {
 				v *= float64(e.Every)
+			}
+			if e.Inflates {
+				v *= a.find(driverPriceIndex, "").values[i] / 100
 			}
 			switch {
 			case e.Class == classUnexplained:

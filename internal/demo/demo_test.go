@@ -498,6 +498,16 @@ func TestExpectationsMatchDesign(t *testing.T) {
 			t.Errorf("%s: posted every %d months, want %d", tests[k].name, e.Every, want)
 		}
 	}
+	// Every cost follows the price index but rent and the lease, which are
+	// fixed by contract and exempt from restating.
+	for _, e := range got {
+		if contract := e.Account == "6100" || e.Account == "6110"; e.Inflates == contract {
+			t.Errorf("%s/%s: Inflates %v", e.Account, e.CostCenter, e.Inflates)
+		}
+	}
+	if Deflator != "price_index" || !slices.Equal(DeflatorExempt(), []string{"6100", "6110"}) {
+		t.Errorf("deflator %q exempting %v", Deflator, DeflatorExempt())
+	}
 	// The supervision steps of the brief: 6,000 below 1,000 frames, 9,000
 	// for 1,000–1,399, 12,000 from 1,400.
 	steps := got[8].Steps
@@ -523,6 +533,8 @@ func TestExpectationsMatchDesign(t *testing.T) {
 // expectations and the written activity.csv and checks the ledger's monthly
 // cost against it. The noise z is clipped to [−3, 3], so
 // cost / formula − 1 must lie within ±3·Noise (plus half a cent of rounding).
+// A cost that follows the price index is the formula at 2026-06's prices
+// times the written price_index / 100 (README, Set up and try it).
 func TestGroundTruthFromFiles(t *testing.T) {
 	_, _, p := writeAndRead(t, DefaultSeed)
 	sums, _ := p.monthly()
@@ -535,6 +547,7 @@ func TestGroundTruthFromFiles(t *testing.T) {
 		if e.Driver != "" {
 			driver = p.series(e.Driver, e.DriverCostCenter)
 		}
+		prices := p.series("price_index", "")
 		adjusted := 0
 		for i, per := range p.periods {
 			if i < e.Lag {
@@ -565,6 +578,9 @@ func TestGroundTruthFromFiles(t *testing.T) {
 				continue // checked below
 			default:
 				t.Fatalf("%s/%s: class %q", e.Account, e.CostCenter, e.Class)
+			}
+			if e.Inflates {
+				want *= prices[i] / 100
 			}
 			ratio := costs[i]/want - 1
 			tol := 3*e.Noise + 0.005/want
@@ -628,6 +644,7 @@ func TestActivityDesign(t *testing.T) {
 		{"frames_built", ""}: "frame", {"shipments", ""}: "shipment", {"orders", ""}: "order",
 		{"machine_hours", "WELD"}: "machine hour", {"machine_hours", "PAINT"}: "machine hour",
 		{"labour_hours", "WELD"}: "labour hour", {"labour_hours", "PAINT"}: "labour hour", {"labour_hours", "ASSY"}: "labour hour",
+		{"price_index", ""}: "index point",
 	}
 	if fmt.Sprint(p.units) != fmt.Sprint(wantUnits) {
 		t.Fatalf("drivers and units %v, want %v", p.units, wantUnits)
@@ -674,21 +691,35 @@ func TestActivityDesign(t *testing.T) {
 		}
 	}
 	t.Logf("frames_built min %v max %v", slices.Min(frames), slices.Max(frames))
+	// The price index rises 3 % a year to 100 at 2026-06: 100 · 1.03^((t − 35)/12)
+	// rounded to cents of a point, t = 0 at 2023-07 (2023-07: 91.74, hand-worked).
+	for i, v := range p.series("price_index", "") {
+		if want := math.Round(100*math.Pow(1.03, float64(i-35)/12)*100) / 100; v != want {
+			t.Errorf("price_index %s = %v, want %v", p.periods[i], v, want)
+		}
+	}
+	if v := p.activity[[3]string{"2023-07", "price_index", ""}]; v != 91.74 {
+		t.Errorf("price_index 2023-07 = %v, want 91.74", v)
+	}
 }
 
 func TestActivityNumberFormat(t *testing.T) {
 	dir, files, _ := writeAndRead(t, DefaultSeed)
 	count := regexp.MustCompile(`^[0-9]+$`)
 	hours := regexp.MustCompile(`^[0-9]+\.[0-9]$`)
+	points := regexp.MustCompile(`^[0-9]+\.[0-9]{2}$`)
 	for _, r := range readCSV(t, filepath.Join(dir, files.Activity))[1:] {
 		pattern := count
 		if strings.HasSuffix(r[1], "_hours") {
 			pattern = hours
 		}
+		if r[1] == "price_index" {
+			pattern = points
+		}
 		if !pattern.MatchString(r[2]) {
 			t.Errorf("%s %s %s: value %q", r[0], r[1], r[3], r[2])
 		}
-		companyWide := r[1] == "frames_built" || r[1] == "shipments" || r[1] == "orders"
+		companyWide := r[1] == "frames_built" || r[1] == "shipments" || r[1] == "orders" || r[1] == "price_index"
 		if companyWide != (r[3] == "") {
 			t.Errorf("%s %s: cost centre %q", r[0], r[1], r[3])
 		}
@@ -802,14 +833,22 @@ func TestPlans(t *testing.T) {
 		periods []string
 	}{{files.PlanClosed, []string{"2026-04", "2026-05", "2026-06"}}, {files.PlanNext, []string{"2026-07", "2026-08", "2026-09"}}} {
 		rows := readCSV(t, filepath.Join(dir, c.file))
-		if strings.Join(rows[0], ",") != "period,driver,value,cost_center" || len(rows) != 1+3*4 {
-			t.Fatalf("%s: header %v, %d rows (want 12: frames, shipments, machine hours of WELD and PAINT, 3 months)", c.file, rows[0], len(rows)-1)
+		if strings.Join(rows[0], ",") != "period,driver,value,cost_center" || len(rows) != 1+3*5 {
+			t.Fatalf("%s: header %v, %d rows (want 15: frames, shipments, machine hours of WELD and PAINT, the price index, 3 months)", c.file, rows[0], len(rows)-1)
 		}
 		for _, r := range rows[1:] {
 			if !slices.Contains(c.periods, r[0]) {
 				t.Errorf("%s: period %s", c.file, r[0])
 			}
 			at, _ := time.Parse("2006-01", r[0])
+			if r[1] == "price_index" {
+				// Planned at 3 % a year from 100 at 2026-06 (hand-worked).
+				months := (at.Year()-2026)*12 + int(at.Month()) - 6
+				if want := strconv.FormatFloat(math.Round(100*math.Pow(1.03, float64(months)/12)*100)/100, 'f', 2, 64); r[2] != want || r[3] != "" {
+					t.Errorf("%s: price index %s planned %s for %q, want %s company-wide", c.file, r[0], r[2], r[3], want)
+				}
+				continue
+			}
 			before := p.activity[[3]string{at.AddDate(-1, 0, 0).Format("2006-01"), r[1], r[3]}]
 			want := math.Round(before*PlanGrowth/10) * 10
 			if r[1] == "machine_hours" {

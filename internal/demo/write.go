@@ -98,7 +98,8 @@ func Write(dir string, seed uint64) (Files, error) {
 
 // PlanGrowth is the demo company's planning rule: each quarter's activity
 // is planned at the same months of the year before plus 5 %, frames and
-// shipments rounded to tens, machine hours to whole hours.
+// shipments rounded to tens, machine hours to whole hours; the price index
+// at 3 % a year.
 const PlanGrowth = 1.05
 
 // planCSV is the planned activity of the three months from period index
@@ -108,6 +109,11 @@ func (ds *dataset) planCSV(first int) []byte {
 	rows := [][]string{{"period", "driver", "value", "cost_center"}}
 	for i := first; i < first+3; i++ {
 		for _, s := range ds.activity.series {
+			if s.driver == driverPriceIndex {
+				// The index is planned at the company's 3 % a year.
+				rows = append(rows, []string{monthStart(i).Format("2006-01"), s.driver, strconv.FormatFloat(priceIndex(i), 'f', 2, 64), s.costCenter})
+				continue
+			}
 			if s.driver != driverFrames && s.driver != driverShipments && s.driver != driverMachineHours {
 				continue
 			}

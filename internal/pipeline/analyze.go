@@ -134,9 +134,19 @@ func analyzeOver(ctx context.Context, e *Env, db *sqlite.DB, all bool, ledger []
 		postings = window.Postings()
 	}
 	drivers := series.Drivers(activity, window.Periods, ss)
+	// Costs are restated at the newest period's prices before they are
+	// fitted and tested for breaks; the index is then no driver.
+	prices, err := deflationOf(cfg.Deflator, cfg.DeflatorExempt, activity, postedPeriods(window.Periods, ledger), e.Config.File)
+	if err != nil {
+		return nil, fmt.Errorf("analyze: %w", err)
+	}
+	if prices != nil {
+		drivers = withoutSeries(drivers, cfg.Deflator)
+	}
 	settings, _ := json.Marshal(costdrift.AnalysisSettings{Grain: costdrift.Grain(cfg.Grain), Accounts: cfg.Accounts, Window: cfg.Window,
 		MinPeriods: cfg.MinPeriods, Lags: cfg.Lags, Alpha: cfg.Alpha, Currency: e.Currency.Code,
-		BreakAlpha: cfg.BreakAlpha, BootstrapReplicates: cfg.BootstrapReplicates, Seed: bootstrapSeed})
+		BreakAlpha: cfg.BreakAlpha, BootstrapReplicates: cfg.BootstrapReplicates, Seed: bootstrapSeed,
+		Deflator: cfg.Deflator, DeflatorExempt: cfg.DeflatorExempt})
 	run := &costdrift.AnalysisRun{StartedAt: started, Grain: costdrift.Grain(cfg.Grain),
 		WindowFrom: window.From(), WindowTo: window.To(), Settings: string(settings)}
 	res := &AnalysisResult{Classes: map[costdrift.Class]int{}, PeriodsWithPostings: window.WithPostings, activity: activity, Run: run,
@@ -193,7 +203,7 @@ func analyzeOver(ctx context.Context, e *Env, db *sqlite.DB, all bool, ledger []
 	}
 	s := &stream{ctx: ctx, db: db, w: w, res: res, settings: as, names: names, currency: e.Currency.Code, previous: previous,
 		hasher: analyze.NewInputHasher(&costdrift.Panel{Periods: window.Periods, Drivers: drivers}, string(settings)),
-		window: window, postings: postings, drivers: drivers, excluded: excluded,
+		window: window, postings: postings, drivers: drivers, excluded: excluded, prices: prices,
 		jobs: make(chan job, 1), saved: make(chan batch, 1), stop: make(chan struct{}), finished: make(chan struct{})}
 	go s.analyse()
 	go s.save()
@@ -243,10 +253,12 @@ type stream struct {
 	postings *series.Postings // the periods met, to check the window against; nil when it needs no check
 	drivers  []costdrift.DriverSeries
 	excluded map[string][]costdrift.Exclusion // by object
+	prices   *deflation                       // nil: costs as posted
 
 	objects []costdrift.ObjectSeries // every object in scope read since the last batch
 	changed []int                    // which of them to analyse
 	inputs  []string                 // their input hashes
+	bases   []string                 // and the periods whose prices their costs are at ("" as posted)
 
 	// total counts the objects in scope, analysed those handed to the
 	// analysis; stored counts those stored (set by save alone).
@@ -265,12 +277,14 @@ type job struct {
 	panel    costdrift.Panel
 	settings analyze.Settings
 	inputs   []string
+	bases    []string
 }
 
 // batch is what one batch's analysis leaves to store.
 type batch struct {
 	results []analyze.Result
 	inputs  []string
+	bases   []string
 }
 
 // fail stops every stage with err, the first error only.
@@ -304,11 +318,15 @@ func (s *stream) read(totals []costdrift.CostTotal) error {
 	// An excluded period's cost is unknown to the fit, and to the input
 	// hash, so that excluding or including a period refits the object.
 	excludePeriods(&o, s.window.Periods, s.excluded[o.Object.String()])
+	// Restated costs enter the input hash, so that a revised index refits
+	// the objects it restates.
+	base := s.prices.restate(&o, s.window.Periods)
 	s.objects = append(s.objects, o)
 	hash := s.hasher.Hash(&o)
 	if s.previous == nil || s.previous[o.Object.String()] != hash {
 		s.changed = append(s.changed, len(s.objects)-1)
 		s.inputs = append(s.inputs, hash)
+		s.bases = append(s.bases, base)
 	}
 	if len(s.objects) < batchObjects {
 		return nil
@@ -319,7 +337,7 @@ func (s *stream) read(totals []costdrift.CostTotal) error {
 // flush raises the data gaps of the objects read, reads the prior
 // behaviour of those that changed and hands them to be fitted.
 func (s *stream) flush() error {
-	defer func() { s.objects, s.changed, s.inputs = nil, nil, nil }()
+	defer func() { s.objects, s.changed, s.inputs, s.bases = nil, nil, nil, nil }()
 	read := s.window.Panel(s.objects, s.drivers)
 	s.res.gaps = append(s.res.gaps, alerts.DataGap(&read, s.names)...)
 	if len(s.changed) == 0 {
@@ -342,7 +360,7 @@ func (s *stream) flush() error {
 	settings := s.settings
 	settings.Prior = prior
 	select {
-	case s.jobs <- job{panel: s.window.Panel(objects, s.drivers), settings: settings, inputs: s.inputs}:
+	case s.jobs <- job{panel: s.window.Panel(objects, s.drivers), settings: settings, inputs: s.inputs, bases: s.bases}:
 		return nil
 	case <-s.stop:
 		return s.err
@@ -362,7 +380,7 @@ func (s *stream) analyse() {
 			continue
 		}
 		select {
-		case s.saved <- batch{results: results, inputs: j.inputs}:
+		case s.saved <- batch{results: results, inputs: j.inputs, bases: j.bases}:
 		case <-s.stop:
 		}
 	}
@@ -389,6 +407,7 @@ func (s *stream) save() {
 				continue
 			}
 			fits = append(fits, r.Stored()...)
+			r.Behaviour.PriceBase = b.bases[i]
 			behaviours = append(behaviours, r.Behaviour)
 			inputs[name] = b.inputs[i]
 			s.res.Classes[r.Behaviour.Class]++

@@ -20,6 +20,17 @@ import (
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
 
+// demoConfig is the demo's config: the starter with the invented
+// company's price index as its deflator, as `costdrift demo` writes it.
+func demoConfig(t *testing.T) string {
+	t.Helper()
+	text, err := config.StarterWith(map[string]any{"analysis.deflator": demo.Deflator, "analysis.deflator_exempt": demo.DeflatorExempt()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return text
+}
+
 // syncedDemo writes the invented company's books into a new folder and
 // syncs them, without analysing.
 func syncedDemo(t *testing.T) (*Env, *sqlite.DB) {
@@ -29,7 +40,7 @@ func syncedDemo(t *testing.T) (*Env, *sqlite.DB) {
 		t.Fatal(err)
 	}
 	cfg := filepath.Join(dir, "costdrift.yaml")
-	if err := os.WriteFile(cfg, []byte(config.Starter), 0o600); err != nil {
+	if err := os.WriteFile(cfg, []byte(demoConfig(t)), 0o600); err != nil {
 		t.Fatal(err)
 	}
 	e, err := Load(cfg, today)

@@ -69,7 +69,7 @@ func budgetPlan(ctx context.Context, e *Env, db *sqlite.DB, planPath, save strin
 		return BudgetResult{}, fmt.Errorf("budget: %w", err)
 	}
 	lookup, gaps := plannedLookup(e, actual, &plan)
-	lines := flexible(bs, plan.periods(), lookup, e.Calendar.Shift)
+	lines := flexibleAtPrices(newBudgetPrices(e, actual, plan.activityIndex), flexible, bs, plan.periods(), lookup, e.Calendar.Shift)
 	if err := gaps.err(plan.name); err != nil {
 		return BudgetResult{}, err
 	}
@@ -199,8 +199,17 @@ func Variance(ctx context.Context, e *Env, db *sqlite.DB, period, planPath, save
 	if err != nil {
 		return res, fmt.Errorf("variance: %w", err)
 	}
-	lines := budget.Variances(bs, period, costs, activityLookup(actualActivity, actualActivity), planLookup, e.Calendar.Shift)
+	// Each formula at the period's prices, by the index as synced: the
+	// period is closed.
+	prices := newBudgetPrices(e, actualActivity, nil)
+	priceNotes := make([]string, len(bs))
+	moved := make([]costdrift.Behaviour, len(bs))
+	for i := range bs {
+		moved[i], priceNotes[i] = prices.at(bs[i], period)
+	}
+	lines := budget.Variances(moved, period, costs, activityLookup(actualActivity, actualActivity), planLookup, e.Calendar.Shift)
 	for i := range lines { // one line per behaviour, in order
+		addNote(&lines[i].Flexible, &lines[i].Warning, priceNotes[i])
 		if gaps != nil {
 			if n := gaps.note(period, lines[i].Driver, lines[i].Object.CostCenter, lines[i].Lag, e.Calendar.Shift, "static budget"); n != "" {
 				lines[i].Warning = strings.TrimPrefix(lines[i].Warning+"; "+n, "; ")

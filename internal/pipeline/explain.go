@@ -49,13 +49,17 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	excluded := decided[b.Object.String()].Excluded
-	note, err := refitLines(ctx, e, db, &oa, excluded)
+	prices, index, err := objectPrices(ctx, e, db, oa)
+	if err != nil {
+		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
+	}
+	note, err := refitLines(ctx, e, db, &oa, excluded, index)
 	if err != nil {
 		return report.Explanation{}, nil, fmt.Errorf("explain %s: %w", object, err)
 	}
 	ex := report.Explain(report.ExplainInput{
 		Behaviour: b, AccountName: names[b.Object.Account], Run: oa.Run, Alpha: oa.Settings.Alpha, Fits: oa.Fits,
-		Decided: decided[b.Object.String()],
+		Decided: decided[b.Object.String()], Prices: prices,
 		ActivityPeriod: func(p string, lag int) string {
 			if _, err := e.Calendar.Parse(p); err != nil {
 				return p
@@ -106,7 +110,7 @@ func Explain(ctx context.Context, e *Env, db *sqlite.DB, object string, withChar
 // on). The stored fits stay as they are; a candidate fitted again is added
 // only when the lines the store kept come out the same, so that the table
 // is the analysis's. Otherwise the note says why the table is short.
-func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis, excluded []costdrift.Exclusion) (string, error) {
+func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAnalysis, excluded []costdrift.Exclusion, index *series.PriceIndex) (string, error) {
 	b := oa.Behaviour
 	stored := map[[2]string]*costdrift.Fit{}
 	for i, f := range oa.Fits {
@@ -159,7 +163,14 @@ func refitLines(ctx context.Context, e *Env, db *sqlite.DB, oa *sqlite.ObjectAna
 			continue
 		}
 		excludePeriods(&obj, w.Periods, excluded)
-		p := w.Panel([]costdrift.ObjectSeries{obj}, series.Drivers(activity, w.Periods, ss))
+		if !restateAsAnalysed(&obj, w.Periods, index, b.PriceBase) {
+			continue
+		}
+		drivers := series.Drivers(activity, w.Periods, ss)
+		if oa.Settings.Deflator != "" {
+			drivers = withoutSeries(drivers, oa.Settings.Deflator)
+		}
+		p := w.Panel([]costdrift.ObjectSeries{obj}, drivers)
 		lines := analyze.Lines(&p, &p.Objects[0], as)
 		if len(lines) != b.Diagnostics.Candidates || !sameLines(lines, stored) {
 			continue
@@ -290,7 +301,8 @@ func editDistance(a, b string) int {
 
 // analysedPoints reads the periods the chosen formula was fitted on: for
 // every period of the run's window in which the ledger has postings, the
-// object's cost (zero when it posted nothing) beside the chosen driver's
+// object's cost (zero when it posted nothing; restated at the formula's
+// prices when the analysis restated it) beside the chosen driver's
 // value lag periods before, read as the analysis reads it (the cost centre's
 // own series, else the company-wide one). Periods without a driver value
 // are left out, as the analysis leaves them out.
@@ -310,6 +322,11 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, costsOf costRead
 	if err != nil {
 		return nil, err
 	}
+	// The costs the formula was fitted on: restated, when they were.
+	at, err := costsAtPrices(ctx, db, oa)
+	if err != nil {
+		return nil, err
+	}
 	outlier := map[string]bool{}
 	for _, o := range b.Outliers {
 		outlier[o.Period] = true
@@ -320,7 +337,7 @@ func analysedPoints(ctx context.Context, e *Env, db *sqlite.DB, costsOf costRead
 		if !ledger[p] || !ok {
 			continue
 		}
-		pts = append(pts, chart.Point{Period: p, Activity: v, Cost: e.Currency.Units(costs[p]), Outlier: outlier[p]})
+		pts = append(pts, chart.Point{Period: p, Activity: v, Cost: at(p, e.Currency.Units(costs[p])), Outlier: outlier[p]})
 	}
 	return pts, nil
 }

@@ -11,7 +11,6 @@ import (
 	"time"
 
 	"github.com/costdrift/costdrift/internal/chart"
-	"github.com/costdrift/costdrift/internal/config"
 	"github.com/costdrift/costdrift/internal/demo"
 	"github.com/costdrift/costdrift/internal/sqlite"
 )
@@ -29,7 +28,7 @@ func demoStore(t *testing.T) (cfg, store string) {
 		t.Fatal(err)
 	}
 	cfg = filepath.Join(dir, "costdrift.yaml")
-	if err := os.WriteFile(cfg, []byte(config.Starter), 0o600); err != nil {
+	if err := os.WriteFile(cfg, []byte(demoConfig(t)), 0o600); err != nil {
 		t.Fatal(err)
 	}
 	e, err := Load(cfg, today)
@@ -64,7 +63,9 @@ func TestExplainPointsAndChartLayers(t *testing.T) {
 
 // checkPoints compares the periods explain charts with the cost_series and cost_with_drivers views
 // read independently: each point's cost is the object's amount in its
-// period, its activity the driver's value lag months before.
+// period, restated at 2026-06's prices by the demo's price index (100 then:
+// amount × 100 / index of the period), its activity the driver's value lag
+// months before.
 func checkPoints(t *testing.T, cfg, store, object, account, costCenter, driver string, lag, n int) {
 	t.Helper()
 	e, db := openDemo(t, cfg)
@@ -97,7 +98,7 @@ func checkPoints(t *testing.T, cfg, store, object, account, costCenter, driver s
 		month, _ := time.Parse("2006-01", p.Period)
 		before := month.AddDate(0, -lag, 0).Format("2006-01")
 		cost := value(`SELECT amount FROM cost_series WHERE account = ? AND cost_center = ? AND period = ?`,
-			account, costCenter, p.Period)
+			account, costCenter, p.Period) * 100 / value(`SELECT value FROM activity WHERE driver = 'price_index' AND period = ?`, p.Period)
 		activity := value(`SELECT driver_value FROM cost_with_drivers WHERE account = ? AND cost_center = ? AND driver = ? AND period = ?`,
 			account, costCenter, driver, before)
 		if math.Abs(p.Cost-cost) > 0.005 || p.Activity != activity {
@@ -160,7 +161,7 @@ func checkChartLayers(t *testing.T, cfg, store string) {
 	}
 
 	step := layers("6300/ASSY", nil)
-	if step.Fit != nil || len(step.Steps) != 3 || step.Steps[1].Level != 8977.126666666667 || step.HighLow == nil {
+	if step.Fit != nil || len(step.Steps) != 3 || step.Steps[1].Level != 8977.125089410394 || step.HighLow == nil {
 		t.Errorf("step chart: fit %v, steps %+v, high-low %v", step.Fit, step.Steps, step.HighLow)
 	}
 	for _, p := range step.Points {
@@ -175,7 +176,7 @@ func checkChartLayers(t *testing.T, cfg, store string) {
 	}
 
 	mixed := layers("6500/WELD", nil)
-	if mixed.Fit == nil || mixed.Fit.Fixed != 931.1790223828373 || mixed.Fit.Rate != 1.0712101673565406 || mixed.XLabel != "machine hours of the period before" {
+	if mixed.Fit == nil || mixed.Fit.Fixed != 931.1810266277805 || mixed.Fit.Rate != 1.071207426763338 || mixed.XLabel != "machine hours of the period before" {
 		t.Errorf("mixed chart line %+v, x label %q", mixed.Fit, mixed.XLabel)
 	}
 	outliers := 0

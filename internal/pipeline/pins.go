@@ -88,6 +88,7 @@ func pinnedBehaviour(b costdrift.Behaviour, p costdrift.Pin, x, y []float64) cos
 	nb.Driver2, nb.Unit2, nb.Lag2, nb.VariableRate2 = "", "", 0, 0
 	nb.Steps, nb.Break, nb.Pending, nb.Spending = nil, nil, nil, nil
 	nb.Prediction = nil
+	nb.PriceBase = "" // a pinned formula is taken as the accountant entered it
 	n := len(y)
 	if n == 0 {
 		return nb

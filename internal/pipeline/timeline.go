@@ -56,6 +56,11 @@ func timeline(ctx context.Context, e *Env, db *sqlite.DB, costsOf costReader, oa
 			outlier[o.Period] = true
 		}
 	}
+	// The costs the formula was fitted on: restated, when they were.
+	at, err := costsAtPrices(ctx, db, oa)
+	if err != nil {
+		return chart.Timeline{}, err
+	}
 	periods := e.Calendar.Between(run.WindowFrom, run.WindowTo)
 	since := slices.Index(periods, b.Since)
 	title := b.Object.String()
@@ -67,7 +72,7 @@ func timeline(ctx context.Context, e *Env, db *sqlite.DB, costsOf costReader, oa
 		if !ledger[p] {
 			continue
 		}
-		pt := chart.TimePoint{Period: p, Cost: e.Currency.Units(costs[p]), Formula: math.NaN(), Outlier: outlier[p]}
+		pt := chart.TimePoint{Period: p, Cost: at(p, e.Currency.Units(costs[p])), Formula: math.NaN(), Outlier: outlier[p]}
 		if b.Break != nil && since >= 0 && i < since {
 			pt.Before = true
 			pt.Formula = formulaBefore(b, xBefore, p)

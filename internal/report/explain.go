@@ -28,6 +28,9 @@ type ExplainInput struct {
 	ActivityPeriod func(period string, lag int) string
 	// Decided is what the accountant decided about the object.
 	Decided Decided
+	// Prices are the costs as posted beside those restated, for a formula
+	// fitted on restated costs; nil for one fitted as posted.
+	Prices *PriceLevels
 }
 
 // Explanation is one cost object's behaviour with the evidence behind it.
@@ -43,6 +46,9 @@ type Explanation struct {
 	Models      []ModelLine        `json:"models"`
 	Comparison  *HighLowComparison `json:"high_low_comparison"`
 	Diagnostics DiagnosticsView    `json:"diagnostics"`
+	// Prices: the costs as posted beside those the formula was fitted on,
+	// absent when they are the same.
+	Prices *PriceLevels `json:"prices,omitempty"`
 	// Notes are warnings the caller adds, such as data changed since the
 	// analysis.
 	Notes     []string `json:"notes"`
@@ -151,6 +157,7 @@ func Explain(in ExplainInput) Explanation {
 		Notes:    []string{},
 		Cautions: Caution,
 		Analysis: AnalysisInfo{RunID: in.Run.ID, WindowFrom: in.Run.WindowFrom, WindowTo: in.Run.WindowTo, Alpha: in.Alpha},
+		Prices:   in.Prices,
 	}
 	if !in.Run.FinishedAt.IsZero() {
 		e.Analysis.FinishedAt = in.Run.FinishedAt.UTC().Format(time.RFC3339)
@@ -410,6 +417,7 @@ func ExplainJSON(w io.Writer, e Explanation) error {
 func ExplainText(w io.Writer, e Explanation, currency string) error {
 	var s strings.Builder
 	explainHeader(&s, e, currency)
+	explainPrices(&s, e)
 	explainDrivers(&s, e, currency)
 	explainModels(&s, e)
 	explainHighLow(&s, e)

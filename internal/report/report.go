@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"text/tabwriter"
 	"time"
@@ -57,6 +58,9 @@ type Row struct {
 	Pending *costdrift.Pending `json:"pending"`
 	// Cadence: a cost posted every few periods, left out otherwise.
 	Cadence *costdrift.Cadence `json:"cadence,omitempty"`
+	// PriceBase is the period whose prices the formula is at, when the
+	// costs were restated by analysis.deflator; "" as posted.
+	PriceBase string `json:"price_base,omitempty"`
 
 	// What the accountant decided (README "The accountant's decisions"):
 	// the pinned formula, null without one; the periods left out of the
@@ -217,7 +221,7 @@ func DecidedRows(bs []costdrift.Behaviour, names map[string]string, decided map[
 			Object: b.Object.String(), Account: b.Object.Account, CostCenter: b.Object.CostCenter,
 			Class: b.Class, N: b.N, Since: b.Since, Until: b.Until, Steps: b.Steps,
 			AccountName: names[b.Object.Account], Unit: b.Unit, Reason: b.Reason, HighLow: b.HighLow,
-			Formula: Formula(b), Gaps: StepGaps(b),
+			Formula: Formula(b), Gaps: StepGaps(b), PriceBase: b.PriceBase,
 		}
 		if r.Steps == nil {
 			r.Steps = []costdrift.StepLevel{}
@@ -304,7 +308,15 @@ func JSON(w io.Writer, rows []Row) error { return EncodeJSON(w, rows) }
 // TerminalText.
 func Table(w io.Writer, rows []Row, currency string) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "OBJECT\tACCOUNT\tCLASS\tFORMULA (%s per period)\tR²\tN\tRELEVANT RANGE\tSINCE\n", currency)
+	// With costs restated by a price index, a column says whose prices
+	// each formula is at, rather than every formula (README, Prices and
+	// inflation).
+	restated := slices.ContainsFunc(rows, func(r Row) bool { return r.PriceBase != "" })
+	prices := ""
+	if restated {
+		prices = "\tPRICES"
+	}
+	fmt.Fprintf(tw, "OBJECT\tACCOUNT\tCLASS\tFORMULA (%s per period)%s\tR²\tN\tRELEVANT RANGE\tSINCE\n", currency, prices)
 	for _, r := range rows {
 		r2, rng := "-", "-"
 		if r.R2 != nil {
@@ -313,8 +325,16 @@ func Table(w io.Writer, rows []Row, currency string) error {
 		if r.RangeMin != nil {
 			rng = present.ActivityRange(*r.RangeMin, *r.RangeMax)
 		}
+		formula := TerminalText(r.Formula)
+		if restated {
+			at := "as posted"
+			if r.PriceBase != "" {
+				formula, at = TerminalText(strings.TrimSuffix(r.Formula, " at prices of "+r.PriceBase)), r.PriceBase
+			}
+			formula += "\t" + TerminalText(at)
+		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%s\n", TerminalText(r.Object), clip(TerminalText(r.AccountName), 24),
-			TerminalText(string(r.Class)), TerminalText(r.Formula), r2, r.N, rng, TerminalText(r.Since))
+			TerminalText(string(r.Class)), formula, r2, r.N, rng, TerminalText(r.Since))
 	}
 	if err := tw.Flush(); err != nil {
 		return err
@@ -375,8 +395,18 @@ func Table(w io.Writer, rows []Row, currency string) error {
 
 // Formula writes a behaviour's cost formula out in words:
 // "cost = 4,210.00 + 1.87 per machine hour". A step cost's levels name
-// their activity ranges; StepGaps says what holds between them.
+// their activity ranges; StepGaps says what holds between them. A formula
+// fitted on costs restated by a price index says whose prices it is at:
+// "cost = 5,765.66 at prices of 2026-06" (README, Prices and inflation).
 func Formula(b costdrift.Behaviour) string {
+	f := formula(b)
+	if b.PriceBase != "" && b.Class != costdrift.InsufficientData {
+		f += " at prices of " + b.PriceBase
+	}
+	return f
+}
+
+func formula(b costdrift.Behaviour) string {
 	per := "per " + unitName(b) + lagText(b.Lag)
 	if b.Driver2 != "" {
 		sign, rate := "+", b.VariableRate2

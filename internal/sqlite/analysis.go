@@ -392,7 +392,7 @@ func (w *AnalysisWriter) saveBehaviour(ctx context.Context, b *costdrift.Behavio
 // behaviourColumns.
 const behaviourColumns = `class, driver, unit, lag, fixed_per_period, variable_rate, r2, n, range_min, range_max, since, until, steps, reason,
 	mean_cost, cv, high_low, driver2, unit2, lag2, variable_rate2, outliers, diagnostics, break, pending, spending, prediction,
-	cadence, cadence_phase`
+	cadence, cadence_phase, price_base`
 
 func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 	steps, highLow, diagnostics, brk, pending := "", "", "", "", ""
@@ -435,7 +435,7 @@ func behaviourValues(b *costdrift.Behaviour) ([]any, error) {
 		nullString(steps), b.Reason, num(b.MeanCost), num(b.CV), nullString(highLow),
 		nullString(b.Driver2), nullString(b.Unit2), lag2, rate2(b), jsonOrNull(b.Outliers), nullString(diagnostics),
 		nullString(brk), nullString(pending), spendingJSON(b.Spending), predictionJSON(b.Prediction),
-		cadenceEvery(b), cadencePhase(b)}, nil
+		cadenceEvery(b), cadencePhase(b), nullString(b.PriceBase)}, nil
 }
 
 // cadenceEvery and cadencePhase are a cadence's columns, NULL for a cost
@@ -594,12 +594,12 @@ const (
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, COALESCE(high_low, ''),
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, COALESCE(outliers, ''), COALESCE(diagnostics, ''),
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, ''), cadence, cadence_phase`
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), COALESCE(prediction, ''), cadence, cadence_phase, COALESCE(price_base, '')`
 	briefColumns = `account, cost_center, class, COALESCE(driver, ''), COALESCE(unit, ''), lag,
 		fixed_per_period, variable_rate, r2, n, range_min, range_max, COALESCE(since, ''), COALESCE(until, ''),
 		COALESCE(steps, ''), reason, mean_cost, cv, '',
 		COALESCE(driver2, ''), COALESCE(unit2, ''), lag2, variable_rate2, '', '',
-		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), '', cadence, cadence_phase`
+		COALESCE(break, ''), COALESCE(pending, ''), COALESCE(spending, ''), '', cadence, cadence_phase, COALESCE(price_base, '')`
 )
 
 // eachBehaviourOf is eachBehaviour reading columns (readColumns or
@@ -622,7 +622,7 @@ func eachBehaviourOf(ctx context.Context, q conn, columns, where string, fn func
 		var cadence, phase sql.NullInt64
 		if err := rows.Scan(&b.Object.Account, &b.Object.CostCenter, &class, &b.Driver, &b.Unit, &lag, &fixed, &rate, &r2, &b.N,
 			&lo, &hi, &b.Since, &b.Until, &steps, &b.Reason, &mean, &cv, &highLow,
-			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction, &cadence, &phase); err != nil {
+			&b.Driver2, &b.Unit2, &lag2, &rate2, &outliers, &diagnostics, &brk, &pending, &spending, &prediction, &cadence, &phase, &b.PriceBase); err != nil {
 			return err
 		}
 		if cadence.Valid {

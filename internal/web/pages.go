@@ -219,7 +219,11 @@ type objectData struct {
 // periodRow is one period of the cost-over-time chart as a table row,
 // with the address of its ledger lines.
 type periodRow struct {
-	Period          string
+	Period string
+	// Posted is the cost as the ledger lines add up, when Cost is that
+	// cost restated at the formula's prices (README, Prices and
+	// inflation); nil otherwise.
+	Posted          *float64
 	Cost            float64
 	Formula         *float64 // nil where the formula gives nothing
 	Before, Outlier bool
@@ -257,8 +261,17 @@ func (s *Server) object(ctx context.Context, e *pipeline.Env, r *http.Request) (
 			return "", "", nil, fmt.Errorf("object %s: chart: %w", name, err)
 		}
 		d.Timeline = labelled(buf.Bytes(), "Chart of the cost of "+name+" over the periods, with the formula of each period")
+		posted := map[string]float64{}
+		if ex.Prices != nil {
+			for _, c := range ex.Prices.Periods {
+				posted[c.Period] = c.Posted
+			}
+		}
 		for _, p := range charts.Timeline.Points {
 			row := periodRow{Period: p.Period, Cost: p.Cost, Before: p.Before, Outlier: p.Outlier, Lines: linesLink(name, p.Period, 1)}
+			if v, ok := posted[p.Period]; ok {
+				row.Posted = &v
+			}
 			if !math.IsNaN(p.Formula) {
 				f := p.Formula
 				row.Formula = &f

@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
-# Cross-checks of internal/fit, internal/drift and the analysis of periods
-# left out by the accountant against general-purpose libraries.
+# Cross-checks of internal/fit, internal/drift, the analysis of periods
+# left out by the accountant and of costs restated by a price index against
+# general-purpose libraries.
 #
 # 1. Regenerates the golden files into a temporary folder with the Debian
 #    packages named below and compares them numerically with the committed
@@ -41,12 +42,14 @@ else
   "$PY" "$here/generate.py" "$tmp/cases.json"
   "$PY" "$here/intervals.py" "$tmp/intervals.json"
   "$PY" "$here/exclusions.py" "$tmp/exclusions.json"
+  "$PY" "$here/deflator.py" "$tmp/deflator.json"
   Rscript "$here/steps.R" "$tmp/steps.json"
   Rscript "$here/drift.R" "$tmp/drift.json"
   status=0
   "$PY" "$here/compare.py" "$golden/cases.json" "$tmp/cases.json" || status=1
   "$PY" "$here/compare.py" "$golden/intervals.json" "$tmp/intervals.json" || status=1
   "$PY" "$here/compare.py" "$golden/exclusions.json" "$tmp/exclusions.json" || status=1
+  "$PY" "$here/compare.py" "$golden/deflator.json" "$tmp/deflator.json" || status=1
   "$PY" "$here/compare.py" "$golden/steps.json" "$tmp/steps.json" || status=1
   "$PY" "$here/compare.py" "$golden/drift.json" "$tmp/drift.json" || status=1
   if [ $status -ne 0 ]; then
