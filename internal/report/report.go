@@ -381,7 +381,7 @@ func Table(w io.Writer, rows []Row, currency string) error {
 			if r.Driver != nil {
 				unit = present.UnitOf(r.Unit, *r.Driver) + lagText(*r.Lag)
 			}
-			fmt.Fprintf(w, "  %-12s high-low: cost = %s (high %s, low %s)\n", "", TerminalText(lineFormula(hl.Fixed, hl.Rate, unit)),
+			fmt.Fprintf(w, "  %-12s high-low: %s (high %s, low %s)\n", "", TerminalText(lineFormula(hl.Fixed, hl.Rate, unit)),
 				TerminalText(hl.HighPeriod), TerminalText(hl.LowPeriod))
 			if hl.Warning != "" {
 				fmt.Fprintf(w, "  %-12s warning: %s\n", "", TerminalText(hl.Warning))

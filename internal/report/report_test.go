@@ -160,3 +160,18 @@ func TestStepGaps(t *testing.T) {
 		t.Errorf("mixed: %q", got)
 	}
 }
+
+// The high-low line under a row's reason reads as one formula: "high-low:
+// cost = 200.00 + 3.00 per frame", never "cost = cost = …".
+func TestTableHighLowLine(t *testing.T) {
+	b := costdrift.Behaviour{Object: costdrift.CostObject{Account: "5100", CostCenter: "WELD"}, Class: costdrift.Mixed, Driver: "frames_built",
+		Unit: "frame", FixedPerPeriod: 210, VariableRate: 2.9, R2: 0.97, N: 36, RangeMin: 600, RangeMax: 1600, Since: "2023-07", Reason: "cost moves with frames built",
+		HighLow: &costdrift.HighLow{HighPeriod: "2025-07", LowPeriod: "2023-11", HighActivity: 1600, LowActivity: 600, HighCost: 5000, LowCost: 2000, Fixed: 200, Rate: 3}}
+	var buf bytes.Buffer
+	if err := Table(&buf, Rows([]costdrift.Behaviour{b}, nil), "EUR"); err != nil {
+		t.Fatal(err)
+	}
+	if want := "high-low: cost = 200.00 + 3.00 per frame (high 2025-07, low 2023-11)"; !strings.Contains(buf.String(), want) {
+		t.Errorf("table lacks %q:\n%s", want, buf.String())
+	}
+}
