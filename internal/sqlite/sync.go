@@ -656,26 +656,54 @@ type balance struct {
 }
 
 // bloomBits is the size of the filter, 16 MiB, taken only by a file of
-// more than maxSuspects unbalanced entries. With four probes an entry is
-// wrongly said to have come back with the chance (1 - e^(-4n/m))^4 for n
-// entries in m bits: over a file of 400,000 unbalanced entries, about one
-// chance in 130 that the store is asked when it need not be; over a
-// million, one in two.
-const bloomBits = 1 << 27
+// more than maxSuspects unbalanced entries. It is a blocked filter (Putze,
+// Sanders and Singler 2007, "Cache-, hash- and space-efficient Bloom
+// filters", WEA 2007, LNCS 4525): an entry's bloomProbes bits all lie in one
+// block of 512 bits, a cache line, so that adding or asking costs one miss
+// of the processor's cache, not one a probe. Over a file of a million
+// unbalanced entries the store is then asked when it need not be about one
+// time in 200 (with the blocks' entries Poisson-distributed, 3.8 a block on
+// average: 5·10⁻⁹ a question at the end, less before); four probes spread
+// over the whole filter asked it one time in two.
+const (
+	bloomBits   = 1 << 27
+	bloomBlock  = 512 // bits; 64 bytes
+	bloomProbes = 8
+)
 
-// probes are the filter's bits for an entry (double hashing).
-func (b *balance) probes(entry string) [4]uint64 {
+// probes are the filter's bits for an entry: a block, and bloomProbes bits
+// in it of 9 bits each, five from the hash's bits above the block's and
+// three from a mix of the whole hash (the finaliser of SplitMix64; Steele,
+// Lea and Flood 2014, "Fast splittable pseudorandom number generators",
+// OOPSLA 2014). Positions drawn by double hashing inside so small a block
+// put two entries of a block on the same bits one time in 131,072, and
+// asked wrongly a thousand times as often.
+func (b *balance) probes(entry string) (block uint64, bits [bloomProbes]uint64) {
 	h := maphash.String(b.seed, entry)
-	h1, h2 := h&(bloomBits-1), (h>>32|1)&(bloomBits-1)
-	return [4]uint64{h1, (h1 + h2) & (bloomBits - 1), (h1 + 2*h2) & (bloomBits - 1), (h1 + 3*h2) & (bloomBits - 1)}
+	block = (h & (bloomBits/bloomBlock - 1)) * (bloomBlock / 64)
+	g := h ^ h>>30
+	g *= 0xbf58476d1ce4e5b9
+	g ^= g >> 27
+	g *= 0x94d049bb133111eb
+	g ^= g >> 31
+	r := h >> 18
+	for i := range bits {
+		if i < 5 {
+			bits[i], r = r&(bloomBlock-1), r>>9
+		} else {
+			bits[i], g = g&(bloomBlock-1), g>>9
+		}
+	}
+	return block, bits
 }
 
 func (b *balance) mayHaveClosedUnbalanced(entry string) bool {
 	if b.unbalancedSeen == nil {
 		return false
 	}
-	for _, i := range b.probes(entry) {
-		if b.unbalancedSeen[i/64]&(1<<(i%64)) == 0 {
+	block, bits := b.probes(entry)
+	for _, i := range bits {
+		if b.unbalancedSeen[block+i/64]&(1<<(i%64)) == 0 {
 			return false
 		}
 	}
@@ -687,8 +715,9 @@ func (b *balance) markUnbalanced(entry string) {
 		b.seed = maphash.MakeSeed()
 		b.unbalancedSeen = make([]uint64, bloomBits/64)
 	}
-	for _, i := range b.probes(entry) {
-		b.unbalancedSeen[i/64] |= 1 << (i % 64)
+	block, bits := b.probes(entry)
+	for _, i := range bits {
+		b.unbalancedSeen[block+i/64] |= 1 << (i % 64)
 	}
 }
 
