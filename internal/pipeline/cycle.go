@@ -51,6 +51,10 @@ func RunCycle(ctx context.Context, e *Env, db *sqlite.DB, log *slog.Logger, obse
 	// A page damaged since the store was opened stops the cycle before it
 	// writes: more writes could spread the damage.
 	if err := db.Check(ctx); err != nil {
+		if ctx.Err() != nil {
+			log.Info("cycle not started: stopped during the store's check")
+			return res, err
+		}
 		log.Error("cycle not started: the store fails its check", "error", err)
 		return res, err
 	}

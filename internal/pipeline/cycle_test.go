@@ -58,3 +58,28 @@ func TestCycleRefusesADamagedStore(t *testing.T) {
 		t.Errorf("cycles %d -> %d: the refused cycle wrote into the store", cyclesBefore, cyclesAfter)
 	}
 }
+
+// A cycle stopped before its check of the store ends (the daemon told to
+// stop) logs the stop, not a damaged store, and writes nothing.
+func TestCycleStoppedDuringItsCheck(t *testing.T) {
+	cfg, store := demoStore(t)
+	e, err := Load(cfg, today)
+	if err != nil {
+		t.Fatal(err)
+	}
+	db, err := sqlite.Open(context.Background(), store, e.Currency)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	var log bytes.Buffer
+	_, err = RunCycle(ctx, e, db, slog.New(slog.NewTextHandler(&log, nil)), nil)
+	if !errors.Is(err, context.Canceled) || errors.Is(err, sqlite.ErrCorrupt) {
+		t.Errorf("cycle stopped during its check: %v, want context.Canceled", err)
+	}
+	if strings.Contains(log.String(), "level=ERROR") || !strings.Contains(log.String(), "cycle not started: stopped") {
+		t.Errorf("the log should say the cycle stopped, with no error:\n%s", log.String())
+	}
+}

@@ -84,3 +84,15 @@ func TestQuickCheckOnceForAnUnchangedStore(t *testing.T) {
 		t.Fatalf("opening a store damaged after its last check: %v", err)
 	}
 }
+
+// A check stopped before it ends (the daemon told to stop while it checks)
+// found nothing wrong: its error is the stop, not a damaged store.
+func TestCheckStoppedIsNotDamage(t *testing.T) {
+	db, _ := mustOpen(t)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	err := db.Check(ctx)
+	if errors.Is(err, ErrCorrupt) || !errors.Is(err, context.Canceled) {
+		t.Errorf("check of an intact store, stopped: %v; want context.Canceled, not %v", err, ErrCorrupt)
+	}
+}

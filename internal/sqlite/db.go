@@ -366,6 +366,10 @@ var ErrCorrupt = errors.New("the store is damaged")
 // (checkstamp.go); the daemon runs it before every cycle.
 func (db *DB) Check(ctx context.Context) error {
 	rows, err := db.db.QueryContext(ctx, `PRAGMA quick_check(5)`)
+	if ctx.Err() != nil {
+		// Stopped before it ended: it found nothing, and says so.
+		return fmt.Errorf("quick check of the store stopped: %w", ctx.Err())
+	}
 	if err != nil {
 		return fmt.Errorf("%w: PRAGMA quick_check failed: %v; restore the store from a backup", ErrCorrupt, err)
 	}
@@ -381,6 +385,9 @@ func (db *DB) Check(ctx context.Context) error {
 		}
 	}
 	if err := rows.Err(); err != nil {
+		if ctx.Err() != nil {
+			return fmt.Errorf("quick check of the store stopped: %w", ctx.Err())
+		}
 		return fmt.Errorf("%w: PRAGMA quick_check failed: %v; restore the store from a backup", ErrCorrupt, err)
 	}
 	if len(found) > 0 {
