@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -115,6 +116,7 @@ func BreakEven(ctx context.Context, e *Env, db *sqlite.DB, req BreakEvenRequest)
 	if err != nil {
 		return res, fmt.Errorf("breakeven: %w", err)
 	}
+	priceNotes := atReferencePrices(e, bs, actual, plan, res.Period)
 
 	price := req.Price
 	res.PriceFrom = "given"
@@ -161,6 +163,7 @@ func BreakEven(ctx context.Context, e *Env, db *sqlite.DB, req BreakEvenRequest)
 			be.Parts[i].How = note + " formula; " + be.Parts[i].How
 		}
 	}
+	be.Notes = append(priceNotes, be.Notes...)
 	res.BreakEven = be
 	if res.Names, err = db.AccountNames(ctx); err != nil {
 		return res, err
@@ -252,4 +255,36 @@ func revenuePrice(ctx context.Context, e *Env, db *sqlite.DB, req BreakEvenReque
 	sort.Strings(periods)
 	from := fmt.Sprintf("account %s, %s to %s (%d periods), taken as known", req.Revenue, periods[0], periods[len(periods)-1], len(periods))
 	return revenue / volume, from, nil
+}
+
+// atReferencePrices moves each formula fitted on restated costs to the
+// prices of the reference period, in place, as that period's budget moves
+// it (README, Prices and inflation): the price per unit is the period's,
+// and so must the costs be. It returns what the analysis should say of the
+// prices, each note once; without a reference period, the formulas stay at
+// the prices they were fitted at, and the note says which.
+func atReferencePrices(e *Env, bs []costdrift.Behaviour, actual *activityIndex, plan *planFile, period string) []string {
+	var planIndex *activityIndex
+	if plan != nil {
+		planIndex = plan.activityIndex
+	}
+	prices := newBudgetPrices(e, actual, planIndex)
+	var notes []string
+	note := func(n string) {
+		if n != "" && !slices.Contains(notes, n) {
+			notes = append(notes, n)
+		}
+	}
+	for i := range bs {
+		if period == "" {
+			if bs[i].PriceBase != "" {
+				note("formulas at prices of " + bs[i].PriceBase + ": no reference period to move them to")
+			}
+			continue
+		}
+		var n string
+		bs[i], n = prices.at(bs[i], period)
+		note(n)
+	}
+	return notes
 }

@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -393,5 +394,92 @@ func TestDeflatorPerCostCentre(t *testing.T) {
 	want := `analysis.deflator in costdrift.yaml: the price index "cpi" is kept per cost centre only; give it company-wide (without a cost centre) in its activity source and run costdrift sync`
 	if err == nil || err.Error() != want {
 		t.Errorf("deflationOf: %v\nwant %s", err, want)
+	}
+}
+
+// A break-even is taken at the reference period's prices, as that period's
+// budget is: a formula fitted on restated costs is moved there by the
+// plan's index, else the newest synced one, and the note says so; a cost
+// exempt from restating stays as posted.
+func TestBreakEvenAtTheReferencePeriodsPrices(t *testing.T) {
+	e, db := inflationBooks(t, "cpi", []string{"6300/ADMIN"}, asPublished)
+	ctx := context.Background()
+	// A cost the volume drives: 3 a machine hour at 2023-07 prices,
+	// posted at the prices of its month.
+	values, err := db.Activity(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	index := map[string]float64{}
+	for _, v := range values {
+		if v.Driver == "cpi" {
+			index[v.Period] = v.Value
+		}
+	}
+	var gl strings.Builder
+	gl.WriteString("entry_id,line,date,account,cost_center,amount,description\n")
+	for _, v := range values {
+		if v.Driver == "machine_hours" {
+			fmt.Fprintf(&gl, "V%s,1,%s-20,5100,SHOP,%.2f,parts\n", v.Period, v.Period, 3*v.Value*index[v.Period]/100)
+		}
+	}
+	if err := os.WriteFile(e.Config.Path("data/gl/parts.csv"), []byte(gl.String()), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Sync(ctx, e, db, nil); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Analyze(ctx, e, db, true); err != nil {
+		t.Fatal(err)
+	}
+	bs, err := db.CurrentBehaviour(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var admin, parts costdrift.Behaviour
+	for _, b := range bs {
+		switch b.Object.String() {
+		case "6100/ADMIN":
+			admin = b
+		case "5100/SHOP":
+			parts = b
+		}
+	}
+	if parts.Class != costdrift.Variable || parts.Driver != "machine_hours" || parts.PriceBase != "2026-06" {
+		t.Fatalf("5100/SHOP: %s on %q at prices of %q, want variable on machine_hours at 2026-06's", parts.Class, parts.Driver, parts.PriceBase)
+	}
+	june := math.Round(100*math.Pow(1.05, 35.0/12)*1e6) / 1e6
+	plan := filepath.Join(t.TempDir(), "plan.csv")
+	if err := os.WriteFile(plan, []byte("period,driver,value\n2026-07,machine_hours,1000\n2026-07,cpi,116.0\n2026-08,machine_hours,1000\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		period string
+		factor float64 // index ratio, hand-worked (common practice)
+		note   string
+	}{
+		{"2026-07", 116.0 / june, ""},
+		{"2026-08", 1, "at prices of 2026-06, the newest of cpi: no cpi for 2026-08 in the plan"},
+	} {
+		got, err := BreakEven(ctx, e, db, BreakEvenRequest{Driver: "machine_hours", Price: 20, PlanPath: plan, Period: c.period})
+		if err != nil {
+			t.Fatal(err)
+		}
+		fixed, perUnit := map[string]float64{}, map[string]float64{}
+		for _, p := range got.Parts {
+			fixed[p.Object.String()], perUnit[p.Object.String()] = p.Fixed, p.PerUnit
+		}
+		if want := parts.VariableRate * c.factor; math.Abs(perUnit["5100/SHOP"]-want) > 1e-9*want {
+			t.Errorf("%s: 5100/SHOP %.6f a machine hour, want %.6f at the period's prices", c.period, perUnit["5100/SHOP"], want)
+		}
+		if want := admin.FixedPerPeriod * c.factor; math.Abs(fixed["6100/ADMIN"]-want) > 1e-9*want {
+			t.Errorf("%s: 6100/ADMIN fixed %.6f, want %.6f at the period's prices", c.period, fixed["6100/ADMIN"], want)
+		}
+		if fixed["6300/ADMIN"] != 2400 {
+			t.Errorf("%s: 6300/ADMIN (exempt) fixed %v, want 2400 as posted", c.period, fixed["6300/ADMIN"])
+		}
+		if c.note != "" && !slices.Contains(got.Notes, c.note) {
+			t.Errorf("%s: notes %q lack %q", c.period, got.Notes, c.note)
+		}
 	}
 }
