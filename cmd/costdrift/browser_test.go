@@ -120,7 +120,8 @@ func TestWebViewInChromium(t *testing.T) {
 	}{
 		{"overview", "/", []string{"Open alerts", storeCount(`SELECT COUNT(*) FROM alerts WHERE status = 'open' AND severity = 'warning'`) + "\nwarning",
 			"All\t" + storeCount(`SELECT COUNT(*) FROM current_behaviour WHERE class = 'fixed'`)}},
-		{"objects", "/objects", []string{"Objects 1–13 of " + storeCount(`SELECT COUNT(*) FROM current_behaviour`), rows["6300/ASSY"]["formula"].(string)}},
+		{"objects", "/objects", []string{"Objects 1–" + storeCount(`SELECT COUNT(*) FROM current_behaviour`) + " of " + storeCount(`SELECT COUNT(*) FROM current_behaviour`),
+			rows["6300/ASSY"]["formula"].(string)}},
 		{"object", "/object?o=6200%2FWELD", []string{rows["6200/WELD"]["formula"].(string), rows["6200/WELD"]["reason"].(string), "Drivers tried", "High-low beside least squares"}},
 		{"lines", "/object/lines?o=6200%2FWELD&p=2026-06", []string{"Back to 6200/WELD", "Lines in 2026-06",
 			storeCount(`SELECT COUNT(*) FROM gl_lines WHERE account = '6200' AND cost_center = 'WELD' AND period = '2026-06'`)}},
