@@ -69,42 +69,50 @@ func TestCrosscheckExclusions(t *testing.T) {
 			if want := len(c.Periods) - len(c.Excluded); r.Behaviour.N != want || c.Linear.N != want {
 				t.Fatalf("behaviour n %d, statsmodels nobs %d, want %d", r.Behaviour.N, c.Linear.N, want)
 			}
-			seen := 0
-			for _, f := range r.Fits {
-				switch f.Model {
-				case costdrift.ModelConstant:
-					seen++
-					nearSM(t, "constant n", float64(f.N), float64(c.Constant.N))
-					nearSM(t, "constant a", f.Intercept, c.Constant.Params[0])
-					nearSM(t, "constant se(a)", f.InterceptSE, c.Constant.BSE[0])
-					nearSM(t, "constant residual se", f.ResidualSE, c.Constant.ResidualSE)
-				case costdrift.ModelLinear:
-					seen++
-					nearSM(t, "linear n", float64(f.N), float64(c.Linear.N))
-					nearSM(t, "linear a", f.Intercept, c.Linear.Params[0])
-					nearSM(t, "linear b", f.Slope, c.Linear.Params[1])
-					nearSM(t, "linear se(a)", f.InterceptSE, c.Linear.BSE[0])
-					nearSM(t, "linear se(b)", f.SlopeSE, c.Linear.BSE[1])
-					nearP(t, "linear p(b)", f.SlopeP, c.Linear.PValues[1])
-					if !math.IsNaN(f.InterceptP) {
-						nearP(t, "linear p(a)", f.InterceptP, c.Linear.PValues[0])
-					} else if f.Significant {
-						t.Errorf("the chosen line has no intercept p-value")
-					}
-					nearSM(t, "linear r2", f.R2, *c.Linear.R2)
-					nearSM(t, "linear residual se", f.ResidualSE, c.Linear.ResidualSE)
-				case costdrift.ModelProportional:
-					seen++
-					nearSM(t, "proportional n", float64(f.N), float64(c.Proportional.N))
-					nearSM(t, "proportional b", f.Slope, c.Proportional.Params[0])
-					nearSM(t, "proportional se(b)", f.SlopeSE, c.Proportional.BSE[0])
-					nearSM(t, "proportional residual se", f.ResidualSE, c.Proportional.ResidualSE)
-				}
-			}
-			if seen != 3 {
-				t.Errorf("%d of the constant, linear and proportional fits found, want 3", seen)
-			}
+			checkStatsmodelsFits(t, r.Fits, c.Constant, c.Linear, c.Proportional)
 		})
+	}
+}
+
+// checkStatsmodelsFits compares the constant, linear and proportional fits
+// of fits with statsmodels' OLS of the same points (the golden values of
+// testdata/crosscheck).
+func checkStatsmodelsFits(t *testing.T, fits []costdrift.Fit, constant, linear, proportional statsmodelsFit) {
+	t.Helper()
+	seen := 0
+	for _, f := range fits {
+		switch f.Model {
+		case costdrift.ModelConstant:
+			seen++
+			nearSM(t, "constant n", float64(f.N), float64(constant.N))
+			nearSM(t, "constant a", f.Intercept, constant.Params[0])
+			nearSM(t, "constant se(a)", f.InterceptSE, constant.BSE[0])
+			nearSM(t, "constant residual se", f.ResidualSE, constant.ResidualSE)
+		case costdrift.ModelLinear:
+			seen++
+			nearSM(t, "linear n", float64(f.N), float64(linear.N))
+			nearSM(t, "linear a", f.Intercept, linear.Params[0])
+			nearSM(t, "linear b", f.Slope, linear.Params[1])
+			nearSM(t, "linear se(a)", f.InterceptSE, linear.BSE[0])
+			nearSM(t, "linear se(b)", f.SlopeSE, linear.BSE[1])
+			nearP(t, "linear p(b)", f.SlopeP, linear.PValues[1])
+			if !math.IsNaN(f.InterceptP) {
+				nearP(t, "linear p(a)", f.InterceptP, linear.PValues[0])
+			} else if f.Significant {
+				t.Errorf("the chosen line has no intercept p-value")
+			}
+			nearSM(t, "linear r2", f.R2, *linear.R2)
+			nearSM(t, "linear residual se", f.ResidualSE, linear.ResidualSE)
+		case costdrift.ModelProportional:
+			seen++
+			nearSM(t, "proportional n", float64(f.N), float64(proportional.N))
+			nearSM(t, "proportional b", f.Slope, proportional.Params[0])
+			nearSM(t, "proportional se(b)", f.SlopeSE, proportional.BSE[0])
+			nearSM(t, "proportional residual se", f.ResidualSE, proportional.ResidualSE)
+		}
+	}
+	if seen != 3 {
+		t.Errorf("%d of the constant, linear and proportional fits found, want 3", seen)
 	}
 }
 

@@ -69,36 +69,7 @@ func TestCrosscheckDeflator(t *testing.T) {
 			if res[0].Err != nil {
 				t.Fatal(res[0].Err)
 			}
-			seen := 0
-			for _, f := range res[0].Fits {
-				switch f.Model {
-				case costdrift.ModelConstant:
-					seen++
-					nearSM(t, "constant n", float64(f.N), float64(c.Constant.N))
-					nearSM(t, "constant a", f.Intercept, c.Constant.Params[0])
-					nearSM(t, "constant se(a)", f.InterceptSE, c.Constant.BSE[0])
-					nearSM(t, "constant residual se", f.ResidualSE, c.Constant.ResidualSE)
-				case costdrift.ModelLinear:
-					seen++
-					nearSM(t, "linear n", float64(f.N), float64(c.Linear.N))
-					nearSM(t, "linear a", f.Intercept, c.Linear.Params[0])
-					nearSM(t, "linear b", f.Slope, c.Linear.Params[1])
-					nearSM(t, "linear se(a)", f.InterceptSE, c.Linear.BSE[0])
-					nearSM(t, "linear se(b)", f.SlopeSE, c.Linear.BSE[1])
-					nearP(t, "linear p(b)", f.SlopeP, c.Linear.PValues[1])
-					nearSM(t, "linear r2", f.R2, *c.Linear.R2)
-					nearSM(t, "linear residual se", f.ResidualSE, c.Linear.ResidualSE)
-				case costdrift.ModelProportional:
-					seen++
-					nearSM(t, "proportional n", float64(f.N), float64(c.Proportional.N))
-					nearSM(t, "proportional b", f.Slope, c.Proportional.Params[0])
-					nearSM(t, "proportional se(b)", f.SlopeSE, c.Proportional.BSE[0])
-					nearSM(t, "proportional residual se", f.ResidualSE, c.Proportional.ResidualSE)
-				}
-			}
-			if seen != 3 {
-				t.Errorf("%d of the constant, linear and proportional fits found, want 3", seen)
-			}
+			checkStatsmodelsFits(t, res[0].Fits, c.Constant, c.Linear, c.Proportional)
 		})
 	}
 }
