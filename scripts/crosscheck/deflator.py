@@ -31,7 +31,6 @@ packages:
 """
 
 import json
-import math
 import sys
 
 import numpy as np
@@ -39,23 +38,13 @@ import scipy
 import statsmodels
 import statsmodels.api as sm
 
+from olsfit import floats, fitted
+
 SEED = 20261206
 
 # (first row of macrodata, n): 1999Q1 on, 1973Q1 on (high inflation),
 # 1985Q1 on, 1961Q1 on, 2000Q4 on (to the last quarter, 2009Q3).
 WINDOWS = [(160, 24), (56, 36), (104, 30), (8, 48), (167, 36)]
-
-
-def floats(a):
-    return [float(v) for v in np.asarray(a, dtype=float).ravel()]
-
-
-def fitted(res, with_r2):
-    out = dict(n=int(res.nobs), params=floats(res.params), bse=floats(res.bse), pvalues=floats(res.pvalues),
-               residual_se=float(math.sqrt(res.scale)))
-    if with_r2:
-        out["r2"] = float(res.rsquared)
-    return out
 
 
 def main():

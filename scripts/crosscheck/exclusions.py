@@ -21,7 +21,6 @@ stand for nothing real. Run with Debian's interpreter and packages:
 """
 
 import json
-import math
 import sys
 
 import numpy as np
@@ -29,19 +28,9 @@ import scipy
 import statsmodels
 import statsmodels.api as sm
 
+from olsfit import floats, fitted
+
 SEED = 20261205
-
-
-def floats(a):
-    return [float(v) for v in np.asarray(a, dtype=float).ravel()]
-
-
-def fitted(res, with_r2):
-    out = dict(n=int(res.nobs), params=floats(res.params), bse=floats(res.bse), pvalues=floats(res.pvalues),
-               residual_se=float(math.sqrt(res.scale)))
-    if with_r2:
-        out["r2"] = float(res.rsquared)
-    return out
 
 
 def main():
