@@ -91,11 +91,17 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 				after := k.FixedAfter + k.RateAfter*k.ActivityBefore
 				moved = math.Abs(after-before) >= MinShift/2*level
 			}
+			// Amounts fitted on restated costs are at the prices of the
+			// formula's base period, as its formula says.
+			prices := ""
+			if b.PriceBase != "" {
+				prices = ", at prices of " + b.PriceBase
+			}
 			if moved && fixedMoved(k, level) {
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertFixedShift, Object: object, Severity: shiftSeverity(fixed, watch), Period: k.Period,
-					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s", label, direction(fixed), 100*math.Abs(fixedChange(k, level)),
-						k.Period, money(k.FixedBefore), present.Money(k.FixedAfter, currency)),
+					Message: fmt.Sprintf("%s: fixed cost per period %s %.0f %% from %s, %s to %s%s", label, direction(fixed), 100*math.Abs(fixedChange(k, level)),
+						k.Period, money(k.FixedBefore), present.Money(k.FixedAfter, currency), prices),
 					Fingerprint: costdrift.Fingerprint(costdrift.AlertFixedShift, object, k.Period),
 					Evidence:    ev,
 				})
@@ -103,8 +109,8 @@ func Behaviour(current []costdrift.Behaviour, previous map[string]costdrift.Beha
 			if k.Driver != "" && moved && math.Abs(rate) >= MinShift {
 				out = append(out, costdrift.Alert{
 					Kind: costdrift.AlertRateShift, Object: object, Severity: shiftSeverity(rate, watch), Period: k.Period,
-					Message: fmt.Sprintf("%s: rate per %s %s from %s, %s to %s (%.0f %% of the cost at the activity before)", label,
-						unit(b, k.Driver), direction(rate), k.Period, rateText(k.RateBefore), perCurrency(rateText(k.RateAfter), currency), 100*math.Abs(rate)),
+					Message: fmt.Sprintf("%s: rate per %s %s from %s, %s to %s (%.0f %% of the cost at the activity before)%s", label,
+						unit(b, k.Driver), direction(rate), k.Period, rateText(k.RateBefore), perCurrency(rateText(k.RateAfter), currency), 100*math.Abs(rate), prices),
 					Fingerprint: costdrift.Fingerprint(costdrift.AlertRateShift, object, k.Period),
 					Evidence:    ev,
 				})

@@ -164,3 +164,25 @@ func TestOffsettingShiftsRaiseNothing(t *testing.T) {
 		t.Errorf("offsetting fixed part and rate: %+v, want no alert", got)
 	}
 }
+
+// A formula fitted on costs restated by a price index is at its base
+// period's prices, and so are the amounts of its shift (README, Prices and
+// inflation): the message says so, as the formula does.
+func TestShiftAtPrices(t *testing.T) {
+	l, f := lease(3300), freight(11.9)
+	l.PriceBase, f.PriceBase = "2026-06", "2026-06"
+	got := Behaviour([]costdrift.Behaviour{l, f}, nil, nil, "EUR")
+	if len(got) != 2 {
+		t.Fatalf("%d alerts, want a fixed and a rate shift: %+v", len(got), got)
+	}
+	for _, a := range got {
+		if !strings.HasSuffix(a.Message, ", at prices of 2026-06") {
+			t.Errorf("%s: %q does not say the prices it is at", a.Kind, a.Message)
+		}
+	}
+	for _, a := range Behaviour([]costdrift.Behaviour{lease(3300)}, nil, nil, "EUR") {
+		if strings.Contains(a.Message, "prices") {
+			t.Errorf("a cost fitted as posted: %q speaks of prices", a.Message)
+		}
+	}
+}
