@@ -123,6 +123,7 @@ func TestWebViewInChromium(t *testing.T) {
 		{"objects", "/objects", []string{"Objects 1–" + storeCount(`SELECT COUNT(*) FROM current_behaviour`) + " of " + storeCount(`SELECT COUNT(*) FROM current_behaviour`),
 			rows["6300/ASSY"]["formula"].(string)}},
 		{"object", "/object?o=6200%2FWELD", []string{rows["6200/WELD"]["formula"].(string), rows["6200/WELD"]["reason"].(string), "Drivers tried", "High-low beside least squares"}},
+		{"object with accruals", "/object?o=6500%2FWELD", []string{rows["6500/WELD"]["formula"].(string), "Accruals", "Net effect per period"}},
 		{"lines", "/object/lines?o=6200%2FWELD&p=2026-06", []string{"Back to 6200/WELD", "Lines in 2026-06",
 			storeCount(`SELECT COUNT(*) FROM gl_lines WHERE account = '6200' AND cost_center = 'WELD' AND period = '2026-06'`)}},
 		{"alerts", "/alerts", []string{openAlert, "Acknowledge alert 1"}},

@@ -184,6 +184,29 @@ func TestWebPagesShowTheStore(t *testing.T) {
 	if !strings.Contains(text, "sup-F") || !strings.Contains(text, hist.Alerts[0].Message) {
 		t.Errorf("object page lacks the break's test or the alert %q:\n%s", hist.Alerts[0].Message, text)
 	}
+	// The accruals, as `costdrift explain` gives them (README, "Costs posted
+	// quarterly or yearly, and accruals").
+	var ex struct {
+		Accruals struct {
+			Pairs []struct {
+				Period      string
+				Description string
+			}
+			Periods []struct{ Period string }
+		}
+	}
+	exJSON := mustRun(t, "--config", filepath.Join(dir, "costdrift.yaml"), "explain", "6500/WELD", "--format", "json")
+	if err := json.Unmarshal([]byte(exJSON), &ex); err != nil || len(ex.Accruals.Pairs) != 1 || len(ex.Accruals.Periods) != 2 {
+		t.Fatalf("the demo's 6500/WELD accruals: %+v (%v)", ex.Accruals, err)
+	}
+	_, body = fetch(t, srv, "/object?o="+url.QueryEscape("6500/WELD"))
+	text = tagText(body)
+	for _, want := range []string{"Accruals", "2025-11 2025-12 WELD 465.53 EUR GJ-2025-11-0001 / GJ-2025-12-0001 " + ex.Accruals.Pairs[0].Description,
+		"2025-11 1,795.10 EUR 465.53 EUR 0.00 EUR +465.53 EUR 1,329.57 EUR", "2025-12 1,818.81 EUR 0.00 EUR 465.53 EUR -465.53 EUR 2,284.34 EUR"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("6500/WELD's page lacks %q of its accruals:\n%s", want, text)
+		}
+	}
 	if res, _ := fetch(t, srv, "/object?o=9999/NOPE"); res.StatusCode != http.StatusNotFound {
 		t.Errorf("an unknown object answers %d, want 404", res.StatusCode)
 	}

@@ -352,6 +352,13 @@ func labelled(svg []byte, label string) template.HTML {
 // funcs format figures the way the commands print them.
 var funcs = template.FuncMap{
 	"money": func(v float64, currency string) string { return present.Money(v, currency) },
+	// signed is money with its sign, for a change: "+465.53 EUR".
+	"signed": func(v float64, currency string) string {
+		if v > 0 {
+			return "+" + present.Money(v, currency)
+		}
+		return present.Money(v, currency)
+	},
 	"moneyp": func(v *float64, currency string) string {
 		if v == nil {
 			return "–"
