@@ -43,6 +43,13 @@ func syncedDemo(t *testing.T) (*Env, *sqlite.DB) {
 	if err := os.WriteFile(cfg, []byte(demoConfig(t)), 0o600); err != nil {
 		t.Fatal(err)
 	}
+	return openSynced(t, cfg)
+}
+
+// openSynced loads the config at cfg, opens its store to write (closed when
+// the test ends) and syncs its sources, without analysing.
+func openSynced(t *testing.T, cfg string) (*Env, *sqlite.DB) {
+	t.Helper()
 	e, err := Load(cfg, today)
 	if err != nil {
 		t.Fatal(err)

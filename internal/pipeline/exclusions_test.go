@@ -37,14 +37,8 @@ type statsmodelsFit struct {
 // scripts/crosscheck/exclusions.py with statsmodels 0.13.5; README
 // "The accountant's decisions").
 func TestCrosscheckExclusions(t *testing.T) {
-	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "crosscheck", "exclusions.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	var doc struct{ Cases []exclusionCase }
-	if err := json.Unmarshal(b, &doc); err != nil {
-		t.Fatal(err)
-	}
+	readCrosscheck(t, "exclusions.json", &doc)
 	if len(doc.Cases) != 8 {
 		t.Fatalf("%d cases, want 8", len(doc.Cases))
 	}
@@ -71,6 +65,18 @@ func TestCrosscheckExclusions(t *testing.T) {
 			}
 			checkStatsmodelsFits(t, r.Fits, c.Constant, c.Linear, c.Proportional)
 		})
+	}
+}
+
+// readCrosscheck reads the golden file name of testdata/crosscheck into doc.
+func readCrosscheck(t *testing.T, name string, doc any) {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "crosscheck", name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, doc); err != nil {
+		t.Fatal(err)
 	}
 }
 

@@ -2,10 +2,7 @@ package pipeline
 
 import (
 	"context"
-	"encoding/json"
 	"math"
-	"os"
-	"path/filepath"
 	"testing"
 
 	"github.com/costdrift/costdrift/internal/analyze"
@@ -29,14 +26,8 @@ type deflatorCase struct {
 // scripts/crosscheck/deflator.py with statsmodels 0.13.5; README "Prices
 // and inflation").
 func TestCrosscheckDeflator(t *testing.T) {
-	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "crosscheck", "deflator.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	var doc struct{ Cases []deflatorCase }
-	if err := json.Unmarshal(b, &doc); err != nil {
-		t.Fatal(err)
-	}
+	readCrosscheck(t, "deflator.json", &doc)
 	if len(doc.Cases) != 5 {
 		t.Fatalf("%d cases, want 5", len(doc.Cases))
 	}

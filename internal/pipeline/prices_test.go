@@ -66,19 +66,7 @@ func inflationBooks(t *testing.T, deflator string, exempt []string, indexFor fun
 	if err := os.WriteFile(filepath.Join(dir, "data", "accounts.csv"), []byte("account,name\n6100,Office costs\n6300,Lease\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	e, err := Load(cfg, today)
-	if err != nil {
-		t.Fatal(err)
-	}
-	db, closeStore, err := e.OpenToWrite(context.Background(), false)
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(closeStore)
-	if _, err := Sync(context.Background(), e, db, nil); err != nil {
-		t.Fatal(err)
-	}
-	return e, db
+	return openSynced(t, cfg)
 }
 
 func asPublished(_ string, v float64) (float64, bool) { return v, true }
