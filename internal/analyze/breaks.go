@@ -308,12 +308,12 @@ func findBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat,
 			hansen, herr := drift.HansenPValue(fs.SupF, k, fs.Lambda)
 			switch {
 			case herr == nil && hansen < s.BreakAlpha/HansenMargin:
-				return redate(res.x, res.y, fs.Break), fs.SupF, hansen, "sup-F (Quandt–Andrews, 15 % trimming), Hansen's approximation (far below the level)", true
+				return redate(res.x, res.y, fs.Break, res.x == nil), fs.SupF, hansen, "sup-F (Quandt–Andrews, 15 % trimming), Hansen's approximation (far below the level)", true
 			case herr == nil && hansen > s.BreakAlpha*HansenMargin:
 			default:
 				p, _, err := drift.SupFSignificant(columns, res.y, true, drift.DefaultTrim, s.Replicates, seedFor(s.Seed, o), s.BreakAlpha)
 				if err == nil && p < s.BreakAlpha {
-					return redate(res.x, res.y, fs.Break), fs.SupF, p, "sup-F (Quandt–Andrews, 15 % trimming), residual bootstrap", true
+					return redate(res.x, res.y, fs.Break, res.x == nil), fs.SupF, p, "sup-F (Quandt–Andrews, 15 % trimming), residual bootstrap", true
 				}
 			}
 		}
@@ -359,13 +359,13 @@ func levelBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat
 	hansen, herr := drift.HansenPValue(ls.SupF, 1, ls.Lambda)
 	switch {
 	case herr == nil && hansen < s.BreakAlpha/HansenMargin:
-		return redate(res.x, res.y, ls.Break), ls.SupF, hansen, name + ", Hansen's approximation (far below the level)", true
+		return redate(res.x, res.y, ls.Break, true), ls.SupF, hansen, name + ", Hansen's approximation (far below the level)", true
 	case herr == nil && hansen > s.BreakAlpha*HansenMargin:
 		return 0, 0, 1, "", false
 	}
 	p = drift.SupFLevelSignificant(ls, s.Replicates, seedFor(s.Seed, o), s.BreakAlpha)
 	if p < s.BreakAlpha {
-		return redate(res.x, res.y, ls.Break), ls.SupF, p, name + ", residual bootstrap", true
+		return redate(res.x, res.y, ls.Break, true), ls.SupF, p, name + ", residual bootstrap", true
 	}
 	return 0, 0, 1, "", false
 }
@@ -403,21 +403,25 @@ func testable(res Result) bool {
 	return res.Behaviour.Class != costdrift.InsufficientData && res.Behaviour.Class != "" && len(res.y) >= 2*StepMinPerLevel+2
 }
 
-// redate moves a sup-F break found at the end of the trimmed range to where
-// a shift of the level fits best among the newest periods. The trimming
-// keeps the search 15 % of the window from the end so that the statistic
-// has a known distribution; a change nearer the end than that still drives
-// the sup-F over its critical value, but at the last split it may search,
-// which dates the change too early and averages the new level with periods
-// of the old one. The significance is the sup-F's; only the date is the
-// least-squares estimate of a level shift (Bai 1994, "Least squares
-// estimation of a shift in linear processes", J. Time Series Analysis
-// 15(5)): the split s from the sup-F's on to the second newest period that
-// minimises the residual sum of squares of cost = formula + δ·[t >= s].
-func redate(x, y []float64, split int) int {
+// redate moves a sup-F break to where a shift of the level fits best among
+// its split and the newer periods. The trimming keeps the search 15 % of the
+// window from the end so that the statistic has a known distribution; a
+// change nearer the end than that still drives the sup-F over its critical
+// value, but at a split it may search, which dates the change too early and
+// averages the new level with periods of the old one: at the last split, or
+// for a test of the level alone (level) at any split, as when a one-off
+// month before the change pulls the peak to itself. The significance is the
+// sup-F's; only the date is the least-squares estimate of a level shift
+// (Bai 1994, "Least squares estimation of a shift in linear processes",
+// J. Time Series Analysis 15(5)): the split s from the sup-F's on to the
+// second newest period that minimises the residual sum of squares of
+// cost = formula + δ·[t >= s]. A sup-F of the formula's every coefficient
+// keeps its own split inside the trimmed range: its change may be one of
+// the rate, which a level shift does not date.
+func redate(x, y []float64, split int, level bool) int {
 	n := len(y)
 	last := n - int(math.Floor(drift.DefaultTrim*float64(n)))
-	if split < last {
+	if split < last && !level {
 		return split
 	}
 	best, bestRSS := split, math.Inf(1)

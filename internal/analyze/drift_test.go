@@ -207,3 +207,37 @@ func TestDesignedStepCostsAreStep(t *testing.T) {
 		t.Errorf("%d of %d designed step costs called step, want at least 99.5 %%", steps, trials)
 	}
 }
+
+// A 15 % rise of a fixed cost in the newest three periods (8,000 a month
+// before, invented; 1.5 % noise), after a one-off month 6 % high six
+// periods before the end: the sup-F peaks at that month, inside its
+// trimmed range, where the rule that moves a peak at the trimming's edge
+// does not apply. Dated there, the change would average three months of
+// the old level into the new one and report about 9 % instead of 15 %.
+// The date is the least-squares estimate of a level shift among the
+// sup-F's split and every later one (Bai 1994), so it is the rise.
+func TestShiftAfterAOneOffIsDatedAtTheShift(t *testing.T) {
+	r := rand.New(rand.NewPCG(61, 62))
+	for k := 0; k < 10; k++ {
+		x := swingingDriver(r, 36)
+		cost := make([]float64, 36)
+		for i := range cost {
+			level := 8000.0
+			switch {
+			case i == 30:
+				level *= 1.06
+			case i >= 33:
+				level *= 1.15
+			}
+			cost[i] = level * (1 + 0.015*r.NormFloat64())
+		}
+		p := onePanel(cost, x)
+		b := Object(p, &p.Objects[0], driftSettings).Behaviour
+		if b.Break == nil || b.Break.Period != p.Periods[33] {
+			t.Fatalf("trial %d: break %+v, want one from %s", k, b.Break, p.Periods[33])
+		}
+		if rise := b.Break.FixedAfter/b.Break.FixedBefore - 1; math.Abs(rise-0.15) > 0.045 {
+			t.Errorf("trial %d: rise %.1f %%, designed 15 %%", k, 100*rise)
+		}
+	}
+}

@@ -24,7 +24,7 @@ import (
 // full size), fixed costs' detection and the dating. Mixed costs it does
 // not meet yet: up to 1.5 % of them alerted on one analysis here (1.0 % at
 // full size), 6.5 % over the year here, 4.6 % at full size, and alerted within
-// 3 / 6 month-ends 60 % / 88 % here, 49 % / 81 % at full size; the test
+// 3 / 6 month-ends 62 % / 88 % here, 50.5 % / 81 % at full size; the test
 // holds those where the method now stands, with a margin for the seeds,
 // far beyond the method before it (README: 3.85 % on one analysis, 11.4 %
 // of stable objects over the year and 28 % of step costs; fixed costs
