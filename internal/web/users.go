@@ -79,8 +79,11 @@ func (u Users) Verify(name, password string) bool {
 	return bcrypt.CompareHashAndPassword(hash, []byte(password)) == nil
 }
 
-// unknownUserHash is compared against when the name is unknown.
-var unknownUserHash, _ = bcrypt.GenerateFromPassword([]byte("not a user of this view"), bcryptCost)
+// unknownUserHash is compared against when the name is unknown: the hash of
+// "not a user of this view" at bcryptCost. It is written out rather than
+// computed when the package loads, which would cost every command of the
+// program a hash (tens of milliseconds) before it does anything.
+var unknownUserHash = []byte("$2a$10$d6MZAyV4dtIaV9gmXqtTwOZmPePvrfNAzHrL5t2tdo.Wvs5qseON.")
 
 // checkUserName keeps a name to one field of a line and one word of the
 // audit trail.

@@ -113,3 +113,18 @@ func TestLocalNext(t *testing.T) {
 		}
 	}
 }
+
+// An unknown name is checked against a real hash at the cost of the users'
+// own, so that it takes as long as a known name's check.
+func TestUnknownUserHashCostsAsMuchAsAUsersHash(t *testing.T) {
+	cost, err := bcrypt.Cost(unknownUserHash)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if cost != bcryptCost {
+		t.Errorf("cost %d, want the users' %d", cost, bcryptCost)
+	}
+	if err := bcrypt.CompareHashAndPassword(unknownUserHash, []byte("not a user of this view")); err != nil {
+		t.Errorf("not the hash of its phrase: %v", err)
+	}
+}
