@@ -14,6 +14,7 @@ import (
 	"unicode"
 	"unicode/utf8"
 
+	"git.sr.ht/~sbinet/gg"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -245,7 +246,14 @@ func writePNG(d Drawing, w io.Writer, widthPx, heightPx int) error {
 	}
 	scale := math.Max(1, math.Min(float64(widthPx)/DefaultWidthPx, float64(heightPx)/DefaultHeightPx))
 	img := image.NewRGBA(image.Rect(0, 0, widthPx, heightPx))
-	cv := vgimg.NewWith(vgimg.UseImage(img), vgimg.UseDPI(int(math.Round(96*scale))))
+	// The canvas draws on img itself through a context set up as vgimg
+	// sets up its own (butt line caps, y upwards): given the image alone,
+	// it would draw on a copy, and a mail of alerts allocates and fills
+	// every chart's pixels twice.
+	ctx := gg.NewContextForRGBA(img)
+	ctx.SetLineCapButt()
+	ctx.InvertY()
+	cv := vgimg.NewWith(vgimg.UseImageWithContext(img, ctx), vgimg.UseDPI(int(math.Round(96*scale))))
 	if err := d.draw(draw.New(cv)); err != nil {
 		return err
 	}
