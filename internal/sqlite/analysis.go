@@ -99,8 +99,9 @@ type AnalysisWriter struct {
 	fitsBatch *sql.Stmt // fitBatch fits
 	fitArgs   []any
 	dropFits  *sql.Stmt
-	setInputs *sql.Stmt
-	open      *sql.Stmt
+	// updateInputs and insertInputs record an object's input hash.
+	updateInputs, insertInputs *sql.Stmt
+	open                       *sql.Stmt
 	// insert and update write a behaviour row; prepared once, as most
 	// objects' rows are refreshed by every analysis and preparing the
 	// statement of 30-odd columns took longer than running it.
@@ -145,8 +146,13 @@ func (w *AnalysisWriter) prepare(ctx context.Context) error {
 		AND analysis_run_id = (SELECT analysis_run_id FROM object_inputs WHERE object = ?1)`); err != nil {
 		return err
 	}
-	if w.setInputs, err = w.tx.PrepareContext(ctx, `INSERT INTO object_inputs (object, input_hash, analysis_run_id) VALUES (?, ?, ?)
-		ON CONFLICT (object) DO UPDATE SET input_hash = excluded.input_hash, analysis_run_id = excluded.analysis_run_id`); err != nil {
+	// An update, and an insert where there was nothing to update, rather
+	// than one upsert: the upsert's update may fail part way (it takes no
+	// OR FAIL), and would need a statement journal (schema 22).
+	if w.updateInputs, err = w.tx.PrepareContext(ctx, `UPDATE OR FAIL object_inputs SET input_hash = ?2, analysis_run_id = ?3 WHERE object = ?1`); err != nil {
+		return err
+	}
+	if w.insertInputs, err = w.tx.PrepareContext(ctx, `INSERT OR FAIL INTO object_inputs (object, input_hash, analysis_run_id) VALUES (?, ?, ?)`); err != nil {
 		return err
 	}
 	if w.open, err = w.tx.PrepareContext(ctx, `SELECT id, class, COALESCE(driver, ''), lag, COALESCE(since, ''), COALESCE(until, ''), COALESCE(pending, '')
@@ -184,11 +190,24 @@ func (w *AnalysisWriter) Save(ctx context.Context, fits []costdrift.Fit, behavio
 		if _, err := w.dropFits.ExecContext(ctx, object, runID); err != nil {
 			return fmt.Errorf("drop the earlier fits of %s: %w", object, err)
 		}
-		if _, err := w.setInputs.ExecContext(ctx, object, hash, runID); err != nil {
+		if err := w.setInputs(ctx, object, hash); err != nil {
 			return fmt.Errorf("save inputs of %s: %w", object, err)
 		}
 	}
 	return nil
+}
+
+// setInputs records the hash of an object's inputs as of this analysis.
+func (w *AnalysisWriter) setInputs(ctx context.Context, object, hash string) error {
+	res, err := w.updateInputs.ExecContext(ctx, object, hash, w.run.ID)
+	if err != nil {
+		return err
+	}
+	if n, err := res.RowsAffected(); err != nil || n > 0 {
+		return err
+	}
+	_, err = w.insertInputs.ExecContext(ctx, object, hash, w.run.ID)
+	return err
 }
 
 // Commit writes the run's count of objects and finishing time and commits
@@ -210,7 +229,7 @@ func (w *AnalysisWriter) Rollback() {
 }
 
 func (w *AnalysisWriter) close() {
-	for _, s := range []*sql.Stmt{w.fits, w.fitsBatch, w.dropFits, w.setInputs, w.open, w.insert, w.update} {
+	for _, s := range []*sql.Stmt{w.fits, w.fitsBatch, w.dropFits, w.updateInputs, w.insertInputs, w.open, w.insert, w.update} {
 		if s != nil {
 			s.Close()
 		}
@@ -236,7 +255,7 @@ func (db *DB) ObjectInputs(ctx context.Context) (map[string]string, error) {
 }
 
 const (
-	insertFit = `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
+	insertFit = `INSERT OR FAIL INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n,
 		intercept, intercept_se, intercept_p, slope, slope_se, slope_t, slope_p, slope_adjusted_p, r2, residual_se, press, aicc,
 		range_min, range_max, significant, implausible, chosen, rank,
 		levels, driver2, lag2, slope2, slope2_se, slope2_p, vif, durbin_watson, robust_intercept, robust_slope, outliers)
@@ -383,7 +402,7 @@ func (w *AnalysisWriter) saveBehaviour(ctx context.Context, b *costdrift.Behavio
 		return w.insertBehaviour(ctx, b, b.Since)
 	}
 	p, _ := json.Marshal(costdrift.Pending{Class: b.Class, Driver: b.Driver, Lag: b.Lag, Seen: 1})
-	_, err = tx.ExecContext(ctx, `UPDATE behaviour_history SET pending = ?, last_run_id = ?, until = ? WHERE id = ?`,
+	_, err = tx.ExecContext(ctx, `UPDATE OR FAIL behaviour_history SET pending = ?, last_run_id = ?, until = ? WHERE id = ?`,
 		string(p), runID, nullString(b.Until), id)
 	return err
 }
@@ -492,7 +511,7 @@ var (
 	insertBehaviourSQL = `INSERT INTO behaviour_history (` + behaviourColumns + `,
 		object, account, cost_center, first_run_id, last_run_id, valid_from_run_at, valid_from_period)
 		VALUES (` + placeholders(behaviourValueCount+7) + `)`
-	updateBehaviourSQL = `UPDATE behaviour_history SET (` + behaviourColumns + `, last_run_id)
+	updateBehaviourSQL = `UPDATE OR FAIL behaviour_history SET (` + behaviourColumns + `, last_run_id)
 		= (` + placeholders(behaviourValueCount+1) + `) WHERE id = ?`
 )
 
