@@ -56,7 +56,7 @@ func TestLedgerKeysCheckedAtCommitAfterUpgrade(t *testing.T) {
 	}
 }
 
-// Every connection's page cache is 64 MiB whatever the store's page size:
+// Every connection's page cache is 8 MiB whatever the store's page size:
 // a new store has pages of 16 KiB, and one created with SQLite's 4 KiB
 // pages keeps them.
 func TestPageCacheFollowsPageSize(t *testing.T) {
@@ -83,8 +83,8 @@ func TestPageCacheFollowsPageSize(t *testing.T) {
 			var page, pages int64
 			conn.QueryRowContext(ctx, `PRAGMA page_size`).Scan(&page)
 			conn.QueryRowContext(ctx, `PRAGMA cache_size`).Scan(&pages)
-			if page != c.page || pages*page != 64<<20 {
-				t.Errorf("%s, connection %d: pages of %d bytes, cache of %d pages; want %d-byte pages and 64 MiB",
+			if page != c.page || pages*page != 8<<20 {
+				t.Errorf("%s, connection %d: pages of %d bytes, cache of %d pages; want %d-byte pages and 8 MiB",
 					filepath.Base(c.path), i, page, pages, c.page)
 			}
 		}
