@@ -68,37 +68,55 @@ func TestStableStepCostHasNoBreak(t *testing.T) {
 }
 
 // A 15 % rise of a fixed cost three periods before the end of the window
-// (1.5 % noise) lies inside the sup-F's trimming: the statistic is
-// significant but peaks at the last period it may search, two periods
-// early. The break is dated at the rise, and the shift is its full size,
-// not diluted by periods of the old level.
+// (8,000 a month before, invented; 1.5 % noise) lies inside the sup-F's
+// trimming: the statistic is significant but peaks at the last period it
+// may search, two periods early, or, after a one-off month 6 % high six
+// periods before the end, at that month, inside its trimmed range. The
+// break is dated at the rise, the least-squares estimate of a level shift
+// among the sup-F's split and every later one (Bai 1994), and the shift is
+// its full size, not diluted by periods of the old level.
 func TestLateShiftIsDatedWhereItHappened(t *testing.T) {
-	r := rand.New(rand.NewPCG(51, 52))
-	for k := 0; k < 20; k++ {
-		x := swingingDriver(r, 36)
-		cost := make([]float64, 36)
-		for i := range cost {
-			level := 8000.0
-			if i >= 33 {
-				level *= 1.15
+	for _, tc := range []struct {
+		name   string
+		seed   uint64
+		trials int
+		oneOff bool // period 30 is 6 % high
+	}{
+		{"peak at the trimming's edge", 51, 20, false},
+		{"peak at a one-off month before the rise", 61, 10, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			r := rand.New(rand.NewPCG(tc.seed, tc.seed+1))
+			for k := 0; k < tc.trials; k++ {
+				x := swingingDriver(r, 36)
+				cost := make([]float64, 36)
+				for i := range cost {
+					level := 8000.0
+					switch {
+					case i == 30 && tc.oneOff:
+						level *= 1.06
+					case i >= 33:
+						level *= 1.15
+					}
+					cost[i] = level * (1 + 0.015*r.NormFloat64())
+				}
+				p := onePanel(cost, x)
+				b := Object(p, &p.Objects[0], driftSettings).Behaviour
+				if b.Break == nil || b.Break.Period != p.Periods[33] {
+					t.Fatalf("trial %d: break %+v, want one from %s", k, b.Break, p.Periods[33])
+				}
+				// A fixed cost's sides are the means before and since the break; three
+				// periods at 1.5 % noise put the rise within ±4.5 points of 15 %
+				// (3.5 SD), while dating it two or three periods early would average in
+				// periods of the old level and give about 9 %.
+				if b.Class == costdrift.Fixed && (math.Abs(b.Break.FixedAfter-meanOf(cost[33:])) > 1e-6 || math.Abs(b.Break.FixedBefore-meanOf(cost[:33])) > 1e-6) {
+					t.Errorf("trial %d: sides %.2f and %.2f, want the means %.2f and %.2f", k, b.Break.FixedBefore, b.Break.FixedAfter, meanOf(cost[:33]), meanOf(cost[33:]))
+				}
+				if rise := b.Break.FixedAfter/b.Break.FixedBefore - 1; math.Abs(rise-0.15) > 0.045 {
+					t.Errorf("trial %d: rise %.1f %%, designed 15 %%", k, 100*rise)
+				}
 			}
-			cost[i] = level * (1 + 0.015*r.NormFloat64())
-		}
-		p := onePanel(cost, x)
-		b := Object(p, &p.Objects[0], driftSettings).Behaviour
-		if b.Break == nil || b.Break.Period != p.Periods[33] {
-			t.Fatalf("trial %d: break %+v, want one from %s", k, b.Break, p.Periods[33])
-		}
-		// A fixed cost's sides are the means before and since the break; three
-		// periods at 1.5 % noise put the rise within ±4.5 points of 15 %
-		// (3.5 SD), while dating it two periods early would average in two
-		// periods of the old level and give about 9 %.
-		if b.Class == costdrift.Fixed && (math.Abs(b.Break.FixedAfter-meanOf(cost[33:])) > 1e-6 || math.Abs(b.Break.FixedBefore-meanOf(cost[:33])) > 1e-6) {
-			t.Errorf("trial %d: sides %.2f and %.2f, want the means %.2f and %.2f", k, b.Break.FixedBefore, b.Break.FixedAfter, meanOf(cost[:33]), meanOf(cost[33:]))
-		}
-		if rise := b.Break.FixedAfter/b.Break.FixedBefore - 1; math.Abs(rise-0.15) > 0.045 {
-			t.Errorf("trial %d: rise %.1f %%, designed 15 %%", k, 100*rise)
-		}
+		})
 	}
 }
 
@@ -205,39 +223,5 @@ func TestDesignedStepCostsAreStep(t *testing.T) {
 	// at alpha/StickySignificance.
 	if steps < trials*995/1000 {
 		t.Errorf("%d of %d designed step costs called step, want at least 99.5 %%", steps, trials)
-	}
-}
-
-// A 15 % rise of a fixed cost in the newest three periods (8,000 a month
-// before, invented; 1.5 % noise), after a one-off month 6 % high six
-// periods before the end: the sup-F peaks at that month, inside its
-// trimmed range, where the rule that moves a peak at the trimming's edge
-// does not apply. Dated there, the change would average three months of
-// the old level into the new one and report about 9 % instead of 15 %.
-// The date is the least-squares estimate of a level shift among the
-// sup-F's split and every later one (Bai 1994), so it is the rise.
-func TestShiftAfterAOneOffIsDatedAtTheShift(t *testing.T) {
-	r := rand.New(rand.NewPCG(61, 62))
-	for k := 0; k < 10; k++ {
-		x := swingingDriver(r, 36)
-		cost := make([]float64, 36)
-		for i := range cost {
-			level := 8000.0
-			switch {
-			case i == 30:
-				level *= 1.06
-			case i >= 33:
-				level *= 1.15
-			}
-			cost[i] = level * (1 + 0.015*r.NormFloat64())
-		}
-		p := onePanel(cost, x)
-		b := Object(p, &p.Objects[0], driftSettings).Behaviour
-		if b.Break == nil || b.Break.Period != p.Periods[33] {
-			t.Fatalf("trial %d: break %+v, want one from %s", k, b.Break, p.Periods[33])
-		}
-		if rise := b.Break.FixedAfter/b.Break.FixedBefore - 1; math.Abs(rise-0.15) > 0.045 {
-			t.Errorf("trial %d: rise %.1f %%, designed 15 %%", k, 100*rise)
-		}
 	}
 }
