@@ -97,3 +97,57 @@ func TestReplacingFitsKeepsNoStatementJournal(t *testing.T) {
 		t.Errorf("the second analysis wrote %d KiB for a store of %d KiB: more than the write-ahead log and a checkpoint need", written>>10, pages*pageSize>>10)
 	}
 }
+
+// A store from before schema 22 keeps its analysis as it was, and after the
+// upgrade the keys from fits, input hashes and behaviours to their run are
+// as binding as before, checked at commit rather than as each row is
+// written.
+func TestAnalysisKeysCheckedAtCommitAfterUpgrade(t *testing.T) {
+	ctx := context.Background()
+	db, ms := storeBefore(t, 22)
+	mustExec(t, db, `INSERT INTO analysis_runs (id, started_at, finished_at, grain, objects, settings)
+		VALUES (1, '2025-06-01T06:00:00Z', '2025-06-01T06:01:00Z', 'account_cost_center', 1, '{}')`)
+	mustExec(t, db, `INSERT INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n, significant, implausible, chosen)
+		VALUES (1, '6100/ASSY', '6100', 'ASSY', '', 0, 'constant', 36, 0, 0, 1)`)
+	mustExec(t, db, `INSERT INTO object_inputs (object, input_hash, analysis_run_id) VALUES ('6100/ASSY', 'h1', 1)`)
+	mustExec(t, db, `INSERT INTO behaviour_history (object, account, cost_center, class, n, reason, first_run_id, last_run_id, valid_from_run_at)
+		VALUES ('6100/ASSY', '6100', 'ASSY', 'fixed', 36, 'constant over the window', 1, 1, '2025-06-01T06:01:00Z')`)
+	if err := db.applyMigrations(ctx, ms); err != nil {
+		t.Fatal(err)
+	}
+	for _, table := range []string{"fits", "object_inputs", "behaviour_history"} {
+		if got := count(t, db, table); got != 1 {
+			t.Errorf("%d rows in %s after the upgrade, want 1", got, table)
+		}
+		var keys, deferred int
+		db.SQL().QueryRow(`SELECT COUNT(*), COUNT(*) FILTER (WHERE s.sql LIKE '%DEFERRABLE INITIALLY DEFERRED%')
+			FROM pragma_foreign_key_list(?1) k, sqlite_schema s WHERE k."table" = 'analysis_runs' AND s.name = ?1`, table).Scan(&keys, &deferred)
+		if keys == 0 || deferred != keys {
+			t.Errorf("%s: %d keys to analysis_runs, %d of them checked at commit; want all", table, keys, deferred)
+		}
+	}
+	if got := dump(t, db, `PRAGMA integrity_check`); got != "\"ok\"\n" {
+		t.Errorf("integrity_check after the upgrade: %s", got)
+	}
+
+	for _, insert := range []string{
+		`INSERT OR FAIL INTO fits (analysis_run_id, object, account, cost_center, driver, lag, model, n, significant, implausible, chosen)
+			VALUES (99, '6100/PAINT', '6100', 'PAINT', '', 0, 'constant', 36, 0, 0, 1)`,
+		`UPDATE OR FAIL object_inputs SET analysis_run_id = 99 WHERE object = '6100/ASSY'`,
+		`UPDATE OR FAIL behaviour_history SET last_run_id = 99 WHERE object = '6100/ASSY'`,
+	} {
+		tx, err := db.SQL().BeginTx(ctx, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := tx.Exec(insert); err != nil {
+			t.Fatalf("a row naming no run is refused as it is written, want at commit: %v", err)
+		}
+		if err := tx.Commit(); err == nil || !strings.Contains(err.Error(), "FOREIGN KEY") {
+			t.Errorf("commit of %q: %v, want a foreign key failure", insert, err)
+		}
+	}
+	if got := dump(t, db, `SELECT analysis_run_id FROM fits UNION ALL SELECT analysis_run_id FROM object_inputs UNION ALL SELECT last_run_id FROM behaviour_history`); got != "int64:1\nint64:1\nint64:1\n" {
+		t.Errorf("runs named after the refused commits:\n%s, want 1 three times", got)
+	}
+}
