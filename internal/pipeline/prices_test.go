@@ -83,14 +83,7 @@ func analyseAndRaise(t *testing.T, e *Env, db *sqlite.DB) (map[string]costdrift.
 	if _, err := Raise(ctx, e, db, res); err != nil {
 		t.Fatal(err)
 	}
-	bs, err := db.CurrentBehaviour(ctx)
-	if err != nil {
-		t.Fatal(err)
-	}
-	byObject := map[string]costdrift.Behaviour{}
-	for _, b := range bs {
-		byObject[b.Object.String()] = b
-	}
+	byObject := currentBehaviours(t, db)
 	open, err := db.Alerts(ctx, sqlite.AlertFilter{})
 	if err != nil {
 		t.Fatal(err)
@@ -100,6 +93,20 @@ func analyseAndRaise(t *testing.T, e *Env, db *sqlite.DB) (map[string]costdrift.
 		kinds[a.Object] = append(kinds[a.Object], a.Kind)
 	}
 	return byObject, kinds
+}
+
+// currentBehaviours returns the store's current behaviours by object.
+func currentBehaviours(t *testing.T, db *sqlite.DB) map[string]costdrift.Behaviour {
+	t.Helper()
+	bs, err := db.CurrentBehaviour(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	byObject := map[string]costdrift.Behaviour{}
+	for _, b := range bs {
+		byObject[b.Object.String()] = b
+	}
+	return byObject
 }
 
 // TestConstantInRealTerms: a cost constant in real terms under 5 %
@@ -242,23 +249,8 @@ func TestDeflatorBadIndex(t *testing.T) {
 func TestBudgetAtPlannedPrices(t *testing.T) {
 	e, db := inflationBooks(t, "cpi", []string{"6300/ADMIN"}, asPublished)
 	ctx := context.Background()
-	res, err := Analyze(ctx, e, db, true)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := Raise(ctx, e, db, res); err != nil {
-		t.Fatal(err)
-	}
-	bs, err := db.CurrentBehaviour(ctx)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var admin costdrift.Behaviour
-	for _, b := range bs {
-		if b.Object.String() == "6100/ADMIN" {
-			admin = b
-		}
-	}
+	bs, _ := analyseAndRaise(t, e, db)
+	admin := bs["6100/ADMIN"]
 	if admin.Class != costdrift.Fixed || admin.PriceBase != "2026-06" {
 		t.Fatalf("6100/ADMIN: %s at prices of %q, want fixed at 2026-06's", admin.Class, admin.PriceBase)
 	}
@@ -420,19 +412,8 @@ func TestBreakEvenAtTheReferencePeriodsPrices(t *testing.T) {
 	if _, err := Analyze(ctx, e, db, true); err != nil {
 		t.Fatal(err)
 	}
-	bs, err := db.CurrentBehaviour(ctx)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var admin, parts costdrift.Behaviour
-	for _, b := range bs {
-		switch b.Object.String() {
-		case "6100/ADMIN":
-			admin = b
-		case "5100/SHOP":
-			parts = b
-		}
-	}
+	bs := currentBehaviours(t, db)
+	admin, parts := bs["6100/ADMIN"], bs["5100/SHOP"]
 	if parts.Class != costdrift.Variable || parts.Driver != "machine_hours" || parts.PriceBase != "2026-06" {
 		t.Fatalf("5100/SHOP: %s on %q at prices of %q, want variable on machine_hours at 2026-06's", parts.Class, parts.Driver, parts.PriceBase)
 	}
