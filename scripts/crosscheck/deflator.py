@@ -30,15 +30,12 @@ packages:
     /usr/bin/python3 scripts/crosscheck/deflator.py testdata/crosscheck/deflator.json
 """
 
-import json
 import sys
 
 import numpy as np
-import scipy
-import statsmodels
 import statsmodels.api as sm
 
-from olsfit import floats, fitted
+from olsfit import floats, models, write_golden
 
 SEED = 20261206
 
@@ -68,20 +65,10 @@ def main():
         cases.append(dict(
             name="deflator-%d" % i, quarters=quarters, periods=periods, cpi=floats(cpi), x=floats(x),
             nominal=floats(nominal), restated=floats(restated), fixed_real=fixed, rate_real=rate,
-            constant=fitted(sm.OLS(restated, np.ones((n, 1))).fit(), False),
-            linear=fitted(sm.OLS(restated, sm.add_constant(x)).fit(), True),
-            proportional=fitted(sm.OLS(restated, x.reshape(-1, 1)).fit(), False),
+            **models(restated, x),
         ))
-    doc = dict(
-        generator="scripts/crosscheck/deflator.py",
-        index="statsmodels.api.datasets.macrodata, column cpi (quarterly US CPI, FRED)",
-        versions=dict(python=sys.version.split()[0], numpy=np.__version__, scipy=scipy.__version__,
-                      statsmodels=statsmodels.__version__),
-        seed=SEED, cases=cases,
-    )
-    with open(sys.argv[1], "w") as f:
-        json.dump(doc, f, indent=1)
-        f.write("\n")
+    write_golden(sys.argv[1], "scripts/crosscheck/deflator.py", SEED, cases,
+                 index="statsmodels.api.datasets.macrodata, column cpi (quarterly US CPI, FRED)")
 
 
 if __name__ == "__main__":

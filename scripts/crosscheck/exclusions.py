@@ -20,15 +20,11 @@ stand for nothing real. Run with Debian's interpreter and packages:
     /usr/bin/python3 scripts/crosscheck/exclusions.py testdata/crosscheck/exclusions.json
 """
 
-import json
 import sys
 
 import numpy as np
-import scipy
-import statsmodels
-import statsmodels.api as sm
 
-from olsfit import floats, fitted
+from olsfit import floats, models, write_golden
 
 SEED = 20261205
 
@@ -54,19 +50,9 @@ def main():
         cases.append(dict(
             name="exclusions-%d" % i, periods=periods, x=floats(x), y=floats(y),
             excluded=[periods[j] for j in excluded],
-            constant=fitted(sm.OLS(ys, np.ones((len(ys), 1))).fit(), False),
-            linear=fitted(sm.OLS(ys, sm.add_constant(xs)).fit(), True),
-            proportional=fitted(sm.OLS(ys, xs.reshape(-1, 1)).fit(), False),
+            **models(ys, xs),
         ))
-    doc = dict(
-        generator="scripts/crosscheck/exclusions.py",
-        versions=dict(python=sys.version.split()[0], numpy=np.__version__, scipy=scipy.__version__,
-                      statsmodels=statsmodels.__version__),
-        seed=SEED, cases=cases,
-    )
-    with open(sys.argv[1], "w") as f:
-        json.dump(doc, f, indent=1)
-        f.write("\n")
+    write_golden(sys.argv[1], "scripts/crosscheck/exclusions.py", SEED, cases)
 
 
 if __name__ == "__main__":
