@@ -148,28 +148,12 @@ func TestXLSXExports(t *testing.T) {
 	}
 	// The report's figures are the JSON's.
 	_, rows := xlsxCells(t, filepath.Join(out, "report.xlsx"))
-	byObject := reportJSON(t, cfg)
-	checked := 0
-	for _, r := range rows[1:] {
-		if len(r) == 0 {
-			continue
+	checked := eachReportFigure(rows, reportJSON(t, cfg), func(object, column, cell string, want float64) {
+		got, err := strconv.ParseFloat(cell, 64)
+		if err != nil || math.Abs(got-want) > 1e-9*math.Max(1, math.Abs(want)) {
+			t.Errorf("report.xlsx %s %s = %q, JSON %v", object, column, cell, want)
 		}
-		js, ok := byObject[r[0]]
-		if !ok {
-			continue
-		}
-		for c, h := range rows[0] {
-			want, isNum := js[h].(float64)
-			if !isNum || c >= len(r) {
-				continue
-			}
-			got, err := strconv.ParseFloat(r[c], 64)
-			if err != nil || math.Abs(got-want) > 1e-9*math.Max(1, math.Abs(want)) {
-				t.Errorf("report.xlsx %s %s = %q, JSON %v", r[0], h, r[c], want)
-			}
-			checked++
-		}
-	}
+	})
 	if checked < 13*5 { // five or more figures of each of the 13 objects
 		t.Errorf("only %d figures compared", checked)
 	}
@@ -225,35 +209,19 @@ func TestXLSXExportsInLibreOffice(t *testing.T) {
 	// The report: every number LibreOffice shows is the JSON's at the
 	// shown precision (money to the cent, R² to three decimals).
 	rows := read("report.csv")
-	byObject := reportJSON(t, cfg)
-	checked := 0
-	for _, r := range rows[1:] {
-		if len(r) == 0 {
-			continue
+	checked := eachReportFigure(rows, reportJSON(t, cfg), func(object, column, cell string, want float64) {
+		got, err := strconv.ParseFloat(strings.ReplaceAll(cell, ",", ""), 64)
+		tol := 0.5e-2
+		switch column {
+		case "r2":
+			tol = 0.5e-3
+		case "variable_rate", "range_min", "range_max", "lag", "n":
+			tol = 0.5e-6 * math.Max(1, math.Abs(want))
 		}
-		js, ok := byObject[r[0]]
-		if !ok {
-			continue
+		if err != nil || math.Abs(got-want) > tol {
+			t.Errorf("LibreOffice reads report %s %s as %q, JSON %v", object, column, cell, want)
 		}
-		for c, h := range rows[0] {
-			want, isNum := js[h].(float64)
-			if !isNum || c >= len(r) {
-				continue
-			}
-			got, err := strconv.ParseFloat(strings.ReplaceAll(r[c], ",", ""), 64)
-			tol := 0.5e-2
-			switch h {
-			case "r2":
-				tol = 0.5e-3
-			case "variable_rate", "range_min", "range_max", "lag", "n":
-				tol = 0.5e-6 * math.Max(1, math.Abs(want))
-			}
-			if err != nil || math.Abs(got-want) > tol {
-				t.Errorf("LibreOffice reads report %s %s as %q, JSON %v", r[0], h, r[c], want)
-			}
-			checked++
-		}
-	}
+	})
 	if checked < 13*5 { // five or more figures of each of the 13 objects
 		t.Errorf("only %d figures compared", checked)
 	}
@@ -306,6 +274,31 @@ func TestXLSXExportsInLibreOffice(t *testing.T) {
 	if inj[2][1] != "1,234.50" && inj[2][1] != "1234.5" {
 		t.Errorf("amount read as %q", inj[2][1])
 	}
+}
+
+// eachReportFigure hands check every cell of the report's rows (the header
+// first) that the report's JSON gives a number for, by object and column,
+// and returns how many it handed.
+func eachReportFigure(rows [][]string, byObject map[string]map[string]any, check func(object, column, cell string, want float64)) int {
+	checked := 0
+	for _, r := range rows[1:] {
+		if len(r) == 0 {
+			continue
+		}
+		js, ok := byObject[r[0]]
+		if !ok {
+			continue
+		}
+		for c, h := range rows[0] {
+			want, isNum := js[h].(float64)
+			if !isNum || c >= len(r) {
+				continue
+			}
+			check(r[0], h, r[c], want)
+			checked++
+		}
+	}
+	return checked
 }
 
 func rows0(rows [][]string, name string) int {
