@@ -9,9 +9,6 @@ import (
 	"time"
 
 	"github.com/chromedp/chromedp"
-
-	"github.com/costdrift/costdrift/internal/pipeline"
-	"github.com/costdrift/costdrift/internal/web"
 )
 
 // Signing in with the users file, as typed and clicked in Chromium: the
@@ -21,26 +18,7 @@ func TestWebSignInInChromium(t *testing.T) {
 	chromium := needTool(t, "chromium", "chromium")
 	axe := needAxe(t)
 	cfg := ownDemo(t)
-	dir := filepath.Dir(cfg)
-	users := filepath.Join(dir, "users")
-	if err := web.AddUser(users, "ana.accountant", "correct horse battery"); err != nil {
-		t.Fatal(err)
-	}
-	e, err := pipeline.Load(cfg, today)
-	if err != nil {
-		t.Fatal(err)
-	}
-	e.Config.HTTP.UsersFile = users
-	db, err := e.OpenToRead(context.Background(), true)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer db.Close()
-	v, err := newView(e, func() *pipeline.Env { return e }, db, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	srv := httptest.NewServer(v.Handler())
+	srv := httptest.NewServer(signInView(t, filepath.Dir(cfg)).Handler())
 	defer srv.Close()
 
 	opts := []chromedp.ExecAllocatorOption{chromedp.ExecPath(chromium), chromedp.Headless, chromedp.NoSandbox, chromedp.DisableGPU,

@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"context"
 	"errors"
 	"net/http"
 	"net/http/httptest"
@@ -12,7 +11,6 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/costdrift/costdrift/internal/pipeline"
 	"github.com/costdrift/costdrift/internal/web"
 )
 
@@ -79,24 +77,7 @@ func TestWebSignIn(t *testing.T) {
 	cfg := ownDemo(t)
 	dir := filepath.Dir(cfg)
 	store := filepath.Join(dir, "costdrift.db")
-	users := filepath.Join(dir, "users")
-	if err := web.AddUser(users, "ana.accountant", "correct horse battery"); err != nil {
-		t.Fatal(err)
-	}
-	e, err := pipeline.Load(cfg, today)
-	if err != nil {
-		t.Fatal(err)
-	}
-	e.Config.HTTP.UsersFile = users
-	db, err := e.OpenToRead(context.Background(), true)
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { db.Close() })
-	v, err := newView(e, func() *pipeline.Env { return e }, db, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	v := signInView(t, dir)
 	srv := httptest.NewServer(v.Handler())
 	defer srv.Close()
 	c := browser(t, srv)
@@ -256,7 +237,7 @@ func TestWebSignIn(t *testing.T) {
 	if code, _ := get("/"); code != http.StatusOK {
 		t.Fatalf("signed in again: %d", code)
 	}
-	if err := web.RemoveUser(users, "ana.accountant"); err != nil {
+	if err := web.RemoveUser(filepath.Join(dir, "users"), "ana.accountant"); err != nil {
 		t.Fatal(err)
 	}
 	if code, _ := get("/"); code != http.StatusSeeOther {

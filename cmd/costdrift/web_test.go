@@ -30,11 +30,31 @@ import (
 // does, with the given proxy header ("" for loopback only).
 func webView(t testing.TB, dir, authHeader string) (*web.Server, *pipeline.Env, *sqlite.DB) {
 	t.Helper()
+	return webViewWith(t, dir, func(e *pipeline.Env) { e.Config.HTTP.AuthHeader = authHeader })
+}
+
+// signInView is the web view of the demo in dir signing users in from a
+// users file there that holds ana.accountant, password "correct horse
+// battery".
+func signInView(t testing.TB, dir string) *web.Server {
+	t.Helper()
+	users := filepath.Join(dir, "users")
+	if err := web.AddUser(users, "ana.accountant", "correct horse battery"); err != nil {
+		t.Fatal(err)
+	}
+	v, _, _ := webViewWith(t, dir, func(e *pipeline.Env) { e.Config.HTTP.UsersFile = users })
+	return v
+}
+
+// webViewWith builds the web view of the demo in dir as `costdrift serve`
+// does, with its settings changed by set.
+func webViewWith(t testing.TB, dir string, set func(*pipeline.Env)) (*web.Server, *pipeline.Env, *sqlite.DB) {
+	t.Helper()
 	e, err := pipeline.Load(filepath.Join(dir, "costdrift.yaml"), today)
 	if err != nil {
 		t.Fatal(err)
 	}
-	e.Config.HTTP.AuthHeader = authHeader
+	set(e)
 	db, err := e.OpenToRead(context.Background(), true)
 	if err != nil {
 		t.Fatal(err)
