@@ -30,13 +30,8 @@ cost over time goes beside it, into FILE's name with "-over-time" before the
 extension. PNG or SVG by the file's extension.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if format != "text" && format != "json" {
-				return fmt.Errorf("--format must be text or json, not %q", format)
-			}
-			if chartPath != "" {
-				if ext := strings.ToLower(filepath.Ext(chartPath)); ext != ".png" && ext != ".svg" {
-					return fmt.Errorf("--chart %s: the file must end in .png or .svg", chartPath)
-				}
+			if err := checkFormatAndChart(format, chartPath); err != nil {
+				return err
 			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
 				ex, charts, err := pipeline.Explain(cmd.Context(), e, db, args[0], chartPath != "")
@@ -67,6 +62,20 @@ extension. PNG or SVG by the file's extension.`,
 	cmd.Flags().StringVar(&format, "format", "text", "text or json")
 	cmd.Flags().StringVar(&chartPath, "chart", "", "also draw the charts into `FILE` (.png or .svg): cost against the driver, and cost over time beside it")
 	return cmd
+}
+
+// checkFormatAndChart checks the --format (text or json) and --chart (a
+// file ending in .png or .svg, or none) of explain and history.
+func checkFormatAndChart(format, chartPath string) error {
+	if format != "text" && format != "json" {
+		return fmt.Errorf("--format must be text or json, not %q", format)
+	}
+	if chartPath != "" {
+		if ext := strings.ToLower(filepath.Ext(chartPath)); ext != ".png" && ext != ".svg" {
+			return fmt.Errorf("--chart %s: the file must end in .png or .svg", chartPath)
+		}
+	}
+	return nil
 }
 
 // overTime is where the cost-over-time chart goes beside the scatter in

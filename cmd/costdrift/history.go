@@ -2,8 +2,6 @@ package main
 
 import (
 	"fmt"
-	"path/filepath"
-	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -25,13 +23,8 @@ formula in force in each period and every change marked, as PNG or SVG by the
 file's extension. It reads the store and fits nothing.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if format != "text" && format != "json" {
-				return fmt.Errorf("--format must be text or json, not %q", format)
-			}
-			if chartPath != "" {
-				if ext := strings.ToLower(filepath.Ext(chartPath)); ext != ".png" && ext != ".svg" {
-					return fmt.Errorf("--chart %s: the file must end in .png or .svg", chartPath)
-				}
+			if err := checkFormatAndChart(format, chartPath); err != nil {
+				return err
 			}
 			return a.withStore(cmd.Context(), func(e *pipeline.Env, db *sqlite.DB) error {
 				h, tl, err := pipeline.History(cmd.Context(), e, db, args[0], chartPath != "")
