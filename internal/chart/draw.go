@@ -66,10 +66,13 @@ type legendItem struct {
 	thumb plot.Thumbnailer
 }
 
-// draw lays out title, plot and legend on c. A panic inside the plotting
-// library becomes an error: a chart that fails to draw must not take the
-// daemon down.
-func (s Scatter) draw(c draw.Canvas) (err error) {
+// draw lays out title, plot and legend on c (drawFrame).
+func (s Scatter) draw(c draw.Canvas) error { return drawFrame(c, s.Title, s.plot) }
+
+// drawFrame lays out a chart on c: its title, the plot build makes and the
+// legend row under it. A panic inside the plotting library becomes an
+// error: a chart that fails to draw must not take the daemon down.
+func drawFrame(c draw.Canvas, title string, build func() (*plot.Plot, []legendItem)) (err error) {
 	defer func() {
 		if r := recover(); r != nil {
 			err = fmt.Errorf("chart: drawing failed: %v", r)
@@ -79,7 +82,7 @@ func (s Scatter) draw(c draw.Canvas) (err error) {
 	c.Fill(c.Rectangle.Path())
 
 	area := draw.Crop(c, margin, -margin, margin*0.8, -margin*0.8)
-	if title := clean(s.Title); title != "" {
+	if title := clean(title); title != "" {
 		sty := fitText(textStyle(titleSize, colInk), title, area.Max.X-area.Min.X)
 		sty.YAlign = draw.YTop
 		title = ellipsize(sty, title, area.Max.X-area.Min.X)
@@ -87,9 +90,8 @@ func (s Scatter) draw(c draw.Canvas) (err error) {
 		area.Max.Y -= sty.Height(title) + 8
 	}
 
-	p, items := s.plot()
-	legendSty := textStyle(legendSize, colInk)
-	h := drawLegend(area, legendSty, items)
+	p, items := build()
+	h := drawLegend(area, textStyle(legendSize, colInk), items)
 	area.Min.Y += h + 6
 	p.Draw(area)
 	return nil

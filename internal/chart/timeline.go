@@ -3,7 +3,6 @@ package chart
 import (
 	"errors"
 	"fmt"
-	"image/color"
 	"io"
 	"math"
 	"slices"
@@ -85,29 +84,8 @@ func (t Timeline) WriteSVG(w io.Writer, widthPt, heightPt float64) error {
 	return writeSVG(t, w, widthPt, heightPt)
 }
 
-// draw lays out title, plot and legend on c, as Scatter.draw does.
-func (t Timeline) draw(c draw.Canvas) (err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			err = fmt.Errorf("chart: drawing failed: %v", r)
-		}
-	}()
-	c.SetColor(color.White)
-	c.Fill(c.Rectangle.Path())
-	area := draw.Crop(c, margin, -margin, margin*0.8, -margin*0.8)
-	if title := clean(t.Title); title != "" {
-		sty := fitText(textStyle(titleSize, colInk), title, area.Max.X-area.Min.X)
-		sty.YAlign = draw.YTop
-		title = ellipsize(sty, title, area.Max.X-area.Min.X)
-		area.FillText(sty, vg.Point{X: area.Min.X, Y: area.Max.Y}, title)
-		area.Max.Y -= sty.Height(title) + 8
-	}
-	p, items := t.plot()
-	h := drawLegend(area, textStyle(legendSize, colInk), items)
-	area.Min.Y += h + 6
-	p.Draw(area)
-	return nil
-}
+// draw lays out title, plot and legend on c (drawFrame).
+func (t Timeline) draw(c draw.Canvas) error { return drawFrame(c, t.Title, t.plot) }
 
 // plot builds the timeline's plot and legend entries. Layers bottom to
 // top: grid, changes, formulas, points, outliers.
