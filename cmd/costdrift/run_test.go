@@ -89,8 +89,17 @@ func command(args ...string) *exec.Cmd {
 // startDaemon starts `costdrift run` and waits for it to say it started.
 func startDaemon(t *testing.T, cfg string) (*exec.Cmd, *logBuffer) {
 	t.Helper()
+	cmd, logs := startCommand(t, "--config", cfg, "run")
+	waitFor(t, 5*time.Second, "the daemon to start", func() bool { return logs.count("daemon started") == 1 }, logs)
+	return cmd, logs
+}
+
+// startCommand starts the program with args, its output kept in the
+// returned buffer; it is killed at the end of the test if still running.
+func startCommand(t *testing.T, args ...string) (*exec.Cmd, *logBuffer) {
+	t.Helper()
 	logs := &logBuffer{}
-	cmd := command("--config", cfg, "run")
+	cmd := command(args...)
 	cmd.Stdout, cmd.Stderr = logs, logs
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
@@ -101,7 +110,6 @@ func startDaemon(t *testing.T, cfg string) (*exec.Cmd, *logBuffer) {
 			cmd.Wait()
 		}
 	})
-	waitFor(t, 5*time.Second, "the daemon to start", func() bool { return logs.count("daemon started") == 1 }, logs)
 	return cmd, logs
 }
 

@@ -578,18 +578,7 @@ func TestWebSourcesAndBudgets(t *testing.T) {
 func TestServeCommand(t *testing.T) {
 	cfg := ownDemo(t)
 	addr := freePort(t)
-	logs := &logBuffer{}
-	cmd := command("--config", cfg, "serve", "--listen", addr)
-	cmd.Stdout, cmd.Stderr = logs, logs
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() {
-		if cmd.ProcessState == nil {
-			cmd.Process.Kill()
-			cmd.Wait()
-		}
-	})
+	cmd, logs := startCommand(t, "--config", cfg, "serve", "--listen", addr)
 	want := "costdrift web view: open http://" + addr + "/"
 	waitFor(t, 10*time.Second, "serve to say where it listens", func() bool { return strings.Contains(logs.String(), want) }, logs)
 	if code, body := get(t, "http://"+addr+"/objects"); code != http.StatusOK || !strings.Contains(body, "Objects 1–14 of 14") {

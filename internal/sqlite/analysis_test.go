@@ -45,6 +45,17 @@ func step() costdrift.Behaviour {
 }
 
 // fixed is a fixed rent: no driver, so no lag, range or R².
+// renewedLease is 6110/PAINT's lease, fixed at 3,300.00 from a break at
+// 2025-07, 2,800.00 before it.
+func renewedLease() costdrift.Behaviour {
+	lease := fixed()
+	lease.Object = costdrift.CostObject{Account: "6110", CostCenter: "PAINT"}
+	lease.FixedPerPeriod, lease.Since = 3300, "2025-07"
+	lease.Break = &costdrift.Break{Period: "2025-07", LastBefore: "2025-06", WindowFrom: "2023-07", Statistic: 120, P: 0.001,
+		FixedBefore: 2800, FixedAfter: 3300, Test: "sup-F"}
+	return lease
+}
+
 func fixed() costdrift.Behaviour {
 	return costdrift.Behaviour{
 		Object: costdrift.CostObject{Account: "6500"}, Class: costdrift.Fixed, FixedPerPeriod: 2500, R2: math.NaN(), N: 36,
@@ -216,11 +227,7 @@ func TestPendingChangeDropped(t *testing.T) {
 // break it finds as a closed row.
 func TestBreakDatesHistory(t *testing.T) {
 	db, c := mustOpen(t)
-	lease := fixed()
-	lease.Object = costdrift.CostObject{Account: "6110", CostCenter: "PAINT"}
-	lease.FixedPerPeriod, lease.Since = 3300, "2025-07"
-	lease.Break = &costdrift.Break{Period: "2025-07", LastBefore: "2025-06", WindowFrom: "2023-07", Statistic: 120, P: 0.001,
-		FixedBefore: 2800, FixedAfter: 3300, Test: "sup-F"}
+	lease := renewedLease()
 	save(t, db, c, nil, lease)
 	want := `"2023-07"|"2025-06"|float64:2800` + "\n" + `"2025-07"|NULL|float64:3300` + "\n"
 	if got := dump(t, db, `SELECT valid_from_period, valid_to_period, fixed_per_period FROM behaviour_periods WHERE object = '6110/PAINT' ORDER BY valid_from_period`); got != want {

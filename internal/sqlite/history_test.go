@@ -12,11 +12,7 @@ import (
 // 2026-03 on; oldest first, each with its periods and runs.
 func TestBehaviourHistory(t *testing.T) {
 	db, c := mustOpen(t)
-	lease := fixed()
-	lease.Object = costdrift.CostObject{Account: "6110", CostCenter: "PAINT"}
-	lease.FixedPerPeriod, lease.Since = 3300, "2025-07"
-	lease.Break = &costdrift.Break{Period: "2025-07", LastBefore: "2025-06", WindowFrom: "2023-07", Statistic: 120, P: 0.001,
-		FixedBefore: 2800, FixedAfter: 3300, Test: "sup-F"}
+	lease := renewedLease()
 	save(t, db, c, nil, lease)
 	later := lease
 	later.FixedPerPeriod, later.Since = 3600, "2026-03"
