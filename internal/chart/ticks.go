@@ -2,10 +2,10 @@ package chart
 
 import (
 	"math"
-	"strconv"
-	"strings"
 
 	"gonum.org/v1/plot"
+
+	"github.com/costdrift/costdrift/internal/present"
 )
 
 // groupedTicks marks an axis at round steps and labels every mark with its
@@ -87,25 +87,8 @@ func stepDecimals(step float64) int {
 	return 10
 }
 
-// formatGrouped prints v with the given number of decimals and a comma between
-// each group of three integer digits: formatGrouped(12500, 0) = "12,500",
+// formatGrouped prints a tick's value as every figure of the program is
+// printed (present.Number): the given number of decimals and a comma between
+// each group of three integer digits, formatGrouped(12500, 0) = "12,500",
 // formatGrouped(-1234.5, 2) = "-1,234.50".
-func formatGrouped(v float64, decimals int) string {
-	s := strconv.FormatFloat(math.Abs(v), 'f', decimals, 64)
-	intPart, frac, hasFrac := strings.Cut(s, ".")
-	var b strings.Builder
-	if v < 0 && strings.Trim(s, "0.") != "" {
-		b.WriteByte('-')
-	}
-	for i, r := range intPart {
-		if i > 0 && (len(intPart)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(r)
-	}
-	if hasFrac {
-		b.WriteByte('.')
-		b.WriteString(frac)
-	}
-	return b.String()
-}
+func formatGrouped(v float64, decimals int) string { return present.Number(v, decimals) }
