@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"sync"
 	"syscall"
 	"time"
 
@@ -42,6 +43,10 @@ type DB struct {
 	// dry, when set, is the one transaction a dry run works in; it is
 	// rolled back at the end, so nothing is written.
 	dry *sql.Tx
+	// background counts the work a writer left running past its return
+	// (an analysis's checkpoint), which Close waits for; shared with a
+	// dry run's view.
+	background *sync.WaitGroup
 }
 
 // conn is what both *sql.DB and *sql.Tx offer.
@@ -160,7 +165,7 @@ func open(ctx context.Context, path string, currency money.Currency, toWrite boo
 	// than opening and closing them as load comes and goes.
 	sqldb.SetMaxOpenConns(maxConns)
 	sqldb.SetMaxIdleConns(maxConns)
-	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency, readOnly: readOnly}
+	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency, readOnly: readOnly, background: &sync.WaitGroup{}}
 	fail := func(err error) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("store %s: %w", path, err)
@@ -410,6 +415,7 @@ func (db *DB) ReadOnly() bool { return db.readOnly }
 // of the file beside it, so that the next writer need not check it again
 // within CheckEvery (checkstamp.go).
 func (db *DB) Close() error {
+	db.background.Wait()
 	err := db.db.Close()
 	if err == nil && !db.readOnly && !db.checked.IsZero() {
 		writeStamp(db.path, db.checked)

@@ -3,8 +3,10 @@ package sqlite
 import (
 	"bufio"
 	"context"
+	"database/sql"
 	"fmt"
 	"os"
+	"path/filepath"
 	"runtime"
 	"strconv"
 	"strings"
@@ -149,5 +151,92 @@ func TestAnalysisKeysCheckedAtCommitAfterUpgrade(t *testing.T) {
 	}
 	if got := dump(t, db, `SELECT analysis_run_id FROM fits UNION ALL SELECT analysis_run_id FROM object_inputs UNION ALL SELECT last_run_id FROM behaviour_history`); got != "int64:1\nint64:1\nint64:1\n" {
 		t.Errorf("runs named after the refused commits:\n%s, want 1 three times", got)
+	}
+}
+
+// An analysis's commit leaves copying its pages from the write-ahead log to
+// a checkpoint in the background: the commit returns before any of them
+// reaches the store's file, readers see the analysis at once, and Close
+// waits for the checkpoint. The connection the analysis wrote on keeps
+// checkpointing by itself afterwards, as the others do.
+func TestAnalysisCheckpointsAfterItsCommit(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "costdrift.db")
+	db, err := Open(ctx, path, eur)
+	if err != nil {
+		t.Fatal(err)
+	}
+	held, released := make(chan struct{}), make(chan struct{})
+	beforeCheckpoint = func() { close(held); <-released }
+	defer func() { beforeCheckpoint = func() {} }()
+
+	run := &costdrift.AnalysisRun{Grain: costdrift.GrainAccountCostCenter, WindowFrom: "2023-01", WindowTo: "2025-12", Settings: "{}"}
+	w, err := db.BeginAnalysis(ctx, run)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Without the change, a commit of a single page would checkpoint.
+	if _, err := w.tx.ExecContext(ctx, `PRAGMA wal_autocheckpoint = 1`); err != nil {
+		t.Fatal(err)
+	}
+	var fits []costdrift.Fit
+	var behaviours []costdrift.Behaviour
+	inputs := map[string]string{}
+	for i := range 500 {
+		o := costdrift.CostObject{Account: fmt.Sprint(6000 + i/40), CostCenter: fmt.Sprintf("CC%02d", i%40)}
+		inputs[o.String()] = "inputs"
+		behaviours = append(behaviours, costdrift.Behaviour{Object: o, Class: costdrift.Fixed, Reason: "constant over the window", N: 36,
+			FixedPerPeriod: 1200.5, MeanCost: 1200.5, Since: "2023-01", Until: "2025-12"})
+		fits = append(fits, costdrift.Fit{Object: o, Model: costdrift.ModelConstant, N: 36, Intercept: 1200.5, Chosen: true})
+	}
+	if err := w.Save(ctx, fits, behaviours, inputs); err != nil {
+		t.Fatal(err)
+	}
+	size := func() int64 {
+		fi, err := os.Stat(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return fi.Size()
+	}
+	before := size()
+	if err := w.Commit(ctx); err != nil {
+		t.Fatal(err)
+	}
+	<-held
+	if got := size(); got != before {
+		t.Errorf("the store's file went from %d to %d bytes at the commit: the commit checkpointed", before, got)
+	}
+	var n int
+	if err := db.db.QueryRowContext(ctx, `SELECT COUNT(*) FROM fits WHERE analysis_run_id = ?`, run.ID).Scan(&n); err != nil || n != 500 {
+		t.Errorf("fits seen after the commit, before the checkpoint: %d, %v; want 500", n, err)
+	}
+	close(released)
+	db.background.Wait()
+	if got := size(); got <= before {
+		t.Errorf("the store's file is %d bytes after the checkpoint, %d before: the analysis's pages did not reach it", got, before)
+	}
+	// Every connection of the pool, the analysis's among them, checkpoints
+	// by itself again.
+	var conns []*sql.Conn
+	for range maxConns {
+		c, err := db.db.Conn(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		conns = append(conns, c)
+	}
+	for i, c := range conns {
+		var pages int
+		if err := c.QueryRowContext(ctx, `PRAGMA wal_autocheckpoint`).Scan(&pages); err != nil || pages != autoCheckpointPages {
+			t.Errorf("connection %d: wal_autocheckpoint %d, %v; want %d", i, pages, err, autoCheckpointPages)
+		}
+		c.Close()
+	}
+	if err := db.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Stat(path + "-wal"); !os.IsNotExist(err) {
+		t.Errorf("the write-ahead log is still there after Close: %v", err)
 	}
 }
