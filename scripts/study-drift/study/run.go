@@ -33,7 +33,7 @@ type Alerted struct {
 type Analysis struct {
 	Newest  int       // history month of the window's newest period
 	Alerted []Alerted // objects with a new warning or critical behaviour alert
-	Watched int       // objects with only an info-level behaviour alert
+	Watched []string  // objects with only an info-level behaviour alert
 }
 
 // Roll analyses the portfolio at each of the 13 month-ends of its last year
@@ -96,7 +96,7 @@ func Roll(companies []Company, s analyze.Settings, q float64) []Analysis {
 		}
 		for name := range watched {
 			if _, ok := at[name]; !ok {
-				a.Watched++
+				a.Watched = append(a.Watched, name)
 			}
 		}
 		out = append(out, a)
@@ -230,7 +230,13 @@ func Stable(companies []Company, rolls []Analysis) StableFigures {
 			}
 		}
 		f.PerRoll = append(f.PerRoll, t)
-		f.Watched = append(f.Watched, a.Watched)
+		watched := 0
+		for _, name := range a.Watched {
+			if _, ok := class[name]; ok {
+				watched++
+			}
+		}
+		f.Watched = append(f.Watched, watched)
 		n := 0
 		for _, v := range t {
 			n += v

@@ -79,3 +79,21 @@ func TestPortfolioStudy(t *testing.T) {
 		t.Errorf("%.0f %% of the alerted shifts dated within one period, want at least 80 %%", 100*d)
 	}
 }
+
+// The watches counted for a stable portfolio are its own objects', not
+// those of a portfolio analysed alongside it (the shifted one, whose
+// changes are watched before they are alerted).
+func TestStableCountsOnlyItsOwnWatches(t *testing.T) {
+	steady := []Company{{Objects: []Object{
+		{Name: costdrift.CostObject{Account: "5000", CostCenter: "S000"}, Class: costdrift.Fixed},
+		{Name: costdrift.CostObject{Account: "5001", CostCenter: "S000"}, Class: costdrift.Mixed},
+	}}}
+	rolls := []Analysis{
+		{Watched: []string{"5000/S000", "5000/D000", "5001/D000"}},
+		{Watched: []string{"5000/D000"}},
+		{Watched: []string{"5001/S000", "5000/S000"}},
+	}
+	if got := Stable(steady, rolls).Watched; len(got) != 3 || got[0] != 1 || got[1] != 0 || got[2] != 2 {
+		t.Errorf("watched per analysis: %v, want [1 0 2]", got)
+	}
+}
