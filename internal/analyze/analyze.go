@@ -44,6 +44,13 @@ type Settings struct {
 	// object is analysed, so that a batch waiting to be stored holds a few
 	// fits an object rather than a hundred or more.
 	StoredOnly bool
+
+	// fits, set by Panel with StoredOnly, is a worker's record of every
+	// fit of its current object: the top analysis of an object (objectOn
+	// from Object) writes its hundred-odd fits there instead of into a
+	// slice of its own, and Panel copies out the few the store keeps
+	// before the worker's next object reuses it.
+	fits *[]costdrift.Fit
 }
 
 // Thresholds of the classification, as fractions. They are common practice
@@ -120,6 +127,7 @@ func Object(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result 
 		return Result{Behaviour: costdrift.Behaviour{Object: obj.Object}, Err: errors.New(obj.Unusable)}
 	}
 	res := objectOn(p, obj, s)
+	s.fits = nil // the analyses below keep fits of their own
 	if res.Behaviour.Cadence != nil {
 		if s.BreakAlpha > 0 {
 			res = cadenceBreak(p, obj, res, s)
@@ -171,6 +179,10 @@ func fixedShiftFirst(p *costdrift.Panel, obj *costdrift.ObjectSeries, res Result
 // objectOn analyses one cost object over the panel's whole window.
 func objectOn(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) Result {
 	var res Result
+	if s.fits != nil {
+		res.Fits = (*s.fits)[:0]
+		defer func() { *s.fits = res.Fits[:0] }()
+	}
 	b := &res.Behaviour
 	b.Object = obj.Object
 

@@ -24,9 +24,16 @@ func Panel(ctx context.Context, p *costdrift.Panel, s Settings) ([]Result, error
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			s := s
+			if s.StoredOnly {
+				s.fits = new([]costdrift.Fit)
+			}
 			for i := range work {
 				r := objectRecovered(p, &p.Objects[i], s)
 				if s.StoredOnly {
+					// Copies: r's own fits, or those of its analysis
+					// without the break, may be s.fits, which the next
+					// object reuses.
 					r.Fits = r.Stored()
 					if r.Unbroken != nil {
 						r.Unbroken.Fits = r.Unbroken.Stored()

@@ -130,17 +130,30 @@ func TestPanelStoredOnlyKeepsWhatTheStoreKeeps(t *testing.T) {
 			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
 		}
 	}
-	full, err := Panel(context.Background(), p, defaults)
+	// Costs that rise by a third two years in: their results carry the
+	// analysis without the break too (Unbroken), whose fits are kept alike.
+	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Mixed} {
+		for range 3 {
+			cost, _ := studyCost(r, class, p.Drivers, n, 0.02)
+			for i := 24; i < n; i++ {
+				cost[i] *= 1.35
+			}
+			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
+		}
+	}
+	settings := defaults
+	settings.BreakAlpha, settings.Replicates, settings.Seed = 0.01, 199, 1
+	full, err := Panel(context.Background(), p, settings)
 	if err != nil {
 		t.Fatal(err)
 	}
-	trimmed := defaults
+	trimmed := settings
 	trimmed.StoredOnly = true
 	kept, err := Panel(context.Background(), p, trimmed)
 	if err != nil {
 		t.Fatal(err)
 	}
-	fewer := 0
+	fewer, broken := 0, 0
 	for i := range full {
 		want := fmt.Sprintf("%+v", full[i].Stored())
 		if got := fmt.Sprintf("%+v", kept[i].Fits); got != want {
@@ -158,6 +171,19 @@ func TestPanelStoredOnlyKeepsWhatTheStoreKeeps(t *testing.T) {
 		if len(kept[i].Fits) < len(full[i].Fits) {
 			fewer++
 		}
+		if full[i].Unbroken != nil {
+			broken++
+			want := fmt.Sprintf("%+v", full[i].Unbroken.Stored())
+			if kept[i].Unbroken == nil {
+				t.Fatalf("%s: StoredOnly lost the analysis without the break", p.Objects[i].Object)
+			}
+			if got := fmt.Sprintf("%+v", kept[i].Unbroken.Fits); got != want {
+				t.Fatalf("%s: StoredOnly kept of the analysis without the break\n%s\nStored gives\n%s", p.Objects[i].Object, got, want)
+			}
+		}
+	}
+	if broken < 4 {
+		t.Errorf("%d results have a break; the shifted costs should give at least 4", broken)
 	}
 	if fewer < len(full)/2 {
 		t.Errorf("only %d of %d results keep fewer fits than were tried; the panel should try more candidates than are kept", fewer, len(full))
