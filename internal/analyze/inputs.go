@@ -29,11 +29,14 @@ func InputHashes(p *costdrift.Panel, settings string) map[string]string {
 }
 
 // InputHasher hashes objects' inputs (InputHashes) against one panel's
-// window and drivers, whose hashes it computes once.
+// window and drivers, whose hashes it computes once, as it does the part
+// every object shares (version, settings, window) and the driver series of
+// each cost centre. Not for use by several goroutines at once.
 type InputHasher struct {
 	p          *costdrift.Panel
-	settings   string
 	seriesHash []uint64
+	prefix     uint64            // the FNV-1a state after the version, the settings and the window
+	centres    map[string][]byte // by cost centre: the hashes of the series its objects are fitted against
 }
 
 // NewInputHasher hashes the panel's driver series; the panel's objects
@@ -46,16 +49,44 @@ func NewInputHasher(p *costdrift.Panel, settings string) *InputHasher {
 		writeFloats(h, d.Values)
 		seriesHash[i] = h.Sum64()
 	}
-	return &InputHasher{p: p, settings: settings, seriesHash: seriesHash}
+	prefix := fnv.New64a()
+	var buf [8]byte
+	binary.LittleEndian.PutUint64(buf[:], Version)
+	prefix.Write(buf[:])
+	prefix.Write([]byte(settings + "\x00"))
+	for _, period := range p.Periods {
+		prefix.Write([]byte(period))
+	}
+	return &InputHasher{p: p, seriesHash: seriesHash, prefix: prefix.Sum64(), centres: map[string][]byte{}}
 }
 
-// Hash is the input hash of one object over the hasher's panel.
+// Hash is the input hash of one object over the hasher's panel: FNV-1a
+// (64 bits, in hex) of the method's version, the settings, the window's
+// periods, the object's costs and the hashes of the driver series it is
+// fitted against, in the order of their names.
 func (ih *InputHasher) Hash(o *costdrift.ObjectSeries) string {
-	p := ih.p
+	h := ih.prefix
+	var buf [8]byte
+	for _, x := range o.Cost {
+		binary.LittleEndian.PutUint64(buf[:], math.Float64bits(x))
+		h = fnv1a(h, buf[:])
+	}
+	h = fnv1a(h, ih.driversOf(o.Object.CostCenter))
+	binary.BigEndian.PutUint64(buf[:], h)
+	return hex.EncodeToString(buf[:])
+}
+
+// driversOf is the hashes of the driver series an object of the cost
+// centre is fitted against (a cost centre's own series, else the
+// company-wide one of the name), in the order of their names.
+func (ih *InputHasher) driversOf(centre string) []byte {
+	if b, ok := ih.centres[centre]; ok {
+		return b
+	}
 	chosen := map[string]int{}
-	for i, d := range p.Drivers {
+	for i, d := range ih.p.Drivers {
 		switch {
-		case d.CostCenter == o.Object.CostCenter:
+		case d.CostCenter == centre:
 			chosen[d.Name] = i
 		case d.CostCenter == "":
 			if _, ok := chosen[d.Name]; !ok {
@@ -68,20 +99,23 @@ func (ih *InputHasher) Hash(o *costdrift.ObjectSeries) string {
 		names = append(names, n)
 	}
 	sort.Strings(names)
-	h := fnv.New64a()
-	var buf [8]byte
-	binary.LittleEndian.PutUint64(buf[:], Version)
-	h.Write(buf[:])
-	h.Write([]byte(ih.settings + "\x00"))
-	for _, period := range p.Periods {
-		h.Write([]byte(period))
-	}
-	writeFloats(h, o.Cost)
+	b := make([]byte, 0, 8*len(names))
 	for _, n := range names {
-		binary.LittleEndian.PutUint64(buf[:], ih.seriesHash[chosen[n]])
-		h.Write(buf[:])
+		b = binary.LittleEndian.AppendUint64(b, ih.seriesHash[chosen[n]])
 	}
-	return hex.EncodeToString(h.Sum(nil))
+	ih.centres[centre] = b
+	return b
+}
+
+// fnv1a continues an FNV-1a hash of 64 bits (hash/fnv's New64a) from state
+// h over b.
+func fnv1a(h uint64, b []byte) uint64 {
+	const prime = 1099511628211
+	for _, c := range b {
+		h ^= uint64(c)
+		h *= prime
+	}
+	return h
 }
 
 type writer interface{ Write([]byte) (int, error) }
