@@ -3,6 +3,7 @@ package sqlite
 import (
 	"context"
 	"database/sql"
+	"errors"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -68,34 +69,101 @@ func (db *DB) RecordedLedgerPeriods(ctx context.Context) (periods []string, ok b
 // total beyond int64 is marked Overflow (sumParts). fn must not keep the
 // slice: it is reused for the next object. Only one object's totals are in
 // memory at a time, however large the ledger.
+//
+// SQLite hands out the first total only once it has sorted every line of
+// the window, during which nothing else of an analysis can run. So when
+// the store knows the objects of an earlier analysis, the read is cut in
+// two at an account (readSplit): the accounts before it, an eighth of the
+// objects, are sorted and handed out first, while the rest are sorted on
+// another connection. The totals come in the same order either way.
 func (db *DB) EachObjectCosts(ctx context.Context, accountGrain bool, from, to string, fn func([]costdrift.CostTotal) error) error {
-	rows, err := db.db.QueryContext(ctx, `SELECT period, account, cost_center, `+sumParts+`
-		FROM gl_lines WHERE period BETWEEN ? AND ? GROUP BY account, cost_center, period ORDER BY account, cost_center, period`, from, to)
+	const query = `SELECT period, account, cost_center, ` + sumParts + `
+		FROM gl_lines WHERE period BETWEEN ? AND ? AND account >= ? AND (? OR account < ?)
+		GROUP BY account, cost_center, period ORDER BY account, cost_center, period`
+	split, err := db.readSplit(ctx)
+	if err != nil {
+		return err
+	}
+	r := &costReader{accountGrain: accountGrain, fn: fn}
+	if split == "" {
+		if err := r.read(db.db.QueryContext(ctx, query, from, to, "", true, "")); err != nil {
+			return err
+		}
+		return r.flush()
+	}
+	type started struct {
+		rows *sql.Rows
+		err  error
+	}
+	rest := make(chan started, 1)
+	go func() {
+		// QueryContext returns once the first row is found, after the sort.
+		rows, err := db.db.QueryContext(ctx, query, from, to, split, true, "")
+		rest <- started{rows, err}
+	}()
+	err = r.read(db.db.QueryContext(ctx, query, from, to, "", false, split))
+	second := <-rest
+	if err != nil {
+		if second.rows != nil {
+			second.rows.Close()
+		}
+		return err
+	}
+	if err := r.read(second.rows, second.err); err != nil {
+		return err
+	}
+	return r.flush()
+}
+
+// costReader gathers the rows of EachObjectCosts into objects.
+type costReader struct {
+	accountGrain bool
+	fn           func([]costdrift.CostTotal) error
+	one          []costdrift.CostTotal
+}
+
+// read hands fn each object whose rows end in rows, keeping the last
+// one's for the next rows or flush.
+func (r *costReader) read(rows *sql.Rows, err error) error {
 	if err != nil {
 		return err
 	}
 	defer rows.Close()
-	var one []costdrift.CostTotal
 	for rows.Next() {
 		c, err := scanCostTotal(rows)
 		if err != nil {
 			return err
 		}
-		if len(one) > 0 && (c.Account != one[0].Account || (!accountGrain && c.CostCenter != one[0].CostCenter)) {
-			if err := fn(one); err != nil {
+		if len(r.one) > 0 && (c.Account != r.one[0].Account || (!r.accountGrain && c.CostCenter != r.one[0].CostCenter)) {
+			if err := r.fn(r.one); err != nil {
 				return err
 			}
-			one = one[:0]
+			r.one = r.one[:0]
 		}
-		one = append(one, c)
+		r.one = append(r.one, c)
 	}
-	if err := rows.Err(); err != nil {
-		return err
+	return rows.Err()
+}
+
+// flush hands fn the last object.
+func (r *costReader) flush() error {
+	if len(r.one) == 0 {
+		return nil
 	}
-	if len(one) > 0 {
-		return fn(one)
+	return r.fn(r.one)
+}
+
+// readSplit is the account EachObjectCosts cuts its read at: the one an
+// eighth of the way through the accounts of the objects the store holds a
+// behaviour for; "" when it holds none.
+func (db *DB) readSplit(ctx context.Context) (string, error) {
+	var split sql.NullString
+	err := db.db.QueryRowContext(ctx, `SELECT account FROM behaviour_history WHERE valid_to_run_at IS NULL
+		ORDER BY account LIMIT 1 OFFSET (SELECT COUNT(*) / 8 FROM behaviour_history WHERE valid_to_run_at IS NULL)`).Scan(&split)
+	if errors.Is(err, sql.ErrNoRows) {
+		return "", nil
 	}
-	return nil
+	return split.String, err
 }
 
 // ObjectCostTotals returns one cost object's net amount per period and cost

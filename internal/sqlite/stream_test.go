@@ -62,6 +62,63 @@ func TestEachObjectCosts(t *testing.T) {
 	}
 }
 
+// Once the store holds the behaviours of an earlier analysis, EachObjectCosts
+// reads its objects in two parts, cut at an account an eighth of the way
+// through them; the objects come out as from one read, at either grain.
+func TestEachObjectCostsReadInTwoPartsAsInOne(t *testing.T) {
+	db, _ := mustOpen(t)
+	ctx := context.Background()
+	var lines []costdrift.LedgerLine
+	var behaviours []costdrift.Behaviour
+	for a := range 16 {
+		account := fmt.Sprint(6100 + 10*a)
+		for _, centre := range []string{"PAINT", "WELD"} {
+			for m, day := range []string{"2025-01-31", "2025-02-28", "2025-03-31"} {
+				lines = append(lines, ledgerLine("gl", fmt.Sprintf("E%s%s%d", account, centre, m), 1, day, account, centre, int64(100*a+10*m+len(centre)), ""))
+			}
+			behaviours = append(behaviours, costdrift.Behaviour{Object: costdrift.CostObject{Account: account, CostCenter: centre},
+				Class: costdrift.Fixed, Reason: "test", N: 3, Since: "2025-01", Until: "2025-03"})
+		}
+	}
+	loadFile(t, db, "/gl.csv", lines)
+	read := func(accountGrain bool) [][]costdrift.CostTotal {
+		var out [][]costdrift.CostTotal
+		err := db.EachObjectCosts(ctx, accountGrain, "2025-01", "2025-03", func(one []costdrift.CostTotal) error {
+			out = append(out, slices.Clone(one))
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return out
+	}
+	whole := map[bool][][]costdrift.CostTotal{false: read(false), true: read(true)}
+	if len(whole[false]) != 32 || len(whole[true]) != 16 {
+		t.Fatalf("read as one: %d objects by centre, %d by account; want 32 and 16", len(whole[false]), len(whole[true]))
+	}
+
+	run := &costdrift.AnalysisRun{Grain: costdrift.GrainAccountCostCenter, WindowFrom: "2025-01", WindowTo: "2025-03", Settings: "{}"}
+	w, err := db.BeginAnalysis(ctx, run)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Save(ctx, nil, behaviours, map[string]string{}); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Commit(ctx); err != nil {
+		t.Fatal(err)
+	}
+	split, err := db.readSplit(ctx)
+	if err != nil || split != "6120" {
+		t.Fatalf("readSplit: %q, %v; want 6120, the account of the 5th of 32 objects", split, err)
+	}
+	for _, accountGrain := range []bool{false, true} {
+		if got := read(accountGrain); !reflect.DeepEqual(got, whole[accountGrain]) {
+			t.Errorf("account grain %v: read in two parts\n got  %+v\n want %+v", accountGrain, got, whole[accountGrain])
+		}
+	}
+}
+
 // An analysis written in batches is one transaction: a reader sees none of
 // it until Commit, all of it after; a rolled-back one leaves nothing.
 func TestAnalysisWriterBatchesAreOneTransaction(t *testing.T) {
