@@ -75,7 +75,10 @@ func (db *DB) RecordedLedgerPeriods(ctx context.Context) (periods []string, ok b
 // the store knows the objects of an earlier analysis, the read is cut in
 // two at an account (readSplit): the accounts before it, an eighth of the
 // objects, are sorted and handed out first, while the rest are sorted on
-// another connection. The totals come in the same order either way.
+// another connection. The totals come in the same order either way. The
+// two parts are two statements, each with its own view of the store; only
+// a sync writes the ledger, and it holds the store's lock, as an analysis
+// does, so both see the same lines.
 func (db *DB) EachObjectCosts(ctx context.Context, accountGrain bool, from, to string, fn func([]costdrift.CostTotal) error) error {
 	const query = `SELECT period, account, cost_center, ` + sumParts + `
 		FROM gl_lines WHERE period BETWEEN ? AND ? AND account >= ? AND (? OR account < ?)
