@@ -5,7 +5,6 @@ import (
 	"encoding/hex"
 	"hash/fnv"
 	"math"
-	"sort"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -34,7 +33,7 @@ func InputHashes(p *costdrift.Panel, settings string) map[string]string {
 // each cost centre. Not for use by several goroutines at once.
 type InputHasher struct {
 	p          *costdrift.Panel
-	seriesHash []uint64
+	seriesHash map[*costdrift.DriverSeries]uint64
 	prefix     uint64            // the FNV-1a state after the version, the settings and the window
 	centres    map[string][]byte // by cost centre: the hashes of the series its objects are fitted against
 }
@@ -42,12 +41,13 @@ type InputHasher struct {
 // NewInputHasher hashes the panel's driver series; the panel's objects
 // need not be set.
 func NewInputHasher(p *costdrift.Panel, settings string) *InputHasher {
-	seriesHash := make([]uint64, len(p.Drivers))
-	for i, d := range p.Drivers {
+	seriesHash := make(map[*costdrift.DriverSeries]uint64, len(p.Drivers))
+	for i := range p.Drivers {
+		d := &p.Drivers[i]
 		h := fnv.New64a()
 		h.Write([]byte(d.Name + "\x00" + d.CostCenter + "\x00" + d.Unit + "\x00"))
 		writeFloats(h, d.Values)
-		seriesHash[i] = h.Sum64()
+		seriesHash[d] = h.Sum64()
 	}
 	prefix := fnv.New64a()
 	var buf [8]byte
@@ -77,31 +77,15 @@ func (ih *InputHasher) Hash(o *costdrift.ObjectSeries) string {
 }
 
 // driversOf is the hashes of the driver series an object of the cost
-// centre is fitted against (a cost centre's own series, else the
-// company-wide one of the name), in the order of their names.
+// centre is fitted against (driversFor), in the order of their names.
 func (ih *InputHasher) driversOf(centre string) []byte {
 	if b, ok := ih.centres[centre]; ok {
 		return b
 	}
-	chosen := map[string]int{}
-	for i, d := range ih.p.Drivers {
-		switch {
-		case d.CostCenter == centre:
-			chosen[d.Name] = i
-		case d.CostCenter == "":
-			if _, ok := chosen[d.Name]; !ok {
-				chosen[d.Name] = i
-			}
-		}
-	}
-	names := make([]string, 0, len(chosen))
-	for n := range chosen {
-		names = append(names, n)
-	}
-	sort.Strings(names)
-	b := make([]byte, 0, 8*len(names))
-	for _, n := range names {
-		b = binary.LittleEndian.AppendUint64(b, ih.seriesHash[chosen[n]])
+	ds := driversFor(ih.p, centre)
+	b := make([]byte, 0, 8*len(ds))
+	for _, d := range ds {
+		b = binary.LittleEndian.AppendUint64(b, ih.seriesHash[d])
 	}
 	ih.centres[centre] = b
 	return b
