@@ -166,6 +166,8 @@ func TestAnalysisCheckpointsAfterItsCommit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	// The hook is the package's: no other test may commit an analysis
+	// while this one runs (none of this package's tests runs in parallel).
 	held, released := make(chan struct{}), make(chan struct{})
 	beforeCheckpoint = func() { close(held); <-released }
 	defer func() { beforeCheckpoint = func() {} }()
