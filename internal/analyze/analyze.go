@@ -51,6 +51,52 @@ type Settings struct {
 	// slice of its own, and Panel copies out the few the store keeps
 	// before the worker's next object reuses it.
 	fits *[]costdrift.Fit
+
+	// scratch, set by Panel, is a worker's room for the candidates of its
+	// current object and their screens, taken back before its next object.
+	scratch *scratch
+}
+
+// scratch hands out candidates, and the regressions of their screens, from
+// blocks a worker reuses object after object: an object has some sixty
+// candidates, each with two screens, and nothing of them outlives its
+// analysis (a Result holds copies: Fits, Behaviour, Terms).
+type scratch struct {
+	screens fit.Slab
+	cands   [][]candidate // blocks of scratchCandidates
+	n       int           // candidates handed out
+}
+
+const scratchCandidates = 64
+
+// candidate returns a zero candidate: from the scratch, or a new one
+// without (sc nil).
+func (sc *scratch) candidate() *candidate {
+	if sc == nil {
+		return &candidate{}
+	}
+	b, i := sc.n/scratchCandidates, sc.n%scratchCandidates
+	if b == len(sc.cands) {
+		sc.cands = append(sc.cands, make([]candidate, scratchCandidates))
+	}
+	sc.n++
+	c := &sc.cands[b][i]
+	*c = candidate{}
+	return c
+}
+
+// slab is the slab the screens are taken from; nil without a scratch.
+func (sc *scratch) slab() *fit.Slab {
+	if sc == nil {
+		return nil
+	}
+	return &sc.screens
+}
+
+// reset takes back everything handed out, for the worker's next object.
+func (sc *scratch) reset() {
+	sc.n = 0
+	sc.screens.Reset()
 }
 
 // Thresholds of the classification, as fractions. They are common practice
@@ -302,7 +348,8 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 	out := make([]*candidate, 0, len(drivers)*len(s.Lags))
 	for _, d := range drivers {
 		for li, lag := range s.Lags {
-			c := &candidate{driver: d, lag: lag}
+			c := s.scratch.candidate()
+			c.driver, c.lag = d, lag
 			start := p.MaxLag - lag
 			var xs *xSide
 			if costComplete && sh != nil {
@@ -345,12 +392,12 @@ func candidates(p *costdrift.Panel, obj *costdrift.ObjectSeries, s Settings) []*
 			}
 			// Summary fits, without per-period arrays: only the chosen
 			// driver's are needed, and full() computes them.
-			lin, err := xs.line.Screen(cy)
+			lin, err := xs.line.ScreenOn(cy, s.scratch.slab())
 			if err != nil {
 				continue // a constant driver explains nothing
 			}
 			c.linear = lin
-			if orig, err := xs.line.ScreenOrigin(cy); err == nil {
+			if orig, err := xs.line.ScreenOriginOn(cy, s.scratch.slab()); err == nil {
 				c.origin = orig
 			}
 			c.meanX, c.rangeMin, c.rangeMax = xs.mean, xs.min, xs.max

@@ -28,7 +28,9 @@ func Panel(ctx context.Context, p *costdrift.Panel, s Settings) ([]Result, error
 			if s.StoredOnly {
 				s.fits = new([]costdrift.Fit)
 			}
+			s.scratch = new(scratch)
 			for i := range work {
+				s.scratch.reset() // nothing of the last object's analysis is held
 				r := objectRecovered(p, &p.Objects[i], s)
 				if s.StoredOnly {
 					// Copies: r's own fits, or those of its analysis

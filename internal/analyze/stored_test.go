@@ -121,28 +121,7 @@ func isBest(all map[[2]any]costdrift.Fit, driver string, lag int) bool {
 // gives of the full result, and those are what Stored gives of them again:
 // the pipeline may store either.
 func TestPanelStoredOnlyKeepsWhatTheStoreKeeps(t *testing.T) {
-	r := rand.New(rand.NewPCG(35, 36))
-	const n = 36
-	p := &costdrift.Panel{Periods: periods(n), MaxLag: 1, Drivers: studyDrivers(r, n)}
-	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Variable, costdrift.Mixed, costdrift.Step, costdrift.Unexplained} {
-		for range 6 {
-			cost, _ := studyCost(r, class, p.Drivers, n, 0.04)
-			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
-		}
-	}
-	// Costs that rise by a third two years in: their results carry the
-	// analysis without the break too (Unbroken), whose fits are kept alike.
-	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Mixed} {
-		for range 3 {
-			cost, _ := studyCost(r, class, p.Drivers, n, 0.02)
-			for i := 24; i < n; i++ {
-				cost[i] *= 1.35
-			}
-			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
-		}
-	}
-	settings := defaults
-	settings.BreakAlpha, settings.Replicates, settings.Seed = 0.01, 199, 1
+	p, settings := mixedPanel()
 	full, err := Panel(context.Background(), p, settings)
 	if err != nil {
 		t.Fatal(err)
@@ -188,4 +167,32 @@ func TestPanelStoredOnlyKeepsWhatTheStoreKeeps(t *testing.T) {
 	if fewer < len(full)/2 {
 		t.Errorf("only %d of %d results keep fewer fits than were tried; the panel should try more candidates than are kept", fewer, len(full))
 	}
+}
+
+// mixedPanel is a panel of costs of every class, and of fixed and mixed
+// costs that rise by a third two years in, with the settings that test
+// for breaks: every path of an object's analysis is taken.
+func mixedPanel() (*costdrift.Panel, Settings) {
+	r := rand.New(rand.NewPCG(35, 36))
+	const n = 36
+	p := &costdrift.Panel{Periods: periods(n), MaxLag: 1, Drivers: studyDrivers(r, n)}
+	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Variable, costdrift.Mixed, costdrift.Step, costdrift.Unexplained} {
+		for range 6 {
+			cost, _ := studyCost(r, class, p.Drivers, n, 0.04)
+			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
+		}
+	}
+	// Their results carry the analysis without the break too (Unbroken).
+	for _, class := range []costdrift.Class{costdrift.Fixed, costdrift.Mixed} {
+		for range 3 {
+			cost, _ := studyCost(r, class, p.Drivers, n, 0.02)
+			for i := 24; i < n; i++ {
+				cost[i] *= 1.35
+			}
+			p.Objects = append(p.Objects, costdrift.ObjectSeries{Object: costdrift.CostObject{Account: fmt.Sprint(6000 + len(p.Objects))}, Cost: cost})
+		}
+	}
+	settings := defaults
+	settings.BreakAlpha, settings.Replicates, settings.Seed = 0.01, 199, 1
+	return p, settings
 }

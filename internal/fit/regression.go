@@ -117,6 +117,36 @@ func newRegression(n, k, regressors int, intercept bool) *Regression {
 // newRegressionArrays is newRegression; without arrays the per-observation
 // slices (Residuals, Leverage, CooksD) are left nil.
 func newRegressionArrays(n, k, regressors int, intercept, arrays bool) *Regression {
+	return (*Slab)(nil).regression(n, k, regressors, intercept, arrays)
+}
+
+// Slab hands out the regressions of fits made and dropped in bulk, such as
+// the screens of one cost object's candidates, from blocks it keeps: once it
+// has grown to an object's needs, a screen allocates nothing. Reset makes
+// everything it handed out its own again, so that whoever screens with a
+// Slab must hold no regression from it across a Reset. The zero Slab is
+// ready to use; a nil *Slab allocates each regression on its own.
+type Slab struct {
+	regs   [][]Regression // blocks of slabRegressions; only the last may be part used
+	floats [][]float64    // blocks of slabFloats
+	reg    int            // regressions handed out
+	float  int            // floats handed out of floats[len(floats)-1], or of the block in use
+	block  int            // index of the float block in use
+}
+
+const (
+	slabRegressions = 64
+	slabFloats      = 2048
+)
+
+// Reset takes back every regression the slab handed out.
+func (sl *Slab) Reset() {
+	sl.reg, sl.float, sl.block = 0, 0, 0
+}
+
+// regression is newRegressionArrays from the slab: the Regression and its
+// slices zeroed, as a new one would be.
+func (sl *Slab) regression(n, k, regressors int, intercept, arrays bool) *Regression {
 	size := 5*k + k*k
 	if arrays {
 		size += 3 * n
@@ -124,13 +154,20 @@ func newRegressionArrays(n, k, regressors int, intercept, arrays bool) *Regressi
 	if intercept {
 		size += regressors
 	}
-	buf := make([]float64, size)
+	var buf []float64
+	var r *Regression
+	if sl == nil || size > slabFloats {
+		buf = make([]float64, size)
+		r = &Regression{}
+	} else {
+		buf, r = sl.take(size)
+	}
+	*r = Regression{Intercept: intercept, N: n, DF: n - k}
 	carve := func(m int) []float64 {
 		s := buf[:m:m]
 		buf = buf[m:]
 		return s
 	}
-	r := &Regression{Intercept: intercept, N: n, DF: n - k}
 	r.Coef = carve(k)
 	r.StdErr = carve(k)
 	r.T = carve(k)
@@ -146,6 +183,27 @@ func newRegressionArrays(n, k, regressors int, intercept, arrays bool) *Regressi
 		r.CooksD = carve(n)
 	}
 	return r
+}
+
+// take hands out the next Regression and size zeroed floats, growing the
+// slab by a block where it has none left.
+func (sl *Slab) take(size int) ([]float64, *Regression) {
+	b, i := sl.reg/slabRegressions, sl.reg%slabRegressions
+	if b == len(sl.regs) {
+		sl.regs = append(sl.regs, make([]Regression, slabRegressions))
+	}
+	sl.reg++
+	r := &sl.regs[b][i]
+	if sl.block < len(sl.floats) && sl.float+size > slabFloats {
+		sl.block, sl.float = sl.block+1, 0
+	}
+	if sl.block == len(sl.floats) {
+		sl.floats = append(sl.floats, make([]float64, slabFloats))
+	}
+	buf := sl.floats[sl.block][sl.float : sl.float+size : sl.float+size]
+	sl.float += size
+	clear(buf)
+	return buf, r
 }
 
 // OLS fits y = X·b (+ intercept) by least squares; columns[j][i] is regressor

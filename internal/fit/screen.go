@@ -162,6 +162,11 @@ func NewLineY(y []float64) *LineY {
 // (CoefTP gives P[j] from Coef[j], StdErr[j] and DF; FP is P[1]). It panics
 // when they differ in length.
 func (lx *LineX) Screen(ly *LineY) (*Regression, error) {
+	return lx.ScreenOn(ly, nil)
+}
+
+// ScreenOn is Screen with the regression taken from sl (see Slab).
+func (lx *LineX) ScreenOn(ly *LineY, sl *Slab) (*Regression, error) {
 	n := lx.n
 	if len(ly.y) != n {
 		panic(fmt.Sprintf("fit: Screen x has %d values, y has %d", n, len(ly.y)))
@@ -183,7 +188,7 @@ func (lx *LineX) Screen(ly *LineY) (*Regression, error) {
 		return nil, fmt.Errorf("line: sums of squares overflow: %w", ErrNonFinite)
 	}
 	b := sxy / lx.sxx
-	r := newRegressionArrays(n, 2, 1, true, false)
+	r := sl.regression(n, 2, 1, true, false)
 	var rss, press float64
 	y := ly.y
 	for i, u := range lx.dev {
@@ -213,6 +218,12 @@ func (lx *LineX) Screen(ly *LineY) (*Regression, error) {
 // ly, but for P[0], the slope's p-value, and FP, which are NaN (CoefTP
 // gives P[0] from Coef[0] and StdErr[0]).
 func (lx *LineX) ScreenOrigin(ly *LineY) (*Regression, error) {
+	return lx.ScreenOriginOn(ly, nil)
+}
+
+// ScreenOriginOn is ScreenOrigin with the regression taken from sl (see
+// Slab).
+func (lx *LineX) ScreenOriginOn(ly *LineY, sl *Slab) (*Regression, error) {
 	n := lx.n
 	if len(ly.y) != n {
 		panic(fmt.Sprintf("fit: ScreenOrigin x has %d values, y has %d", n, len(ly.y)))
@@ -233,7 +244,7 @@ func (lx *LineX) ScreenOrigin(ly *LineY) (*Regression, error) {
 	}
 	sxx := lx.sxx0
 	b := sxy / sxx
-	r := newRegressionArrays(n, 1, 1, false, false)
+	r := sl.regression(n, 1, 1, false, false)
 	var rss, press float64
 	for i, xi := range x {
 		e := y[i] - b*xi
