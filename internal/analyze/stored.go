@@ -2,7 +2,7 @@ package analyze
 
 import (
 	"math"
-	"sort"
+	"slices"
 
 	"github.com/costdrift/costdrift/internal/costdrift"
 )
@@ -22,23 +22,34 @@ const StoredLines = 5
 // fits; the two-driver fit; and every fit marked chosen.
 func (r *Result) Stored() []costdrift.Fit {
 	b := &r.Behaviour
-	var lines []int
+	// The StoredLines best lines, kept in order as the lines come: an
+	// insertion into a short list rather than a sort of them all.
+	var best [StoredLines]int
+	kept := 0
 	for i := range r.Fits {
-		if r.Fits[i].Model == costdrift.ModelLinear {
-			lines = append(lines, i)
+		if r.Fits[i].Model != costdrift.ModelLinear {
+			continue
 		}
+		at := kept
+		for at > 0 && lineBefore(&r.Fits[i], &r.Fits[best[at-1]]) {
+			at--
+		}
+		if at == StoredLines {
+			continue
+		}
+		if kept < StoredLines {
+			kept++
+		}
+		copy(best[at+1:kept], best[at:kept-1])
+		best[at] = i
 	}
-	sort.SliceStable(lines, func(i, j int) bool { return lineBefore(&r.Fits[lines[i]], &r.Fits[lines[j]]) })
-	best := map[int]bool{}
-	for _, i := range lines[:min(StoredLines, len(lines))] {
-		best[i] = true
-	}
+	isBest := func(i int) bool { return slices.Contains(best[:kept], i) }
 	out := make([]costdrift.Fit, 0, StoredLines+8)
 	for i := range r.Fits {
 		f := &r.Fits[i]
 		onChosen := b.Driver != "" && f.Driver == b.Driver && f.Lag == b.Lag
 		switch {
-		case f.Chosen, best[i], f.Model == costdrift.ModelConstant, f.Model == costdrift.ModelStep, f.Model == costdrift.ModelTwoDriver,
+		case f.Chosen, f.Model == costdrift.ModelLinear && isBest(i), f.Model == costdrift.ModelConstant, f.Model == costdrift.ModelStep, f.Model == costdrift.ModelTwoDriver,
 			onChosen && (f.Model == costdrift.ModelLinear || f.Model == costdrift.ModelProportional):
 			out = append(out, *f)
 			fillRecordP(&out[len(out)-1])
