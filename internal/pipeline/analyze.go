@@ -406,7 +406,7 @@ func (s *stream) save() {
 				s.res.Skipped = append(s.res.Skipped, SkippedObject{Object: name, Err: r.Err, Stack: r.Stack})
 				continue
 			}
-			fits = append(fits, r.Stored()...)
+			fits = append(fits, r.Fits...) // already the fits the store keeps: the settings ask for StoredOnly
 			r.Behaviour.PriceBase = b.bases[i]
 			behaviours = append(behaviours, r.Behaviour)
 			inputs[name] = b.inputs[i]
