@@ -246,7 +246,11 @@ func (w *AnalysisWriter) Commit(ctx context.Context) error {
 			beforeCheckpoint()
 			// PASSIVE: readers and the next writer go on meanwhile; what a
 			// reader still needs is copied by a later checkpoint.
-			w.conn.ExecContext(ctx, `PRAGMA wal_checkpoint(PASSIVE)`)
+			if _, err := w.conn.ExecContext(ctx, `PRAGMA wal_checkpoint(PASSIVE)`); err == nil && w.db.path != "" {
+				// A failed flush leaves it to SQLite's next checkpoint,
+				// as before; the store is as safe either way.
+				w.db.background.flushStore(w.db.path)
+			}
 		}
 		// The connection goes back to the pool as the others are.
 		w.conn.ExecContext(ctx, fmt.Sprintf(`PRAGMA wal_autocheckpoint = %d`, autoCheckpointPages))

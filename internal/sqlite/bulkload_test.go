@@ -7,7 +7,6 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 	"time"
 
@@ -103,7 +102,7 @@ func bareDBAt(t *testing.T, path string) *DB {
 	if err != nil {
 		t.Fatal(err)
 	}
-	return &DB{db: sqldb, Now: func() time.Time { return time.Date(2025, 6, 1, 6, 0, 0, 0, time.UTC) }, background: &sync.WaitGroup{}}
+	return &DB{db: sqldb, Now: func() time.Time { return time.Date(2025, 6, 1, 6, 0, 0, 0, time.UTC) }, background: &background{}}
 }
 
 // A store whose largest rowid is near the maximum gives new rows rowids at

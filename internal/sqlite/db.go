@@ -43,10 +43,57 @@ type DB struct {
 	// dry, when set, is the one transaction a dry run works in; it is
 	// rolled back at the end, so nothing is written.
 	dry *sql.Tx
-	// background counts the work a writer left running past its return
-	// (an analysis's checkpoint), which Close waits for; shared with a
-	// dry run's view.
-	background *sync.WaitGroup
+	// background is the work a writer left running past its return (an
+	// analysis's checkpoint), which Close waits for; shared with a dry
+	// run's view.
+	background *background
+}
+
+// background counts the work left running past a writer's return, and
+// holds the store's file as the program itself opened it, to flush it
+// to disk after a checkpoint (flushStore).
+type background struct {
+	sync.WaitGroup
+	mu   sync.Mutex
+	file *os.File
+}
+
+// flushStore flushes the store's file to disk: what a checkpoint copied
+// into it, which SQLite flushes only once the checkpoint has copied the
+// whole log. While the analysis's checkpoint runs, the alerts are raised
+// and written to the log, so the checkpoint cannot be whole, and the flush
+// of the analysis's 40 MB would fall to the next checkpoint, the one a
+// delivery's record makes, in the foreground. The file stays open until
+// Close: closing a descriptor of a file drops every POSIX lock the process
+// holds on it, SQLite's included, so it is closed only after SQLite's
+// connections are.
+func (bg *background) flushStore(path string) error {
+	bg.mu.Lock()
+	defer bg.mu.Unlock()
+	if bg.file == nil {
+		f, err := os.OpenFile(path, os.O_RDWR, 0)
+		if err != nil {
+			return err
+		}
+		bg.file = f
+	}
+	return syncFile(bg.file)
+}
+
+// syncFile flushes f to disk; tests watch it.
+var syncFile = (*os.File).Sync
+
+// close closes the file flushStore opened, once SQLite's connections are
+// closed.
+func (bg *background) close() error {
+	bg.mu.Lock()
+	defer bg.mu.Unlock()
+	if bg.file == nil {
+		return nil
+	}
+	err := bg.file.Close()
+	bg.file = nil
+	return err
 }
 
 // conn is what both *sql.DB and *sql.Tx offer.
@@ -165,7 +212,7 @@ func open(ctx context.Context, path string, currency money.Currency, toWrite boo
 	// than opening and closing them as load comes and goes.
 	sqldb.SetMaxOpenConns(maxConns)
 	sqldb.SetMaxIdleConns(maxConns)
-	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency, readOnly: readOnly, background: &sync.WaitGroup{}}
+	db := &DB{db: sqldb, path: path, Now: time.Now, Currency: currency, readOnly: readOnly, background: &background{}}
 	fail := func(err error) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("store %s: %w", path, err)
@@ -417,6 +464,9 @@ func (db *DB) ReadOnly() bool { return db.readOnly }
 func (db *DB) Close() error {
 	db.background.Wait()
 	err := db.db.Close()
+	if cerr := db.background.close(); err == nil {
+		err = cerr
+	}
 	if err == nil && !db.readOnly && !db.checked.IsZero() {
 		writeStamp(db.path, db.checked)
 	}

@@ -157,7 +157,8 @@ func TestAnalysisKeysCheckedAtCommitAfterUpgrade(t *testing.T) {
 // An analysis's commit leaves copying its pages from the write-ahead log to
 // a checkpoint in the background: the commit returns before any of them
 // reaches the store's file, readers see the analysis at once, and Close
-// waits for the checkpoint. The connection the analysis wrote on keeps
+// waits for the checkpoint, which flushes the store's file to disk itself
+// (flushStore). The connection the analysis wrote on keeps
 // checkpointing by itself afterwards, as the others do.
 func TestAnalysisCheckpointsAfterItsCommit(t *testing.T) {
 	ctx := context.Background()
@@ -202,6 +203,15 @@ func TestAnalysisCheckpointsAfterItsCommit(t *testing.T) {
 		return fi.Size()
 	}
 	before := size()
+	// The checkpoint flushes the store's file itself, once it has copied
+	// the analysis's pages into it.
+	var flushed []*os.File
+	var flushedAt []int64
+	syncFile = func(f *os.File) error {
+		flushed, flushedAt = append(flushed, f), append(flushedAt, size())
+		return f.Sync()
+	}
+	defer func() { syncFile = (*os.File).Sync }()
 	if err := w.Commit(ctx); err != nil {
 		t.Fatal(err)
 	}
@@ -217,6 +227,10 @@ func TestAnalysisCheckpointsAfterItsCommit(t *testing.T) {
 	db.background.Wait()
 	if got := size(); got <= before {
 		t.Errorf("the store's file is %d bytes after the checkpoint, %d before: the analysis's pages did not reach it", got, before)
+	}
+	if len(flushed) != 1 || flushedAt[0] <= before || flushed[0].Name() != path {
+		t.Fatalf("flushes after the checkpoint: %d, of %v at sizes %v; want one, of %s, after its pages reached it (more than %d bytes)",
+			len(flushed), flushed, flushedAt, path, before)
 	}
 	// Every connection of the pool, the analysis's among them, checkpoints
 	// by itself again.
@@ -235,8 +249,16 @@ func TestAnalysisCheckpointsAfterItsCommit(t *testing.T) {
 		}
 		c.Close()
 	}
+	// The flush's own descriptor of the file stays open while SQLite's
+	// are: closing it would drop SQLite's locks on the file.
+	if _, err := flushed[0].Stat(); err != nil {
+		t.Errorf("the flush's descriptor is closed before the store: %v", err)
+	}
 	if err := db.Close(); err != nil {
 		t.Fatal(err)
+	}
+	if _, err := flushed[0].Stat(); err == nil {
+		t.Error("the flush's descriptor of the store's file is still open after Close")
 	}
 	if _, err := os.Stat(path + "-wal"); !os.IsNotExist(err) {
 		t.Errorf("the write-ahead log is still there after Close: %v", err)

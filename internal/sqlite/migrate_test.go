@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 	"testing/fstest"
 	"time"
@@ -22,7 +21,7 @@ func bareDB(t *testing.T) *DB {
 		t.Fatal(err)
 	}
 	t.Cleanup(func() { sqldb.Close() })
-	return &DB{db: sqldb, Now: func() time.Time { return time.Date(2025, 6, 1, 6, 0, 0, 0, time.UTC) }, background: &sync.WaitGroup{}}
+	return &DB{db: sqldb, Now: func() time.Time { return time.Date(2025, 6, 1, 6, 0, 0, 0, time.UTC) }, background: &background{}}
 }
 
 // storeBefore opens a bare store migrated up to, not including, schema
