@@ -129,7 +129,7 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 	if err != nil {
 		return nil, fmt.Errorf("mail: %w", err)
 	}
-	objects, err := alertObjects(ctx, db, open)
+	objects, current, err := alertObjects(ctx, db, open)
 	if err != nil {
 		return nil, fmt.Errorf("mail: %w", err)
 	}
@@ -171,7 +171,7 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 	for i, d := range dues {
 		digests[i] = d.alerts
 	}
-	details := alertItems(ctx, e, db, needed, digests, objects, names)
+	details := alertItems(ctx, e, db, needed, digests, objects, current, names)
 	var batch []outgoing
 	for _, d := range dues {
 		if len(d.alerts) == 0 {
@@ -188,44 +188,48 @@ func dueDigests(ctx context.Context, e *Env, db *sqlite.DB, now time.Time) ([]ou
 }
 
 // alertItems is each alert as a digest shows it: an object's alert with the
-// object's account name, class, driver and chart, read from the store once.
-// The costs the charts draw are read for all objects in one pass over the
-// ledger, not one pass per chart. Only the charts some digest embeds are
-// drawn: each digest's mail.MaxCharts most important alerts that have one.
+// object's account name, class and driver (of its current behaviour) and
+// chart. Only the charts some digest embeds are drawn: each digest's
+// mail.MaxCharts most important alerts whose object has a current
+// behaviour; only their objects' analyses are read from the store. The
+// costs the charts draw are read for all of them in one pass over the
+// ledger, not one pass per chart.
 func alertItems(ctx context.Context, e *Env, db *sqlite.DB, alerts []costdrift.Alert, digests [][]costdrift.Alert,
-	objects map[string]costdrift.CostObject, names map[string]string) map[int64]mail.Item {
+	objects map[string]costdrift.CostObject, current map[string]costdrift.Behaviour, names map[string]string) map[int64]mail.Item {
 	out := make(map[int64]mail.Item, len(alerts))
-	analyses := map[int64]sqlite.ObjectAnalysis{}
-	charted := map[bool][]costdrift.CostObject{} // by account grain
-	from, to := map[bool]string{}, map[bool]string{}
 	for _, al := range alerts {
 		it := mail.Item{Alert: al}
 		if !mail.SourceKind(al.Kind) {
 			o := objects[al.Object]
 			it.Object, it.AccountName = o, names[o.Account]
-			if oa, err := db.ObjectAnalysis(ctx, al.Object); err == nil {
-				it.Class, it.Driver = string(oa.Behaviour.Class), oa.Behaviour.Driver
-				analyses[al.ID] = oa
+			if b, ok := current[al.Object]; ok {
+				it.Class, it.Driver = string(b.Class), b.Driver
 			}
 		}
 		out[al.ID] = it
 	}
-	drawable := func(a costdrift.Alert) bool { _, ok := analyses[a.ID]; return ok }
+	drawable := func(a costdrift.Alert) bool {
+		_, ok := current[a.Object]
+		return ok && !mail.SourceKind(a.Kind)
+	}
 	draw := map[int64]bool{}
 	for _, d := range digests {
 		for id := range mail.Important(d, mail.MaxCharts, drawable) {
 			draw[id] = true
 		}
 	}
+	analyses := map[int64]sqlite.ObjectAnalysis{}
+	charted := map[bool][]costdrift.CostObject{} // by account grain
+	from, to := map[bool]string{}, map[bool]string{}
 	for _, al := range alerts {
-		oa, ok := analyses[al.ID]
-		if !ok {
-			continue
-		}
 		if !draw[al.ID] {
-			delete(analyses, al.ID)
 			continue
 		}
+		oa, err := db.ObjectAnalysis(ctx, al.Object)
+		if err != nil {
+			continue // drawn without a chart
+		}
+		analyses[al.ID] = oa
 		g := oa.Run.Grain == costdrift.GrainAccount
 		charted[g] = append(charted[g], oa.Behaviour.Object)
 		if from[g] == "" || oa.Run.WindowFrom < from[g] {
@@ -358,11 +362,13 @@ func recordOutcomes(ctx context.Context, db *sqlite.DB, batch []outgoing, result
 // alertObjects maps the Object of each object alert to its account and
 // cost centre as the analysis stored them: "6100/01/PLANT/2" is account
 // 6100/01 in cost centre PLANT/2, which no split at a "/" can tell. An
-// object the store has no behaviour for is split at its first "/".
-func alertObjects(ctx context.Context, db *sqlite.DB, open []costdrift.Alert) (map[string]costdrift.CostObject, error) {
+// object the store has no behaviour for is split at its first "/". It
+// returns the objects' current behaviours too, in brief: class, driver and
+// lag (sqlite.DB.CurrentChoiceOf).
+func alertObjects(ctx context.Context, db *sqlite.DB, open []costdrift.Alert) (map[string]costdrift.CostObject, map[string]costdrift.Behaviour, error) {
 	out := make(map[string]costdrift.CostObject, len(open))
 	if len(open) == 0 {
-		return out, nil
+		return out, nil, nil
 	}
 	names := make([]string, 0, len(open))
 	for _, al := range open {
@@ -370,25 +376,21 @@ func alertObjects(ctx context.Context, db *sqlite.DB, open []costdrift.Alert) (m
 			names = append(names, al.Object)
 		}
 	}
-	current, err := db.CurrentBehaviourOf(ctx, names)
+	current, err := db.CurrentChoiceOf(ctx, names)
 	if err != nil {
-		return nil, err
-	}
-	known := make(map[string]costdrift.CostObject, len(current))
-	for _, b := range current {
-		known[b.Object.String()] = b.Object
+		return nil, nil, err
 	}
 	for _, al := range open {
 		if mail.SourceKind(al.Kind) {
 			continue
 		}
-		o, ok := known[al.Object]
-		if !ok {
-			o = mail.SplitObject(al.Object)
+		o := mail.SplitObject(al.Object)
+		if b, ok := current[al.Object]; ok {
+			o = b.Object
 		}
 		out[al.Object] = o
 	}
-	return out, nil
+	return out, current, nil
 }
 
 func oneLineError(err error) string {
