@@ -316,11 +316,25 @@ func TestStepMinPerLevel(t *testing.T) {
 // TestSegmentCosts: the cost table agrees with the two-pass definition
 // Σ(y − ȳ)², taken here on y − 1e9 (exact for these values), to 1e-12, on
 // costs near 1e9 that vary by units: there the one-pass Σy² − (Σy)²/m loses
-// every digit and Welford's update without the shift about 8 of them.
+// every digit and Welford's update without the shift about 8 of them. The
+// table is made in one a larger fit left behind, full of NaN: nothing of it
+// may show (Step checks every cell is finite).
 func TestSegmentCosts(t *testing.T) {
 	ys := []float64{1e9 + 1, 1e9 + 4, 1e9 + 2, 1e9 + 8, 1e9 + 5, 1e9 + 3}
 	n := len(ys)
-	cost := segmentCosts(ys)
+	table := make([]float64, 100)
+	for i := range table {
+		table[i] = math.NaN()
+	}
+	cost := segmentCosts(ys, &table)
+	if len(cost) != (n+1)*(n+1) {
+		t.Fatalf("table of %d cells, want %d", len(cost), (n+1)*(n+1))
+	}
+	for i, c := range cost {
+		if math.IsNaN(c) {
+			t.Fatalf("cell %d is NaN: the table kept what was in it", i)
+		}
+	}
 	for i := 0; i < n; i++ {
 		for j := i + 1; j <= n; j++ {
 			var s float64
