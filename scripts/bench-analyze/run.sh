@@ -212,7 +212,7 @@ awk -v rounds="$rounds" -v load_start="$load_start" -v load_end="$load_end" \
         k = n SUBSEP "nightly"
         if (k in cn) {
           rs = median(k)
-          all = ""; for (i = 1; i <= rs; i++) all = all sprintf(" %.2f", cw[k, i])
+          all = ""; for (r = 1; r <= rs; r++) all = all sprintf(" %.2f", cw[k, r])
           printf "%-10s %-36s %8.2f %8.2f%s\n", n, "nightly: sync + analyze", cwall[k], ccpu[k], (rs > 1 ? "                                  median of" all : "")
         }
       }
