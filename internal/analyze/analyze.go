@@ -497,6 +497,12 @@ func (c *candidate) full() {
 	}
 }
 
+// candidateKey is a candidate with the key adjust orders it by.
+type candidateKey struct {
+	key float64
+	c   *candidate
+}
+
 // adjust applies Holm's step-down correction to the slopes' p-values over
 // all candidates of the object, so that a driver counts as significant only
 // when it would also survive the number of drivers and lags tried (Holm
@@ -517,11 +523,34 @@ func adjust(cands []*candidate, alpha float64) {
 	}
 	if sameDF {
 		// 2·Pr(T > |t|) falls as |t| grows: ties in |t| are ties in p.
-		sort.SliceStable(order, func(i, j int) bool {
-			return math.Abs(order[i].linear.T[1]) > math.Abs(order[j].linear.T[1])
+		// The keys are taken once, and the sort is sort.SliceStable's
+		// algorithm without its reflection (slices.SortStableFunc).
+		keyed := make([]candidateKey, m)
+		for i, c := range cands {
+			keyed[i] = candidateKey{math.Abs(c.linear.T[1]), c}
+		}
+		slices.SortStableFunc(keyed, func(a, b candidateKey) int {
+			switch {
+			case a.key > b.key:
+				return -1
+			case b.key > a.key:
+				return 1
+			}
+			return 0
 		})
+		for i, k := range keyed {
+			order[i] = k.c
+		}
 	} else {
-		sort.SliceStable(order, func(i, j int) bool { return order[i].slopeP() < order[j].slopeP() })
+		slices.SortStableFunc(order, func(a, b *candidate) int {
+			switch {
+			case a.slopeP() < b.slopeP():
+				return -1
+			case b.slopeP() < a.slopeP():
+				return 1
+			}
+			return 0
+		})
 	}
 	running := 0.0
 	for i, c := range order {

@@ -3,7 +3,7 @@ package fit
 import (
 	"fmt"
 	"math"
-	"sort"
+	"slices"
 	"sync"
 )
 
@@ -160,7 +160,15 @@ func sortedOrder(x []float64) []int {
 	for i := range order {
 		order[i] = i
 	}
-	sort.SliceStable(order, func(a, b int) bool { return x[order[a]] < x[order[b]] })
+	slices.SortStableFunc(order, func(a, b int) int {
+		switch {
+		case x[a] < x[b]:
+			return -1
+		case x[b] < x[a]:
+			return 1
+		}
+		return 0
+	})
 	return order
 }
 
