@@ -179,8 +179,8 @@ type second struct {
 
 // pairWith aligns a second candidate with the first on their common
 // periods; both list their observations in window order.
-func pairWith(first, c2 *candidate) *second {
-	s := &second{c: c2}
+func pairWith(first, c2 *candidate) second {
+	s := second{c: c2}
 	if len(first.index) == len(c2.index) && first.index[0] == c2.index[0] && first.index[len(first.index)-1] == c2.index[len(c2.index)-1] {
 		// The usual case: both cover the same periods.
 		s.x1, s.x2, s.y, s.periods = first.x, c2.x, first.y, first.periods
@@ -256,7 +256,7 @@ func (s *second) screen() (b1, b2, partialF, vif float64, ok bool) {
 // with the lowest PRESS is returned, with how many were tried. Pairs are
 // screened from sums first; only those that pass are fitted in full.
 func forwardSelect(best *candidate, cands []*candidate, s Settings) (*second, int) {
-	var pairs []*second
+	pairs := make([]second, 0, len(cands)) // values: one allocation, not one a pair
 	for _, c := range cands {
 		if c.driver.Name == best.driver.Name || c.negative {
 			continue
@@ -270,7 +270,8 @@ func forwardSelect(best *candidate, cands []*candidate, s Settings) (*second, in
 	tried := len(pairs)
 	level := s.Alpha / SecondDriverStrictness / float64(max(tried, 1))
 	var chosen *second
-	for _, p := range pairs {
+	for i := range pairs {
+		p := &pairs[i]
 		b1, b2, partialF, vif, ok := p.screen()
 		if !ok || b1 <= 0 || b2 <= 0 || vif >= MaxVIF {
 			continue
