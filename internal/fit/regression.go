@@ -127,11 +127,11 @@ func newRegressionArrays(n, k, regressors int, intercept, arrays bool) *Regressi
 // Slab must hold no regression from it across a Reset. The zero Slab is
 // ready to use; a nil *Slab allocates each regression on its own.
 type Slab struct {
-	regs   [][]Regression // blocks of slabRegressions; only the last may be part used
-	floats [][]float64    // blocks of slabFloats
-	reg    int            // regressions handed out
-	float  int            // floats handed out of floats[len(floats)-1], or of the block in use
-	block  int            // index of the float block in use
+	regs   [][]Regression // blocks of slabRegressions each
+	floats [][]float64    // blocks of slabFloats each
+	reg    int            // regressions handed out since the last Reset
+	block  int            // the float block being handed out
+	float  int            // floats handed out of it
 }
 
 const (
