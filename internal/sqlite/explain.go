@@ -281,15 +281,13 @@ func (db *DB) CostsPerPeriod(ctx context.Context, objects []costdrift.CostObject
 			return nil, err
 		}
 		for rows.Next() {
-			var c costdrift.CostTotal
+			var account, centre, period string
 			var billions, rest int64
-			if err := rows.Scan(&c.Account, &c.CostCenter, &c.Period, &billions, &rest); err != nil {
+			if err := rows.Scan(&account, &centre, &period, &billions, &rest); err != nil {
 				rows.Close()
 				return nil, err
 			}
-			var ok bool
-			c.AmountMinor, ok = joinParts(billions, rest)
-			c.Overflow = !ok
+			c := costTotal(period, account, centre, billions, rest)
 			o := costdrift.CostObject{Account: c.Account, CostCenter: c.CostCenter}
 			if lc.totals[o] == nil {
 				lc.totals[o] = map[string]costdrift.CostTotal{}

@@ -165,11 +165,7 @@ func (r *costReader) read(rows *sql.Rows, err error) error {
 			p = string(period)
 			r.periods[p] = p
 		}
-		c := costdrift.CostTotal{Period: p, Account: r.account, CostCenter: r.centre}
-		var whole bool
-		c.AmountMinor, whole = joinParts(billions, rest)
-		c.Overflow = !whole
-		r.one = append(r.one, c)
+		r.one = append(r.one, costTotal(p, r.account, r.centre, billions, rest))
 	}
 	return rows.Err()
 }

@@ -51,8 +51,15 @@ func scanCostTotal(rows *sql.Rows) (costdrift.CostTotal, error) {
 	if err := rows.Scan(&c.Period, &c.Account, &c.CostCenter, &billions, &rest); err != nil {
 		return c, err
 	}
-	var ok bool
-	c.AmountMinor, ok = joinParts(billions, rest)
-	c.Overflow = !ok
-	return c, nil
+	return costTotal(c.Period, c.Account, c.CostCenter, billions, rest), nil
+}
+
+// costTotal is the total of the two parts of sumParts, marked Overflow
+// beyond int64.
+func costTotal(period, account, centre string, billions, rest int64) costdrift.CostTotal {
+	c := costdrift.CostTotal{Period: period, Account: account, CostCenter: centre}
+	var whole bool
+	c.AmountMinor, whole = joinParts(billions, rest)
+	c.Overflow = !whole
+	return c
 }
