@@ -251,12 +251,22 @@ func rateOf(rate float64, unit, driver string) string {
 }
 
 // EndPeriods are the numbers of newest periods the end-of-window test
-// checks. The sup-F search leaves 15 % of the window out at each end, so a
-// change in the last few periods is invisible to it; a test of the newest
-// periods against the formula fitted on the others sees it.
-// One newest period alone is left to the spending check: it cannot tell a
-// change from a one-off.
-var EndPeriods = []int{2, 3, 4}
+// checks for a change an alert can warn of. The sup-F search leaves 15 % of
+// the window out at each end, so a change in the last few periods is
+// invisible to it; a test of the newest periods against the formula fitted
+// on the others sees it. Each is at the level Bonferroni-corrected over
+// the four. A change is not dated later than the third newest period, the
+// fewest an alert's warning rests on (alerts.ConfirmPeriods): dated in the
+// newest two whenever they fit a little better, a change seen in three
+// periods would only be watched, and warned of a month later.
+var EndPeriods = []int{3, 4, 5, 6}
+
+// WatchPeriods is the number of newest periods tested apart, at the level of
+// each of EndPeriods' tests, when no break is found otherwise: a shift in
+// them alone is a watch (info) until a third period confirms it. One newest
+// period alone is left to the spending check: it cannot tell a change from
+// a one-off.
+const WatchPeriods = 2
 
 // findBreak looks for a break in the behaviour's own model: first the sup-F
 // (Quandt–Andrews) search over the trimmed window, with a residual-bootstrap
@@ -372,29 +382,43 @@ func levelBreak(res Result, s Settings, o costdrift.CostObject) (split int, stat
 
 // endBreak is Chow's predictive test on the newest periods (EndPeriods),
 // Bonferroni-corrected over them: of the significant splits, the one the
-// data fit best dates the change.
+// data fit best dates the change. Where none is significant, the newest
+// WatchPeriods are tested at the same level.
 func endBreak(res Result, s Settings) (split int, stat, p float64, test string, ok bool) {
 	n := len(res.y)
 	bestRSS := math.Inf(1)
 	for _, m := range EndPeriods {
-		if n-m < s.MinPeriods {
-			continue
-		}
-		f, pm, rss, err := predictiveChow(res.x, res.y, n-m)
-		if err != nil || math.IsNaN(rss) {
-			continue
-		}
-		pm = math.Min(1, pm*float64(len(EndPeriods)))
+		f, pm, rss, significant := endTest(res, s, n-m)
 		// Of the significant splits, the one the data fit best when the
 		// newest periods may sit at a level of their own dates the change.
-		if pm < s.BreakAlpha && rss < bestRSS {
+		if significant && rss < bestRSS {
 			bestRSS, split, stat, p, ok = rss, n-m, f, pm, true
 		}
 	}
-	if ok {
-		test = "shift of the newest periods (level-dummy t test), Bonferroni-corrected"
+	if !ok {
+		var significant bool
+		stat, p, _, significant = endTest(res, s, n-WatchPeriods)
+		split, ok = n-WatchPeriods, significant
 	}
-	return split, stat, p, test, ok
+	if !ok {
+		return 0, 0, 1, "", false
+	}
+	return split, stat, p, "shift of the newest periods (level-dummy t test), Bonferroni-corrected", true
+}
+
+// endTest is one split's predictive test: its statistic, its p-value
+// Bonferroni-corrected over EndPeriods, the split's residual sum of squares
+// and whether the shift is significant at the break level.
+func endTest(res Result, s Settings, n1 int) (stat, p, rss float64, significant bool) {
+	if n1 < s.MinPeriods {
+		return 0, 1, math.NaN(), false
+	}
+	f, pm, rss, err := predictiveChow(res.x, res.y, n1)
+	if err != nil || math.IsNaN(rss) {
+		return 0, 1, math.NaN(), false
+	}
+	pm = math.Min(1, pm*float64(len(EndPeriods)))
+	return f, pm, rss, pm < s.BreakAlpha
 }
 
 // testable reports whether the break test runs on a result: it has a class
@@ -415,7 +439,8 @@ func testable(res Result) bool {
 // (Bai 1994, "Least squares estimation of a shift in linear processes",
 // J. Time Series Analysis 15(5)): the split s from the sup-F's on to the
 // second newest period that minimises the residual sum of squares of
-// cost = formula + δ·[t >= s]. A sup-F of the formula's every coefficient
+// cost = formula + δ·[t >= s], and no later than the third newest, as the
+// end-of-window test dates (EndPeriods). A sup-F of the formula's every coefficient
 // keeps its own split inside the trimmed range: its change may be one of
 // the rate, which a level shift does not date.
 func redate(x, y []float64, split int, level bool) int {
@@ -425,7 +450,7 @@ func redate(x, y []float64, split int, level bool) int {
 		return split
 	}
 	best, bestRSS := split, math.Inf(1)
-	for at := split; at <= n-EndPeriods[0]; at++ {
+	for at := split; at <= n-WatchPeriods; at++ {
 		shift := make([]float64, n)
 		for i := at; i < n; i++ {
 			shift[i] = 1
@@ -442,7 +467,7 @@ func redate(x, y []float64, split int, level bool) int {
 			best, bestRSS = at, r.RSS
 		}
 	}
-	return best
+	return min(best, n-EndPeriods[0])
 }
 
 // positive reports whether every activity value is above zero.

@@ -128,3 +128,81 @@ func TestProvisionalRefitNeverUsesANegativeRate(t *testing.T) {
 		})
 	}
 }
+
+// The end-of-window test dates a change no later than the third newest
+// period, the fewest a warning rests on (alerts.ConfirmPeriods), and tests
+// the newest two alone only when nothing else is found, for a watch. Its
+// p-value is Chow's predictive test's, Bonferroni-corrected over the four
+// splits of EndPeriods. A fixed cost of 100 a period with noise of 1,
+// invented.
+func TestEndBreakDatesWhatAWarningNeeds(t *testing.T) {
+	const n = 36
+	r := rand.New(rand.NewPCG(11, 5))
+	noise := make([]float64, n)
+	for i := range noise {
+		noise[i] = r.NormFloat64()
+	}
+	series := func(newest ...float64) []float64 {
+		y := make([]float64, n)
+		for i := range y {
+			y[i] = 100 + noise[i]
+		}
+		copy(y[n-len(newest):], newest)
+		return y
+	}
+	s := Settings{MinPeriods: 12, BreakAlpha: 0.01}
+	for _, c := range []struct {
+		name  string
+		y     []float64
+		split int // 0: no break
+	}{
+		{"stable", series(), 0},
+		{"the newest three rose", series(115, 114, 116), n - 3},
+		// Dated by the fit alone, the newest two would be the change: a
+		// watch, where three periods of a rise warrant a warning.
+		{"the newest three rose, the newest two further", series(111, 125, 125), n - 3},
+		// The third newest is below the level, so no split of three or
+		// more periods shifts together; the newest two alone are a watch.
+		{"only the newest two rose", series(98, 125, 125), n - 2},
+	} {
+		split, stat, p, test, ok := endBreak(Result{y: c.y}, s)
+		if c.split == 0 {
+			if ok {
+				t.Errorf("%s: break at %d (t %.2f, p %.3g), want none", c.name, split, stat, p)
+			}
+			continue
+		}
+		if !ok || split != c.split {
+			t.Errorf("%s: break %v at %d, want one at %d", c.name, ok, split, c.split)
+			continue
+		}
+		wantT, wantP, _, err := predictiveChow(nil, c.y, split)
+		if err != nil || stat != wantT || math.Abs(p-math.Min(1, 4*wantP)) > 1e-15 || !strings.HasPrefix(test, "shift of the newest periods") {
+			t.Errorf("%s: t %v, p %v, test %q; want t %v, p 4 × %v", c.name, stat, p, test, wantT, wantP)
+		}
+	}
+}
+
+// A sup-F's break moved by least squares towards the end stops at the third
+// newest period too: a level that rose three periods ago and further two
+// ago is dated three ago, not at the newest two, which would make it a
+// watch (invented: a fixed cost of 100 with noise of 1).
+func TestRedateStopsAtTheThirdNewest(t *testing.T) {
+	const n = 36
+	r := rand.New(rand.NewPCG(11, 5))
+	y := make([]float64, n)
+	for i := range y {
+		y[i] = 100 + r.NormFloat64()
+	}
+	y[n-3], y[n-2], y[n-1] = 111, 125, 125
+	if got := redate(nil, y, 28, true); got != n-3 {
+		t.Errorf("dated at %d, want %d", got, n-3)
+	}
+	// Earlier changes are dated where they fit best, as before.
+	for i := 20; i < n; i++ {
+		y[i] += 20
+	}
+	if got := redate(nil, y, 18, true); got != 20 {
+		t.Errorf("a change at 20 dated at %d", got)
+	}
+}

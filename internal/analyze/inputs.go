@@ -11,7 +11,7 @@ import (
 
 // Version is the method's version: it enters every input hash, so that an
 // upgrade that changes how objects are fitted refits all of them.
-const Version = 6
+const Version = 7
 
 // InputHashes returns, per object of the panel, a hash of everything its
 // analysis depends on: the method version, the settings, the window, its

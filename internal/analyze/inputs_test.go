@@ -10,7 +10,7 @@ import (
 // The stores keep input hashes, and an object whose hash changes is
 // refitted: a hasher that computes them faster must give the values the
 // release before gave (recorded here from f476db0's InputHashes on this
-// panel). Objects in a cost centre with a series of its own are hashed
+// panel, with its Version set to the method's 7). Objects in a cost centre with a series of its own are hashed
 // with it, the others with the company-wide one; two objects with the same
 // inputs share a hash (it leaves the name out).
 func TestInputHashesKeepTheirValues(t *testing.T) {
@@ -30,11 +30,11 @@ func TestInputHashesKeepTheirValues(t *testing.T) {
 		object("6400", "PLANT", 500, 520, math.NaN()),
 	}
 	want := map[string]string{
-		"6100/PLANT":  "7db6c9cbde6b677a",
-		"6100/OFFICE": "a24ee13e11d27708",
-		"6200/PLANT":  "fe64506b28c51673",
-		"6300":        "034e2ba74504a3f5",
-		"6400/PLANT":  "7db6c9cbde6b677a",
+		"6100/PLANT":  "8e2797f229dd20f9",
+		"6100/OFFICE": "4d3452b610f2766b",
+		"6200/PLANT":  "98e698a7a39005cc",
+		"6300":        "3675b4e3dc484ed2",
+		"6400/PLANT":  "8e2797f229dd20f9",
 	}
 	got := InputHashes(p, `{"window":36}`)
 	for name, w := range want {
