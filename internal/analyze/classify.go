@@ -103,6 +103,8 @@ func classifyWithoutDriver(res *Result, tried int, y []float64, note string, dia
 func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candidate]*stepFit, stepCand *candidate, stepBest *stepFit) {
 	b := &res.Behaviour
 	steps = map[*candidate]*stepFit{}
+	var priorCand *candidate
+	var priorStep *stepFit
 	for i, c := range ranked {
 		if i == StepCandidates {
 			break
@@ -141,10 +143,23 @@ func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candid
 				beatsBest = beatsBest && top.AICc-sf.model.AICc >= need
 			}
 		}
-		if sf.rising && flat && beatsBest && c.linear.AICc-sf.model.AICc >= need && (stepBest == nil || sf.model.AICc < stepBest.model.AICc) {
-			stepCand, stepBest = c, sf
-			c.stepIdx = len(res.Fits) - 1
+		if !(sf.rising && flat && beatsBest && c.linear.AICc-sf.model.AICc >= need) {
+			continue
 		}
+		c.stepIdx = len(res.Fits) - 1
+		if stepBest == nil || sf.model.AICc < stepBest.model.AICc {
+			stepCand, stepBest = c, sf
+		}
+		if prior, ok := s.Prior[b.Object.String()]; ok && prior.Class == costdrift.Step && prior.Driver == c.driver.Name && prior.Lag == c.lag {
+			priorCand, priorStep = c, sf
+		}
+	}
+	// A step cost keeps its driver while that driver's steps predict the
+	// same costs as the best step's (InterchangeShare): two correlated
+	// drivers' steps trade places as noise moves their fits, as their lines
+	// do (preferPrior).
+	if priorCand != nil && priorCand != stepCand && sameSteps(priorCand, priorStep, stepCand, stepBest) {
+		stepCand, stepBest = priorCand, priorStep
 	}
 	return steps, stepCand, stepBest
 }

@@ -234,3 +234,24 @@ func stepLikeLine(prior costdrift.Behaviour, c *candidate, sf *stepFit) bool {
 	}
 	return math.Sqrt(ss/float64(len(c.x))) < InterchangeShare*math.Abs(meanOf(c.y))
 }
+
+// sameSteps reports whether two step models fitted on the same periods
+// predict the same costs: the root mean square of the difference of their
+// fitted costs (each period's level) is below InterchangeShare of the mean
+// cost.
+func sameSteps(a *candidate, as *stepFit, b *candidate, bs *stepFit) bool {
+	if len(a.index) != len(b.index) || len(a.y) == 0 || len(as.model.Residuals) != len(a.y) || len(bs.model.Residuals) != len(b.y) {
+		return false
+	}
+	for i := range a.index {
+		if a.index[i] != b.index[i] {
+			return false
+		}
+	}
+	var ss float64
+	for i := range a.y {
+		d := (a.y[i] - as.model.Residuals[i]) - (b.y[i] - bs.model.Residuals[i])
+		ss += d * d
+	}
+	return math.Sqrt(ss/float64(len(a.y))) < InterchangeShare*math.Abs(meanOf(a.y))
+}

@@ -28,7 +28,7 @@ import (
 // 0.5 % here, and the test holds them at 1 % on one analysis (2 of 200; 1.0 %
 // here) and 3 % over the year (2.5 % here). Mixed costs the method does not
 // meet: up to 1.5 % of them alerted on one analysis here (0.54 % at ten
-// times), 5.5 % over the year here, 4.4–5.2 % there, and alerted within
+// times), 5.0 % over the year here, 4.4–5.1 % there, and alerted within
 // 3 / 6 month-ends 68 % / 92 % here, 58–59 % / 86 % there; the test holds
 // those where the method now stands, with a margin for the seeds, far
 // beyond the method before it (README: 3.85 % on one analysis, 11.4 % of
