@@ -29,6 +29,21 @@ func swingingDriver(r *rand.Rand, n int) []float64 {
 	return v
 }
 
+// crewCost is a step cost on pallets (invented): 20,000 a period, 26,000
+// with a second crew from 1,050 pallets, with 3 % noise; pallets has one
+// lead-in value for lag 1.
+func crewCost(r *rand.Rand, pallets []float64) []float64 {
+	cost := make([]float64, len(pallets)-1)
+	for i := range cost {
+		level := 20000.0
+		if pallets[i+1] >= 1050 {
+			level = 26000
+		}
+		cost[i] = level * (1 + 0.03*r.NormFloat64())
+	}
+	return cost
+}
+
 // A stable step cost (a second crew from 1,050 pallets, invented; 3 % noise)
 // has no break: its break test runs on the step model's residuals, where a
 // line through the steps would leave residuals that follow the driver's
@@ -39,15 +54,7 @@ func TestStableStepCostHasNoBreak(t *testing.T) {
 	steps, breaks := 0, 0
 	for k := 0; k < trials; k++ {
 		x := swingingDriver(r, 36)
-		cost := make([]float64, 36)
-		for i := range cost {
-			level := 20000.0
-			if x[i+1] >= 1050 {
-				level = 26000
-			}
-			cost[i] = level * (1 + 0.03*r.NormFloat64())
-		}
-		p := onePanel(cost, x)
+		p := onePanel(crewCost(r, x), x)
 		b := Object(p, &p.Objects[0], driftSettings).Behaviour
 		if b.Class != costdrift.Step {
 			continue
@@ -246,15 +253,7 @@ func TestStepCostKeepsItsDriverAmongTwins(t *testing.T) {
 		for i, v := range pallets {
 			cartons[i] = v * (1 + 0.01*r.NormFloat64())
 		}
-		cost := make([]float64, 36)
-		for i := range cost {
-			level := 20000.0
-			if pallets[i+1] >= 1050 {
-				level = 26000
-			}
-			cost[i] = level * (1 + 0.03*r.NormFloat64())
-		}
-		p := onePanel(cost, pallets)
+		p := onePanel(crewCost(r, pallets), pallets)
 		p.Drivers = append(p.Drivers, costdrift.DriverSeries{Name: "cartons", Unit: "carton", Values: cartons})
 		free := Object(p, &p.Objects[0], driftSettings).Behaviour
 		if free.Class != costdrift.Step {

@@ -140,13 +140,8 @@ func keepVariableOrMixed(prior costdrift.Class, variable bool, interceptP, fixed
 // periods predict the same costs: the root mean square of the difference
 // of their fitted costs is below InterchangeShare of the mean cost.
 func interchangeable(a, b *candidate) bool {
-	if len(a.index) != len(b.index) || len(a.y) == 0 {
+	if !samePeriods(a, b) {
 		return false
-	}
-	for i := range a.index {
-		if a.index[i] != b.index[i] {
-			return false
-		}
 	}
 	var ss float64
 	for i := range a.x {
@@ -240,13 +235,8 @@ func stepLikeLine(prior costdrift.Behaviour, c *candidate, sf *stepFit) bool {
 // fitted costs (each period's level) is below InterchangeShare of the mean
 // cost.
 func sameSteps(a *candidate, as *stepFit, b *candidate, bs *stepFit) bool {
-	if len(a.index) != len(b.index) || len(a.y) == 0 || len(as.model.Residuals) != len(a.y) || len(bs.model.Residuals) != len(b.y) {
+	if !samePeriods(a, b) || len(as.model.Residuals) != len(a.y) || len(bs.model.Residuals) != len(b.y) {
 		return false
-	}
-	for i := range a.index {
-		if a.index[i] != b.index[i] {
-			return false
-		}
 	}
 	var ss float64
 	for i := range a.y {
@@ -254,4 +244,18 @@ func sameSteps(a *candidate, as *stepFit, b *candidate, bs *stepFit) bool {
 		ss += d * d
 	}
 	return math.Sqrt(ss/float64(len(a.y))) < InterchangeShare*math.Abs(meanOf(a.y))
+}
+
+// samePeriods reports whether two candidates are fitted on the same
+// periods, so that their fitted costs can be compared period by period.
+func samePeriods(a, b *candidate) bool {
+	if len(a.index) != len(b.index) || len(a.y) == 0 {
+		return false
+	}
+	for i := range a.index {
+		if a.index[i] != b.index[i] {
+			return false
+		}
+	}
+	return true
 }
