@@ -103,6 +103,7 @@ func classifyWithoutDriver(res *Result, tried int, y []float64, note string, dia
 func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candidate]*stepFit, stepCand *candidate, stepBest *stepFit) {
 	b := &res.Behaviour
 	steps = map[*candidate]*stepFit{}
+	prior, hasPrior := s.Prior[b.Object.String()]
 	var priorCand *candidate
 	var priorStep *stepFit
 	for i, c := range ranked {
@@ -134,7 +135,7 @@ func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candid
 			beatsBest = sf.press/float64(len(c.y)) < top.PRESS/float64(top.N)
 		}
 		need := StepMinDeltaAICc
-		if prior, ok := s.Prior[b.Object.String()]; ok {
+		if hasPrior {
 			if prior.Class == costdrift.Step {
 				need = StepKeepDeltaAICc // a step cost stays a step on weaker evidence
 				beatsBest = beatsBest || top.AICc-sf.model.AICc >= need
@@ -150,7 +151,7 @@ func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candid
 		if stepBest == nil || sf.model.AICc < stepBest.model.AICc {
 			stepCand, stepBest = c, sf
 		}
-		if prior, ok := s.Prior[b.Object.String()]; ok && prior.Class == costdrift.Step && prior.Driver == c.driver.Name && prior.Lag == c.lag {
+		if hasPrior && prior.Class == costdrift.Step && prior.Driver == c.driver.Name && prior.Lag == c.lag {
 			priorCand, priorStep = c, sf
 		}
 	}
