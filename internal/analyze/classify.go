@@ -144,14 +144,22 @@ func chooseStep(res *Result, ranked []*candidate, s Settings) (steps map[*candid
 				beatsBest = beatsBest && top.AICc-sf.model.AICc >= need
 			}
 		}
-		if !(sf.rising && flat && beatsBest && c.linear.AICc-sf.model.AICc >= need) {
+		isPrior := hasPrior && prior.Class == costdrift.Step && prior.Driver == c.driver.Name && prior.Lag == c.lag
+		qualifies := beatsBest && c.linear.AICc-sf.model.AICc >= need
+		if isPrior && !qualifies && lineLikeSteps(c, sf) {
+			// A step cost whose driver's line now fits a little better
+			// keeps its steps while that line predicts the same costs, as
+			// a line is kept against steps that do (stepLikeLine).
+			qualifies = true
+		}
+		if !(sf.rising && flat && qualifies) {
 			continue
 		}
 		c.stepIdx = len(res.Fits) - 1
 		if stepBest == nil || sf.model.AICc < stepBest.model.AICc {
 			stepCand, stepBest = c, sf
 		}
-		if hasPrior && prior.Class == costdrift.Step && prior.Driver == c.driver.Name && prior.Lag == c.lag {
+		if isPrior {
 			priorCand, priorStep = c, sf
 		}
 	}

@@ -222,12 +222,7 @@ func stepLikeLine(prior costdrift.Behaviour, c *candidate, sf *stepFit) bool {
 	default:
 		return false
 	}
-	var ss float64
-	for i, x := range c.x {
-		d := c.y[i] - sf.model.Residuals[i] - a - b*x
-		ss += d * d
-	}
-	return math.Sqrt(ss/float64(len(c.x))) < InterchangeShare*math.Abs(meanOf(c.y))
+	return stepsNearLine(c, sf, a, b)
 }
 
 // sameSteps reports whether two step models fitted on the same periods
@@ -258,4 +253,26 @@ func samePeriods(a, b *candidate) bool {
 		}
 	}
 	return true
+}
+
+// lineLikeSteps reports whether a candidate's line predicts the same costs
+// as its step model (InterchangeShare): the steps' levels are then within
+// the noise of the line, and a step cost stays a step.
+func lineLikeSteps(c *candidate, sf *stepFit) bool {
+	if len(sf.model.Residuals) != len(c.y) || len(c.y) == 0 {
+		return false
+	}
+	return stepsNearLine(c, sf, c.linear.Coef[0], c.linear.Coef[1])
+}
+
+// stepsNearLine reports whether a step model's fitted costs (its levels)
+// are within InterchangeShare of the mean cost of the line a + b·x, root
+// mean square over the candidate's periods.
+func stepsNearLine(c *candidate, sf *stepFit, a, b float64) bool {
+	var ss float64
+	for i, x := range c.x {
+		d := c.y[i] - sf.model.Residuals[i] - a - b*x
+		ss += d * d
+	}
+	return math.Sqrt(ss/float64(len(c.x))) < InterchangeShare*math.Abs(meanOf(c.y))
 }
