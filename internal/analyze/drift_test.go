@@ -29,15 +29,15 @@ func swingingDriver(r *rand.Rand, n int) []float64 {
 	return v
 }
 
-// crewCost is a step cost on pallets (invented): 20,000 a period, 26,000
-// with a second crew from 1,050 pallets, with 3 % noise; pallets has one
-// lead-in value for lag 1.
-func crewCost(r *rand.Rand, pallets []float64) []float64 {
+// crewCost is a step cost on pallets (invented): 20,000 a period, second
+// (26,000 for a second crew) from 1,050 pallets, with 3 % noise; pallets
+// has one lead-in value for lag 1.
+func crewCost(r *rand.Rand, pallets []float64, second float64) []float64 {
 	cost := make([]float64, len(pallets)-1)
 	for i := range cost {
 		level := 20000.0
 		if pallets[i+1] >= 1050 {
-			level = 26000
+			level = second
 		}
 		cost[i] = level * (1 + 0.03*r.NormFloat64())
 	}
@@ -54,7 +54,7 @@ func TestStableStepCostHasNoBreak(t *testing.T) {
 	steps, breaks := 0, 0
 	for k := 0; k < trials; k++ {
 		x := swingingDriver(r, 36)
-		p := onePanel(crewCost(r, x), x)
+		p := onePanel(crewCost(r, x, 26000), x)
 		b := Object(p, &p.Objects[0], driftSettings).Behaviour
 		if b.Class != costdrift.Step {
 			continue
@@ -253,7 +253,7 @@ func TestStepCostKeepsItsDriverAmongTwins(t *testing.T) {
 		for i, v := range pallets {
 			cartons[i] = v * (1 + 0.01*r.NormFloat64())
 		}
-		p := onePanel(crewCost(r, pallets), pallets)
+		p := onePanel(crewCost(r, pallets, 26000), pallets)
 		p.Drivers = append(p.Drivers, costdrift.DriverSeries{Name: "cartons", Unit: "carton", Values: cartons})
 		free := Object(p, &p.Objects[0], driftSettings).Behaviour
 		if free.Class != costdrift.Step {
@@ -302,15 +302,7 @@ func TestStepCostKeepsItsStepsAgainstALikeLine(t *testing.T) {
 	lines, kept := 0, 0
 	for k := 0; k < trials; k++ {
 		pallets := swingingDriver(r, 36)
-		cost := make([]float64, 36)
-		for i := range cost {
-			level := 20000.0
-			if pallets[i+1] >= 1050 {
-				level = 20600
-			}
-			cost[i] = level * (1 + 0.03*r.NormFloat64())
-		}
-		p := onePanel(cost, pallets)
+		p := onePanel(crewCost(r, pallets, 20600), pallets)
 		s := driftSettings
 		s.Prior = map[string]costdrift.Behaviour{"6500/PACK": {Class: costdrift.Step, Driver: "pallets"}}
 		got := Object(p, &p.Objects[0], s).Behaviour
